@@ -1,0 +1,2 @@
+//! The `spanfit` command-line program (in progress).
+fn main() {}

@@ -1,0 +1,261 @@
+//! The need: what the user asks for (sensor, ADC, supplies, accuracy,
+//! search limits, stock location). Raw serde structs mirror the TOML/JSON
+//! keys of DESIGN.md section 3 exactly; [`parse_need`] validates them into
+//! [`Need`], whose fields carry unit types.
+
+use crate::error::Result;
+use crate::series::Series;
+use crate::units::{Celsius, Hertz, Ohms, Percent, Volts};
+use serde::{Deserialize, Serialize};
+
+/// How the sensor presents its signal.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum SensorOutput {
+    /// One signal node against ground.
+    SingleEnded,
+    /// Two nodes, signal between them, riding on a common-mode voltage.
+    Differential,
+}
+
+/// The optional physical scale of the sensor.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Quantity {
+    /// Physical value at `signal_low_v`.
+    pub low: f64,
+    /// Physical value at `signal_high_v`.
+    pub high: f64,
+    /// Its unit, as the user wrote it (shown as text, never markup).
+    pub unit: String,
+}
+
+/// The transducer.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Sensor {
+    /// Free text label.
+    pub label: String,
+    /// Sensor output at the bottom of its range.
+    pub signal_low: Volts,
+    /// Sensor output at the top of its range.
+    pub signal_high: Volts,
+    /// Physical scale, where given.
+    pub quantity: Option<Quantity>,
+    /// Single-ended or differential.
+    pub output: SensorOutput,
+    /// Common-mode voltage of a differential sensor (0 for single-ended).
+    pub common_mode: Volts,
+    /// Output resistance of the sensor (each leg, for a differential one).
+    pub source: Ohms,
+}
+
+/// The converter the front end drives.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Adc {
+    /// Bottom of the input window.
+    pub low: Volts,
+    /// Top of the input window.
+    pub high: Volts,
+    /// Resolution in bits.
+    pub bits: u32,
+    /// Span kept free at each end of the window.
+    pub margin: Percent,
+}
+
+/// The supply rails.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Supply {
+    /// Positive rail.
+    pub positive: Volts,
+    /// Negative rail (0 for a single supply).
+    pub negative: Volts,
+    /// Tolerance of the positive rail, when it serves as the reference.
+    pub tolerance: Percent,
+    /// The ADC reference is this same supply.
+    pub ratiometric: bool,
+}
+
+/// Which error total must meet the target.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Basis {
+    /// Nominal error plus the sum of every contributor at its limit.
+    WorstCase,
+    /// Systematic part plus the root-sum-square of the random ones.
+    Rss,
+    /// Monte Carlo fraction of builds inside the target.
+    Yield,
+}
+
+/// Which calibration the user will do on the finished board.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Calibration {
+    /// None.
+    None,
+    /// One-point trim that removes the initial offset.
+    Offset,
+    /// Two-point trim that removes initial gain and offset.
+    TwoPoint,
+}
+
+/// Accuracy target and conditions.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Accuracy {
+    /// Error bound in % of the ADC full-scale span.
+    pub max_error_pct_fs: f64,
+    /// Which total is bound.
+    pub basis: Basis,
+    /// Required yield for `basis = yield`, in %.
+    pub yield_pct: f64,
+    /// Lowest operating temperature.
+    pub temp_min: Celsius,
+    /// Highest operating temperature.
+    pub temp_max: Celsius,
+    /// Calibration done after assembly.
+    pub calibration: Calibration,
+    /// Signal bandwidth (noise bandwidth and gain-bandwidth check).
+    pub bandwidth: Hertz,
+}
+
+/// Topology families (trade names).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Topology {
+    /// Non-inverting gain stages.
+    NonInverting,
+    /// Inverting summing stages.
+    Inverting,
+    /// Four-resistor difference amplifier.
+    Difference,
+    /// Three-op-amp or integrated instrumentation amplifier.
+    Instrumentation,
+}
+
+impl Topology {
+    /// Every topology, in a fixed order.
+    pub const ALL: [Topology; 4] = [
+        Topology::NonInverting,
+        Topology::Inverting,
+        Topology::Difference,
+        Topology::Instrumentation,
+    ];
+
+    /// The trade name used in specs and reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Topology::NonInverting => "non-inverting",
+            Topology::Inverting => "inverting",
+            Topology::Difference => "difference",
+            Topology::Instrumentation => "instrumentation",
+        }
+    }
+}
+
+/// What the search minimises.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Objective {
+    /// Total cost (parts plus one fee per distinct BOM line).
+    Cost,
+    /// Error on the chosen basis.
+    Error,
+    /// Part count.
+    Parts,
+}
+
+/// Search limits and preferences.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SearchOptions {
+    /// At most this many stages (1 to 3).
+    pub max_stages: usize,
+    /// Topologies allowed.
+    pub topologies: Vec<Topology>,
+    /// Standard series used where stock does not restrict values.
+    pub resistor_series: Vec<Series>,
+    /// What to minimise.
+    pub objective: Objective,
+    /// Cost added once per distinct part number.
+    pub bom_line_cost: f64,
+    /// Most parts allowed in a design.
+    pub max_parts: usize,
+    /// Time budget for the search in milliseconds.
+    pub time_limit_ms: u64,
+}
+
+/// Where the stock comes from.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct StockSource {
+    /// Folder of stock CSVs, relative to the need file (CLI only; the page
+    /// supplies its stock itself). `None` means the embedded demo stock.
+    pub path: Option<String>,
+    /// Use nothing that is not in stock.
+    pub only: bool,
+}
+
+/// A validated need.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Need {
+    /// The transducer.
+    pub sensor: Sensor,
+    /// The converter.
+    pub adc: Adc,
+    /// The rails.
+    pub supply: Supply,
+    /// The accuracy target.
+    pub accuracy: Accuracy,
+    /// Search limits.
+    pub search: SearchOptions,
+    /// Stock location.
+    pub stock: StockSource,
+}
+
+impl Need {
+    /// The ADC full-scale span in volts (`adc.high - adc.low`).
+    pub fn full_scale(&self) -> f64 {
+        self.adc.high.0 - self.adc.low.0
+    }
+
+    /// The target output window `[Vlo, Vhi]`, the ADC window less the margin
+    /// at each end.
+    pub fn target_window(&self) -> (f64, f64) {
+        let m = self.adc.margin.fraction() * self.full_scale();
+        (self.adc.low.0 + m, self.adc.high.0 - m)
+    }
+
+    /// Ideal gain `K` and offset `B` (DESIGN.md section 2).
+    pub fn ideal_transfer(&self) -> (f64, f64) {
+        let (vlo, vhi) = self.target_window();
+        let k = (vhi - vlo) / (self.sensor.signal_high.0 - self.sensor.signal_low.0);
+        (k, vlo - k * self.sensor.signal_low.0)
+    }
+
+    /// One LSB in volts.
+    pub fn lsb(&self) -> f64 {
+        self.full_scale() / 2f64.powi(self.adc.bits as i32)
+    }
+
+    /// Volts at the ADC per unit of the physical quantity, where given.
+    pub fn volts_per_unit(&self) -> Option<f64> {
+        let q = self.sensor.quantity.as_ref()?;
+        let (k, _) = self.ideal_transfer();
+        let sensor_span = self.sensor.signal_high.0 - self.sensor.signal_low.0;
+        let q_span = q.high - q.low;
+        if q_span == 0.0 {
+            return None;
+        }
+        Some(k * sensor_span / q_span)
+    }
+
+    /// The largest temperature excursion from 25 degC in the range.
+    pub fn max_delta_t(&self) -> f64 {
+        (self.accuracy.temp_max.0 - 25.0)
+            .abs()
+            .max((self.accuracy.temp_min.0 - 25.0).abs())
+    }
+}
+
+/// Parse and validate a need from TOML or JSON bytes. `file` names the
+/// source in messages; JSON is recognised by a leading `{`.
+pub fn parse_need(bytes: &[u8], file: &str) -> Result<Need> {
+    crate::need_parse::parse_need(bytes, file)
+}

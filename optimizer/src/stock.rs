@@ -1,0 +1,188 @@
+//! The stock: parts the user can buy or has on the shelf, parsed from the
+//! CSV files of DESIGN.md section 3 (`resistors.csv`, `opamps.csv`,
+//! `references.csv`, `inamps.csv`). Resistor families expand here into one
+//! [`ResistorPart`] per series value, so the rest of the core sees only
+//! concrete values.
+
+use crate::error::Result;
+use crate::units::{Decibels, Ohms, Percent, PpmPerC, Volts};
+use serde::{Deserialize, Serialize};
+
+/// One resistor value that can be placed (a single row, or one value of a
+/// family).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ResistorPart {
+    /// Part number shown on the BOM (families: `<family id>-<value code>`).
+    pub part_id: String,
+    /// Nominal value.
+    pub value: Ohms,
+    /// Initial tolerance (+/-).
+    pub tolerance: Percent,
+    /// Temperature coefficient (+/-).
+    pub tcr: PpmPerC,
+    /// Package text.
+    pub package: String,
+    /// Price of one.
+    pub unit_cost: f64,
+    /// Quantity on hand; `None` means unlimited (a series family).
+    pub stock_qty: Option<u32>,
+    /// The family row it came from, if any.
+    pub family: Option<String>,
+}
+
+/// An op-amp part (one package with `channels` sections).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct OpAmpPart {
+    /// Part number.
+    pub part_id: String,
+    /// Sections per package (1, 2 or 4).
+    pub channels: u32,
+    /// Lowest total supply (positive minus negative rail).
+    pub supply_min: Volts,
+    /// Highest total supply.
+    pub supply_max: Volts,
+    /// Input common mode may come this close to the negative rail (0 = rail to rail).
+    pub input_headroom_low: Volts,
+    /// Input common mode may come this close to the positive rail.
+    pub input_headroom_high: Volts,
+    /// Output swings this close to the negative rail.
+    pub output_headroom_low: Volts,
+    /// Output swings this close to the positive rail.
+    pub output_headroom_high: Volts,
+    /// Input offset voltage limit, in microvolts.
+    pub vos_max_uv: f64,
+    /// Offset drift limit, in microvolts per degC.
+    pub vos_drift_uv_per_c: f64,
+    /// Input bias current limit, in nanoamps.
+    pub ib_max_na: f64,
+    /// Input offset current limit, in nanoamps.
+    pub ios_max_na: f64,
+    /// Minimum open-loop gain.
+    pub aol_min: Decibels,
+    /// Gain-bandwidth product in MHz.
+    pub gbw_mhz: f64,
+    /// Voltage noise density, nV/sqrt(Hz).
+    pub en_nv_rthz: f64,
+    /// Current noise density, pA/sqrt(Hz).
+    pub in_pa_rthz: f64,
+    /// Minimum common-mode rejection.
+    pub cmrr_min: Decibels,
+    /// Price of one package.
+    pub unit_cost: f64,
+    /// Packages on hand.
+    pub stock_qty: Option<u32>,
+}
+
+/// A voltage reference part.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ReferencePart {
+    /// Part number.
+    pub part_id: String,
+    /// Nominal output.
+    pub volts: Volts,
+    /// Initial accuracy (+/-).
+    pub initial: Percent,
+    /// Temperature coefficient (+/-).
+    pub tempco: PpmPerC,
+    /// Least supply above the output it needs.
+    pub dropout: Volts,
+    /// Output noise, microvolts peak to peak (0.1-10 Hz).
+    pub noise_uv_pp: f64,
+    /// Price of one.
+    pub unit_cost: f64,
+    /// Quantity on hand.
+    pub stock_qty: Option<u32>,
+}
+
+/// An integrated instrumentation amplifier, gain `1 + Rk/Rg`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct InAmpPart {
+    /// Part number.
+    pub part_id: String,
+    /// The gain-setting constant `Rk` (ohms).
+    pub gain_resistor: Ohms,
+    /// Gain error limit (+/-).
+    pub gain_error: Percent,
+    /// Gain drift limit (+/-).
+    pub gain_drift: PpmPerC,
+    /// Input offset voltage limit, microvolts.
+    pub input_offset_uv: f64,
+    /// Output offset voltage limit, microvolts.
+    pub output_offset_uv: f64,
+    /// Input offset drift, microvolts per degC.
+    pub offset_drift_uv_per_c: f64,
+    /// Input bias current limit, nanoamps.
+    pub ib_max_na: f64,
+    /// Minimum common-mode rejection (at unity gain).
+    pub cmrr_min: Decibels,
+    /// Lowest total supply.
+    pub supply_min: Volts,
+    /// Highest total supply.
+    pub supply_max: Volts,
+    /// Input common-mode headroom to the negative rail.
+    pub input_headroom_low: Volts,
+    /// Input common-mode headroom to the positive rail.
+    pub input_headroom_high: Volts,
+    /// Output headroom to the negative rail.
+    pub output_headroom_low: Volts,
+    /// Output headroom to the positive rail.
+    pub output_headroom_high: Volts,
+    /// Input voltage noise density, nV/sqrt(Hz).
+    pub en_nv_rthz: f64,
+    /// Gain-bandwidth product in MHz.
+    pub gbw_mhz: f64,
+    /// Price of one.
+    pub unit_cost: f64,
+    /// Quantity on hand.
+    pub stock_qty: Option<u32>,
+}
+
+/// All parts available to a design.
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+pub struct Stock {
+    /// Resistor values, sorted by value then by cost.
+    pub resistors: Vec<ResistorPart>,
+    /// Op-amps.
+    pub opamps: Vec<OpAmpPart>,
+    /// Voltage references.
+    pub references: Vec<ReferencePart>,
+    /// Integrated in-amps.
+    pub inamps: Vec<InAmpPart>,
+}
+
+/// One stock file handed to the parser: its name (`resistors.csv` ...) and
+/// its raw bytes.
+#[derive(Debug, Clone)]
+pub struct StockFile {
+    /// File name; the kind of table is taken from it.
+    pub name: String,
+    /// Raw bytes (UTF-8 expected; anything else is reported).
+    pub bytes: Vec<u8>,
+}
+
+/// Parse and validate stock tables. Files are recognised by name
+/// (`resistors.csv`, `opamps.csv`, `references.csv`, `inamps.csv`); a
+/// missing table is an empty one, but a stock with no resistors or no
+/// amplifiers at all is an error.
+pub fn parse_stock(files: &[StockFile]) -> Result<Stock> {
+    crate::stock_parse::parse_stock(files)
+}
+
+impl Stock {
+    /// Look up an op-amp by part id.
+    pub fn opamp(&self, id: &str) -> Option<&OpAmpPart> {
+        self.opamps.iter().find(|p| p.part_id == id)
+    }
+    /// Look up a reference by part id.
+    pub fn reference(&self, id: &str) -> Option<&ReferencePart> {
+        self.references.iter().find(|p| p.part_id == id)
+    }
+    /// Look up an in-amp by part id.
+    pub fn inamp(&self, id: &str) -> Option<&InAmpPart> {
+        self.inamps.iter().find(|p| p.part_id == id)
+    }
+    /// Look up a resistor by part id.
+    pub fn resistor(&self, id: &str) -> Option<&ResistorPart> {
+        self.resistors.iter().find(|p| p.part_id == id)
+    }
+}
