@@ -298,6 +298,30 @@ pub struct Analysis {
     pub binding_end: usize,
 }
 
+/// Per-unit resistor sums of one stage (see [`Model::random_split`]).
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct StageUnitSums {
+    /// Sum of |contribution| per unit tolerance, each end.
+    pub tolerance_worst: [f64; 2],
+    /// Sum of squared contributions per unit tolerance squared.
+    pub tolerance_squares: [f64; 2],
+    /// Sum of |contribution| per unit TCR.
+    pub tcr_worst: [f64; 2],
+    /// Sum of squared contributions per unit TCR squared.
+    pub tcr_squares: [f64; 2],
+}
+
+/// The random part of a budget split for rescaling by resistor grade.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RandomSplit {
+    /// Resistor sums per stage.
+    pub per_stage: Vec<StageUnitSums>,
+    /// Worst-case sum of all non-resistor random terms and the noise peak.
+    pub other_worst: [f64; 2],
+    /// Sum of squares of the same.
+    pub other_squares: [f64; 2],
+}
+
 /// The linear error model of a design (kept for fast re-use: Monte Carlo,
 /// the optimiser's verification).
 #[derive(Debug, Clone)]
@@ -935,6 +959,105 @@ impl Model {
         let r = self.rss_at_ends();
         let s = self.sigma_at_ends();
         (w[0].max(w[1]) * pct, r[0].max(r[1]) * pct, s[0].max(s[1]) * pct)
+    }
+
+    /// Split of the random part of the budget for the optimiser: for each
+    /// stage, the worst-case and squared contributions of its resistors per
+    /// unit of tolerance (fraction) and per unit of TCR (1/degC, already
+    /// times the largest excursion), and the worst-case and squared sums of
+    /// everything that is not a resistor. All at each end, in volts.
+    pub fn random_split(&self, stages: usize) -> RandomSplit {
+        let mut split = RandomSplit {
+            per_stage: vec![StageUnitSums::default(); stages],
+            other_worst: [self.noise_peak; 2],
+            other_squares: [self.noise_peak * self.noise_peak; 2],
+        };
+        let resistor_stage = |e: usize| {
+            self.built
+                .resistors
+                .iter()
+                .find(|r| r.element == e)
+                .map(|r| (r.stage, r.part.tolerance_pct / 100.0, r.part.tcr_ppm_per_c * 1e-6))
+        };
+        for p in &self.params {
+            let stage = match (&p.target, p.init_line) {
+                (Target::Resistors(es), Line::ResistorTolerance) if es.len() == 1 => resistor_stage(es[0]),
+                _ => None,
+            };
+            for end in 0..2 {
+                let (u, w) = (self.u(p, end), self.w(p, end));
+                match stage {
+                    Some((st, tol, tcr)) if st < stages => {
+                        let ps = &mut split.per_stage[st];
+                        if tol > 0.0 {
+                            ps.tolerance_worst[end] += u.abs() / tol;
+                            ps.tolerance_squares[end] += (u / tol).powi(2);
+                        }
+                        if tcr > 0.0 {
+                            ps.tcr_worst[end] += w.abs() / tcr;
+                            ps.tcr_squares[end] += (w / tcr).powi(2);
+                        }
+                    }
+                    _ => {
+                        split.other_worst[end] += u.abs() + w.abs();
+                        split.other_squares[end] += u * u + w * w;
+                    }
+                }
+            }
+        }
+        split
+    }
+
+    /// The random part of the total on a basis at each end, volts: what
+    /// remains of the budget once the systematic lines are taken out
+    /// (worst case: sum of limits plus noise peak; RSS: root-sum-square;
+    /// yield: k sigma for the yield plus the noise peak).
+    pub fn random_at_ends(&self, basis: Basis, yield_pct: f64) -> [f64; 2] {
+        let sys = self.systematic_at_ends();
+        match basis {
+            Basis::WorstCase => {
+                let w = self.worst_at_ends();
+                [w[0] - sys[0], w[1] - sys[1]]
+            }
+            Basis::Rss => {
+                let r = self.rss_at_ends();
+                [r[0] - sys[0], r[1] - sys[1]]
+            }
+            Basis::Yield => {
+                let s = self.sigma_at_ends();
+                let k = yield_k_sigma(yield_pct);
+                [k * s[0] + self.noise_peak, k * s[1] + self.noise_peak]
+            }
+        }
+    }
+
+    /// Signed finite-gain error at each end, volts, after calibration.
+    pub fn open_loop_gain_error(&self) -> [f64; 2] {
+        self.systematic
+            .iter()
+            .find(|(l, _)| *l == Line::OpenLoopGain)
+            .map(|(_, v)| *v)
+            .unwrap_or([0.0; 2])
+    }
+
+    /// Signed rounding error at each end, volts, after calibration.
+    pub fn rounding_error(&self) -> [f64; 2] {
+        self.systematic
+            .iter()
+            .find(|(l, _)| *l == Line::NominalRounding)
+            .map(|(_, v)| *v)
+            .unwrap_or([0.0; 2])
+    }
+
+    /// Systematic error at each end (rounding plus finite gain), volts,
+    /// after calibration.
+    pub fn systematic_at_ends(&self) -> [f64; 2] {
+        let mut t = [0.0; 2];
+        for (_, v) in &self.systematic {
+            t[0] += v[0].abs();
+            t[1] += v[1].abs();
+        }
+        t
     }
 
     /// Feasibility findings.

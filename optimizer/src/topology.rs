@@ -119,6 +119,8 @@ pub struct PlacedSource {
     pub element: usize,
     /// Output node.
     pub node: Node,
+    /// Price of the part (0 for the supply).
+    pub unit_cost: f64,
 }
 
 /// A design turned into a netlist, with the map back to its parts.
@@ -194,6 +196,7 @@ impl<'a> Builder<'a> {
                     reference: None,
                     element: e,
                     node,
+                    unit_cost: 0.0,
                 });
                 Ok(node)
             }
@@ -215,6 +218,7 @@ impl<'a> Builder<'a> {
                     reference: Some(idx),
                     element: e,
                     node,
+                    unit_cost: self.stock.references[idx].unit_cost,
                 });
                 Ok(node)
             }
