@@ -397,7 +397,9 @@ impl Model {
         let ideal = [k * signal[0] + b, k * signal[1] + b];
         let fs = need.full_scale();
         let xs = solve_ends(&mut solver, &mut netlist, built.vsense, signal)?;
-        let out_u = solver.node_unknown(built.out).ok_or_else(|| Error::design("output is ground"))?;
+        let out_u = solver
+            .node_unknown(built.out)
+            .ok_or_else(|| Error::design("output is ground"))?;
         let out = [xs[0][out_u], xs[1][out_u]];
         // Adjoint for the output.
         let mut lambda = vec![0.0; solver.size()];
@@ -545,24 +547,25 @@ impl Model {
         let ratiometric = need.supply.ratiometric;
         for src in &built.sources {
             let s = branch(src.element);
-            match src.reference {
-                Some(i) => {
-                    let r = &stock.references[i];
-                    params.push(Param {
-                        init_line: Line::ReferenceInitial,
-                        drift_line: Line::ReferenceTempco,
-                        target: Target::Source(src.element),
-                        init: [r.volts.0 * r.initial.fraction(); 2],
-                        drift: r.volts.0 * r.tempco.fraction_per_c() * dt,
-                        s: [s, s],
-                        calibratable: true,
-                    });
-                }
-                None => {}
+            if let Some(i) = src.reference {
+                let r = &stock.references[i];
+                params.push(Param {
+                    init_line: Line::ReferenceInitial,
+                    drift_line: Line::ReferenceTempco,
+                    target: Target::Source(src.element),
+                    init: [r.volts.0 * r.initial.fraction(); 2],
+                    drift: r.volts.0 * r.tempco.fraction_per_c() * dt,
+                    s: [s, s],
+                    calibratable: true,
+                });
             }
         }
         // The supply: as an offset source, and as the ADC scale when ratiometric.
-        let supply_elem = built.sources.iter().find(|s| s.reference.is_none()).map(|s| s.element);
+        let supply_elem = built
+            .sources
+            .iter()
+            .find(|s| s.reference.is_none())
+            .map(|s| s.element);
         if supply_elem.is_some() || ratiometric {
             let s_sup = supply_elem.map(branch).unwrap_or(0.0);
             let s = if ratiometric {
@@ -603,7 +606,10 @@ impl Model {
         let mut ideal_solver = Solver::new(&ideal_net);
         let xi = solve_ends(&mut ideal_solver, &mut ideal_net, built.vsense, signal)?;
         let out_ideal_opamps = [xi[0][out_u], xi[1][out_u]];
-        let rounding = [out_ideal_opamps[0] - ideal[0], out_ideal_opamps[1] - ideal[1]];
+        let rounding = [
+            out_ideal_opamps[0] - ideal[0],
+            out_ideal_opamps[1] - ideal[1],
+        ];
         let aol = [out[0] - out_ideal_opamps[0], out[1] - out_ideal_opamps[1]];
         let calibration = need.accuracy.calibration;
         let calibrate = |v: [f64; 2]| match calibration {
@@ -633,7 +639,10 @@ impl Model {
         let mut in2 = 0.0;
         for sec in &built.sections {
             let (en, inn) = match sec.kind {
-                AmplifierKind::OpAmp(i) => (stock.opamps[i].en_nv_rthz * 1e-9, stock.opamps[i].in_pa_rthz * 1e-12),
+                AmplifierKind::OpAmp(i) => (
+                    stock.opamps[i].en_nv_rthz * 1e-9,
+                    stock.opamps[i].in_pa_rthz * 1e-12,
+                ),
                 AmplifierKind::InAmp(i) => (stock.inamps[i].en_nv_rthz * 1e-9, 0.0),
             };
             en2 += (branch(sec.vos) * en).powi(2);
@@ -654,14 +663,27 @@ impl Model {
             rms_v: rms,
             peak_to_peak_v: rms * PEAK_TO_PEAK_PER_RMS,
             noise_bandwidth_hz: enbw,
-            shares: [share(johnson2 * enbw), share(en2 * enbw), share(in2 * enbw), share(ref2)],
+            shares: [
+                share(johnson2 * enbw),
+                share(en2 * enbw),
+                share(in2 * enbw),
+                share(ref2),
+            ],
         };
         let noise_peak = 0.5 * noise.peak_to_peak_v;
 
         // Stages.
         let differential_in = |x: &[f64]| -> f64 {
-            let sp = built.netlist.find_node("sp").or_else(|| built.netlist.find_node("inp")).unwrap_or(0);
-            let sn = built.netlist.find_node("sn").or_else(|| built.netlist.find_node("inn")).unwrap_or(0);
+            let sp = built
+                .netlist
+                .find_node("sp")
+                .or_else(|| built.netlist.find_node("inp"))
+                .unwrap_or(0);
+            let sn = built
+                .netlist
+                .find_node("sn")
+                .or_else(|| built.netlist.find_node("inn"))
+                .unwrap_or(0);
             volt(x, sp) - volt(x, sn)
         };
         let mut stages = Vec::new();
@@ -674,9 +696,24 @@ impl Model {
                 let p = built.stage_outputs[i - 1];
                 [volt(&xs[0], p), volt(&xs[1], p)]
             };
-            let gain = if (vi[1] - vi[0]).abs() > 0.0 { (vo[1] - vo[0]) / (vi[1] - vi[0]) } else { 0.0 };
-            let mut parts: Vec<String> = built.resistors.iter().filter(|r| r.stage == i).map(|r| r.designator.clone()).collect();
-            parts.extend(built.sections.iter().filter(|s| s.stage == i).map(|s| s.designator.clone()));
+            let gain = if (vi[1] - vi[0]).abs() > 0.0 {
+                (vo[1] - vo[0]) / (vi[1] - vi[0])
+            } else {
+                0.0
+            };
+            let mut parts: Vec<String> = built
+                .resistors
+                .iter()
+                .filter(|r| r.stage == i)
+                .map(|r| r.designator.clone())
+                .collect();
+            parts.extend(
+                built
+                    .sections
+                    .iter()
+                    .filter(|s| s.stage == i)
+                    .map(|s| s.designator.clone()),
+            );
             stages.push(StageReport {
                 index: i,
                 shape: st.shape.name().to_string(),
@@ -692,7 +729,11 @@ impl Model {
         let cold = need.accuracy.temp_min.0 - 25.0;
         let hot = need.accuracy.temp_max.0 - 25.0;
         let cold_ratio = if dt > 0.0 {
-            if hot.abs() >= cold.abs() { cold / hot.abs() } else { hot / cold.abs() }
+            if hot.abs() >= cold.abs() {
+                cold / hot.abs()
+            } else {
+                hot / cold.abs()
+            }
         } else {
             0.0
         };
@@ -946,7 +987,9 @@ impl Model {
             confidence_pct: [100.0 * lo, 100.0 * hi],
             sigma_pct_fs: sigma * pct,
             histogram: Histogram {
-                bin_edges_pct_fs: (0..=bins).map(|k| (-span + 2.0 * span * k as f64 / bins as f64) * pct).collect(),
+                bin_edges_pct_fs: (0..=bins)
+                    .map(|k| (-span + 2.0 * span * k as f64 / bins as f64) * pct)
+                    .collect(),
                 counts,
             },
         }
@@ -958,7 +1001,11 @@ impl Model {
         let w = self.worst_at_ends();
         let r = self.rss_at_ends();
         let s = self.sigma_at_ends();
-        (w[0].max(w[1]) * pct, r[0].max(r[1]) * pct, s[0].max(s[1]) * pct)
+        (
+            w[0].max(w[1]) * pct,
+            r[0].max(r[1]) * pct,
+            s[0].max(s[1]) * pct,
+        )
     }
 
     /// Split of the random part of the budget for the optimiser: for each
@@ -977,11 +1024,19 @@ impl Model {
                 .resistors
                 .iter()
                 .find(|r| r.element == e)
-                .map(|r| (r.stage, r.part.tolerance_pct / 100.0, r.part.tcr_ppm_per_c * 1e-6))
+                .map(|r| {
+                    (
+                        r.stage,
+                        r.part.tolerance_pct / 100.0,
+                        r.part.tcr_ppm_per_c * 1e-6,
+                    )
+                })
         };
         for p in &self.params {
             let stage = match (&p.target, p.init_line) {
-                (Target::Resistors(es), Line::ResistorTolerance) if es.len() == 1 => resistor_stage(es[0]),
+                (Target::Resistors(es), Line::ResistorTolerance) if es.len() == 1 => {
+                    resistor_stage(es[0])
+                }
                 _ => None,
             };
             for end in 0..2 {
@@ -1134,7 +1189,8 @@ impl Model {
                 let sys: f64 = (0..2)
                     .map(|e| self.systematic.iter().map(|(_, v)| v[e].abs()).sum::<f64>())
                     .fold(0.0, f64::max);
-                (sys + yield_k_sigma(need.accuracy.yield_pct) * s[0].max(s[1]) + self.noise_peak) * pct
+                (sys + yield_k_sigma(need.accuracy.yield_pct) * s[0].max(s[1]) + self.noise_peak)
+                    * pct
             }
         };
         let feasible = self.findings.iter().all(|f| f.ok);
@@ -1188,11 +1244,6 @@ impl Model {
         })
     }
 
-    #[cfg(test)]
-    pub(crate) fn params_len(&self) -> usize {
-        self.params.len()
-    }
-
     /// Exact calibrated error (volts, both ends) with each parameter at the
     /// given point in its range (`x` initial, `y` drift, each in -1..1);
     /// for tests of the worst-case claim.
@@ -1222,19 +1273,47 @@ pub fn yield_k_sigma(yield_pct: f64) -> f64 {
     inverse_normal(p)
 }
 
+#[allow(clippy::excessive_precision)]
 fn inverse_normal(p: f64) -> f64 {
-    let a = [-3.969683028665376e+01, 2.209460984245205e+02, -2.759285104469687e+02, 1.383577518672690e+02, -3.066479806614716e+01, 2.506628277459239e+00];
-    let b = [-5.447609879822406e+01, 1.615858368580409e+02, -1.556989798598866e+02, 6.680131188771972e+01, -1.328068155288572e+01];
-    let c = [-7.784894002430293e-03, -3.223964580411365e-01, -2.400758277161838e+00, -2.549732539343734e+00, 4.374664141464968e+00, 2.938163982698783e+00];
-    let d = [7.784695709041462e-03, 3.224671290700398e-01, 2.445134137142996e+00, 3.754408661907416e+00];
+    let a = [
+        -3.969683028665376e+01,
+        2.209460984245205e+02,
+        -2.759285104469687e+02,
+        1.383577518672690e+02,
+        -3.066479806614716e+01,
+        2.506628277459239e+00,
+    ];
+    let b = [
+        -5.447609879822406e+01,
+        1.615858368580409e+02,
+        -1.556989798598866e+02,
+        6.680131188771972e+01,
+        -1.328068155288572e+01,
+    ];
+    let c = [
+        -7.784894002430293e-03,
+        -3.223964580411365e-01,
+        -2.400758277161838e+00,
+        -2.549732539343734e+00,
+        4.374664141464968e+00,
+        2.938163982698783e+00,
+    ];
+    let d = [
+        7.784695709041462e-03,
+        3.224671290700398e-01,
+        2.445134137142996e+00,
+        3.754408661907416e+00,
+    ];
     let plow = 0.02425;
     if p < plow {
         let q = (-2.0 * p.ln()).sqrt();
-        (((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5]) / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1.0)
+        (((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5])
+            / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1.0)
     } else if p <= 1.0 - plow {
         let q = p - 0.5;
         let r = q * q;
-        (((((a[0] * r + a[1]) * r + a[2]) * r + a[3]) * r + a[4]) * r + a[5]) * q / (((((b[0] * r + b[1]) * r + b[2]) * r + b[3]) * r + b[4]) * r + 1.0)
+        (((((a[0] * r + a[1]) * r + a[2]) * r + a[3]) * r + a[4]) * r + a[5]) * q
+            / (((((b[0] * r + b[1]) * r + b[2]) * r + b[3]) * r + b[4]) * r + 1.0)
     } else {
         -inverse_normal(1.0 - p)
     }
@@ -1270,11 +1349,23 @@ fn feasibility(
         let (il, ih, ol, oh, gbw_hz) = match sec.kind {
             AmplifierKind::OpAmp(i) => {
                 let p = &stock.opamps[i];
-                (p.input_headroom_low.0, p.input_headroom_high.0, p.output_headroom_low.0, p.output_headroom_high.0, p.gbw_mhz * 1e6)
+                (
+                    p.input_headroom_low.0,
+                    p.input_headroom_high.0,
+                    p.output_headroom_low.0,
+                    p.output_headroom_high.0,
+                    p.gbw_mhz * 1e6,
+                )
             }
             AmplifierKind::InAmp(i) => {
                 let p = &stock.inamps[i];
-                (p.input_headroom_low.0, p.input_headroom_high.0, p.output_headroom_low.0, p.output_headroom_high.0, p.gbw_mhz * 1e6)
+                (
+                    p.input_headroom_low.0,
+                    p.input_headroom_high.0,
+                    p.output_headroom_low.0,
+                    p.output_headroom_high.0,
+                    p.gbw_mhz * 1e6,
+                )
             }
         };
         let (cm_lo, cm_hi) = (neg + il, pos - ih);
@@ -1321,7 +1412,11 @@ fn feasibility(
             mu[i] = 1.0;
         }
         solver.solve_transposed_in_place(&mut mu);
-        let ng = solver.branch_unknown(sec.vos).map(|i| mu[i].abs()).unwrap_or(1.0).max(1.0);
+        let ng = solver
+            .branch_unknown(sec.vos)
+            .map(|i| mu[i].abs())
+            .unwrap_or(1.0)
+            .max(1.0);
         let needed = 10.0 * need.accuracy.bandwidth.0;
         let closed = gbw_hz / ng;
         out.push(Finding {
@@ -1338,7 +1433,7 @@ fn feasibility(
             out.push(Finding {
                 check: "reference headroom".into(),
                 subject: format!("{} ({})", src.designator, r.part_id),
-                ok: needs <= pos - neg.min(0.0).max(0.0) && needs <= pos,
+                ok: needs <= pos,
                 detail: format!("the reference needs {needs:.3} V above ground; the positive rail is {pos:.3} V"),
             });
         }
@@ -1358,15 +1453,29 @@ fn feasibility(
 pub fn part_count(built: &Built) -> usize {
     built.resistors.len()
         + built.packages.len()
-        + built.sources.iter().filter(|s| s.reference.is_some()).count()
+        + built
+            .sources
+            .iter()
+            .filter(|s| s.reference.is_some())
+            .count()
 }
 
 /// Analyse a design against a need: the budget on the need's basis, with a
 /// Monte Carlo run of `mc_builds` (seeded) when the basis is `yield` or
 /// `mc_builds` is non-zero.
-pub fn analyze(need: &Need, stock: &Stock, design: &Design, mc_builds: u64, seed: u64) -> Result<(Model, Analysis)> {
+pub fn analyze(
+    need: &Need,
+    stock: &Stock,
+    design: &Design,
+    mc_builds: u64,
+    seed: u64,
+) -> Result<(Model, Analysis)> {
     let model = Model::new(need, stock, design)?;
-    let builds = if need.accuracy.basis == Basis::Yield && mc_builds == 0 { 20_000 } else { mc_builds };
+    let builds = if need.accuracy.basis == Basis::Yield && mc_builds == 0 {
+        20_000
+    } else {
+        mc_builds
+    };
     let report = model.report(need, builds, seed)?;
     Ok((model, report))
 }

@@ -300,10 +300,7 @@ fn parse_source(text: &str, stock: &Stock, at: &Location) -> Result<Source> {
 fn resolve_resistor(raw: &RawResistor, stock: &Stock, at: &Location) -> Result<Resistor> {
     match raw {
         RawResistor::Part(id) => stock.resistor(id).map(Resistor::from).ok_or_else(|| {
-            Error::input(
-                at.clone(),
-                format!("resistor part `{id}` is not in stock"),
-            )
+            Error::input(at.clone(), format!("resistor part `{id}` is not in stock"))
         }),
         RawResistor::Inline {
             ohms,
@@ -313,7 +310,10 @@ fn resolve_resistor(raw: &RawResistor, stock: &Stock, at: &Location) -> Result<R
             part_id,
         } => {
             let bad = |what: &str, v: f64| {
-                Error::input(at.clone(), format!("expected a finite positive {what}, found {v}"))
+                Error::input(
+                    at.clone(),
+                    format!("expected a finite positive {what}, found {v}"),
+                )
             };
             if !(ohms.is_finite() && *ohms > 0.0) {
                 return Err(bad("resistance in ohms", *ohms));
@@ -397,7 +397,11 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
         ));
     }
     let text = std::str::from_utf8(bytes).map_err(|e| {
-        let line = bytes[..e.valid_up_to()].iter().filter(|b| **b == b'\n').count() + 1;
+        let line = bytes[..e.valid_up_to()]
+            .iter()
+            .filter(|b| **b == b'\n')
+            .count()
+            + 1;
         Error::input(
             Location {
                 file: file.to_string(),
@@ -469,7 +473,10 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
                     ),
                 ));
             }
-            resistors.insert(role.clone(), resolve_resistor(r, stock, &Location::key(file, &k))?);
+            resistors.insert(
+                role.clone(),
+                resolve_resistor(r, stock, &Location::key(file, &k))?,
+            );
         }
         for role in s.shape.required_roles() {
             if !resistors.contains_key(*role) {
@@ -524,7 +531,9 @@ pub fn design_to_json(design: &Design) -> serde_json::Value {
             top,
             bottom,
             buffered,
-        } => json!({"kind": "divider", "source": src(source), "top": res(top), "bottom": res(bottom), "buffered": buffered}),
+        } => {
+            json!({"kind": "divider", "source": src(source), "top": res(top), "bottom": res(bottom), "buffered": buffered})
+        }
     };
     json!({
         "format": "spanfit-design-1",

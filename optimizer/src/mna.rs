@@ -332,7 +332,11 @@ mod tests {
         let rf = n.resistor("RF", out, m, 20000.0);
         n.resistor("RG", m, 0, 1000.0);
         n.isource("IB", m, 0, 1e-7);
-        n.add("EU1", ElementKind::OpAmp { inverse_gain: 1e-5 }, [inp, m, out]);
+        n.add(
+            "EU1",
+            ElementKind::OpAmp { inverse_gain: 1e-5 },
+            [inp, m, out],
+        );
         let mut s = Solver::new(&n);
         let x = s.dc(&n).unwrap();
         let mut lambda = vec![0.0; s.size()];
@@ -346,7 +350,10 @@ mod tests {
         n2.elements[rf].kind = ElementKind::Resistor { ohms: 20000.0 + h };
         let x2 = Solver::new(&n2).dc(&n2).unwrap();
         let fd = (x2[out - 1] - x[out - 1]) / h;
-        assert!((fd - d_dr).abs() < 1e-6 * d_dr.abs().max(1e-9), "{fd} vs {d_dr}");
+        assert!(
+            (fd - d_dr).abs() < 1e-6 * d_dr.abs().max(1e-9),
+            "{fd} vs {d_dr}"
+        );
     }
 
     #[test]

@@ -106,6 +106,9 @@ mod tests {
     #[test]
     fn wilson_known_value() {
         let (lo, hi) = wilson_interval(50, 100);
-        assert!((lo - 0.4038).abs() < 0.001 && (hi - 0.5962).abs() < 0.001, "{lo} {hi}");
+        assert!(
+            (lo - 0.4038).abs() < 0.001 && (hi - 0.5962).abs() < 0.001,
+            "{lo} {hi}"
+        );
     }
 }

@@ -165,7 +165,6 @@ pub struct SolveOutcome {
     pub infeasible: Option<Infeasibility>,
 }
 
-
 // ---------------------------------------------------------------------
 // Resistor grades: groups of stock values that share tolerance and TCR.
 
@@ -201,11 +200,19 @@ fn grades(stock: &Stock) -> Vec<Grade> {
             }
         }
         let mut parts: Vec<usize> = by_value.into_values().collect();
-        parts.sort_by(|a, b| stock.resistors[*a].value.0.total_cmp(&stock.resistors[*b].value.0));
+        parts.sort_by(|a, b| {
+            stock.resistors[*a]
+                .value
+                .0
+                .total_cmp(&stock.resistors[*b].value.0)
+        });
         if parts.is_empty() {
             continue;
         }
-        let min_cost = parts.iter().map(|&i| stock.resistors[i].unit_cost).fold(f64::INFINITY, f64::min);
+        let min_cost = parts
+            .iter()
+            .map(|&i| stock.resistors[i].unit_cost)
+            .fold(f64::INFINITY, f64::min);
         out.push(Grade {
             values: parts.iter().map(|&i| stock.resistors[i].value.0).collect(),
             parts,
@@ -227,7 +234,9 @@ pub fn augment_stock(need: &Need, stock: &Stock) -> Stock {
     }
     for series in &need.search.resistor_series {
         let (tol, tcr, cost) = match series {
-            crate::series::Series::E6 | crate::series::Series::E12 | crate::series::Series::E24 => (5.0, 200.0, 0.003),
+            crate::series::Series::E6 | crate::series::Series::E12 | crate::series::Series::E24 => {
+                (5.0, 200.0, 0.003)
+            }
             crate::series::Series::E192 => (0.5, 50.0, 0.02),
             _ => (1.0, 100.0, 0.005),
         };
@@ -248,7 +257,12 @@ pub fn augment_stock(need: &Need, stock: &Stock) -> Stock {
             });
         }
     }
-    s.resistors.sort_by(|a, b| a.value.0.total_cmp(&b.value.0).then(a.unit_cost.total_cmp(&b.unit_cost)));
+    s.resistors.sort_by(|a, b| {
+        a.value
+            .0
+            .total_cmp(&b.value.0)
+            .then(a.unit_cost.total_cmp(&b.unit_cost))
+    });
     s
 }
 
@@ -305,6 +319,9 @@ struct Choice {
     cost: f64,
 }
 
+/// Roles to value indices, with an optional divider (top, bottom).
+type RawChoice = (BTreeMap<String, usize>, Option<(usize, usize)>);
+
 /// Ideal stage output for inputs `(vp, vn)` with op-amps ideal; `r` gives
 /// ohms by role, `vo` the offset source (or Thevenin) volts, `ro_th` the
 /// Thevenin resistance in series where unbuffered, `rs` the sensor's
@@ -341,7 +358,11 @@ fn stage_output(
                 Some(OffsetHow::InvertingBias) => (vo, 0.0),
                 _ => (0.0, 0.0),
             };
-            let ro_cond = if matches!(how, Some(OffsetHow::InvertingRo)) { 1.0 / r("ro") } else { 0.0 };
+            let ro_cond = if matches!(how, Some(OffsetHow::InvertingRo)) {
+                1.0 / r("ro")
+            } else {
+                0.0
+            };
             -rf * (vp / ri + ro_term) + vb * (1.0 + rf / ri + rf * ro_cond)
         }
         Shape::Difference => {
@@ -365,7 +386,12 @@ fn stage_output(
 
 /// Best pairs `(x, y)` from `values` with `y / x` near `ratio`, `x` in
 /// the impedance band: a binary search per `x` over the sorted list.
-fn ratio_pairs(values: &[f64], ratio: f64, band: (f64, f64), keep: usize) -> Vec<(usize, usize, f64)> {
+fn ratio_pairs(
+    values: &[f64],
+    ratio: f64,
+    band: (f64, f64),
+    keep: usize,
+) -> Vec<(usize, usize, f64)> {
     let mut best: Vec<(usize, usize, f64)> = Vec::new();
     if !(ratio.is_finite() && ratio > 0.0) {
         return best;
@@ -387,7 +413,10 @@ fn ratio_pairs(values: &[f64], ratio: f64, band: (f64, f64), keep: usize) -> Vec
     best.sort_by(|a, b| a.2.total_cmp(&b.2));
     let mut out: Vec<(usize, usize, f64)> = Vec::new();
     for b in best {
-        if out.iter().any(|o| (values[o.1] / values[o.0] - values[b.1] / values[b.0]).abs() < 1e-12 * ratio) {
+        if out
+            .iter()
+            .any(|o| (values[o.1] / values[o.0] - values[b.1] / values[b.0]).abs() < 1e-12 * ratio)
+        {
             continue;
         }
         out.push(b);
@@ -407,7 +436,12 @@ fn nearest_values(values: &[f64], target: f64, keep: usize) -> Vec<usize> {
     let lo = j.saturating_sub(keep / 2 + 1);
     let hi = (j + keep / 2 + 1).min(values.len());
     let mut idx: Vec<usize> = (lo..hi).collect();
-    idx.sort_by(|a, b| (values[*a] / target).ln().abs().total_cmp(&(values[*b] / target).ln().abs()));
+    idx.sort_by(|a, b| {
+        (values[*a] / target)
+            .ln()
+            .abs()
+            .total_cmp(&(values[*b] / target).ln().abs())
+    });
     idx.truncate(keep);
     idx
 }
@@ -463,18 +497,30 @@ impl<'a> Ctx<'a> {
         let vsrc = plan.map(|p| p.volts).unwrap_or(0.0);
         let v = &grade.values;
         let rs = self.rs(stage);
-        let rk = g.inamp.map(|i| self.stock.inamps[i].gain_resistor.0).unwrap_or(0.0);
-        let mut raw: Vec<(BTreeMap<String, usize>, Option<(usize, usize)>)> = Vec::new();
+        let rk = g
+            .inamp
+            .map(|i| self.stock.inamps[i].gain_resistor.0)
+            .unwrap_or(0.0);
+        let mut raw: Vec<RawChoice> = Vec::new();
         // Divider candidates for a needed tap voltage.
         let dividers = |tap: f64| -> Vec<(usize, usize)> {
             if !(tap > 0.0 && tap < vsrc) {
                 return Vec::new();
             }
             let q = tap / vsrc;
-            ratio_pairs(v, q / (1.0 - q), BAND, PAIRS_PER_RATIO)
-                .into_iter()
-                .map(|(t, b, _)| (t, b))
-                .collect()
+            let ratio = q / (1.0 - q);
+            // Keep the smaller resistor of the pair inside the band.
+            if ratio < 1.0 {
+                ratio_pairs(v, 1.0 / ratio, BAND, PAIRS_PER_RATIO)
+                    .into_iter()
+                    .map(|(b, t, _)| (t, b))
+                    .collect()
+            } else {
+                ratio_pairs(v, ratio, BAND, PAIRS_PER_RATIO)
+                    .into_iter()
+                    .map(|(t, b, _)| (t, b))
+                    .collect()
+            }
         };
         let pairs = |ratio: f64| ratio_pairs(v, ratio, BAND, PAIRS_PER_RATIO);
         let map = |items: &[(&str, usize)]| -> BTreeMap<String, usize> {
@@ -600,7 +646,11 @@ impl<'a> Ctx<'a> {
                     }
                 }
                 local.sort_by(|x, y| x.2.total_cmp(&y.2));
-                let divs = if how == Some(OffsetHow::RefDivider) { dividers(c) } else { Vec::new() };
+                let divs = if how == Some(OffsetHow::RefDivider) {
+                    dividers(c)
+                } else {
+                    Vec::new()
+                };
                 for (r1, r2, _) in local.into_iter().take(PAIRS_PER_RATIO) {
                     let m = map(&[("r1", r1), ("r2", r2), ("r3", r1), ("r4", r2)]);
                     if how == Some(OffsetHow::RefDivider) {
@@ -617,10 +667,24 @@ impl<'a> Ctx<'a> {
                     return Vec::new();
                 }
                 let unity = nearest_values(v, 10_000.0, 1);
-                let Some(&u) = unity.first() else { return Vec::new() };
-                let divs = if how == Some(OffsetHow::RefDivider) { dividers(c) } else { Vec::new() };
+                let Some(&u) = unity.first() else {
+                    return Vec::new();
+                };
+                let divs = if how == Some(OffsetHow::RefDivider) {
+                    dividers(c)
+                } else {
+                    Vec::new()
+                };
                 for (rg, rf, _) in pairs((a - 1.0) / 2.0) {
-                    let m = map(&[("rf1", rf), ("rf2", rf), ("rg", rg), ("r1", u), ("r2", u), ("r3", u), ("r4", u)]);
+                    let m = map(&[
+                        ("rf1", rf),
+                        ("rf2", rf),
+                        ("rg", rg),
+                        ("r1", u),
+                        ("r2", u),
+                        ("r3", u),
+                        ("r4", u),
+                    ]);
                     if how == Some(OffsetHow::RefDivider) {
                         for &d in &divs {
                             raw.push((m.clone(), Some(d)));
@@ -634,7 +698,11 @@ impl<'a> Ctx<'a> {
                 if a <= 1.0 || rk <= 0.0 {
                     return Vec::new();
                 }
-                let divs = if how == Some(OffsetHow::RefDivider) { dividers(c) } else { Vec::new() };
+                let divs = if how == Some(OffsetHow::RefDivider) {
+                    dividers(c)
+                } else {
+                    Vec::new()
+                };
                 for rg in nearest_values(v, rk / (a - 1.0), 4) {
                     let m = map(&[("rg", rg)]);
                     if how == Some(OffsetHow::RefDivider) {
@@ -651,15 +719,23 @@ impl<'a> Ctx<'a> {
         let k_total = self.need.ideal_transfer().0;
         let down: f64 = g.gains[stage + 1..].iter().product();
         let offset_stage = g.offset.as_ref().map(|p| p.stage);
-        let c_off = offset_stage.map(|k| g.offsets[k] * g.gains[k + 1..].iter().product::<f64>()).unwrap_or(0.0);
+        let c_off = offset_stage
+            .map(|k| g.offsets[k] * g.gains[k + 1..].iter().product::<f64>())
+            .unwrap_or(0.0);
         let ins = self.stage_inputs(stage, prev_ideal);
         let mut out: Vec<Choice> = Vec::new();
         for (roles, div) in raw {
             let ohms = |role: &str| roles.get(role).map(|&i| v[i]).unwrap_or(f64::NAN);
             let (vo, rth) = match (how, div) {
-                (Some(OffsetHow::GainLeg), Some((t, b))) | (Some(OffsetHow::InvertingBias), Some((t, b))) => {
-                    (vsrc * v[b] / (v[t] + v[b]), if how == Some(OffsetHow::GainLeg) { v[t] * v[b] / (v[t] + v[b]) } else { 0.0 })
-                }
+                (Some(OffsetHow::GainLeg), Some((t, b)))
+                | (Some(OffsetHow::InvertingBias), Some((t, b))) => (
+                    vsrc * v[b] / (v[t] + v[b]),
+                    if how == Some(OffsetHow::GainLeg) {
+                        v[t] * v[b] / (v[t] + v[b])
+                    } else {
+                        0.0
+                    },
+                ),
                 (Some(OffsetHow::RefDivider), Some((t, b))) => (vsrc * v[b] / (v[t] + v[b]), 0.0),
                 (Some(_), None) => (vsrc, 0.0),
                 _ => (0.0, 0.0),
@@ -685,9 +761,13 @@ impl<'a> Ctx<'a> {
                 }
                 *ce = v_e;
             }
-            let mut cost: f64 = roles.values().map(|&i| self.stock.resistors[grade.parts[i]].unit_cost).sum();
+            let mut cost: f64 = roles
+                .values()
+                .map(|&i| self.stock.resistors[grade.parts[i]].unit_cost)
+                .sum();
             if let Some((t, b)) = div {
-                cost += self.stock.resistors[grade.parts[t]].unit_cost + self.stock.resistors[grade.parts[b]].unit_cost;
+                cost += self.stock.resistors[grade.parts[t]].unit_cost
+                    + self.stock.resistors[grade.parts[b]].unit_cost;
             }
             out.push(Choice {
                 resistors: roles,
@@ -712,17 +792,33 @@ impl<'a> Ctx<'a> {
         for (i, (&shape, ch)) in g.shapes.iter().zip(picks).enumerate() {
             let grade = &self.grades[grades[i]];
             let res = |idx: usize| Resistor::from(&self.stock.resistors[grade.parts[idx]]);
-            let resistors: BTreeMap<String, Resistor> = ch.resistors.iter().map(|(k, &v)| (k.clone(), res(v))).collect();
+            let resistors: BTreeMap<String, Resistor> = ch
+                .resistors
+                .iter()
+                .map(|(k, &v)| (k.clone(), res(v)))
+                .collect();
             let plan = g.offset.as_ref().filter(|p| p.stage == i);
             let divider = |buffered: bool, p: &OffsetPlan| match (ch.offset_top, ch.offset_bottom) {
-                (Some(t), Some(b)) => Injection::Divider { source: p.source.clone(), top: res(t), bottom: res(b), buffered },
-                _ => Injection::Direct { source: p.source.clone() },
+                (Some(t), Some(b)) => Injection::Divider {
+                    source: p.source.clone(),
+                    top: res(t),
+                    bottom: res(b),
+                    buffered,
+                },
+                _ => Injection::Direct {
+                    source: p.source.clone(),
+                },
             };
             let (offset, bias) = match plan {
                 None => (Injection::Ground, Injection::Ground),
                 Some(p) => match p.how {
                     OffsetHow::GainLeg => (divider(false, p), Injection::Ground),
-                    OffsetHow::Summed | OffsetHow::InvertingRo => (Injection::Direct { source: p.source.clone() }, Injection::Ground),
+                    OffsetHow::Summed | OffsetHow::InvertingRo => (
+                        Injection::Direct {
+                            source: p.source.clone(),
+                        },
+                        Injection::Ground,
+                    ),
                     OffsetHow::InvertingBias => (Injection::Ground, divider(false, p)),
                     OffsetHow::RefDivider => (divider(true, p), Injection::Ground),
                 },
@@ -733,11 +829,22 @@ impl<'a> Ctx<'a> {
                 None
             };
             let amplifier = if shape == Shape::InstrumentationIntegrated {
-                g.inamp.map(|i| self.stock.inamps[i].part_id.clone()).unwrap_or_default()
+                g.inamp
+                    .map(|i| self.stock.inamps[i].part_id.clone())
+                    .unwrap_or_default()
             } else {
-                g.opamp.map(|o| self.stock.opamps[o].part_id.clone()).unwrap_or_default()
+                g.opamp
+                    .map(|o| self.stock.opamps[o].part_id.clone())
+                    .unwrap_or_default()
             };
-            stages.push(Stage { shape, amplifier, resistors, offset, bias, buffer });
+            stages.push(Stage {
+                shape,
+                amplifier,
+                resistors,
+                offset,
+                bias,
+                buffer,
+            });
         }
         Design { stages }
     }
@@ -780,7 +887,11 @@ fn gain_splits(k: f64, n: usize, signs: &[f64]) -> Vec<Vec<f64>> {
     let fractions: Vec<Vec<f64>> = match n {
         1 => vec![vec![1.0]],
         2 => vec![vec![0.5, 0.5], vec![0.65, 0.35], vec![0.8, 0.2]],
-        _ => vec![vec![0.4, 0.3, 0.3], vec![0.5, 0.25, 0.25], vec![0.6, 0.2, 0.2]],
+        _ => vec![
+            vec![0.4, 0.3, 0.3],
+            vec![0.5, 0.25, 0.25],
+            vec![0.6, 0.2, 0.2],
+        ],
     };
     fractions
         .into_iter()
@@ -819,14 +930,21 @@ fn enumerate_groups(ctx: &Ctx<'_>) -> Vec<Group> {
     }
     let mut groups = Vec::new();
     for shapes in sequences {
-        let signs: Vec<f64> = shapes.iter().map(|s| if *s == Shape::Inverting { -1.0 } else { 1.0 }).collect();
+        let signs: Vec<f64> = shapes
+            .iter()
+            .map(|s| if *s == Shape::Inverting { -1.0 } else { 1.0 })
+            .collect();
         let sign: f64 = signs.iter().product();
         if sign * k <= 0.0 {
             continue;
         }
         let integrated = shapes.contains(&Shape::InstrumentationIntegrated);
         let opamp_sections: usize = shapes.iter().map(|s| s.sections()).sum();
-        let inamps: Vec<Option<usize>> = if integrated { (0..stock.inamps.len()).map(Some).collect() } else { vec![None] };
+        let inamps: Vec<Option<usize>> = if integrated {
+            (0..stock.inamps.len()).map(Some).collect()
+        } else {
+            vec![None]
+        };
         for gains in gain_splits(k, shapes.len(), &signs) {
             // Offset plans: none, or one stage from one source.
             let mut plans: Vec<Option<OffsetPlan>> = Vec::new();
@@ -841,12 +959,24 @@ fn enumerate_groups(ctx: &Ctx<'_>) -> Vec<Group> {
                         Shape::NonInvertingSummed if c > 0.0 => &[OffsetHow::Summed],
                         Shape::Inverting if c < 0.0 => &[OffsetHow::InvertingRo],
                         Shape::Inverting if c > 0.0 => &[OffsetHow::InvertingBias],
-                        Shape::Difference | Shape::InstrumentationDiscrete | Shape::InstrumentationIntegrated if c > 0.0 => &[OffsetHow::RefDivider],
+                        Shape::Difference
+                        | Shape::InstrumentationDiscrete
+                        | Shape::InstrumentationIntegrated
+                            if c > 0.0 =>
+                        {
+                            &[OffsetHow::RefDivider]
+                        }
                         _ => &[],
                     };
                     for &how in hows {
                         for (src, volts, cost) in &sources {
-                            plans.push(Some(OffsetPlan { stage, how, source: src.clone(), volts: *volts, cost: *cost }));
+                            plans.push(Some(OffsetPlan {
+                                stage,
+                                how,
+                                source: src.clone(),
+                                volts: *volts,
+                                cost: *cost,
+                            }));
                         }
                     }
                 }
@@ -857,13 +987,20 @@ fn enumerate_groups(ctx: &Ctx<'_>) -> Vec<Group> {
                     let down: f64 = gains[p.stage + 1..].iter().product();
                     offsets[p.stage] = b / down;
                 }
-                let buffer_section = plan.as_ref().is_some_and(|p| p.how == OffsetHow::RefDivider);
+                let buffer_section = plan
+                    .as_ref()
+                    .is_some_and(|p| p.how == OffsetHow::RefDivider);
                 let sections = opamp_sections + usize::from(buffer_section);
-                let opamps: Vec<Option<usize>> = if sections == 0 { vec![None] } else { (0..stock.opamps.len()).map(Some).collect() };
+                let opamps: Vec<Option<usize>> = if sections == 0 {
+                    vec![None]
+                } else {
+                    (0..stock.opamps.len()).map(Some).collect()
+                };
                 for &opamp in &opamps {
                     for &inamp in &inamps {
                         let mut fixed_cost = plan.as_ref().map(|p| p.cost).unwrap_or(0.0);
-                        let mut fixed_lines = usize::from(plan.as_ref().is_some_and(|p| p.source != Source::Supply));
+                        let mut fixed_lines =
+                            usize::from(plan.as_ref().is_some_and(|p| p.source != Source::Supply));
                         let mut packages = 0;
                         if let Some(o) = opamp {
                             let ch = stock.opamps[o].channels.max(1) as usize;
@@ -888,12 +1025,17 @@ fn enumerate_groups(ctx: &Ctx<'_>) -> Vec<Group> {
                                     Shape::InstrumentationDiscrete => 7,
                                     Shape::InstrumentationIntegrated => 1,
                                 };
-                                let extra = match plan.as_ref().filter(|p| p.stage == i).map(|p| p.how) {
-                                    Some(OffsetHow::GainLeg | OffsetHow::InvertingBias | OffsetHow::RefDivider) => 2,
-                                    Some(OffsetHow::Summed) => 0,
-                                    Some(OffsetHow::InvertingRo) => 1,
-                                    None => 0,
-                                };
+                                let extra =
+                                    match plan.as_ref().filter(|p| p.stage == i).map(|p| p.how) {
+                                        Some(
+                                            OffsetHow::GainLeg
+                                            | OffsetHow::InvertingBias
+                                            | OffsetHow::RefDivider,
+                                        ) => 2,
+                                        Some(OffsetHow::Summed) => 0,
+                                        Some(OffsetHow::InvertingRo) => 1,
+                                        None => 0,
+                                    };
                                 base + extra
                             })
                             .collect();
@@ -928,11 +1070,25 @@ fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> bool {
     let mut v = ctx.signal;
     for (i, &shape) in g.shapes.iter().enumerate() {
         let (lo, hi, smin, smax) = if shape == Shape::InstrumentationIntegrated {
-            let Some(p) = g.inamp.map(|x| &ctx.stock.inamps[x]) else { return false };
-            (neg + p.output_headroom_low.0, pos - p.output_headroom_high.0, p.supply_min.0, p.supply_max.0)
+            let Some(p) = g.inamp.map(|x| &ctx.stock.inamps[x]) else {
+                return false;
+            };
+            (
+                neg + p.output_headroom_low.0,
+                pos - p.output_headroom_high.0,
+                p.supply_min.0,
+                p.supply_max.0,
+            )
         } else {
-            let Some(p) = g.opamp.map(|x| &ctx.stock.opamps[x]) else { return false };
-            (neg + p.output_headroom_low.0, pos - p.output_headroom_high.0, p.supply_min.0, p.supply_max.0)
+            let Some(p) = g.opamp.map(|x| &ctx.stock.opamps[x]) else {
+                return false;
+            };
+            (
+                neg + p.output_headroom_low.0,
+                pos - p.output_headroom_high.0,
+                p.supply_min.0,
+                p.supply_max.0,
+            )
         };
         if span < smin || span > smax {
             return false;
@@ -971,10 +1127,26 @@ fn structures(ctx: &Ctx<'_>, groups: &[Group]) -> Vec<Structure> {
                 grades.push(c % ng);
                 c /= ng;
             }
-            let resistor_cost: f64 = grades.iter().zip(&g.resistors_per_stage).map(|(&gr, &cnt)| cnt as f64 * ctx.grades[gr].min_cost).sum();
+            let resistor_cost: f64 = grades
+                .iter()
+                .zip(&g.resistors_per_stage)
+                .map(|(&gr, &cnt)| cnt as f64 * ctx.grades[gr].min_cost)
+                .sum();
             let distinct: BTreeSet<usize> = grades.iter().copied().collect();
-            let min_lines = distinct.len().max(if g.resistors_per_stage.iter().any(|&c| c >= 2) { 2 } else { 1 });
-            let parts = g.resistors_per_stage.iter().sum::<usize>() + g.packages + usize::from(g.offset.as_ref().is_some_and(|p| p.source != Source::Supply));
+            let min_lines = distinct
+                .len()
+                .max(if g.resistors_per_stage.iter().any(|&c| c >= 2) {
+                    2
+                } else {
+                    1
+                });
+            let parts = g.resistors_per_stage.iter().sum::<usize>()
+                + g.packages
+                + usize::from(
+                    g.offset
+                        .as_ref()
+                        .is_some_and(|p| p.source != Source::Supply),
+                );
             if parts > ctx.need.search.max_parts {
                 continue;
             }
@@ -1011,7 +1183,9 @@ fn key(objective: Objective, c: &Candidate) -> (f64, f64, f64) {
 
 fn better(objective: Objective, a: &Candidate, b: &Candidate) -> bool {
     let (x, y) = (key(objective, a), key(objective, b));
-    x.0 < y.0 - 1e-12 || ((x.0 - y.0).abs() <= 1e-12 && (x.1 < y.1 - 1e-12 || ((x.1 - y.1).abs() <= 1e-12 && x.2 < y.2)))
+    x.0 < y.0 - 1e-12
+        || ((x.0 - y.0).abs() <= 1e-12
+            && (x.1 < y.1 - 1e-12 || ((x.1 - y.1).abs() <= 1e-12 && x.2 < y.2)))
 }
 
 fn calibrated(cal: Calibration, v: [f64; 2]) -> [f64; 2] {
@@ -1037,15 +1211,26 @@ fn pick(
     let cal = ctx.need.accuracy.calibration;
     let mut z = Vec::new();
     for slot in choices {
-        z.push(slot.iter().map(|_| vars.add(variable().binary())).collect::<Vec<_>>());
+        z.push(
+            slot.iter()
+                .map(|_| vars.add(variable().binary()))
+                .collect::<Vec<_>>(),
+        );
     }
     // BOM lines: distinct stock part indices.
     let mut lines: BTreeMap<usize, good_lp::Variable> = BTreeMap::new();
     for (s, slot) in choices.iter().enumerate() {
         let grade = &ctx.grades[st.grades[s]];
         for ch in slot {
-            for &i in ch.resistors.values().chain(ch.offset_top.iter()).chain(ch.offset_bottom.iter()) {
-                lines.entry(grade.parts[i]).or_insert_with(|| vars.add(variable().binary()));
+            for &i in ch
+                .resistors
+                .values()
+                .chain(ch.offset_top.iter())
+                .chain(ch.offset_bottom.iter())
+            {
+                lines
+                    .entry(grade.parts[i])
+                    .or_insert_with(|| vars.add(variable().binary()));
             }
         }
     }
@@ -1068,13 +1253,20 @@ fn pick(
             objective += fee * *v;
         }
     }
-    let mut model = vars.minimise(objective).using(good_lp::solvers::microlp::microlp);
+    let mut model = vars
+        .minimise(objective)
+        .using(good_lp::solvers::microlp::microlp);
     for (s, slot) in choices.iter().enumerate() {
         let sum: Expression = z[s].iter().copied().map(Expression::from).sum();
         model = model.with(sum.eq(1.0));
         let grade = &ctx.grades[st.grades[s]];
         for (c, ch) in slot.iter().enumerate() {
-            for &i in ch.resistors.values().chain(ch.offset_top.iter()).chain(ch.offset_bottom.iter()) {
+            for &i in ch
+                .resistors
+                .values()
+                .chain(ch.offset_top.iter())
+                .chain(ch.offset_bottom.iter())
+            {
                 if let Some(l) = lines.get(&grade.parts[i]) {
                     model = model.with((Expression::from(z[s][c]) - *l).leq(0.0));
                 }
@@ -1092,13 +1284,20 @@ fn pick(
         model = model.with(sum.geq(-allowed[end]));
     }
     for cut in cuts {
-        let sum: Expression = cut.iter().enumerate().map(|(s, &c)| Expression::from(z[s][c])).sum();
+        let sum: Expression = cut
+            .iter()
+            .enumerate()
+            .map(|(s, &c)| Expression::from(z[s][c]))
+            .sum();
         model = model.with(sum.leq(cut.len() as f64 - 1.0));
     }
     let sol = model.solve().ok()?;
     let mut out = Vec::new();
     for zs in &z {
-        let best = zs.iter().enumerate().max_by(|a, b| sol.value(*a.1).total_cmp(&sol.value(*b.1)))?;
+        let best = zs
+            .iter()
+            .enumerate()
+            .max_by(|a, b| sol.value(*a.1).total_cmp(&sol.value(*b.1)))?;
         out.push(best.0);
     }
     Some(out)
@@ -1123,11 +1322,20 @@ fn all_choices(ctx: &Ctx<'_>, g: &Group, st: &Structure) -> Option<Vec<Vec<Choic
 
 fn verify(ctx: &Ctx<'_>, design: Design) -> Option<Candidate> {
     let model = Model::new(ctx.need, ctx.stock, &design).ok()?;
-    let builds = if ctx.need.accuracy.basis == Basis::Yield { 20_000 } else { 0 };
+    let builds = if ctx.need.accuracy.basis == Basis::Yield {
+        20_000
+    } else {
+        0
+    };
     let analysis = model.report(ctx.need, builds, 1).ok()?;
     let built = model.built().clone();
     let costing = costing(&built, ctx.need.search.bom_line_cost);
-    Some(Candidate { design, built, costing, analysis })
+    Some(Candidate {
+        design,
+        built,
+        costing,
+        analysis,
+    })
 }
 
 /// What the search learnt about why designs fail, for the infeasible case.
@@ -1142,7 +1350,10 @@ impl Diagnosis {
         let _ = objective;
         if !c.analysis.feasible {
             for f in c.analysis.findings.iter().filter(|f| !f.ok) {
-                let e = self.failed_checks.entry(f.check.clone()).or_insert((0, f.detail.clone()));
+                let e = self
+                    .failed_checks
+                    .entry(f.check.clone())
+                    .or_insert((0, f.detail.clone()));
                 e.0 += 1;
             }
             return;
@@ -1216,12 +1427,18 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
             break;
         }
         let g = &groups[st.group];
-        let Some(choices) = all_choices(ctx, g, st) else { continue };
+        let Some(choices) = all_choices(ctx, g, st) else {
+            continue;
+        };
         if exhaustive {
             let n = choices.len();
             let mut idx = vec![0usize; n];
             loop {
-                let picks: Vec<&Choice> = idx.iter().enumerate().map(|(s, &c)| &choices[s][c]).collect();
+                let picks: Vec<&Choice> = idx
+                    .iter()
+                    .enumerate()
+                    .map(|(s, &c)| &choices[s][c])
+                    .collect();
                 if let Some(c) = verify(ctx, ctx.design(g, &st.grades, &picks)) {
                     evaluated += 1;
                     diagnosis.note(&c, objective);
@@ -1252,16 +1469,26 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
         }
         // Reference design: the best-rounding choice of every stage.
         let picks: Vec<&Choice> = choices.iter().map(|c| &c[0]).collect();
-        let Some(reference) = verify(ctx, ctx.design(g, &st.grades, &picks)) else { continue };
+        let Some(reference) = verify(ctx, ctx.design(g, &st.grades, &picks)) else {
+            continue;
+        };
         evaluated += 1;
         diagnosis.note(&reference, objective);
         if !reference.analysis.feasible {
             continue;
         }
         if reference.analysis.meets_target {
+            if best
+                .as_ref()
+                .is_none_or(|b| better(objective, &reference, b))
+            {
+                best = Some(reference.clone());
+            }
             found.push(reference.clone());
         }
-        let Ok(model) = Model::new(ctx.need, ctx.stock, &reference.design) else { continue };
+        let Ok(model) = Model::new(ctx.need, ctx.stock, &reference.design) else {
+            continue;
+        };
         let random = model.random_at_ends(ctx.need.accuracy.basis, ctx.need.accuracy.yield_pct);
         let aol = model.open_loop_gain_error();
         let allowed = [
@@ -1284,13 +1511,22 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
             }
             p
         };
-        let constant = [rounding[0] - predicted[0] + aol[0], rounding[1] - predicted[1] + aol[1]];
+        let constant = [
+            rounding[0] - predicted[0] + aol[0],
+            rounding[1] - predicted[1] + aol[1],
+        ];
         let constant_abs = [constant[0], constant[1]];
         let mut cuts: Vec<Vec<usize>> = Vec::new();
         for _ in 0..6 {
             milp_solves += 1;
-            let Some(sel) = pick(ctx, st, &choices, allowed, constant_abs, &cuts) else { break };
-            let picks: Vec<&Choice> = sel.iter().enumerate().map(|(s, &c)| &choices[s][c]).collect();
+            let Some(sel) = pick(ctx, st, &choices, allowed, constant_abs, &cuts) else {
+                break;
+            };
+            let picks: Vec<&Choice> = sel
+                .iter()
+                .enumerate()
+                .map(|(s, &c)| &choices[s][c])
+                .collect();
             let Some(c) = verify(ctx, ctx.design(g, &st.grades, &picks)) else {
                 cuts.push(sel);
                 continue;
@@ -1316,7 +1552,11 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
         found,
         diagnosis,
         stats: SearchStats {
-            mode: if exhaustive { "exhaustive".into() } else { "optimised".into() },
+            mode: if exhaustive {
+                "exhaustive".into()
+            } else {
+                "optimised".into()
+            },
             evaluated,
             structures: total,
             milp_solves,
@@ -1340,7 +1580,9 @@ fn pareto(mut found: Vec<Candidate>) -> Vec<Candidate> {
         if out.iter().any(|o| o.design == c.design) {
             continue;
         }
-        let dominated = out.iter().any(|o| o.analysis.basis_pct_fs <= c.analysis.basis_pct_fs + 1e-12);
+        let dominated = out
+            .iter()
+            .any(|o| o.analysis.basis_pct_fs <= c.analysis.basis_pct_fs + 1e-12);
         if !dominated {
             out.push(c);
         }
@@ -1353,11 +1595,22 @@ fn pareto(mut found: Vec<Candidate>) -> Vec<Candidate> {
 
 /// Search for the cheapest design meeting the need (or, with
 /// `objective = "error"` / `"parts"`, the most accurate / the fewest parts).
-pub fn solve(need: &Need, stock: &Stock, exhaustive: bool, control: &mut SolveControl<'_>) -> Result<SolveOutcome> {
+pub fn solve(
+    need: &Need,
+    stock: &Stock,
+    exhaustive: bool,
+    control: &mut SolveControl<'_>,
+) -> Result<SolveOutcome> {
     solve_inner(need, stock, exhaustive, control, true)
 }
 
-fn solve_inner(need: &Need, stock: &Stock, exhaustive: bool, control: &mut SolveControl<'_>, suggest: bool) -> Result<SolveOutcome> {
+fn solve_inner(
+    need: &Need,
+    stock: &Stock,
+    exhaustive: bool,
+    control: &mut SolveControl<'_>,
+    suggest: bool,
+) -> Result<SolveOutcome> {
     let stock = augment_stock(need, stock);
     let (k, b) = need.ideal_transfer();
     let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
@@ -1384,15 +1637,31 @@ fn solve_inner(need: &Need, stock: &Stock, exhaustive: bool, control: &mut Solve
     } else {
         None
     };
-    Ok(SolveOutcome { best: r.best, alternatives, stats: r.stats, infeasible })
+    Ok(SolveOutcome {
+        best: r.best,
+        alternatives,
+        stats: r.stats,
+        infeasible,
+    })
 }
 
-fn explain(need: &Need, stock: &Stock, d: &Diagnosis, control: &mut SolveControl<'_>, suggest: bool) -> Infeasibility {
+fn explain(
+    need: &Need,
+    stock: &Stock,
+    d: &Diagnosis,
+    control: &mut SolveControl<'_>,
+    suggest: bool,
+) -> Infeasibility {
     let target = need.accuracy.max_error_pct_fs;
     let (binding, best_error, largest) = match &d.best {
         Some(b) => {
             let e = b.analysis.basis_pct_fs;
-            let mut lines: Vec<(String, f64)> = b.analysis.budget.iter().map(|l| (l.source.clone(), l.pct_fs)).collect();
+            let mut lines: Vec<(String, f64)> = b
+                .analysis
+                .budget
+                .iter()
+                .map(|l| (l.source.clone(), l.pct_fs))
+                .collect();
             lines.sort_by(|x, y| y.1.total_cmp(&x.1));
             lines.truncate(4);
             (
@@ -1416,17 +1685,28 @@ fn explain(need: &Need, stock: &Stock, d: &Diagnosis, control: &mut SolveControl
     let mut suggestions = Vec::new();
     if suggest {
         let mut tries: Vec<(String, Need)> = Vec::new();
-        for (cal, name) in [(Calibration::Offset, "offset"), (Calibration::TwoPoint, "two-point")] {
-            if need.accuracy.calibration != cal && !(need.accuracy.calibration == Calibration::TwoPoint) {
+        for (cal, name) in [
+            (Calibration::Offset, "offset"),
+            (Calibration::TwoPoint, "two-point"),
+        ] {
+            if need.accuracy.calibration != cal
+                && !(need.accuracy.calibration == Calibration::TwoPoint)
+            {
                 let mut n = need.clone();
                 n.accuracy.calibration = cal;
-                tries.push((format!("calibrate after assembly: calibration = \"{name}\""), n));
+                tries.push((
+                    format!("calibrate after assembly: calibration = \"{name}\""),
+                    n,
+                ));
             }
         }
         if need.accuracy.basis == Basis::WorstCase {
             let mut n = need.clone();
             n.accuracy.basis = Basis::Rss;
-            tries.push(("judge the budget by RSS instead of worst case: basis = \"rss\"".into(), n));
+            tries.push((
+                "judge the budget by RSS instead of worst case: basis = \"rss\"".into(),
+                n,
+            ));
         }
         if need.search.max_stages < 3 {
             let mut n = need.clone();
@@ -1442,17 +1722,33 @@ fn explain(need: &Need, stock: &Stock, d: &Diagnosis, control: &mut SolveControl
         if need.adc.margin.0 > 0.0 {
             let mut n = need.clone();
             n.adc.margin = crate::units::Percent(need.adc.margin.0 / 2.0);
-            tries.push((format!("halve the ADC margin: margin_pct = {}", need.adc.margin.0 / 2.0), n));
+            tries.push((
+                format!(
+                    "halve the ADC margin: margin_pct = {}",
+                    need.adc.margin.0 / 2.0
+                ),
+                n,
+            ));
         }
         for (change, n) in tries {
             if let Ok(o) = solve_inner(&n, stock, false, control, false) {
                 if let Some(b) = o.best {
-                    suggestions.push(Suggestion { change, cost: b.costing.total, error_pct_fs: b.analysis.basis_pct_fs });
+                    suggestions.push(Suggestion {
+                        change,
+                        cost: b.costing.total,
+                        error_pct_fs: b.analysis.basis_pct_fs,
+                    });
                 }
             }
         }
     }
-    Infeasibility { binding, best_error_pct_fs: best_error, target_pct_fs: target, largest, suggestions }
+    Infeasibility {
+        binding,
+        best_error_pct_fs: best_error,
+        target_pct_fs: target,
+        largest,
+        suggestions,
+    }
 }
 
 fn basis_name(b: Basis) -> &'static str {

@@ -1,6 +1,1212 @@
-//! (in progress)
+//! Reading the stock CSV tables of DESIGN.md section 3 into [`Stock`].
+//!
+//! A small RFC 4180 reader ([`read_csv`]) keeps the 1-based line on which
+//! each record starts, so every message can name the file, the line and the
+//! column. It accepts quoted fields (with doubled quotes and line breaks
+//! inside), LF, CRLF or CR line ends, a trailing line end, a UTF-8
+//! byte-order mark at the start, blank lines, and lines starting with `#`
+//! as comments. Columns are mapped by their header name, in any order;
+//! unknown and missing columns are errors.
+//!
+//! Limits, checked before anything is parsed: a file is at most 8 MiB, a
+//! line at most 64 KiB, and the text must be UTF-8. Part ids and packages
+//! are data, up to 64 characters, without control characters; markup in
+//! them is kept as written (the page escapes it). Resistances lie from
+//! 1 milliohm to 1 teraohm, and a stock expands to at most 100,000 resistor
+//! values.
+
 use crate::error::{Error, Location, Result};
-use crate::stock::{Stock, StockFile};
-pub(crate) fn parse_stock(_files: &[StockFile]) -> Result<Stock> {
-    Err(Error::input(Location::file("stock"), "stock parsing is being written"))
+use crate::need_parse::{decode_utf8, shown};
+use crate::series::{value_code, Series};
+use crate::stock::{InAmpPart, OpAmpPart, ReferencePart, ResistorPart, Stock, StockFile};
+use crate::units::{Decibels, Ohms, Percent, PpmPerC, Volts};
+use std::collections::HashMap;
+
+/// Largest stock file accepted, in bytes (8 MiB).
+const MAX_FILE_BYTES: usize = 8 << 20;
+
+/// Longest line accepted, in bytes (64 KiB).
+const MAX_LINE_BYTES: usize = 64 << 10;
+
+/// Longest part id or package text, in characters.
+const MAX_ID_CHARS: usize = 64;
+
+/// Most resistor values a stock may expand to (single rows plus every
+/// value of every family).
+const MAX_RESISTOR_VALUES: usize = 100_000;
+
+/// Smallest and largest resistance accepted, in ohms.
+const OHMS_RANGE: (f64, f64) = (1e-3, 1e12);
+
+/// Sections an op-amp package may hold.
+const CHANNELS: [u32; 3] = [1, 2, 4];
+
+/// The four kinds of table, recognised by file name.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Table {
+    Resistors,
+    OpAmps,
+    References,
+    InAmps,
+}
+
+impl Table {
+    const ALL: [Table; 4] = [
+        Table::Resistors,
+        Table::OpAmps,
+        Table::References,
+        Table::InAmps,
+    ];
+
+    fn file_name(self) -> &'static str {
+        match self {
+            Table::Resistors => "resistors.csv",
+            Table::OpAmps => "opamps.csv",
+            Table::References => "references.csv",
+            Table::InAmps => "inamps.csv",
+        }
+    }
+
+    /// The table a file name stands for: its last path component, compared
+    /// without regard to ASCII case.
+    fn from_file_name(name: &str) -> Option<Table> {
+        let base = name.rsplit(['/', '\\']).next().unwrap_or(name);
+        Table::ALL
+            .into_iter()
+            .find(|t| t.file_name().eq_ignore_ascii_case(base))
+    }
+
+    /// Columns every file of this kind must have.
+    fn required_columns(self) -> &'static [&'static str] {
+        match self {
+            Table::Resistors => &[
+                "part_id",
+                "tolerance_pct",
+                "tcr_ppm_per_c",
+                "package",
+                "unit_cost",
+                "stock_qty",
+            ],
+            Table::OpAmps => &[
+                "part_id",
+                "channels",
+                "supply_min_v",
+                "supply_max_v",
+                "input_headroom_low_v",
+                "input_headroom_high_v",
+                "output_headroom_low_v",
+                "output_headroom_high_v",
+                "vos_max_uv",
+                "vos_drift_uv_per_c",
+                "ib_max_na",
+                "ios_max_na",
+                "aol_min_db",
+                "gbw_mhz",
+                "en_nv_rthz",
+                "in_pa_rthz",
+                "cmrr_min_db",
+                "unit_cost",
+                "stock_qty",
+            ],
+            Table::References => &[
+                "part_id",
+                "volts",
+                "initial_pct",
+                "tempco_ppm_per_c",
+                "dropout_v",
+                "noise_uv_pp",
+                "unit_cost",
+                "stock_qty",
+            ],
+            Table::InAmps => &[
+                "part_id",
+                "gain_resistor_ohms",
+                "gain_error_pct",
+                "gain_drift_ppm_per_c",
+                "input_offset_uv",
+                "output_offset_uv",
+                "offset_drift_uv_per_c",
+                "ib_max_na",
+                "cmrr_min_db",
+                "supply_min_v",
+                "supply_max_v",
+                "input_headroom_low_v",
+                "input_headroom_high_v",
+                "output_headroom_low_v",
+                "output_headroom_high_v",
+                "en_nv_rthz",
+                "gbw_mhz",
+                "unit_cost",
+                "stock_qty",
+            ],
+        }
+    }
+
+    /// Columns a file may have in addition (resistors: a single value, or
+    /// a series family; at least one of the two kinds must be complete).
+    fn optional_columns(self) -> &'static [&'static str] {
+        match self {
+            Table::Resistors => &["value_ohms", "series", "min_ohms", "max_ohms"],
+            _ => &[],
+        }
+    }
+
+    fn all_columns(self) -> Vec<&'static str> {
+        let mut all = self.required_columns().to_vec();
+        // Keep the documented order: the value columns follow part_id.
+        for (i, c) in self.optional_columns().iter().enumerate() {
+            all.insert(1 + i, c);
+        }
+        all
+    }
+}
+
+/// Family columns of `resistors.csv`.
+const FAMILY_COLUMNS: [&str; 3] = ["series", "min_ohms", "max_ohms"];
+
+/// Parse and validate the stock tables (see [`crate::stock::parse_stock`]).
+pub(crate) fn parse_stock(files: &[StockFile]) -> Result<Stock> {
+    if files.is_empty() {
+        return Err(Error::input(
+            Location::file("stock"),
+            format!(
+                "no stock files were given; expected {}",
+                expected_file_names()
+            ),
+        ));
+    }
+    let mut given: HashMap<&'static str, &str> = HashMap::new();
+    let mut stock = Stock::default();
+    // (part id, file, line) of every part, for the check across tables.
+    let mut owners: Vec<(String, &str, usize)> = Vec::new();
+    for file in files {
+        let table = Table::from_file_name(&file.name).ok_or_else(|| {
+            Error::input(
+                Location::file(&file.name),
+                format!(
+                    "unknown stock file `{}`; expected one of {}",
+                    shown(&file.name),
+                    expected_file_names()
+                ),
+            )
+        })?;
+        if let Some(first) = given.insert(table.file_name(), &file.name) {
+            return Err(Error::input(
+                Location::file(&file.name),
+                format!(
+                    "{} is given twice (also as `{}`); expected each table once",
+                    table.file_name(),
+                    shown(first)
+                ),
+            ));
+        }
+        let name = file.name.as_str();
+        let text = checked_text(&file.bytes, name)?;
+        let records = read_csv(text, name)?;
+        let (columns, rows) = split_header(&records, table, name)?;
+        match table {
+            Table::Resistors => {
+                for (part, line) in resistors(&columns, rows, name)? {
+                    owners.push((part.part_id.clone(), name, line));
+                    stock.resistors.push(part);
+                }
+            }
+            Table::OpAmps => {
+                for (part, line) in opamps(&columns, rows, name)? {
+                    owners.push((part.part_id.clone(), name, line));
+                    stock.opamps.push(part);
+                }
+            }
+            Table::References => {
+                for (part, line) in references(&columns, rows, name)? {
+                    owners.push((part.part_id.clone(), name, line));
+                    stock.references.push(part);
+                }
+            }
+            Table::InAmps => {
+                for (part, line) in inamps(&columns, rows, name)? {
+                    owners.push((part.part_id.clone(), name, line));
+                    stock.inamps.push(part);
+                }
+            }
+        }
+    }
+    check_ids_across_tables(&owners)?;
+    let given_list = || {
+        let mut names: Vec<&str> = given.values().copied().collect();
+        names.sort_unstable();
+        names.join(", ")
+    };
+    if stock.resistors.is_empty() {
+        let (at, why) = match given.get("resistors.csv") {
+            Some(name) => (Location::file(name), format!("{name} has no rows")),
+            None => (
+                Location::file("stock"),
+                format!("no resistors.csv was given (files: {})", given_list()),
+            ),
+        };
+        return Err(Error::input(
+            at,
+            format!(
+                "the stock has no resistors: {why}; expected at least one resistor or series \
+                 family"
+            ),
+        ));
+    }
+    if stock.opamps.is_empty() && stock.inamps.is_empty() {
+        return Err(Error::input(
+            Location::file("stock"),
+            format!(
+                "the stock has no amplifiers: no row in opamps.csv or inamps.csv (files \
+                 given: {}); expected at least one op-amp or in-amp",
+                given_list()
+            ),
+        ));
+    }
+    stock.resistors.sort_by(|a, b| {
+        a.value
+            .0
+            .total_cmp(&b.value.0)
+            .then(a.unit_cost.total_cmp(&b.unit_cost))
+            .then_with(|| a.part_id.cmp(&b.part_id))
+    });
+    Ok(stock)
+}
+
+fn expected_file_names() -> String {
+    Table::ALL
+        .iter()
+        .map(|t| t.file_name())
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// A location with a line but no column.
+fn at_line(file: &str, line: usize) -> Location {
+    let mut at = Location::file(file);
+    at.line = Some(line);
+    at
+}
+
+/// Size, line length and UTF-8 checks; the text without a leading
+/// byte-order mark.
+fn checked_text<'a>(bytes: &'a [u8], file: &str) -> Result<&'a str> {
+    if bytes.len() > MAX_FILE_BYTES {
+        return Err(Error::input(
+            Location::file(file),
+            format!(
+                "stock file is {} bytes; the limit is 8 MiB ({MAX_FILE_BYTES} bytes)",
+                bytes.len()
+            ),
+        ));
+    }
+    let mut line = 1;
+    let mut start = 0;
+    for (i, &b) in bytes.iter().enumerate() {
+        let is_end = b == b'\n' || (b == b'\r' && bytes.get(i + 1) != Some(&b'\n'));
+        if is_end || i + 1 == bytes.len() {
+            let end = if is_end { i } else { i + 1 };
+            let len = end - start;
+            if len > MAX_LINE_BYTES {
+                return Err(Error::input(
+                    at_line(file, line),
+                    format!(
+                        "line {line} is {len} bytes long; the limit is 64 KiB ({MAX_LINE_BYTES} \
+                         bytes) per line"
+                    ),
+                ));
+            }
+            line += 1;
+            start = i + 1;
+        }
+    }
+    let text = decode_utf8(bytes, file)?;
+    Ok(text.strip_prefix('\u{feff}').unwrap_or(text))
+}
+
+// ---------------------------------------------------------------------------
+// RFC 4180 reader.
+
+/// One CSV record and the line it starts on.
+#[derive(Debug, Clone, PartialEq)]
+struct Record {
+    /// 1-based line of the record's first character.
+    line: usize,
+    /// Field texts, quotes removed and doubled quotes undone.
+    fields: Vec<String>,
+}
+
+/// Split `text` into records (RFC 4180, with the extensions listed in the
+/// module header). Fields are returned as written, not trimmed.
+fn read_csv(text: &str, file: &str) -> Result<Vec<Record>> {
+    let b = text.as_bytes();
+    let len = b.len();
+    let mut records = Vec::new();
+    let mut i = 0;
+    let mut line = 1;
+    // Step over a line end at `i` (CRLF, LF or CR), counting the line.
+    let line_end_len = |i: usize| -> usize {
+        match b.get(i) {
+            Some(b'\r') if b.get(i + 1) == Some(&b'\n') => 2,
+            Some(b'\r') | Some(b'\n') => 1,
+            _ => 0,
+        }
+    };
+    while i < len {
+        // Blank and comment lines are skipped whole.
+        let end = b[i..]
+            .iter()
+            .position(|&c| c == b'\n' || c == b'\r')
+            .map_or(len, |p| i + p);
+        let physical = &text[i..end];
+        if physical.trim().is_empty() || physical.trim_start().starts_with('#') {
+            i = end + line_end_len(end);
+            line += 1;
+            continue;
+        }
+        let record_line = line;
+        let mut fields = Vec::new();
+        loop {
+            // Spaces before an opening quote are allowed.
+            let mut j = i;
+            while j < len && (b[j] == b' ' || b[j] == b'\t') {
+                j += 1;
+            }
+            if j < len && b[j] == b'"' {
+                let quote_line = line;
+                i = j + 1;
+                let mut value = String::new();
+                let mut segment = i;
+                loop {
+                    if i >= len {
+                        return Err(Error::input(
+                            at_line(file, quote_line),
+                            "a quoted field opened on this line is never closed; expected a \
+                             closing `\"` (write a quote inside a field as `\"\"`)",
+                        ));
+                    }
+                    match b[i] {
+                        b'"' if b.get(i + 1) == Some(&b'"') => {
+                            value.push_str(&text[segment..=i]);
+                            i += 2;
+                            segment = i;
+                        }
+                        b'"' => {
+                            value.push_str(&text[segment..i]);
+                            i += 1;
+                            break;
+                        }
+                        b'\r' | b'\n' => {
+                            i += line_end_len(i);
+                            line += 1;
+                        }
+                        _ => i += 1,
+                    }
+                }
+                while i < len && (b[i] == b' ' || b[i] == b'\t') {
+                    i += 1;
+                }
+                fields.push(value);
+            } else {
+                let start = i;
+                while i < len && !matches!(b[i], b',' | b'\n' | b'\r') {
+                    if b[i] == b'"' {
+                        return Err(Error::input(
+                            at_line(file, line),
+                            format!(
+                                "field {} has a quote inside an unquoted value; expected the \
+                                 whole field in quotes with inner quotes doubled (`\"a \"\"b\"\"\"`)",
+                                fields.len() + 1
+                            ),
+                        ));
+                    }
+                    i += 1;
+                }
+                fields.push(text[start..i].to_string());
+            }
+            match b.get(i) {
+                None => break,
+                Some(b',') => i += 1,
+                Some(b'\r') | Some(b'\n') => {
+                    i += line_end_len(i);
+                    line += 1;
+                    break;
+                }
+                Some(_) => {
+                    return Err(Error::input(
+                        at_line(file, line),
+                        format!(
+                            "field {} has text after its closing quote; expected a comma or the \
+                             end of the line",
+                            fields.len()
+                        ),
+                    ))
+                }
+            }
+        }
+        records.push(Record {
+            line: record_line,
+            fields,
+        });
+    }
+    Ok(records)
+}
+
+// ---------------------------------------------------------------------------
+// Header and cells.
+
+/// The header of one table: where each column is.
+struct Columns {
+    index: HashMap<String, usize>,
+    count: usize,
+    line: usize,
+}
+
+/// Check the header against the table's columns; the header and the data
+/// records.
+fn split_header<'r>(
+    records: &'r [Record],
+    table: Table,
+    file: &str,
+) -> Result<(Columns, &'r [Record])> {
+    let all = table.all_columns();
+    let Some((header, rows)) = records.split_first() else {
+        return Err(Error::input(
+            Location::file(file),
+            format!(
+                "{file} is empty; expected a header row with the columns {}",
+                all.join(",")
+            ),
+        ));
+    };
+    let mut index = HashMap::new();
+    let mut unknown = Vec::new();
+    for (i, raw) in header.fields.iter().enumerate() {
+        let name = raw.trim();
+        if name.is_empty() {
+            return Err(Error::input(
+                at_line(file, header.line),
+                format!(
+                    "column {} of the header has no name; expected one of {}",
+                    i + 1,
+                    all.join(", ")
+                ),
+            ));
+        }
+        if !all.contains(&name) {
+            unknown.push(format!("`{}`", shown(name)));
+            continue;
+        }
+        if index.insert(name.to_string(), i).is_some() {
+            return Err(Error::input(
+                Location::cell(file, header.line, name),
+                format!("column `{name}` appears twice in the header; expected it once"),
+            ));
+        }
+    }
+    if !unknown.is_empty() {
+        let mut at = at_line(file, header.line);
+        at.column = unknown.first().map(|u| u.trim_matches('`').to_string());
+        return Err(Error::input(
+            at,
+            format!(
+                "unknown column{} {} in the header; the columns of {} are: {}",
+                if unknown.len() > 1 { "s" } else { "" },
+                unknown.join(", "),
+                table.file_name(),
+                all.join(", ")
+            ),
+        ));
+    }
+    let mut missing: Vec<&str> = table
+        .required_columns()
+        .iter()
+        .copied()
+        .filter(|c| !index.contains_key(*c))
+        .collect();
+    if table == Table::Resistors {
+        let family: Vec<&str> = FAMILY_COLUMNS
+            .iter()
+            .copied()
+            .filter(|c| !index.contains_key(*c))
+            .collect();
+        let has_value = index.contains_key("value_ohms");
+        if family.len() == FAMILY_COLUMNS.len() && !has_value {
+            return Err(Error::input(
+                at_line(file, header.line),
+                "the header has neither `value_ohms` (single parts) nor \
+                 `series,min_ohms,max_ohms` (series families); expected one of them or both",
+            ));
+        }
+        if family.len() < FAMILY_COLUMNS.len() {
+            missing.extend(family);
+        }
+    }
+    if !missing.is_empty() {
+        let list: Vec<String> = missing.iter().map(|c| format!("`{c}`")).collect();
+        return Err(Error::input(
+            at_line(file, header.line),
+            format!(
+                "missing column{} {} in the header; the columns of {} are: {}",
+                if missing.len() > 1 { "s" } else { "" },
+                list.join(", "),
+                table.file_name(),
+                all.join(", ")
+            ),
+        ));
+    }
+    Ok((
+        Columns {
+            index,
+            count: header.fields.len(),
+            line: header.line,
+        },
+        rows,
+    ))
+}
+
+/// What a number must satisfy.
+#[derive(Debug, Clone, Copy)]
+enum Bound {
+    /// Strictly positive.
+    AboveZero,
+    /// Zero or positive.
+    ZeroOrMore,
+    /// From zero to just under 100 (a percentage of something).
+    Percent,
+    /// Inside [`OHMS_RANGE`].
+    Resistance,
+}
+
+/// One data row of a table.
+struct Row<'a> {
+    file: &'a str,
+    line: usize,
+    columns: &'a Columns,
+    fields: &'a [String],
+}
+
+impl<'a> Row<'a> {
+    fn new(file: &'a str, columns: &'a Columns, record: &'a Record) -> Result<Self> {
+        if record.fields.len() != columns.count {
+            return Err(Error::input(
+                at_line(file, record.line),
+                format!(
+                    "line {} has {} fields; the header (line {}) has {} columns",
+                    record.line,
+                    record.fields.len(),
+                    columns.line,
+                    columns.count
+                ),
+            ));
+        }
+        Ok(Row {
+            file,
+            line: record.line,
+            columns,
+            fields: &record.fields,
+        })
+    }
+
+    /// The trimmed cell of a column, or `""` when the header lacks it.
+    fn cell(&self, column: &str) -> &'a str {
+        self.columns
+            .index
+            .get(column)
+            .and_then(|&i| self.fields.get(i))
+            .map_or("", |s| s.trim())
+    }
+
+    fn err(&self, column: &str, message: impl Into<String>) -> Error {
+        Error::input(Location::cell(self.file, self.line, column), message)
+    }
+
+    fn found(&self, column: &str) -> String {
+        let cell = self.cell(column);
+        if cell.is_empty() {
+            "an empty cell".to_string()
+        } else {
+            format!("`{}`", shown(cell))
+        }
+    }
+
+    /// A finite number meeting `bound`; `what` reads "a number of ohms".
+    fn number(&self, column: &str, what: &str, bound: Bound) -> Result<f64> {
+        let cell = self.cell(column);
+        let value: f64 = cell.parse().map_err(|_| {
+            self.err(
+                column,
+                format!("expected {what}, found {}", self.found(column)),
+            )
+        })?;
+        if !value.is_finite() {
+            return Err(self.err(
+                column,
+                format!(
+                    "expected {what} (a finite one), found {}",
+                    self.found(column)
+                ),
+            ));
+        }
+        let (ok, rule) = match bound {
+            Bound::AboveZero => (value > 0.0, "above zero".to_string()),
+            Bound::ZeroOrMore => (value >= 0.0, "of zero or more".to_string()),
+            Bound::Percent => (
+                (0.0..100.0).contains(&value),
+                "from 0 to less than 100".to_string(),
+            ),
+            Bound::Resistance if value <= 0.0 => (false, "above zero".to_string()),
+            Bound::Resistance => (
+                value >= OHMS_RANGE.0 && value <= OHMS_RANGE.1,
+                format!("from {} to {:e}", OHMS_RANGE.0, OHMS_RANGE.1),
+            ),
+        };
+        if ok {
+            Ok(value)
+        } else {
+            Err(self.err(
+                column,
+                format!("expected {what} {rule}, found {}", self.found(column)),
+            ))
+        }
+    }
+
+    /// Quantity on hand: a whole number, or an empty cell for unlimited.
+    fn quantity(&self, column: &str) -> Result<Option<u32>> {
+        let cell = self.cell(column);
+        if cell.is_empty() {
+            return Ok(None);
+        }
+        if !cell.bytes().all(|c| c.is_ascii_digit()) {
+            return Err(self.err(
+                column,
+                format!(
+                    "expected a whole number of parts on hand (or an empty cell for unlimited), \
+                     found {}",
+                    self.found(column)
+                ),
+            ));
+        }
+        cell.parse::<u32>().map(Some).map_err(|_| {
+            self.err(
+                column,
+                format!(
+                    "expected a quantity of at most {}, found {}",
+                    u32::MAX,
+                    self.found(column)
+                ),
+            )
+        })
+    }
+
+    /// Free text of at most [`MAX_ID_CHARS`] characters with no control
+    /// characters; `required` refuses an empty cell.
+    fn text(&self, column: &str, required: bool) -> Result<String> {
+        let cell = self.cell(column);
+        if required && cell.is_empty() {
+            return Err(self.err(column, "expected a part id, found an empty cell"));
+        }
+        let count = cell.chars().count();
+        if count > MAX_ID_CHARS {
+            return Err(self.err(
+                column,
+                format!("text is {count} characters long; the limit is {MAX_ID_CHARS}"),
+            ));
+        }
+        if let Some(c) = cell.chars().find(|c| c.is_control()) {
+            return Err(self.err(
+                column,
+                format!(
+                    "text contains the control character {}; expected plain text",
+                    c.escape_unicode()
+                ),
+            ));
+        }
+        Ok(cell.to_string())
+    }
+}
+
+/// Part ids already used in one table: id to line.
+#[derive(Default)]
+struct Ids(HashMap<String, usize>);
+
+impl Ids {
+    fn claim(&mut self, id: &str, row: &Row<'_>) -> Result<()> {
+        match self.0.insert(id.to_string(), row.line) {
+            Some(first) => Err(row.err(
+                "part_id",
+                format!(
+                    "part_id `{}` is already used on line {first} (and again on line {}); \
+                     expected each part id once",
+                    shown(id),
+                    row.line
+                ),
+            )),
+            None => Ok(()),
+        }
+    }
+}
+
+/// No part id may name parts in two tables.
+fn check_ids_across_tables(owners: &[(String, &str, usize)]) -> Result<()> {
+    let mut seen: HashMap<&str, (&str, usize)> = HashMap::new();
+    for (id, file, line) in owners {
+        if let Some(&(first_file, first_line)) = seen.get(id.as_str()) {
+            if first_file != *file {
+                return Err(Error::input(
+                    Location::cell(file, *line, "part_id"),
+                    format!(
+                        "part_id `{}` is also used in {first_file} line {first_line}; expected \
+                         a part id to name one part",
+                        shown(id)
+                    ),
+                ));
+            }
+        }
+        seen.entry(id.as_str()).or_insert((file, *line));
+    }
+    Ok(())
+}
+
+// ---------------------------------------------------------------------------
+// Tables.
+
+fn resistors(columns: &Columns, rows: &[Record], file: &str) -> Result<Vec<(ResistorPart, usize)>> {
+    let mut ids = Ids::default();
+    let mut parts = Vec::new();
+    for record in rows {
+        let row = Row::new(file, columns, record)?;
+        let part_id = row.text("part_id", true)?;
+        ids.claim(&part_id, &row)?;
+        let has_value = !row.cell("value_ohms").is_empty();
+        let family_cells: Vec<&str> = FAMILY_COLUMNS
+            .iter()
+            .copied()
+            .filter(|c| !row.cell(c).is_empty())
+            .collect();
+        let tolerance = row.number("tolerance_pct", "a tolerance in percent", Bound::Percent)?;
+        let tcr = row.number(
+            "tcr_ppm_per_c",
+            "a temperature coefficient in ppm/degC",
+            Bound::ZeroOrMore,
+        )?;
+        let package = row.text("package", false)?;
+        let unit_cost = row.number("unit_cost", "a unit cost", Bound::ZeroOrMore)?;
+        let stock_qty = row.quantity("stock_qty")?;
+        let base = ResistorPart {
+            part_id: part_id.clone(),
+            value: Ohms(0.0),
+            tolerance: Percent(tolerance),
+            tcr: PpmPerC(tcr),
+            package,
+            unit_cost,
+            stock_qty,
+            family: None,
+        };
+        match (has_value, family_cells.is_empty()) {
+            (true, false) => {
+                return Err(row.err(
+                    "value_ohms",
+                    "the row has both `value_ohms` and series family cells; expected either a \
+                     single value or `series,min_ohms,max_ohms`",
+                ))
+            }
+            (false, true) => {
+                let column = if columns.index.contains_key("value_ohms") {
+                    "value_ohms"
+                } else {
+                    "series"
+                };
+                return Err(row.err(
+                    column,
+                    "the row has no value; expected `value_ohms` or `series,min_ohms,max_ohms`",
+                ));
+            }
+            (true, true) => {
+                let value = row.number("value_ohms", "a number of ohms", Bound::Resistance)?;
+                parts.push((
+                    ResistorPart {
+                        value: Ohms(value),
+                        ..base
+                    },
+                    row.line,
+                ));
+            }
+            (false, false) => {
+                for c in FAMILY_COLUMNS {
+                    if row.cell(c).is_empty() {
+                        return Err(row.err(
+                            c,
+                            format!(
+                                "a series family needs `series`, `min_ohms` and `max_ohms`; \
+                                 `{c}` is empty"
+                            ),
+                        ));
+                    }
+                }
+                let name = row.cell("series");
+                let series = Series::from_name(name).ok_or_else(|| {
+                    let names: Vec<&str> = Series::ALL.iter().map(|s| s.name()).collect();
+                    row.err(
+                        "series",
+                        format!(
+                            "expected one of {}, found {}",
+                            names.join(", "),
+                            row.found("series")
+                        ),
+                    )
+                })?;
+                let min = row.number("min_ohms", "a number of ohms", Bound::Resistance)?;
+                let max = row.number("max_ohms", "a number of ohms", Bound::Resistance)?;
+                if min > max {
+                    return Err(row.err(
+                        "max_ohms",
+                        format!("max_ohms ({max}) is below min_ohms ({min}); expected min_ohms <= max_ohms"),
+                    ));
+                }
+                let values = series.values_in(min, max);
+                if values.is_empty() {
+                    return Err(row.err(
+                        "min_ohms",
+                        format!(
+                            "family `{}` has no {} value from {min} to {max} ohms; expected a \
+                             range that holds at least one",
+                            shown(&part_id),
+                            series.name()
+                        ),
+                    ));
+                }
+                if parts.len() + values.len() > MAX_RESISTOR_VALUES {
+                    return Err(row.err(
+                        "max_ohms",
+                        format!(
+                            "the stock expands to more than {MAX_RESISTOR_VALUES} resistor \
+                             values at this family; expected fewer or narrower families"
+                        ),
+                    ));
+                }
+                for value in values {
+                    let id = format!("{part_id}-{}", value_code(value));
+                    ids.claim(&id, &row)?;
+                    parts.push((
+                        ResistorPart {
+                            part_id: id,
+                            value: Ohms(value),
+                            family: Some(part_id.clone()),
+                            ..base.clone()
+                        },
+                        row.line,
+                    ));
+                }
+            }
+        }
+        if parts.len() > MAX_RESISTOR_VALUES {
+            return Err(row.err(
+                "part_id",
+                format!("the stock has more than {MAX_RESISTOR_VALUES} resistor values"),
+            ));
+        }
+    }
+    Ok(parts)
+}
+
+/// Supply range and headrooms shared by op-amps and in-amps.
+struct Rails {
+    supply_min: f64,
+    supply_max: f64,
+    input_low: f64,
+    input_high: f64,
+    output_low: f64,
+    output_high: f64,
+}
+
+fn rails(row: &Row<'_>) -> Result<Rails> {
+    let supply = "a total supply in volts";
+    let headroom = "a headroom in volts";
+    let r = Rails {
+        supply_min: row.number("supply_min_v", supply, Bound::AboveZero)?,
+        supply_max: row.number("supply_max_v", supply, Bound::AboveZero)?,
+        input_low: row.number("input_headroom_low_v", headroom, Bound::ZeroOrMore)?,
+        input_high: row.number("input_headroom_high_v", headroom, Bound::ZeroOrMore)?,
+        output_low: row.number("output_headroom_low_v", headroom, Bound::ZeroOrMore)?,
+        output_high: row.number("output_headroom_high_v", headroom, Bound::ZeroOrMore)?,
+    };
+    if r.supply_min > r.supply_max {
+        return Err(row.err(
+            "supply_max_v",
+            format!(
+                "supply_max_v ({} V) is below supply_min_v ({} V); expected supply_min_v <= \
+                 supply_max_v",
+                r.supply_max, r.supply_min
+            ),
+        ));
+    }
+    for (kind, low, high, column) in [
+        ("input", r.input_low, r.input_high, "input_headroom_high_v"),
+        (
+            "output",
+            r.output_low,
+            r.output_high,
+            "output_headroom_high_v",
+        ),
+    ] {
+        if low + high >= r.supply_max {
+            return Err(row.err(
+                column,
+                format!(
+                    "the {kind} headrooms ({low} V + {high} V) leave no {kind} range even at \
+                     supply_max_v ({} V); expected their sum below the supply",
+                    r.supply_max
+                ),
+            ));
+        }
+    }
+    Ok(r)
+}
+
+fn opamps(columns: &Columns, rows: &[Record], file: &str) -> Result<Vec<(OpAmpPart, usize)>> {
+    let mut ids = Ids::default();
+    let mut parts = Vec::new();
+    for record in rows {
+        let row = Row::new(file, columns, record)?;
+        let part_id = row.text("part_id", true)?;
+        ids.claim(&part_id, &row)?;
+        let channels = match row.cell("channels").parse::<u32>() {
+            Ok(n) if CHANNELS.contains(&n) => n,
+            _ => {
+                return Err(row.err(
+                    "channels",
+                    format!(
+                        "expected 1, 2 or 4 op-amp sections per package, found {}",
+                        row.found("channels")
+                    ),
+                ))
+            }
+        };
+        let r = rails(&row)?;
+        let nonneg = |column: &str, what: &str| row.number(column, what, Bound::ZeroOrMore);
+        let positive = |column: &str, what: &str| row.number(column, what, Bound::AboveZero);
+        parts.push((
+            OpAmpPart {
+                part_id,
+                channels,
+                supply_min: Volts(r.supply_min),
+                supply_max: Volts(r.supply_max),
+                input_headroom_low: Volts(r.input_low),
+                input_headroom_high: Volts(r.input_high),
+                output_headroom_low: Volts(r.output_low),
+                output_headroom_high: Volts(r.output_high),
+                vos_max_uv: nonneg("vos_max_uv", "an offset voltage in microvolts")?,
+                vos_drift_uv_per_c: nonneg(
+                    "vos_drift_uv_per_c",
+                    "an offset drift in microvolts per degC",
+                )?,
+                ib_max_na: nonneg("ib_max_na", "a bias current in nanoamps")?,
+                ios_max_na: nonneg("ios_max_na", "an offset current in nanoamps")?,
+                aol_min: Decibels(positive("aol_min_db", "an open-loop gain in dB")?),
+                gbw_mhz: positive("gbw_mhz", "a gain-bandwidth product in MHz")?,
+                en_nv_rthz: nonneg("en_nv_rthz", "a noise density in nV/sqrt(Hz)")?,
+                in_pa_rthz: nonneg("in_pa_rthz", "a noise density in pA/sqrt(Hz)")?,
+                cmrr_min: Decibels(positive("cmrr_min_db", "a common-mode rejection in dB")?),
+                unit_cost: nonneg("unit_cost", "a unit cost")?,
+                stock_qty: row.quantity("stock_qty")?,
+            },
+            row.line,
+        ));
+    }
+    Ok(parts)
+}
+
+fn references(
+    columns: &Columns,
+    rows: &[Record],
+    file: &str,
+) -> Result<Vec<(ReferencePart, usize)>> {
+    let mut ids = Ids::default();
+    let mut parts = Vec::new();
+    for record in rows {
+        let row = Row::new(file, columns, record)?;
+        let part_id = row.text("part_id", true)?;
+        ids.claim(&part_id, &row)?;
+        let nonneg = |column: &str, what: &str| row.number(column, what, Bound::ZeroOrMore);
+        parts.push((
+            ReferencePart {
+                part_id,
+                volts: Volts(row.number(
+                    "volts",
+                    "an output voltage in volts",
+                    Bound::AboveZero,
+                )?),
+                initial: Percent(row.number(
+                    "initial_pct",
+                    "an initial accuracy in percent",
+                    Bound::Percent,
+                )?),
+                tempco: PpmPerC(nonneg(
+                    "tempco_ppm_per_c",
+                    "a temperature coefficient in ppm/degC",
+                )?),
+                dropout: Volts(nonneg("dropout_v", "a dropout voltage in volts")?),
+                noise_uv_pp: nonneg("noise_uv_pp", "a noise in microvolts peak to peak")?,
+                unit_cost: nonneg("unit_cost", "a unit cost")?,
+                stock_qty: row.quantity("stock_qty")?,
+            },
+            row.line,
+        ));
+    }
+    Ok(parts)
+}
+
+fn inamps(columns: &Columns, rows: &[Record], file: &str) -> Result<Vec<(InAmpPart, usize)>> {
+    let mut ids = Ids::default();
+    let mut parts = Vec::new();
+    for record in rows {
+        let row = Row::new(file, columns, record)?;
+        let part_id = row.text("part_id", true)?;
+        ids.claim(&part_id, &row)?;
+        let nonneg = |column: &str, what: &str| row.number(column, what, Bound::ZeroOrMore);
+        let positive = |column: &str, what: &str| row.number(column, what, Bound::AboveZero);
+        let gain_resistor = row.number(
+            "gain_resistor_ohms",
+            "a gain-setting resistance in ohms",
+            Bound::Resistance,
+        )?;
+        let gain_error = row.number("gain_error_pct", "a gain error in percent", Bound::Percent)?;
+        let r = rails(&row)?;
+        parts.push((
+            InAmpPart {
+                part_id,
+                gain_resistor: Ohms(gain_resistor),
+                gain_error: Percent(gain_error),
+                gain_drift: PpmPerC(nonneg("gain_drift_ppm_per_c", "a gain drift in ppm/degC")?),
+                input_offset_uv: nonneg("input_offset_uv", "an offset voltage in microvolts")?,
+                output_offset_uv: nonneg("output_offset_uv", "an offset voltage in microvolts")?,
+                offset_drift_uv_per_c: nonneg(
+                    "offset_drift_uv_per_c",
+                    "an offset drift in microvolts per degC",
+                )?,
+                ib_max_na: nonneg("ib_max_na", "a bias current in nanoamps")?,
+                cmrr_min: Decibels(positive("cmrr_min_db", "a common-mode rejection in dB")?),
+                supply_min: Volts(r.supply_min),
+                supply_max: Volts(r.supply_max),
+                input_headroom_low: Volts(r.input_low),
+                input_headroom_high: Volts(r.input_high),
+                output_headroom_low: Volts(r.output_low),
+                output_headroom_high: Volts(r.output_high),
+                en_nv_rthz: nonneg("en_nv_rthz", "a noise density in nV/sqrt(Hz)")?,
+                gbw_mhz: positive("gbw_mhz", "a gain-bandwidth product in MHz")?,
+                unit_cost: nonneg("unit_cost", "a unit cost")?,
+                stock_qty: row.quantity("stock_qty")?,
+            },
+            row.line,
+        ));
+    }
+    Ok(parts)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn csv(text: &str) -> Vec<Record> {
+        read_csv(text, "t.csv").unwrap()
+    }
+
+    fn fields(records: &[Record]) -> Vec<Vec<&str>> {
+        records
+            .iter()
+            .map(|r| r.fields.iter().map(String::as_str).collect())
+            .collect()
+    }
+
+    #[test]
+    fn reader_handles_quotes_line_ends_comments_and_blank_lines() {
+        let r =
+            csv("a,b,c\r\n\"x,1\",\"say \"\"hi\"\"\",\r\n\r\n# note\n  \nlast,\"two\nlines\",z");
+        assert_eq!(
+            fields(&r),
+            vec![
+                vec!["a", "b", "c"],
+                vec!["x,1", "say \"hi\"", ""],
+                vec!["last", "two\nlines", "z"],
+            ]
+        );
+        assert_eq!(r.iter().map(|r| r.line).collect::<Vec<_>>(), vec![1, 2, 6]);
+        // A lone CR ends a line too; a trailing line end adds no record.
+        let r = csv("a,b\rc,d\r");
+        assert_eq!(fields(&r), vec![vec!["a", "b"], vec!["c", "d"]]);
+        assert_eq!(r[1].line, 2);
+        // Quoted empty field and spaces before a quote.
+        let r = csv("a, \"\" ,b\n");
+        assert_eq!(fields(&r), vec![vec!["a", "", "b"]]);
+    }
+
+    #[test]
+    fn reader_refuses_broken_quoting_with_the_line() {
+        let e = read_csv("a,b\nc,\"open\n\nmore", "t.csv").unwrap_err();
+        assert!(e.to_string().contains("line 2"), "{e}");
+        assert!(e.to_string().contains("never closed"), "{e}");
+        let e = read_csv("a,b\nc,\"x\"y\n", "t.csv").unwrap_err();
+        assert!(e.to_string().contains("line 2"), "{e}");
+        assert!(e.to_string().contains("after its closing quote"), "{e}");
+        let e = read_csv("a,b\nc,x\"y\n", "t.csv").unwrap_err();
+        assert!(
+            e.to_string().contains("quote inside an unquoted value"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn file_names_are_recognised_by_their_last_component() {
+        assert_eq!(
+            Table::from_file_name("parts/demo/Resistors.CSV"),
+            Some(Table::Resistors)
+        );
+        assert_eq!(
+            Table::from_file_name("C:\\x\\inamps.csv"),
+            Some(Table::InAmps)
+        );
+        assert_eq!(Table::from_file_name("resistor.csv"), None);
+    }
+
+    #[test]
+    fn line_length_is_checked_per_line() {
+        let mut bytes = b"part_id\n".to_vec();
+        bytes.extend(vec![b'x'; MAX_LINE_BYTES + 1]);
+        let e = checked_text(&bytes, "t.csv").unwrap_err().to_string();
+        assert!(e.contains("line 2"), "{e}");
+        assert!(e.contains("64 KiB"), "{e}");
+        bytes.truncate(8 + MAX_LINE_BYTES);
+        assert!(checked_text(&bytes, "t.csv").is_ok());
+    }
+
+    #[test]
+    fn family_part_ids_use_value_codes() {
+        let files = vec![
+            StockFile {
+                name: "resistors.csv".into(),
+                bytes: b"part_id,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,\
+unit_cost,stock_qty\nF,E12,10,100,1,100,0603,0.01,\n"
+                    .to_vec(),
+            },
+            StockFile {
+                name: "opamps.csv".into(),
+                bytes: crate::demo::STOCK[1].1.as_bytes().to_vec(),
+            },
+        ];
+        let stock = parse_stock(&files).unwrap();
+        let ids: Vec<&str> = stock.resistors.iter().map(|r| r.part_id.as_str()).collect();
+        assert_eq!(
+            ids,
+            vec![
+                "F-10R0", "F-12R0", "F-15R0", "F-18R0", "F-22R0", "F-27R0", "F-33R0", "F-39R0",
+                "F-47R0", "F-56R0", "F-68R0", "F-82R0", "F-100R"
+            ]
+        );
+        assert!(stock
+            .resistors
+            .iter()
+            .all(|r| r.family.as_deref() == Some("F")));
+        assert!(stock.resistors.iter().all(|r| r.stock_qty.is_none()));
+    }
 }

@@ -187,9 +187,7 @@ impl<'a> Builder<'a> {
         match source {
             Source::Supply => {
                 let node = self.n.node("vsup");
-                let e = self
-                    .n
-                    .vsource("VSUP", node, 0, self.need.supply.positive.0);
+                let e = self.n.vsource("VSUP", node, 0, self.need.supply.positive.0);
                 self.sources.push(PlacedSource {
                     designator: "VSUP".into(),
                     source: source.clone(),
@@ -273,9 +271,11 @@ impl<'a> Builder<'a> {
         let vos = self.n.vsource(&format!("VOS_{d}"), pi, plus, 0.0);
         let ibp = self.n.isource(&format!("IBP_{d}"), plus, 0, 0.0);
         let ibn = self.n.isource(&format!("IBN_{d}"), minus, 0, 0.0);
-        let gain_element =
-            self.n
-                .add(&format!("E{d}"), ElementKind::OpAmp { inverse_gain }, [pi, minus, out]);
+        let gain_element = self.n.add(
+            &format!("E{d}"),
+            ElementKind::OpAmp { inverse_gain },
+            [pi, minus, out],
+        );
         self.sections.push(Section {
             designator: d,
             package: pkg,
@@ -295,7 +295,13 @@ impl<'a> Builder<'a> {
     }
 
     /// The node an injection drives (creating divider and buffer).
-    fn injection(&mut self, stage: usize, inj: &Injection, what: &str, opamp: Option<usize>) -> Result<Node> {
+    fn injection(
+        &mut self,
+        stage: usize,
+        inj: &Injection,
+        what: &str,
+        opamp: Option<usize>,
+    ) -> Result<Node> {
         match inj {
             Injection::Ground => Ok(0),
             Injection::Direct { source } => self.source_node(source),
@@ -328,9 +334,8 @@ impl<'a> Builder<'a> {
     fn stage(&mut self, i: usize, st: &Stage, vin: Node, vin_n: Node, out: Node) -> Result<()> {
         let s = i + 1;
         let node = |b: &mut Self, suffix: &str| b.n.node(&format!("s{s}{suffix}"));
-        match st.shape {
-            Shape::InstrumentationIntegrated => return self.inamp_stage(i, st, vin, vin_n, out),
-            _ => {}
+        if st.shape == Shape::InstrumentationIntegrated {
+            return self.inamp_stage(i, st, vin, vin_n, out);
         }
         let part = self.opamp_index(&st.amplifier)?;
         match st.shape {
@@ -381,7 +386,12 @@ impl<'a> Builder<'a> {
             }
             Shape::InstrumentationDiscrete => {
                 let inj = self.injection(i, &st.offset, "o", Some(part))?;
-                let (g1, g2, a1, a2) = (node(self, "g1"), node(self, "g2"), node(self, "a1"), node(self, "a2"));
+                let (g1, g2, a1, a2) = (
+                    node(self, "g1"),
+                    node(self, "g2"),
+                    node(self, "a1"),
+                    node(self, "a2"),
+                );
                 let m = node(self, "m");
                 let q = node(self, "q");
                 self.section(i, part, vin, g1, a1);
@@ -400,7 +410,14 @@ impl<'a> Builder<'a> {
         Ok(())
     }
 
-    fn inamp_stage(&mut self, i: usize, st: &Stage, vin: Node, vin_n: Node, out: Node) -> Result<()> {
+    fn inamp_stage(
+        &mut self,
+        i: usize,
+        st: &Stage,
+        vin: Node,
+        vin_n: Node,
+        out: Node,
+    ) -> Result<()> {
         let s = i + 1;
         let idx = self
             .stock
@@ -435,12 +452,36 @@ impl<'a> Builder<'a> {
         let res = |ohms| ElementKind::Resistor { ohms };
         let gain_element = self.n.add_in(&d, &format!("{d}.EA1"), amp, [pi, g1, a1]);
         self.n.add_in(&d, &format!("{d}.EA2"), amp, [vin_n, g2, a2]);
-        let rk1 = self.n.add_in(&d, &format!("{d}.RK1"), res(rk_half), [a1, g1, 0]);
-        let rk2 = self.n.add_in(&d, &format!("{d}.RK2"), res(rk_half), [a2, g2, 0]);
-        let r1 = self.n.add_in(&d, &format!("{d}.RD1"), res(INAMP_INTERNAL_OHMS), [a2, m, 0]);
-        let r2 = self.n.add_in(&d, &format!("{d}.RD2"), res(INAMP_INTERNAL_OHMS), [m, oi, 0]);
-        let r3 = self.n.add_in(&d, &format!("{d}.RD3"), res(INAMP_INTERNAL_OHMS), [a1, q, 0]);
-        let r4 = self.n.add_in(&d, &format!("{d}.RD4"), res(INAMP_INTERNAL_OHMS), [q, inj, 0]);
+        let rk1 = self
+            .n
+            .add_in(&d, &format!("{d}.RK1"), res(rk_half), [a1, g1, 0]);
+        let rk2 = self
+            .n
+            .add_in(&d, &format!("{d}.RK2"), res(rk_half), [a2, g2, 0]);
+        let r1 = self.n.add_in(
+            &d,
+            &format!("{d}.RD1"),
+            res(INAMP_INTERNAL_OHMS),
+            [a2, m, 0],
+        );
+        let r2 = self.n.add_in(
+            &d,
+            &format!("{d}.RD2"),
+            res(INAMP_INTERNAL_OHMS),
+            [m, oi, 0],
+        );
+        let r3 = self.n.add_in(
+            &d,
+            &format!("{d}.RD3"),
+            res(INAMP_INTERNAL_OHMS),
+            [a1, q, 0],
+        );
+        let r4 = self.n.add_in(
+            &d,
+            &format!("{d}.RD4"),
+            res(INAMP_INTERNAL_OHMS),
+            [q, inj, 0],
+        );
         self.n.add_in(&d, &format!("{d}.EA3"), amp, [q, m, oi]);
         let output_offset = self.n.vsource(&format!("VOSO_{d}"), out, oi, 0.0);
         self.internal_resistors.extend([rk1, rk2, r1, r2, r3, r4]);

@@ -1,0 +1,612 @@
+//! Checks of the analysis against references outside the project: the
+//! two-point span and offset arithmetic, the closed-form transfer of each
+//! stage shape, the closed form of every error line that has one, and the
+//! Monte Carlo yield against the distribution of a sum of uniforms. Each
+//! check names its source beside it.
+//!
+//! The op-amps and references used here are invented test parts (rows of
+//! the `TEST_*` tables below), idealised so that one imperfection at a
+//! time is non-zero.
+
+use spanfit::analysis::{analyze, Analysis, Line, Model};
+use spanfit::design::parse_design;
+use spanfit::need::{parse_need, Need};
+use spanfit::stock::{parse_stock, Stock, StockFile};
+
+/// Boltzmann constant, J/K (CODATA 2018; exact since the 2019 SI).
+const CODATA_BOLTZMANN: f64 = 1.380_649e-23;
+
+const TEST_RESISTORS: &str =
+    "part_id,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+TR-F1,E96,10,1000000,1.0,100,0603,0.004,\n";
+
+/// Invented op-amps: `TA-IDEAL` has no imperfection but a 200 dB gain;
+/// the others add one imperfection each (`TA-MC` three, for Monte Carlo).
+const TEST_OPAMPS: &str = "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
+TA-IDEAL,1,1,40,0,0,0,0,0,0,0,0,200,100,0,0,200,1,100\n\
+TA-VOS,1,1,40,0,0,0,0,1000,0,0,0,200,100,0,0,200,1,100\n\
+TA-IB,1,1,40,0,0,0,0,0,0,10,0,200,100,0,0,200,1,100\n\
+TA-AOL,1,1,40,0,0,0,0,0,0,0,0,60,100,0,0,200,1,100\n\
+TA-MC,1,1,40,0,0,0,0,1000,0,100,0,200,100,0,0,200,1,100\n";
+
+/// Invented references: `TR-2V5` exact and noiseless, `TR-MC` with a
+/// 0.12 % initial accuracy and nothing else.
+const TEST_REFERENCES: &str =
+    "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty\n\
+TR-2V5,2.5,0,0,0.2,0,1,100\n\
+TR-MC,2.5,0.12,0,0.2,0,1,100\n";
+
+fn test_stock() -> Stock {
+    let file = |name: &str, text: &str| StockFile {
+        name: name.to_string(),
+        bytes: text.as_bytes().to_vec(),
+    };
+    parse_stock(&[
+        file("resistors.csv", TEST_RESISTORS),
+        file("opamps.csv", TEST_OPAMPS),
+        file("references.csv", TEST_REFERENCES),
+    ])
+    .expect("the test stock parses")
+}
+
+fn demo_stock() -> Stock {
+    parse_stock(&spanfit::demo::stock_files()).expect("the demo stock parses")
+}
+
+fn need(toml: &str) -> Need {
+    parse_need(toml.as_bytes(), "check.toml").expect("the test need parses")
+}
+
+/// A single-ended need with the given sensor span, source resistance,
+/// ADC window and rails (margin 0, calibration none, worst-case basis).
+fn single_ended(lo: f64, hi: f64, source_ohms: f64, adc: (f64, f64), rails: (f64, f64)) -> Need {
+    need(&format!(
+        "[sensor]\nsignal_low_v = {lo}\nsignal_high_v = {hi}\nsource_ohms = {source_ohms}\n\
+         [adc]\nlow_v = {}\nhigh_v = {}\nbits = 12\nmargin_pct = 0\n\
+         [supply]\npositive_v = {}\nnegative_v = {}\n\
+         [accuracy]\nmax_error_pct_fs = 1\ntemp_min_c = 27\ntemp_max_c = 27\nbandwidth_hz = 10\n",
+        adc.0, adc.1, rails.1, rails.0
+    ))
+}
+
+/// An exact, drift-free inline resistor.
+fn exact(ohms: f64) -> serde_json::Value {
+    serde_json::json!({"ohms": ohms, "tolerance_pct": 0, "tcr_ppm_per_c": 0})
+}
+
+fn run(need: &Need, stock: &Stock, design: serde_json::Value) -> (Model, Analysis) {
+    let text = design.to_string();
+    let design =
+        parse_design(text.as_bytes(), "check.json", stock).expect("the test design parses");
+    analyze(need, stock, &design, 0, 1).expect("the test design analyses")
+}
+
+fn line(a: &Analysis, which: Line) -> [f64; 2] {
+    a.budget
+        .iter()
+        .find(|b| b.line == which)
+        .map(|b| b.at_ends_pct_fs)
+        .unwrap_or([0.0, 0.0])
+}
+
+fn close(got: f64, want: f64, rel: f64, what: &str) {
+    let tol = rel * want.abs().max(1e-300);
+    assert!(
+        (got - want).abs() <= tol,
+        "{what}: got {got:e}, closed form {want:e} (relative tolerance {rel:e})"
+    );
+}
+
+fn non_inverting(amp: &str, rf: f64, rg: f64, offset: serde_json::Value) -> serde_json::Value {
+    serde_json::json!({"stages": [{
+        "shape": "non-inverting", "amplifier": amp,
+        "resistors": {"rf": exact(rf), "rg": exact(rg)},
+        "offset": offset,
+    }]})
+}
+
+fn ground() -> serde_json::Value {
+    serde_json::json!({"kind": "ground"})
+}
+
+// ---------------------------------------------------------------------
+// Two-point span and offset (common practice; DESIGN.md section 2).
+
+fn two_point(lo: f64, hi: f64, adc_hi: f64, margin: f64) -> (f64, f64) {
+    need(&format!(
+        "[sensor]\nsignal_low_v = {lo}\nsignal_high_v = {hi}\n\
+         [adc]\nlow_v = 0\nhigh_v = {adc_hi}\nbits = 12\nmargin_pct = {margin}\n\
+         [supply]\npositive_v = 5\n[accuracy]\nmax_error_pct_fs = 1\n"
+    ))
+    .ideal_transfer()
+}
+
+/// A 4-20 mA loop across 250 ohm gives 1-5 V; mapped to 0-5 V the straight
+/// line through the two points has K = 5/4 and B = -K * 1 V (common practice).
+#[test]
+fn current_loop_across_250_ohm_to_0_5_v() {
+    let (k, b) = two_point(0.004 * 250.0, 0.020 * 250.0, 5.0, 0.0);
+    close(k, 1.25, 1e-12, "K");
+    close(b, -1.25, 1e-12, "B");
+}
+
+/// 4-20 mV to 0-5 V: K = 5 V / 16 mV = 312.5, B = -312.5 * 4 mV (common practice).
+#[test]
+fn four_to_twenty_millivolts_to_0_5_v() {
+    let (k, b) = two_point(0.004, 0.020, 5.0, 0.0);
+    close(k, 312.5, 1e-12, "K");
+    close(b, -1.25, 1e-12, "B");
+}
+
+/// With a 2 % margin a 0-3 V window shrinks to 0.06-2.94 V, so a 25 mV
+/// span needs K = 2.88 / 0.025 = 115.2 and B = 0.06 V (DESIGN.md section 2
+/// window formula; arithmetic by hand).
+#[test]
+fn margin_shrinks_the_target_window() {
+    let (k, b) = two_point(0.0, 0.025, 3.0, 2.0);
+    close(k, 115.2, 1e-12, "K");
+    close(b, 0.06, 1e-12, "B");
+}
+
+// ---------------------------------------------------------------------
+// Closed-form transfers (handbook op-amp formulas, common practice).
+
+/// Non-inverting stage, ideal offset at ground: `1 + Rf/Rg`.
+#[test]
+fn non_inverting_gain_is_one_plus_rf_over_rg() {
+    let n = single_ended(0.0, 0.1, 0.0, (0.0, 3.0), (0.0, 5.0));
+    let (rf, rg) = (47_000.0, 2_200.0);
+    let (_, a) = run(
+        &n,
+        &test_stock(),
+        non_inverting("TA-IDEAL", rf, rg, ground()),
+    );
+    close(a.transfer.gain, 1.0 + rf / rg, 1e-8, "gain");
+    assert!(
+        a.transfer.offset_v.abs() < 1e-12,
+        "offset {}",
+        a.transfer.offset_v
+    );
+    close(a.stages[0].gain, 1.0 + rf / rg, 1e-8, "stage gain");
+}
+
+/// Non-inverting stage with an unbuffered divider at the bottom of Rg:
+/// `Vout = Vs(1 + Rf/Rg') - Vth Rf/Rg'`, `Rg' = Rg + Rth`, with the
+/// divider's Thevenin source `Vth = Vref Rb/(Rt+Rb)`, `Rth = Rt || Rb`
+/// (DESIGN.md section 2; Thevenin's theorem, common practice).
+#[test]
+fn non_inverting_with_divider_offset_matches_thevenin_formula() {
+    let n = single_ended(0.5, 1.0, 0.0, (0.0, 3.0), (0.0, 5.0));
+    let (rf, rg, rt, rb, vref) = (30_000.0, 8_200.0, 15_000.0, 10_000.0, 2.5);
+    let offset = serde_json::json!({
+        "kind": "divider", "source": "TR-2V5", "top": exact(rt), "bottom": exact(rb), "buffered": false
+    });
+    let (_, a) = run(&n, &test_stock(), non_inverting("TA-IDEAL", rf, rg, offset));
+    let vth = vref * rb / (rt + rb);
+    let rth = rt * rb / (rt + rb);
+    let rg_eff = rg + rth;
+    close(a.transfer.gain, 1.0 + rf / rg_eff, 1e-8, "gain");
+    close(a.transfer.offset_v, -vth * rf / rg_eff, 1e-8, "offset");
+    for (end, vs) in [0.5, 1.0].into_iter().enumerate() {
+        let want = vs * (1.0 + rf / rg_eff) - vth * rf / rg_eff;
+        close(a.transfer.output_at_ends_v[end], want, 1e-8, "output");
+    }
+}
+
+/// Inverting summing stage on split rails: `Vout = -Rf(Vs/(R1+Rs) + Vr/R2)`,
+/// the sensor's own resistance Rs adding to R1 (DESIGN.md section 2;
+/// summing amplifier, common practice).
+#[test]
+fn inverting_summing_stage_matches_closed_form() {
+    let rs = 1_000.0;
+    let n = single_ended(0.0, 0.2, rs, (0.0, 3.0), (-5.0, 5.0));
+    let (r1, rf, r2, vr) = (9_000.0, 68_000.0, 150_000.0, 2.5);
+    let design = serde_json::json!({"stages": [{
+        "shape": "inverting", "amplifier": "TA-IDEAL",
+        "resistors": {"ri": exact(r1), "rf": exact(rf), "ro": exact(r2)},
+        "offset": {"kind": "direct", "source": "TR-2V5"},
+    }]});
+    let (_, a) = run(&n, &test_stock(), design);
+    for (end, vs) in [0.0, 0.2].into_iter().enumerate() {
+        let want = -rf * (vs / (r1 + rs) + vr / r2);
+        close(a.transfer.output_at_ends_v[end], want, 1e-8, "output");
+    }
+    close(a.transfer.gain, -rf / (r1 + rs), 1e-8, "gain");
+    close(a.transfer.offset_v, -rf * vr / r2, 1e-8, "offset");
+}
+
+/// Four-resistor difference amplifier with `R4/R3 = R2/R1`:
+/// `Vout = (R2/R1)(V+ - V-) + Vref`, the 2.5 V common mode rejected
+/// (DESIGN.md section 2; difference amplifier, common practice).
+#[test]
+fn matched_difference_amplifier_matches_closed_form() {
+    let n = need(
+        "[sensor]\nsignal_low_v = -0.05\nsignal_high_v = 0.05\noutput = \"differential\"\n\
+         common_mode_v = 2.5\nsource_ohms = 0\n\
+         [adc]\nlow_v = 0\nhigh_v = 5\nbits = 12\n[supply]\npositive_v = 5\n\
+         [accuracy]\nmax_error_pct_fs = 1\n",
+    );
+    let (r1, r2) = (10_000.0, 220_000.0);
+    let design = serde_json::json!({"stages": [{
+        "shape": "difference", "amplifier": "TA-IDEAL",
+        "resistors": {"r1": exact(r1), "r2": exact(r2), "r3": exact(r1), "r4": exact(r2)},
+        "offset": {"kind": "direct", "source": "TR-2V5"},
+    }]});
+    let (_, a) = run(&n, &test_stock(), design);
+    close(a.transfer.gain, r2 / r1, 1e-8, "gain");
+    close(a.transfer.offset_v, 2.5, 1e-8, "offset");
+    for (end, vd) in [-0.05, 0.05].into_iter().enumerate() {
+        close(
+            a.transfer.output_at_ends_v[end],
+            r2 / r1 * vd + 2.5,
+            1e-8,
+            "output",
+        );
+    }
+}
+
+/// Finite open-loop gain: closed-loop gain `A/(1 + A beta)` with
+/// `beta = Rg/(Rf+Rg)` (Black's feedback formula, common practice); the
+/// open-loop-gain budget line is the difference from the ideal `1/beta`.
+#[test]
+fn finite_open_loop_gain_follows_feedback_formula() {
+    let n = single_ended(0.0, 0.25, 0.0, (0.0, 2.5), (0.0, 5.0));
+    let (rf, rg) = (9_000.0, 1_000.0);
+    let (_, a) = run(&n, &test_stock(), non_inverting("TA-AOL", rf, rg, ground()));
+    let big_a = 1_000.0; // 60 dB
+    let beta = rg / (rf + rg);
+    let closed = big_a / (1.0 + big_a * beta);
+    close(a.transfer.gain, closed, 1e-10, "gain");
+    // Ideal gain 10 maps 0-0.25 V to 0-2.5 V exactly: the open-loop-gain
+    // line at the top of the span is 0.25 V * (1/beta - A/(1 + A beta)).
+    let want_pct = 100.0 * 0.25 * (1.0 / beta - closed) / 2.5;
+    close(
+        line(&a, Line::OpenLoopGain)[1],
+        want_pct,
+        1e-8,
+        "open-loop-gain line",
+    );
+    assert!(line(&a, Line::NominalRounding)[1].abs() < 1e-10);
+}
+
+// ---------------------------------------------------------------------
+// Error lines (handbook op-amp error formulas, common practice).
+
+/// Vos line = Vos_max x noise gain / FS; noise gain `1 + Rf/Rg` for a
+/// non-inverting stage and `1 + Rf/(R1 + Rs)` for an inverting one.
+#[test]
+fn offset_voltage_line_is_vos_times_noise_gain() {
+    let fs = 3.0;
+    let n = single_ended(0.0, 0.1, 0.0, (0.0, fs), (0.0, 5.0));
+    let (rf, rg) = (47_000.0, 2_200.0);
+    let (_, a) = run(&n, &test_stock(), non_inverting("TA-VOS", rf, rg, ground()));
+    let want = 100.0 * 1e-3 * (1.0 + rf / rg) / fs;
+    for v in line(&a, Line::OffsetVoltage) {
+        close(v, want, 1e-8, "non-inverting Vos line");
+    }
+
+    let rs = 500.0;
+    let n = single_ended(0.0, 0.1, rs, (0.0, fs), (-5.0, 5.0));
+    let (ri, rf) = (4_500.0, 20_000.0);
+    let design = serde_json::json!({"stages": [{
+        "shape": "inverting", "amplifier": "TA-VOS",
+        "resistors": {"ri": exact(ri), "rf": exact(rf)}, "offset": ground(),
+    }]});
+    let (_, a) = run(&n, &test_stock(), design);
+    let want = 100.0 * 1e-3 * (1.0 + rf / (ri + rs)) / fs;
+    for v in line(&a, Line::OffsetVoltage) {
+        close(v, want, 1e-8, "inverting Vos line");
+    }
+}
+
+/// Bias current into both inputs of a non-inverting stage: the + input
+/// current through the source resistance is amplified by `1 + Rf/Rg`, the
+/// inverting-input current flows through Rf, so the output moves
+/// `Ib (Rs (1 + Rf/Rg) - Rf)` (handbook bias-current error, common practice).
+#[test]
+fn bias_current_line_is_current_through_network_resistance() {
+    let fs = 3.0;
+    let (rf, rg) = (9_000.0, 1_000.0);
+    let ib = 10e-9;
+    for rs in [0.0, 5_000.0] {
+        let n = single_ended(0.0, 0.1, rs, (0.0, fs), (0.0, 5.0));
+        let (_, a) = run(&n, &test_stock(), non_inverting("TA-IB", rf, rg, ground()));
+        let want = 100.0 * (ib * (rs * (1.0 + rf / rg) - rf)).abs() / fs;
+        for v in line(&a, Line::BiasCurrent) {
+            close(v, want, 1e-8, "bias-current line");
+        }
+    }
+}
+
+/// Johnson noise `sqrt(4 k T R B)` (Johnson 1928 / Nyquist 1928; k from
+/// CODATA 2018) of the one resistor that dominates: a 1 Mohm sensor
+/// resistance into a near-unity non-inverting stage whose Rf is 10 ohm.
+/// The noise bandwidth of a one-pole roll-off is pi/2 times its corner
+/// (common practice); the peak-to-peak figure is 6.6 sigma (common practice).
+#[test]
+fn resistor_johnson_noise_appears_in_rms() {
+    let rs = 1.0e6;
+    let n = single_ended(0.0, 1.0, rs, (0.0, 3.0), (0.0, 5.0));
+    let (rf, rg) = (10.0, 1.0e6);
+    let (_, a) = run(
+        &n,
+        &test_stock(),
+        non_inverting("TA-IDEAL", rf, rg, ground()),
+    );
+    let t_kelvin = 27.0 + 273.15;
+    let bw = std::f64::consts::PI / 2.0 * 10.0;
+    close(a.noise.noise_bandwidth_hz, bw, 1e-12, "noise bandwidth");
+    let gain = 1.0 + rf / rg;
+    let want = gain * (4.0 * CODATA_BOLTZMANN * t_kelvin * rs * bw).sqrt();
+    // The other two resistors add about (10/1e6) of the power.
+    close(a.noise.rms_v, want, 1e-4, "output RMS noise");
+    assert!(
+        a.noise.shares[0] > 0.9999,
+        "resistor share {:?}",
+        a.noise.shares
+    );
+    close(
+        a.noise.peak_to_peak_v,
+        6.6 * a.noise.rms_v,
+        1e-12,
+        "peak-to-peak",
+    );
+    let noise_line = line(&a, Line::Noise);
+    close(
+        noise_line[1],
+        100.0 * 3.3 * a.noise.rms_v / 3.0,
+        1e-9,
+        "noise line",
+    );
+}
+
+/// Quantisation is +/-0.5 LSB with `LSB = FS / 2^bits` (common practice):
+/// 12 bits over 3 V gives 0.5/4096 of full scale.
+#[test]
+fn quantisation_is_half_an_lsb() {
+    let n = single_ended(0.0, 0.1, 0.0, (0.0, 3.0), (0.0, 5.0));
+    let (_, a) = run(
+        &n,
+        &test_stock(),
+        non_inverting("TA-IDEAL", 29_000.0, 1_000.0, ground()),
+    );
+    close(
+        a.quantisation_pct_fs,
+        100.0 * 0.5 / 4096.0,
+        1e-12,
+        "quantisation",
+    );
+    close(n.lsb(), 3.0 / 4096.0, 1e-12, "LSB");
+}
+
+// ---------------------------------------------------------------------
+// Monte Carlo against closed forms.
+
+/// A need whose ideal transfer `Vout = 2 Vs - 2.5 V` is met exactly by a
+/// non-inverting stage `Rf = Rg` with the reference at the bottom of Rg,
+/// so the only errors are the op-amp and reference limits, the same at
+/// both ends of the span and free of drift.
+fn mc_case(amp: &str) -> (Need, Model, Analysis) {
+    let n = single_ended(1.25, 2.5, 0.0, (0.0, 2.5), (0.0, 5.0));
+    let design = non_inverting(
+        amp,
+        10_000.0,
+        10_000.0,
+        serde_json::json!({"kind": "direct", "source": "TR-MC"}),
+    );
+    let (m, a) = run(&n, &test_stock(), design);
+    (n, m, a)
+}
+
+/// CDF of `S = sum a_i U_i`, `U_i` independent uniform on (-1, 1):
+/// `F(t) = sum over signs e of (prod e_i) (t + sum e_i a_i)_+^n / (n! 2^n prod a_i)`
+/// (the Irwin-Hall distribution generalised to unequal widths, i.e. the
+/// repeated convolution of uniform densities; from memory, and checked
+/// here against the n = 1 and equal-width cases).
+fn uniform_sum_cdf(a: &[f64], t: f64) -> f64 {
+    let n = a.len();
+    let mut total = 0.0;
+    for mask in 0..(1u32 << n) {
+        let mut sign = 1.0;
+        let mut shift = 0.0;
+        for (i, ai) in a.iter().enumerate() {
+            if mask & (1 << i) != 0 {
+                sign = -sign;
+                shift -= ai;
+            } else {
+                shift += ai;
+            }
+        }
+        let x = (t + shift).max(0.0);
+        total += sign * x.powi(n as i32);
+    }
+    let factorial: f64 = (1..=n).map(|k| k as f64).product();
+    let denom = factorial * 2f64.powi(n as i32) * a.iter().product::<f64>();
+    (total / denom).clamp(0.0, 1.0)
+}
+
+/// Wilson score interval (Wilson 1927) at `z` standard errors.
+fn wilson(successes: f64, n: f64, z: f64) -> (f64, f64) {
+    let p = successes / n;
+    let denom = 1.0 + z * z / n;
+    let centre = (p + z * z / (2.0 * n)) / denom;
+    let half = z * (p * (1.0 - p) / n + z * z / (4.0 * n * n)).sqrt() / denom;
+    (centre - half, centre + half)
+}
+
+#[test]
+fn uniform_sum_cdf_matches_known_cases() {
+    // One uniform on (-3, 3): F(t) = (t + 3)/6.
+    close(uniform_sum_cdf(&[3.0], 1.2), 4.2 / 6.0, 1e-12, "n = 1");
+    // Two equal uniforms: triangular on (-2, 2), F(1) = 1 - 1/8.
+    close(uniform_sum_cdf(&[1.0, 1.0], 1.0), 0.875, 1e-12, "triangle");
+    // Three equal uniforms (Irwin-Hall, shifted): F(0) = 1/2, F(-1) = 1/6
+    // (Irwin-Hall CDF at 1 of 3 terms is 1/6).
+    close(
+        uniform_sum_cdf(&[1.0, 1.0, 1.0], 0.0),
+        0.5,
+        1e-12,
+        "Irwin-Hall centre",
+    );
+    close(
+        uniform_sum_cdf(&[1.0, 1.0, 1.0], -1.0),
+        1.0 / 6.0,
+        1e-12,
+        "Irwin-Hall tail",
+    );
+}
+
+/// The MC case's lines are the closed forms: Vos 1 mV x noise gain 2,
+/// Ib 100 nA x Rf 10 kohm, and 0.12 % of 2.5 V x Rf/Rg (handbook
+/// formulas, common practice).
+#[test]
+fn monte_carlo_case_lines_match_closed_forms() {
+    let (_, _, a) = mc_case("TA-MC");
+    let fs = 2.5;
+    for (which, volts) in [
+        (Line::OffsetVoltage, 2e-3),
+        (Line::BiasCurrent, 1e-3),
+        (Line::ReferenceInitial, 3e-3),
+    ] {
+        for v in line(&a, which) {
+            close(v, 100.0 * volts / fs, 1e-6, which.label());
+        }
+    }
+    assert!(line(&a, Line::NominalRounding)[1].abs() < 1e-6);
+}
+
+/// The spread of a sum of independent uniforms of half-widths `L_i` has
+/// `sigma = sqrt(sum L_i^2 / 3)` (variance of a uniform, common practice),
+/// and its yield is the generalised Irwin-Hall CDF.
+#[test]
+fn monte_carlo_sigma_and_yield_match_sum_of_uniforms() {
+    let (_, m, a) = mc_case("TA-MC");
+    let random: Vec<f64> = a
+        .budget
+        .iter()
+        .filter(|b| !b.systematic && b.line != Line::Noise)
+        .map(|b| b.pct_fs)
+        .collect();
+    let sigma_closed = (random.iter().map(|l| l * l / 3.0).sum::<f64>()).sqrt();
+    let builds = 100_000u64;
+    let y = m.monte_carlo(builds, 11, 1.0);
+    // Standard error of a sample sigma is about sigma / sqrt(2N) (0.2 %).
+    close(y.sigma_pct_fs, sigma_closed, 0.02, "MC sigma");
+
+    // Half-widths in mV: 2, 1 and 3.
+    let widths = [2.0, 1.0, 3.0];
+    for limit_mv in [1.0, 2.5, 4.0, 5.5] {
+        let exact = uniform_sum_cdf(&widths, limit_mv) - uniform_sum_cdf(&widths, -limit_mv);
+        let limit_v = limit_mv * 1e-3 + m.noise_peak_v();
+        let y = m.monte_carlo(builds, 11, limit_v);
+        let pass = (y.yield_pct / 100.0 * builds as f64).round();
+        // The reported interval is Wilson's at 95 %.
+        let (lo, hi) = wilson(pass, builds as f64, 1.959_964);
+        close(y.confidence_pct[0], 100.0 * lo, 1e-9, "Wilson low");
+        close(y.confidence_pct[1], 100.0 * hi, 1e-9, "Wilson high");
+        // The closed form lies inside a 4-standard-error Wilson interval.
+        let (lo, hi) = wilson(pass, builds as f64, 4.0);
+        assert!(
+            exact >= lo && exact <= hi,
+            "limit {limit_mv} mV: MC yield {} %, closed form {} %",
+            y.yield_pct,
+            100.0 * exact
+        );
+    }
+}
+
+/// Bounds: at the first-order worst case every build passes; at zero no
+/// build does (the noise peak alone takes the limit).
+#[test]
+fn monte_carlo_yield_bounds() {
+    for (n, m) in [
+        {
+            let (n, m, _) = mc_case("TA-MC");
+            (n, m)
+        },
+        {
+            let n =
+                parse_need(spanfit::demo::NEED_TOML.as_bytes(), "demo.toml").expect("demo need");
+            let stock = demo_stock();
+            let d = parse_design(
+                include_bytes!("../../examples/demo-design.json"),
+                "demo-design.json",
+                &stock,
+            )
+            .expect("demo design");
+            let (m, _) = analyze(&n, &stock, &d, 0, 1).expect("demo analysis");
+            (n, m)
+        },
+    ] {
+        let (worst_pct, _, _) = m.quick_totals();
+        let worst_v = worst_pct / 100.0 * n.full_scale();
+        let all = m.monte_carlo(20_000, 3, worst_v * (1.0 + 1e-12));
+        assert_eq!(all.yield_pct, 100.0, "yield at the worst case");
+        let none = m.monte_carlo(20_000, 3, 0.0);
+        assert_eq!(none.yield_pct, 0.0, "yield at zero");
+        assert_eq!(all.histogram.counts.iter().sum::<u64>(), 20_000);
+    }
+}
+
+/// One uniform term of half-width 3 mV: the fraction within L is L / 3 mV
+/// (uniform distribution), inside the reported 95 % Wilson interval.
+#[test]
+fn monte_carlo_single_uniform_term_yield_is_linear() {
+    let (_, m, a) = mc_case("TA-IDEAL");
+    close(
+        line(&a, Line::ReferenceInitial)[1],
+        100.0 * 3e-3 / 2.5,
+        1e-6,
+        "reference line",
+    );
+    for limit_mv in [0.6, 1.5, 2.7] {
+        let y = m.monte_carlo(100_000, 5, limit_mv * 1e-3 + m.noise_peak_v());
+        let exact = 100.0 * limit_mv / 3.0;
+        assert!(
+            exact >= y.confidence_pct[0] && exact <= y.confidence_pct[1],
+            "limit {limit_mv} mV: MC {} % in {:?}, closed form {exact} %",
+            y.yield_pct,
+            y.confidence_pct
+        );
+    }
+}
+
+/// Same seed, same builds; another seed, other builds.
+#[test]
+fn monte_carlo_is_reproducible_by_seed() {
+    let (_, m, _) = mc_case("TA-MC");
+    let a = m.monte_carlo(10_000, 42, 4e-3);
+    let b = m.monte_carlo(10_000, 42, 4e-3);
+    assert_eq!(a, b);
+    let c = m.monte_carlo(10_000, 43, 4e-3);
+    assert_ne!(a.sigma_pct_fs, c.sigma_pct_fs);
+    assert_ne!(a.histogram.counts, c.histogram.counts);
+}
+
+// ---------------------------------------------------------------------
+// Worst case confirmed by corner evaluation (DESIGN.md section 2).
+
+#[test]
+fn demo_worst_case_covers_corner_check_and_rss() {
+    let n = parse_need(spanfit::demo::NEED_TOML.as_bytes(), "demo.toml").expect("demo need");
+    let stock = demo_stock();
+    let d = parse_design(
+        include_bytes!("../../examples/demo-design.json"),
+        "demo-design.json",
+        &stock,
+    )
+    .expect("demo design");
+    let (_, a) = analyze(&n, &stock, &d, 0, 1).expect("demo analysis");
+    assert!(a.worst_case_pct_fs >= a.corner_check_pct_fs, "{a:#?}");
+    assert!(a.worst_case_pct_fs >= a.rss_pct_fs, "{a:#?}");
+    assert!(a.worst_case_pct_fs >= a.first_order_pct_fs);
+    // The corner solved exactly agrees with the linear sum to first order:
+    // the second-order terms of percent-level deviations are small.
+    close(
+        a.corner_check_pct_fs,
+        a.first_order_pct_fs,
+        0.02,
+        "corner vs first order",
+    );
+    assert!(a.rss_pct_fs > 0.0 && a.worst_case_pct_fs.is_finite());
+}

@@ -1,0 +1,234 @@
+// Page mechanics that need no search: the form, validation, the shelf,
+// uploads (malformed and hostile), storage, the share link, project files,
+// panic recovery, the cautions and the Content-Security-Policy.
+import assert from 'node:assert/strict';
+import { after, before, test } from 'node:test';
+import { launch, openPage, serveDist, shot, unexpected } from './helpers.mjs';
+
+const CAUTION = 'This designs low-voltage signal conditioning only; it does not design isolation, protection against mains or high-voltage faults, or intrinsic safety; follow the applicable standards, local codes and licensed practice, and verify on the bench before use.';
+
+// Every key of DESIGN.md section 3 (need), by table.
+const NEED_KEYS = {
+  sensor: ['label', 'signal_low_v', 'signal_high_v', 'quantity_low', 'quantity_high', 'quantity_unit', 'output', 'common_mode_v', 'source_ohms'],
+  adc: ['low_v', 'high_v', 'bits', 'margin_pct'],
+  supply: ['positive_v', 'negative_v', 'tolerance_pct', 'ratiometric'],
+  accuracy: ['max_error_pct_fs', 'basis', 'yield_pct', 'temp_min_c', 'temp_max_c', 'calibration', 'bandwidth_hz'],
+  search: ['max_stages', 'topologies', 'resistor_series', 'objective', 'bom_line_cost', 'max_parts', 'time_limit_ms'],
+  stock: ['path', 'only'],
+};
+
+const HOSTILE = '<img src=x onerror=window.__pwned=1>';
+
+let server;
+before(async () => { server = await serveDist(); });
+after(async () => { await server.close(); });
+
+async function withPage(fn) {
+  const browser = await launch();
+  try {
+    const opened = await openPage(browser.context, server.url);
+    await fn({ ...opened, browser });
+  } finally {
+    await browser.close();
+  }
+}
+
+async function setField(page, key, value) {
+  const [section, name] = key.split('.');
+  await page.fill(`#f-${section}-${name}`, value);
+}
+
+async function uploadStock(page, name, text) {
+  await page.setInputFiles('[data-testid=stock-file]', { name, mimeType: 'text/csv', buffer: Buffer.from(text) });
+}
+
+async function demoCsv(page, file) {
+  return page.evaluate((f) => window.spanfitPage.call('demo_stock').then((t) => JSON.parse(t)[f]), file);
+}
+
+test('the page loads with every need key, the cautions, a strict CSP and no remote loads', async () => {
+  await withPage(async ({ page, problems }) => {
+    for (const [section, keys] of Object.entries(NEED_KEYS)) {
+      for (const key of keys) {
+        assert.equal(await page.locator(`[data-key="${section}.${key}"]`).count() > 0, true, `form lacks ${section}.${key}`);
+      }
+    }
+    assert.equal((await page.textContent('[data-testid=caution]')).replace(/\s+/g, ' ').includes(CAUTION), true);
+    const csp = await page.getAttribute('meta[http-equiv="Content-Security-Policy"]', 'content');
+    assert.match(csp, /default-src 'none'/);
+    assert.doesNotMatch(csp, /https?:|\*/, 'the policy names no remote source');
+    assert.equal(await page.textContent('[data-testid=need-status]'), 'The need is complete and consistent.');
+    assert.match(await page.textContent('[data-testid=stock-status]'), /^Shelf read: \d+ resistor values/);
+    assert.match(await page.textContent('[data-testid=derived]'), /gain K = [\d.]+/);
+    assert.equal(await page.isEnabled('[data-testid=solve]'), true);
+    await shot(page, 'page-initial');
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+    // A load from another origin (another loopback address) is refused by
+    // the policy and reported as a violation.
+    const blocked = await page.evaluate(() => new Promise((resolve) => {
+      document.addEventListener('securitypolicyviolation', (e) => resolve(e.violatedDirective), { once: true });
+      const img = document.createElement('img');
+      img.src = 'http://127.0.0.2:9/x.png';
+      document.body.append(img);
+      setTimeout(() => resolve('no violation'), 3000);
+    }));
+    assert.match(blocked, /img-src/);
+    for (const path of server.requests) assert.doesNotMatch(path, /^\/\//);
+  });
+});
+
+test('inline validation marks the field: a local number check, then the core names the key', async () => {
+  await withPage(async ({ page, problems }) => {
+    await setField(page, 'adc.high_v', 'three');
+    await page.waitForSelector('.field.invalid[data-key="adc.high_v"]');
+    assert.match(await page.textContent('#f-adc-high_v-error'), /"three" is not a number/);
+    assert.match(await page.textContent('[data-testid=need-status]'), /adc\.high_v/);
+    assert.equal(await page.isDisabled('[data-testid=solve]'), true);
+    // A number the core refuses: the window above the positive rail.
+    await setField(page, 'adc.high_v', '9');
+    await page.waitForFunction(() => /positive rail/.test(document.querySelector('[data-testid=need-status]').textContent));
+    const status = await page.textContent('[data-testid=need-status]');
+    assert.match(status, /key `adc\.high_v`/);
+    assert.equal(await page.locator('.field.invalid[data-key="adc.high_v"]').count(), 1);
+    await shot(page, 'page-invalid-field');
+    await setField(page, 'adc.high_v', '3');
+    await page.waitForFunction(() => document.querySelector('[data-testid=need-status]').textContent === 'The need is complete and consistent.');
+    assert.equal(await page.locator('.field.invalid').count(), 0);
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('a malformed CSV upload gets an error naming the line', async () => {
+  await withPage(async ({ page }) => {
+    const demo = await demoCsv(page, 'resistors.csv');
+    const lines = demo.trim().split('\n');
+    // Structure (the page's CSV reader): a row with a missing field on line 3.
+    const short = [...lines];
+    short[2] = short[2].split(',').slice(0, -2).join(',');
+    await uploadStock(page, 'resistors.csv', `${short.join('\n')}\n`);
+    await page.waitForFunction(() => document.querySelector('[data-testid=stock-status]').dataset.tone === 'bad');
+    assert.match(await page.textContent('[data-testid=stock-status]'), /resistors\.csv, line 3: \d+ fields, but the header has \d+/);
+    // A value (the core's reader): an unreadable tolerance on line 2.
+    const header = lines[0].split(',');
+    const cells = lines[1].split(',');
+    cells[header.indexOf('tolerance_pct')] = 'tight';
+    const bad = [lines[0], cells.join(','), ...lines.slice(2)];
+    await uploadStock(page, 'resistors.csv', `${bad.join('\n')}\n`);
+    await page.waitForFunction(() => /line 2/.test(document.querySelector('[data-testid=stock-status]').textContent));
+    const status = await page.textContent('[data-testid=stock-status]');
+    assert.match(status, /resistors\.csv/);
+    assert.match(status, /tolerance_pct/);
+    assert.equal(await page.isDisabled('[data-testid=solve]'), true);
+    await shot(page, 'page-bad-csv');
+  });
+});
+
+test('hostile text in a CSV, the need and the link is shown as text and never runs', async () => {
+  await withPage(async ({ page, problems }) => {
+    const demo = await demoCsv(page, 'resistors.csv');
+    const lines = demo.trim().split('\n');
+    const cells = lines[1].split(',');
+    cells[0] = HOSTILE;
+    await uploadStock(page, 'resistors.csv', `${[lines[0], cells.join(',')].join('\n')}\n`);
+    await page.waitForFunction(() => document.querySelector('[data-testid=stock-status]').textContent !== '');
+    const shown = await page.$$eval('[data-testid=stock-table] input', (inputs) => inputs.map((i) => i.value));
+    assert.equal(shown.includes(HOSTILE), true, 'the hostile name is in the table as text');
+    await setField(page, 'sensor.quantity_unit', HOSTILE);
+    await setField(page, 'sensor.label', HOSTILE);
+    await page.waitForFunction((h) => document.querySelector('[data-testid=derived]').textContent.includes(h), HOSTILE);
+    // Through a share link too.
+    const link = await page.evaluate(() => window.spanfitPage.shareLink());
+    const other = await browserPage(page, link);
+    assert.equal(await other.inputValue('#f-sensor-label'), HOSTILE);
+    await other.waitForTimeout(300);
+    for (const p of [page, other]) {
+      assert.equal(await p.evaluate(() => window.__pwned), undefined);
+      assert.equal(await p.locator('img[src="x"]').count(), 0);
+    }
+    await shot(page, 'page-hostile-text');
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+async function browserPage(page, url) {
+  const other = await page.context().newPage();
+  await other.goto(url);
+  await other.waitForFunction(() => document.body.dataset.ready === 'yes');
+  return other;
+}
+
+test('edits to the need and the shelf survive a reload', async () => {
+  await withPage(async ({ page, problems }) => {
+    await setField(page, 'sensor.source_ohms', '470');
+    await page.check('#f-search-resistor_series-E24');
+    const cell = page.locator('[data-testid=stock-table] input[data-row="0"][data-col="0"]');
+    await cell.fill('HR-EDITED');
+    await cell.press('Tab');
+    await page.click('button.tab[data-file="opamps.csv"]');
+    await page.click('#row-add');
+    await page.waitForTimeout(400);
+    await page.reload();
+    await page.waitForFunction(() => document.body.dataset.ready === 'yes');
+    assert.equal(await page.inputValue('#f-sensor-source_ohms'), '470');
+    assert.equal(await page.isChecked('#f-search-resistor_series-E24'), true);
+    assert.equal(await page.inputValue('[data-testid=stock-table] input[data-row="0"][data-col="0"]'), 'HR-EDITED');
+    const tabs = await page.$$eval('button.tab', (b) => b.map((x) => x.textContent));
+    const demoOpamps = (await demoCsv(page, 'opamps.csv')).trim().split('\n').length - 1;
+    assert.equal(tabs.includes(`Op-amps (${demoOpamps + 1})`), true, tabs.join(' | '));
+    await shot(page, 'page-after-reload');
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('the share link carries the need in the fragment as base64url JSON', async () => {
+  await withPage(async ({ page }) => {
+    await setField(page, 'accuracy.max_error_pct_fs', '0.35');
+    await page.click('#share');
+    const link = await page.inputValue('[data-testid=share-url]');
+    const code = /#need=([A-Za-z0-9_-]+)$/.exec(link);
+    assert.ok(code, link);
+    const need = JSON.parse(Buffer.from(code[1], 'base64url').toString('utf8'));
+    assert.equal(need.accuracy.max_error_pct_fs, 0.35);
+    assert.equal(need.adc.bits, 16);
+    const other = await browserPage(page, link);
+    assert.equal(await other.inputValue('#f-accuracy-max_error_pct_fs'), '0.35');
+    // A damaged fragment is reported, and the saved need is kept.
+    const broken = await browserPage(page, `${link.split('#')[0]}#need=%%%`);
+    assert.match(await broken.textContent('[data-testid=run-status]'), /could not be read/);
+    assert.equal(await broken.inputValue('#f-accuracy-max_error_pct_fs'), '0.35');
+  });
+});
+
+test('a project exports and imports with its need and shelf', async () => {
+  await withPage(async ({ page }) => {
+    await setField(page, 'supply.positive_v', '12');
+    await page.waitForTimeout(300);
+    const [download] = await Promise.all([page.waitForEvent('download'), page.click('#project-export')]);
+    const text = await (await download.createReadStream()).toArray().then((chunks) => Buffer.concat(chunks).toString('utf8'));
+    const project = JSON.parse(text);
+    assert.equal(project.format, 'spanfit-project');
+    assert.equal(project.need.supply.positive_v, 12);
+    assert.match(project.stock['resistors.csv'], /^part_id,/);
+    project.need.supply.positive_v = 15;
+    project.stock['references.csv'] = project.stock['references.csv'].trim().split('\n').slice(0, 2).join('\n') + '\n';
+    await page.setInputFiles('#project-file', { name: 'p.json', mimeType: 'application/json', buffer: Buffer.from(JSON.stringify(project)) });
+    await page.waitForFunction(() => /Project p\.json loaded/.test(document.querySelector('[data-testid=run-status]').textContent));
+    assert.equal(await page.inputValue('#f-supply-positive_v'), '15');
+    const tabs = await page.$$eval('button.tab', (b) => b.map((x) => x.textContent));
+    assert.equal(tabs.includes('References (1)'), true, tabs.join(' | '));
+    await page.setInputFiles('#project-file', { name: 'q.json', mimeType: 'application/json', buffer: Buffer.from('{"format": "other"}') });
+    await page.waitForFunction(() => /q\.json: not a spanfit project/.test(document.querySelector('[data-testid=run-status]').textContent));
+  });
+});
+
+test('a panic in the module is reported on the console and the page recovers', async () => {
+  await withPage(async ({ page, problems }) => {
+    const outcome = await page.evaluate(() => window.spanfitPage.panic().then(() => 'no error', (e) => `${e.fatal ? 'fatal' : 'plain'}: ${e.message}`));
+    assert.match(outcome, /^fatal: /);
+    await page.waitForFunction(() => document.querySelector('[data-testid=engine-state]').dataset.state === 'ready');
+    const checked = await page.evaluate(() => window.spanfitPage.call('demo_need').then((t) => window.spanfitPage.call('check_need', t, 'demo.toml')));
+    assert.equal(typeof JSON.parse(checked).derived.ideal_gain, 'number');
+    assert.equal(problems.consoleErrors.some((m) => m.includes('spanfit panic: ') && m.includes('diagnostic panic requested')), true, problems.consoleErrors.join('\n'));
+    assert.deepEqual(unexpected(problems, [/spanfit panic: /]), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});

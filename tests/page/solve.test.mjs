@@ -1,0 +1,173 @@
+// Searching from the served page: the demo against the CLI's answer, a
+// changed need, the trade-off plot, the Monte Carlo view, Stop, and the
+// demo solve time in Chromium (written to tests/artifacts/wasm-timing.json).
+import assert from 'node:assert/strict';
+import { mkdirSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { after, before, test } from 'node:test';
+import { ARTIFACTS, cliDemoJson, fmt, launch, openPage, serveDist, shot, solveAndWait, unexpected } from './helpers.mjs';
+
+let server;
+before(async () => { server = await serveDist(); });
+after(async () => { await server.close(); });
+
+async function withPage(fn) {
+  const browser = await launch();
+  try {
+    const opened = await openPage(browser.context, server.url);
+    await fn({ ...opened, browser });
+  } finally {
+    await browser.close();
+  }
+}
+
+async function figureRaw(page, key) {
+  return page.getAttribute(`[data-figure="${key}"]`, 'data-raw');
+}
+
+async function figureText(page, key) {
+  return page.textContent(`[data-figure="${key}"] .main`);
+}
+
+test('the demo result on the page equals the CLI --json output', async () => {
+  const cli = cliDemoJson();
+  assert.equal(cli.status, 'ok', 'the CLI designs the demo');
+  await withPage(async ({ page, problems }) => {
+    await solveAndWait(page);
+    assert.equal(await page.getAttribute('[data-testid=result-banner]', 'data-status'), cli.status);
+    const design = cli.design;
+    assert.equal(Number(await figureRaw(page, 'cost')), design.cost);
+    assert.equal(await figureText(page, 'cost'), fmt(design.cost));
+    const worst = design.error.worst_case_pct_fs;
+    assert.equal(Number(await figureRaw(page, 'worst')), worst);
+    assert.equal(await figureText(page, 'worst'), `${fmt(worst, 3)} % FS`);
+    assert.match(await page.textContent('[data-figure="worst"] .aside'), / LSB · [-\d.e]+ bar$/);
+    const rows = await page.$$eval('[data-testid=parts-table] tbody tr', (trs) => trs.map((tr) => {
+      const cells = {};
+      for (const td of tr.querySelectorAll('td')) cells[td.dataset.col] = td.dataset.raw === undefined ? undefined : JSON.parse(td.dataset.raw);
+      return cells;
+    }));
+    assert.equal(rows.length, design.parts.length);
+    design.parts.forEach((part, i) => {
+      for (const key of ['ref', 'kind', 'value', 'part_id', 'unit_cost']) {
+        assert.deepEqual(rows[i][key], part[key], `part ${part.ref}, ${key}`);
+      }
+    });
+    const shownValues = await page.$$eval('[data-testid=parts-table] td[data-col="value"]', (tds) => tds.map((td) => td.textContent));
+    assert.equal(shownValues.every((t) => t !== '—' && t.trim() !== ''), true, shownValues.join(', '));
+    assert.equal(await page.locator('[data-testid=schematic-img]').count(), 1);
+    const budgetBars = await page.locator('[data-testid=budget-chart] rect.bar').count();
+    assert.equal(budgetBars >= design.error.budget.length, true);
+    assert.equal(await page.locator('[data-testid=budget-chart] line.target').count(), 1);
+    assert.equal(await page.locator('[data-testid=bom-table] tbody tr').count() > 0, true);
+    await shot(page, 'solve-demo');
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('changing the ADC window and solving again changes the result to fit', async () => {
+  await withPage(async ({ page, problems }) => {
+    await solveAndWait(page);
+    const gainBefore = Number(await figureRaw(page, 'gain'));
+    await page.fill('#f-adc-high_v', '2.5');
+    await page.waitForFunction(() => {
+      const s = window.spanfitPage.state;
+      return s.needValid && s.need.adc.high_v === 2.5 && s.checkedNeed === JSON.stringify(s.need);
+    });
+    await page.waitForFunction(() => !document.querySelector('[data-testid=solve]').disabled);
+    const ideal = await page.evaluate(() => window.spanfitPage.state.derived.ideal_gain);
+    await solveAndWait(page);
+    const gainAfter = Number(await figureRaw(page, 'gain'));
+    assert.notEqual(gainAfter, gainBefore);
+    assert.equal(Math.abs(gainAfter - ideal) / ideal < 0.05, true, `gain ${gainAfter} against ideal ${ideal}`);
+    assert.equal(Math.abs(gainAfter - gainBefore) / gainBefore > 0.05, true);
+    await shot(page, 'solve-changed-need');
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('clicking a point of the trade-off plot shows that design', async () => {
+  const cli = cliDemoJson();
+  await withPage(async ({ page }) => {
+    await solveAndWait(page);
+    const points = page.locator('[data-testid=pareto-chart] circle.point:not(.chosen)');
+    assert.equal(await points.count(), cli.alternatives.length, 'one point per alternative');
+    assert.equal(cli.alternatives.length > 0, true, 'the demo has a trade-off front');
+    const last = cli.alternatives.length - 1;
+    await page.locator(`[data-testid=pareto-chart] circle.point[data-index="${last}"]`).click();
+    await page.waitForFunction((n) => document.querySelector('[data-testid=viewing]').textContent.includes(`alternative ${n}`), last + 1);
+    const alt = cli.alternatives[last];
+    const cost = alt.cost ?? (alt.design && alt.design.cost);
+    assert.equal(Number(await page.getAttribute(`[data-testid=pareto-chart] circle.point[data-index="${last}"]`, 'data-cost')), cost);
+    assert.equal(await page.locator('[data-testid=pareto-chart] circle.point.selected').count(), 1);
+    await shot(page, 'solve-alternative');
+    await page.locator('[data-testid=pareto-chart] circle.point.chosen').click();
+    await page.waitForFunction(() => document.querySelector('[data-testid=viewing]').textContent.includes('the chosen design'));
+    assert.equal(Number(await figureRaw(page, 'cost')), cli.design.cost);
+  });
+});
+
+test('a yield need shows the Monte Carlo histogram when the report has one', async () => {
+  await withPage(async ({ page }) => {
+    await page.selectOption('#f-accuracy-basis', 'yield');
+    await page.waitForFunction(() => {
+      const s = window.spanfitPage.state;
+      return s.needValid && s.need.accuracy.basis === 'yield' && s.checkedNeed === JSON.stringify(s.need);
+    });
+    await solveAndWait(page);
+    const histogram = await page.evaluate(() => {
+      const report = window.spanfitPage.state.result.bundle.report;
+      return report.design && report.design.error && report.design.error.histogram;
+    });
+    if (histogram && Array.isArray(histogram.counts)) {
+      assert.equal(await page.isVisible('#histogram-box'), true);
+      assert.equal(await page.locator('[data-testid=histogram-chart] rect.bar').count(), histogram.counts.length);
+    } else {
+      assert.equal(await page.isHidden('#histogram-box'), true, 'no histogram box without a histogram');
+    }
+    await shot(page, 'solve-yield');
+  });
+});
+
+test('Stop during a search returns the best design found so far', async () => {
+  await withPage(async ({ page, problems }) => {
+    await page.waitForFunction(() => !document.querySelector('[data-testid=solve]').disabled);
+    // The worker holds 1.5 s at its first progress report, so the click
+    // lands while the search is running.
+    await page.evaluate(() => { window.__run = window.spanfitPage.solve({ debugPauseMs: 1500 }); });
+    await page.waitForFunction(() => document.querySelector('[data-testid=progress-text]').dataset.seen === 'yes');
+    assert.equal(await page.isEnabled('[data-testid=cancel]'), true);
+    await shot(page, 'solve-running');
+    await page.click('[data-testid=cancel]');
+    const reply = await page.evaluate(() => window.__run.then((r) => r && { cancelled: r.cancelled, cancellable: r.cancellable }));
+    assert.deepEqual(reply, { cancelled: true, cancellable: true });
+    assert.equal(await page.getAttribute('[data-testid=run-status]', 'data-cancelled'), 'yes');
+    assert.match(await page.textContent('[data-testid=run-status]'), /^Stopped early/);
+    assert.equal(await page.isVisible('[data-testid=result]'), true);
+    assert.equal(await page.isDisabled('[data-testid=cancel]'), true);
+    await shot(page, 'solve-stopped');
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('demo solve time in Chromium (median of 5, printed and saved)', async () => {
+  await withPage(async ({ page }) => {
+    await page.waitForFunction(() => !document.querySelector('[data-testid=solve]').disabled);
+    const runs = [];
+    for (let i = 0; i < 6; i += 1) {
+      const ms = await page.evaluate(() => window.spanfitPage.solve().then((r) => r && r.elapsedMs));
+      assert.equal(typeof ms, 'number', 'the demo solved');
+      if (i > 0) runs.push(ms); // the first run warms the module up
+    }
+    const sorted = [...runs].sort((a, b) => a - b);
+    const median = sorted[2];
+    const version = await page.evaluate(() => navigator.userAgent);
+    mkdirSync(ARTIFACTS, { recursive: true });
+    writeFileSync(join(ARTIFACTS, 'wasm-timing.json'), `${JSON.stringify({
+      what: 'demo need, demo stock, solve() inside the page worker, performance.now() around the call',
+      median_ms: median, runs_ms: runs, browser: version || 'chromium', when: new Date().toISOString(),
+    }, null, 2)}\n`);
+    console.log(`wasm demo solve in Chromium: median ${median.toFixed(1)} ms of ${runs.map((r) => r.toFixed(1)).join(', ')}`);
+    assert.equal(median > 0, true);
+  });
+});
