@@ -1,10 +1,8 @@
 #!/usr/bin/env bash
-# The main job: set up, build the page, serve it on 127.0.0.1 and print the
-# URL (the demo need and stock load by default).
+# Install what is missing, build the page, and serve it on 127.0.0.1 in the
+# foreground (Ctrl-C stops it). PORT picks the port (default 8640).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 bash scripts/setup.sh
 bash scripts/build-web.sh
-port="${PORT:-8765}"
-echo "spanfit is at http://127.0.0.1:${port}/ (demo loaded; Ctrl-C stops)"
-exec python3 -m http.server "$port" --bind 127.0.0.1 --directory web/dist
+exec bash scripts/serve.sh

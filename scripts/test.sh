@@ -1,25 +1,49 @@
 #!/usr/bin/env bash
-# Every test of spanfit: set-up, format and lint, native tests (core, CLI,
-# ngspice cross-checks), the wasm bindings in headless Chromium, the page
-# build, and the page tests in headless Chromium.
-set -euo pipefail
+# Everything CI checks, in order: setup, formatting, clippy, native tests,
+# the wasm crate's tests in headless Chromium, the web build (and the CLI
+# the page tests compare against), then the page tests. Every check runs
+# even when an earlier one failed (except that a failed setup or build stops
+# what depends on it); the last line sums the steps up.
+set -uo pipefail
 cd "$(dirname "$0")/.."
-bash scripts/setup.sh
-log() { printf '\n[test] %s\n' "$*"; }
+export PATH="$HOME/.cargo/bin:$PATH"
+export CHROMEDRIVER="${CHROMEDRIVER:-/usr/bin/chromedriver}"
+export WASM_BINDGEN_TEST_TIMEOUT="${WASM_BINDGEN_TEST_TIMEOUT:-300}"
+export CARGO_TERM_COLOR=never
 
-log "cargo fmt --check"
-cargo fmt --all -- --check
-log "cargo clippy (workspace, all targets, -D warnings)"
-cargo clippy --workspace --all-targets -- -D warnings
-log "native tests"
-cargo test --workspace --release
-if [[ -d web/tests ]]; then
-  log "wasm-bindgen tests in headless Chromium"
-  CHROMEDRIVER=/usr/bin/chromedriver WASM_BINDGEN_TEST_TIMEOUT=120 \
-    cargo test -p spanfit-web --target wasm32-unknown-unknown
+passed=0
+failed=0
+failures=()
+step() {
+  local name="$1"
+  shift
+  local start=$SECONDS
+  printf '\n=== %s\n' "$name"
+  if "$@"; then
+    passed=$((passed + 1))
+    printf '=== %s: ok (%ds)\n' "$name" $((SECONDS - start))
+    return 0
+  fi
+  failed=$((failed + 1))
+  failures+=("$name")
+  printf '=== %s: FAILED (%ds)\n' "$name" $((SECONDS - start))
+  return 1
+}
+
+finish() {
+  printf '\n'
+  ((failed)) && printf 'failed steps: %s\n' "${failures[*]}"
+  printf 'steps: %d passed, %d failed\n' "$passed" "$failed"
+  ((failed == 0))
+  exit $?
+}
+
+step setup bash scripts/setup.sh </dev/null || finish
+step fmt cargo fmt --all -- --check
+step clippy cargo clippy --workspace --all-targets -- -D warnings
+step native-tests cargo test --workspace
+step wasm-browser-tests cargo test -p spanfit-web --target wasm32-unknown-unknown
+if step build bash -c 'bash scripts/build-web.sh && cargo build --release -p spanfit-cli'; then
+  step page-tests node --test tests/page/
 fi
-log "build the page"
-bash scripts/build-web.sh
-log "page tests (playwright-core, Debian Chromium)"
-(cd tests/page && node --test)
-log "all tests passed"
+finish

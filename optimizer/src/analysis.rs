@@ -284,6 +284,8 @@ pub struct Analysis {
     pub basis_pct_fs: f64,
     /// Quantisation, +/-0.5 LSB in % FS (reported apart, not in totals).
     pub quantisation_pct_fs: f64,
+    /// The ADC full-scale span the percentages refer to, volts.
+    pub full_scale_v: f64,
     /// Noise.
     pub noise: NoiseSummary,
     /// Monte Carlo, where computed.
@@ -314,7 +316,8 @@ pub struct StageUnitSums {
 /// The random part of a budget split for rescaling by resistor grade.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RandomSplit {
-    /// Resistor sums per stage.
+    /// Resistor sums per stage: index `2 * stage` for the stage's own
+    /// network, `2 * stage + 1` for its offset or bias divider.
     pub per_stage: Vec<StageUnitSums>,
     /// Worst-case sum of all non-resistor random terms and the noise peak.
     pub other_worst: [f64; 2],
@@ -834,22 +837,54 @@ impl Model {
     /// error at each end in volts.
     fn exact_error(&self, x: &[f64], y: &[f64]) -> Result<[f64; 2]> {
         let outputs = |with_drift: bool| -> Result<[f64; 2]> {
+            // A deviation that calibration cannot remove (the supply moves
+            // in service) is absent when calibrating.
+            let deviation = |i: usize, p: &Param, end: usize| {
+                let init = if p.calibratable || with_drift {
+                    x[i] * p.init[end]
+                } else {
+                    0.0
+                };
+                init + if with_drift { y[i] * p.drift } else { 0.0 }
+            };
+            // Resistors set the matrix (the same at both ends); sources set
+            // the right-hand side, end by end.
+            let mut n = self.built.netlist.clone();
+            for (i, p) in self.params.iter().enumerate() {
+                if let Target::Resistors(es) = &p.target {
+                    let d = deviation(i, p, 0);
+                    for &e in es {
+                        let v = value(&n, e);
+                        set_value(&mut n, e, v * (1.0 + d));
+                    }
+                }
+            }
+            let mut s = Solver::new(&n);
+            s.factor(&n)
+                .map_err(|e| Error::design(format!("corner has no DC solution ({})", e.unknown)))?;
             let mut res = [0.0; 2];
+            let mut xs = vec![0.0; s.size()];
             for (end, r) in res.iter_mut().enumerate() {
-                let mut n = self.built.netlist.clone();
                 let mut supply_dev = 0.0;
                 for (i, p) in self.params.iter().enumerate() {
-                    let d = x[i] * p.init[end] + if with_drift { y[i] * p.drift } else { 0.0 };
+                    let d = deviation(i, p, end);
+                    let nominal = |e: usize| value(&self.built.netlist, e);
+                    match &p.target {
+                        Target::Resistors(_) | Target::AdcScale => {}
+                        Target::Source(e) => set_value(&mut n, *e, nominal(*e)),
+                        Target::BiasCommon(a, b) | Target::BiasOffset(a, b) => {
+                            set_value(&mut n, *a, nominal(*a));
+                            set_value(&mut n, *b, nominal(*b));
+                        }
+                    }
                     if p.init_line == Line::SupplyTolerance {
                         supply_dev = d;
                     }
+                }
+                for (i, p) in self.params.iter().enumerate() {
+                    let d = deviation(i, p, end);
                     match &p.target {
-                        Target::Resistors(es) => {
-                            for &e in es {
-                                let v = value(&n, e);
-                                set_value(&mut n, e, v * (1.0 + d));
-                            }
-                        }
+                        Target::Resistors(_) | Target::AdcScale => {}
                         Target::Source(e) => {
                             let v = value(&n, *e);
                             set_value(&mut n, *e, v + d);
@@ -866,14 +901,11 @@ impl Model {
                             let vb = value(&n, *b);
                             set_value(&mut n, *b, vb - 0.5 * d);
                         }
-                        Target::AdcScale => {}
                     }
                 }
                 set_value(&mut n, self.built.vsense, self.signal[end]);
-                let mut s = Solver::new(&n);
-                let xs = s.dc(&n).map_err(|e| {
-                    Error::design(format!("corner has no DC solution ({})", e.unknown))
-                })?;
+                s.rhs(&n, &mut xs);
+                s.solve_in_place(&mut xs);
                 let mut v = s.voltage(&xs, self.built.out);
                 if self.ratiometric {
                     // The ADC window scales with the supply: refer the
@@ -906,22 +938,24 @@ impl Model {
     /// The corner that the linear model says is worst at `end`, solved
     /// exactly: error in volts (noise peak added).
     fn corner_check(&self, end: usize) -> Result<f64> {
-        let sys: f64 = self.systematic.iter().map(|(_, v)| v[end]).sum();
-        let sign = if sys < 0.0 { -1.0 } else { 1.0 };
-        // Each contribution is linear in its deviation (u = x * u at x = 1),
-        // so x = sign * sign(u) puts every one along `sign`.
-        let x: Vec<f64> = self
-            .params
-            .iter()
-            .map(|p| sign * signum0(self.u(p, end)))
-            .collect();
-        let y: Vec<f64> = self
-            .params
-            .iter()
-            .map(|p| sign * signum0(self.w(p, end)))
-            .collect();
-        let e = self.exact_error(&x, &y)?;
-        Ok(e[end].abs() + self.noise_peak)
+        // Each contribution is linear in its deviation, so x = +/-sign(u)
+        // puts every one the same way; both mirror corners are solved, as
+        // second-order terms may favour either.
+        let mut worst = 0.0f64;
+        for sign in [1.0, -1.0] {
+            let x: Vec<f64> = self
+                .params
+                .iter()
+                .map(|p| sign * signum0(self.u(p, end)))
+                .collect();
+            let y: Vec<f64> = self
+                .params
+                .iter()
+                .map(|p| sign * signum0(self.w(p, end)))
+                .collect();
+            worst = worst.max(self.exact_error(&x, &y)?[end].abs());
+        }
+        Ok(worst + self.noise_peak)
     }
 
     /// Monte Carlo over the linear model: `builds` draws from `seed`.
@@ -1015,7 +1049,7 @@ impl Model {
     /// everything that is not a resistor. All at each end, in volts.
     pub fn random_split(&self, stages: usize) -> RandomSplit {
         let mut split = RandomSplit {
-            per_stage: vec![StageUnitSums::default(); stages],
+            per_stage: vec![StageUnitSums::default(); 2 * stages],
             other_worst: [self.noise_peak; 2],
             other_squares: [self.noise_peak * self.noise_peak; 2],
         };
@@ -1025,8 +1059,9 @@ impl Model {
                 .iter()
                 .find(|r| r.element == e)
                 .map(|r| {
+                    let divider = r.role.starts_with("offset.") || r.role.starts_with("bias.");
                     (
-                        r.stage,
+                        2 * r.stage + usize::from(divider),
                         r.part.tolerance_pct / 100.0,
                         r.part.tcr_ppm_per_c * 1e-6,
                     )
@@ -1042,7 +1077,7 @@ impl Model {
             for end in 0..2 {
                 let (u, w) = (self.u(p, end), self.w(p, end));
                 match stage {
-                    Some((st, tol, tcr)) if st < stages => {
+                    Some((st, tol, tcr)) if st < 2 * stages => {
                         let ps = &mut split.per_stage[st];
                         if tol > 0.0 {
                             ps.tolerance_worst[end] += u.abs() / tol;
@@ -1235,6 +1270,7 @@ impl Model {
             rss_pct_fs: rss * pct,
             basis_pct_fs,
             quantisation_pct_fs: 0.5 * lsb * pct,
+            full_scale_v: self.fs,
             noise: self.noise.clone(),
             yield_result,
             findings,

@@ -1195,8 +1195,8 @@ mod tests {
 
     #[test]
     fn ohms_use_engineering_suffixes() {
-        // Expected forms follow the trade's three-digit marking practice
-        // for E96 values (IEC 60062 style, common practice).
+        // Three significant digits and an SI suffix, as resistor values
+        // are written on schematics and BOMs (common practice).
         let cases = [
             (432.0, "432"),
             (20_000.0, "20.0k"),

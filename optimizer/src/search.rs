@@ -172,6 +172,8 @@ pub struct SolveOutcome {
 /// rows), its sorted values and their parts.
 #[derive(Debug, Clone)]
 struct Grade {
+    tolerance: f64,
+    tcr: f64,
     values: Vec<f64>,
     parts: Vec<usize>,
     min_cost: f64,
@@ -213,7 +215,10 @@ fn grades(stock: &Stock) -> Vec<Grade> {
             .iter()
             .map(|&i| stock.resistors[i].unit_cost)
             .fold(f64::INFINITY, f64::min);
+        let first = &stock.resistors[parts[0]];
         out.push(Grade {
+            tolerance: first.tolerance.fraction(),
+            tcr: first.tcr.fraction_per_c(),
             values: parts.iter().map(|&i| stock.resistors[i].value.0).collect(),
             parts,
             min_cost,
@@ -317,6 +322,20 @@ struct Choice {
     /// Linearised output error at each span end, volts.
     contribution: [f64; 2],
     cost: f64,
+}
+
+impl Choice {
+    /// Stock indices of every resistor the choice places.
+    fn stock_parts(&self, grade: &Grade, divider_grade: &Grade) -> Vec<usize> {
+        let mut out: Vec<usize> = self.resistors.values().map(|&i| grade.parts[i]).collect();
+        out.extend(
+            self.offset_top
+                .iter()
+                .chain(self.offset_bottom.iter())
+                .map(|&i| divider_grade.parts[i]),
+        );
+        out
+    }
 }
 
 /// Roles to value indices, with an optional divider (top, bottom).
@@ -488,7 +507,14 @@ impl<'a> Ctx<'a> {
     }
 
     /// Generate value sets for one stage of a group in a grade.
-    fn choices(&self, g: &Group, stage: usize, grade: &Grade, prev_ideal: [f64; 2]) -> Vec<Choice> {
+    fn choices(
+        &self,
+        g: &Group,
+        stage: usize,
+        grade: &Grade,
+        divider_grade: &Grade,
+        prev_ideal: [f64; 2],
+    ) -> Vec<Choice> {
         let shape = g.shapes[stage];
         let a = g.gains[stage];
         let c = g.offsets[stage];
@@ -496,6 +522,7 @@ impl<'a> Ctx<'a> {
         let how = plan.map(|p| p.how);
         let vsrc = plan.map(|p| p.volts).unwrap_or(0.0);
         let v = &grade.values;
+        let vd = &divider_grade.values;
         let rs = self.rs(stage);
         let rk = g
             .inamp
@@ -511,12 +538,12 @@ impl<'a> Ctx<'a> {
             let ratio = q / (1.0 - q);
             // Keep the smaller resistor of the pair inside the band.
             if ratio < 1.0 {
-                ratio_pairs(v, 1.0 / ratio, BAND, PAIRS_PER_RATIO)
+                ratio_pairs(vd, 1.0 / ratio, BAND, PAIRS_PER_RATIO)
                     .into_iter()
                     .map(|(b, t, _)| (t, b))
                     .collect()
             } else {
-                ratio_pairs(v, ratio, BAND, PAIRS_PER_RATIO)
+                ratio_pairs(vd, ratio, BAND, PAIRS_PER_RATIO)
                     .into_iter()
                     .map(|(t, b, _)| (t, b))
                     .collect()
@@ -535,7 +562,7 @@ impl<'a> Ctx<'a> {
                     Some(OffsetHow::GainLeg) => {
                         let vth = -c / (a - 1.0);
                         for (t, b) in dividers(vth) {
-                            let rth = v[t] * v[b] / (v[t] + v[b]);
+                            let rth = vd[t] * vd[b] / (vd[t] + vd[b]);
                             // rf over the band, rg from the folded leg.
                             let mut local: Vec<(usize, usize, f64)> = Vec::new();
                             for (i, &rf) in v.iter().enumerate() {
@@ -729,14 +756,16 @@ impl<'a> Ctx<'a> {
             let (vo, rth) = match (how, div) {
                 (Some(OffsetHow::GainLeg), Some((t, b)))
                 | (Some(OffsetHow::InvertingBias), Some((t, b))) => (
-                    vsrc * v[b] / (v[t] + v[b]),
+                    vsrc * vd[b] / (vd[t] + vd[b]),
                     if how == Some(OffsetHow::GainLeg) {
-                        v[t] * v[b] / (v[t] + v[b])
+                        vd[t] * vd[b] / (vd[t] + vd[b])
                     } else {
                         0.0
                     },
                 ),
-                (Some(OffsetHow::RefDivider), Some((t, b))) => (vsrc * v[b] / (v[t] + v[b]), 0.0),
+                (Some(OffsetHow::RefDivider), Some((t, b))) => {
+                    (vsrc * vd[b] / (vd[t] + vd[b]), 0.0)
+                }
                 (Some(_), None) => (vsrc, 0.0),
                 _ => (0.0, 0.0),
             };
@@ -766,8 +795,8 @@ impl<'a> Ctx<'a> {
                 .map(|&i| self.stock.resistors[grade.parts[i]].unit_cost)
                 .sum();
             if let Some((t, b)) = div {
-                cost += self.stock.resistors[grade.parts[t]].unit_cost
-                    + self.stock.resistors[grade.parts[b]].unit_cost;
+                cost += self.stock.resistors[divider_grade.parts[t]].unit_cost
+                    + self.stock.resistors[divider_grade.parts[b]].unit_cost;
             }
             out.push(Choice {
                 resistors: roles,
@@ -791,7 +820,9 @@ impl<'a> Ctx<'a> {
         let mut stages = Vec::new();
         for (i, (&shape, ch)) in g.shapes.iter().zip(picks).enumerate() {
             let grade = &self.grades[grades[i]];
+            let dgrade = &self.grades[grades[g.shapes.len()]];
             let res = |idx: usize| Resistor::from(&self.stock.resistors[grade.parts[idx]]);
+            let dres = |idx: usize| Resistor::from(&self.stock.resistors[dgrade.parts[idx]]);
             let resistors: BTreeMap<String, Resistor> = ch
                 .resistors
                 .iter()
@@ -801,8 +832,8 @@ impl<'a> Ctx<'a> {
             let divider = |buffered: bool, p: &OffsetPlan| match (ch.offset_top, ch.offset_bottom) {
                 (Some(t), Some(b)) => Injection::Divider {
                     source: p.source.clone(),
-                    top: res(t),
-                    bottom: res(b),
+                    top: dres(t),
+                    bottom: dres(b),
                     buffered,
                 },
                 _ => Injection::Direct {
@@ -1104,7 +1135,8 @@ fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> bool {
     true
 }
 
-/// One structure: a group with a grade per stage, and its cost bound.
+/// One structure: a group with a grade per stage (and, last, one for the
+/// offset divider), and its cost bound.
 #[derive(Debug, Clone)]
 struct Structure {
     group: usize,
@@ -1119,20 +1151,37 @@ fn structures(ctx: &Ctx<'_>, groups: &[Group]) -> Vec<Structure> {
     let ng = ctx.grades.len();
     for (gi, g) in groups.iter().enumerate() {
         let n = g.shapes.len();
-        let combos = ng.pow(n as u32);
+        // The offset divider, where there is one, has a grade of its own.
+        let divider_stage = g.offset.as_ref().and_then(|p| match p.how {
+            OffsetHow::GainLeg | OffsetHow::InvertingBias | OffsetHow::RefDivider => Some(p.stage),
+            _ => None,
+        });
+        let slots = n + usize::from(divider_stage.is_some());
+        let combos = ng.pow(slots as u32);
         for code in 0..combos {
-            let mut grades = Vec::with_capacity(n);
+            let mut grades = Vec::with_capacity(n + 1);
             let mut c = code;
-            for _ in 0..n {
+            for _ in 0..slots {
                 grades.push(c % ng);
                 c /= ng;
             }
-            let resistor_cost: f64 = grades
+            if divider_stage.is_none() {
+                grades.push(0);
+            }
+            let mut counts = g.resistors_per_stage.clone();
+            if let Some(k) = divider_stage {
+                counts[k] -= 2;
+            }
+            let mut resistor_cost: f64 = grades[..n]
                 .iter()
-                .zip(&g.resistors_per_stage)
+                .zip(&counts)
                 .map(|(&gr, &cnt)| cnt as f64 * ctx.grades[gr].min_cost)
                 .sum();
-            let distinct: BTreeSet<usize> = grades.iter().copied().collect();
+            let mut distinct: BTreeSet<usize> = grades[..n].iter().copied().collect();
+            if divider_stage.is_some() {
+                resistor_cost += 2.0 * ctx.grades[grades[n]].min_cost;
+                distinct.insert(grades[n]);
+            }
             let min_lines = distinct
                 .len()
                 .max(if g.resistors_per_stage.iter().any(|&c| c >= 2) {
@@ -1209,30 +1258,27 @@ fn pick(
     use good_lp::{variable, variables, Expression, Solution, SolverModel};
     let mut vars = variables!();
     let cal = ctx.need.accuracy.calibration;
-    let mut z = Vec::new();
-    for slot in choices {
-        z.push(
+    let dgrade = &ctx.grades[st.grades[choices.len()]];
+    let z: Vec<Vec<good_lp::Variable>> = choices
+        .iter()
+        .map(|slot| slot.iter().map(|_| vars.add(variable().binary())).collect())
+        .collect();
+    // BOM lines: one binary per distinct stock part among the choices.
+    let parts: Vec<Vec<Vec<usize>>> = choices
+        .iter()
+        .enumerate()
+        .map(|(s, slot)| {
+            let grade = &ctx.grades[st.grades[s]];
             slot.iter()
-                .map(|_| vars.add(variable().binary()))
-                .collect::<Vec<_>>(),
-        );
-    }
-    // BOM lines: distinct stock part indices.
+                .map(|ch| ch.stock_parts(grade, dgrade))
+                .collect()
+        })
+        .collect();
     let mut lines: BTreeMap<usize, good_lp::Variable> = BTreeMap::new();
-    for (s, slot) in choices.iter().enumerate() {
-        let grade = &ctx.grades[st.grades[s]];
-        for ch in slot {
-            for &i in ch
-                .resistors
-                .values()
-                .chain(ch.offset_top.iter())
-                .chain(ch.offset_bottom.iter())
-            {
-                lines
-                    .entry(grade.parts[i])
-                    .or_insert_with(|| vars.add(variable().binary()));
-            }
-        }
+    for part in parts.iter().flatten().flatten() {
+        lines
+            .entry(*part)
+            .or_insert_with(|| vars.add(variable().binary()));
     }
     let mut objective = Expression::from(0.0);
     let fee = ctx.need.search.bom_line_cost;
@@ -1240,10 +1286,12 @@ fn pick(
     for (s, slot) in choices.iter().enumerate() {
         for (c, ch) in slot.iter().enumerate() {
             let e = calibrated(cal, ch.contribution);
-            let tie = 1e-7 * e[0].abs().max(e[1].abs()) / scale;
+            let size = e[0].abs().max(e[1].abs()) / scale;
+            // Ties in cost go to the smaller error (the weight is far below
+            // any price step).
             let w = match ctx.need.search.objective {
-                Objective::Error => e[0].abs().max(e[1].abs()) / scale + 1e-6 * ch.cost,
-                _ => ch.cost + tie,
+                Objective::Error => size + 1e-6 * ch.cost,
+                _ => ch.cost + 1e-7 * size,
             };
             objective += w * z[s][c];
         }
@@ -1259,15 +1307,9 @@ fn pick(
     for (s, slot) in choices.iter().enumerate() {
         let sum: Expression = z[s].iter().copied().map(Expression::from).sum();
         model = model.with(sum.eq(1.0));
-        let grade = &ctx.grades[st.grades[s]];
-        for (c, ch) in slot.iter().enumerate() {
-            for &i in ch
-                .resistors
-                .values()
-                .chain(ch.offset_top.iter())
-                .chain(ch.offset_bottom.iter())
-            {
-                if let Some(l) = lines.get(&grade.parts[i]) {
+        for c in 0..slot.len() {
+            for part in &parts[s][c] {
+                if let Some(l) = lines.get(part) {
                     model = model.with((Expression::from(z[s][c]) - *l).leq(0.0));
                 }
             }
@@ -1292,15 +1334,14 @@ fn pick(
         model = model.with(sum.leq(cut.len() as f64 - 1.0));
     }
     let sol = model.solve().ok()?;
-    let mut out = Vec::new();
-    for zs in &z {
-        let best = zs
-            .iter()
-            .enumerate()
-            .max_by(|a, b| sol.value(*a.1).total_cmp(&sol.value(*b.1)))?;
-        out.push(best.0);
-    }
-    Some(out)
+    z.iter()
+        .map(|zs| {
+            zs.iter()
+                .enumerate()
+                .max_by(|a, b| sol.value(*a.1).total_cmp(&sol.value(*b.1)))
+                .map(|(i, _)| i)
+        })
+        .collect()
 }
 
 /// Choices for every stage of a structure, chained through ideal outputs.
@@ -1308,7 +1349,13 @@ fn all_choices(ctx: &Ctx<'_>, g: &Group, st: &Structure) -> Option<Vec<Vec<Choic
     let mut prev = ctx.signal;
     let mut out = Vec::new();
     for i in 0..g.shapes.len() {
-        let ch = ctx.choices(g, i, &ctx.grades[st.grades[i]], prev);
+        let ch = ctx.choices(
+            g,
+            i,
+            &ctx.grades[st.grades[i]],
+            &ctx.grades[st.grades[g.shapes.len()]],
+            prev,
+        );
         if ch.is_empty() {
             return None;
         }
@@ -1338,24 +1385,64 @@ fn verify(ctx: &Ctx<'_>, design: Design) -> Option<Candidate> {
     })
 }
 
+/// The random part of a structure's budget estimated from another
+/// structure of the same group (same netlist shape, other grades): the
+/// per-unit resistor sums rescaled by each slot's grade.
+fn estimate_random(
+    ctx: &Ctx<'_>,
+    split: &crate::analysis::RandomSplit,
+    grades: &[usize],
+) -> [f64; 2] {
+    let n = split.per_stage.len() / 2;
+    let mut out = [0.0; 2];
+    for (end, o) in out.iter_mut().enumerate() {
+        let mut worst = split.other_worst[end];
+        let mut squares = split.other_squares[end];
+        for (slot, sums) in split.per_stage.iter().enumerate() {
+            let stage = slot / 2;
+            let g = if slot % 2 == 1 {
+                &ctx.grades[grades[n]]
+            } else {
+                &ctx.grades[grades[stage]]
+            };
+            worst += g.tolerance * sums.tolerance_worst[end] + g.tcr * sums.tcr_worst[end];
+            squares += g.tolerance.powi(2) * sums.tolerance_squares[end]
+                + g.tcr.powi(2) * sums.tcr_squares[end];
+        }
+        *o = match ctx.need.accuracy.basis {
+            Basis::WorstCase => worst,
+            Basis::Rss => squares.sqrt(),
+            Basis::Yield => {
+                crate::analysis::yield_k_sigma(ctx.need.accuracy.yield_pct) * (squares / 3.0).sqrt()
+            }
+        };
+    }
+    out
+}
+
 /// What the search learnt about why designs fail, for the infeasible case.
 #[derive(Default)]
 struct Diagnosis {
     failed_checks: BTreeMap<String, (usize, String)>,
     best: Option<Candidate>,
+    best_error_v: Option<f64>,
 }
 
 impl Diagnosis {
+    fn note_findings(&mut self, findings: &[crate::analysis::Finding]) {
+        for f in findings.iter().filter(|f| !f.ok) {
+            let e = self
+                .failed_checks
+                .entry(f.check.clone())
+                .or_insert((0, f.detail.clone()));
+            e.0 += 1;
+        }
+    }
+
     fn note(&mut self, c: &Candidate, objective: Objective) {
         let _ = objective;
         if !c.analysis.feasible {
-            for f in c.analysis.findings.iter().filter(|f| !f.ok) {
-                let e = self
-                    .failed_checks
-                    .entry(f.check.clone())
-                    .or_insert((0, f.detail.clone()));
-                e.0 += 1;
-            }
+            self.note_findings(&c.analysis.findings);
             return;
         }
         let replace = match &self.best {
@@ -1363,6 +1450,7 @@ impl Diagnosis {
             Some(b) => c.analysis.basis_pct_fs < b.analysis.basis_pct_fs,
         };
         if replace {
+            self.best_error_v = Some(c.analysis.basis_pct_fs / 100.0 * c.analysis.full_scale_v);
             self.best = Some(c.clone());
         }
     }
@@ -1384,6 +1472,7 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
     let mut best: Option<Candidate> = None;
     let mut found: Vec<Candidate> = Vec::new();
     let mut diagnosis = Diagnosis::default();
+    let mut splits: BTreeMap<usize, crate::analysis::RandomSplit> = BTreeMap::new();
     let mut evaluated = 0u64;
     let mut milp_solves = 0u64;
     let mut proven = true;
@@ -1467,29 +1556,54 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
             }
             continue;
         }
+        // Screen by the group's shared budget split where one exists: the
+        // same netlist with other grades, rescaled.
+        if let Some(split) = splits.get(&st.group) {
+            let est = estimate_random(ctx, split, &st.grades);
+            if est[0] > ctx.target_v * SCREEN_SLACK * 1.05
+                || est[1] > ctx.target_v * SCREEN_SLACK * 1.05
+            {
+                continue;
+            }
+        }
         // Reference design: the best-rounding choice of every stage.
         let picks: Vec<&Choice> = choices.iter().map(|c| &c[0]).collect();
-        let Some(reference) = verify(ctx, ctx.design(g, &st.grades, &picks)) else {
+        let reference_design = ctx.design(g, &st.grades, &picks);
+        let Ok(model) = Model::new(ctx.need, ctx.stock, &reference_design) else {
             continue;
         };
         evaluated += 1;
-        diagnosis.note(&reference, objective);
-        if !reference.analysis.feasible {
+        splits
+            .entry(st.group)
+            .or_insert_with(|| model.random_split(g.shapes.len()));
+        if model.findings().iter().any(|f| !f.ok) {
+            diagnosis.note_findings(model.findings());
             continue;
         }
-        if reference.analysis.meets_target {
-            if best
-                .as_ref()
-                .is_none_or(|b| better(objective, &reference, b))
-            {
-                best = Some(reference.clone());
-            }
-            found.push(reference.clone());
-        }
-        let Ok(model) = Model::new(ctx.need, ctx.stock, &reference.design) else {
-            continue;
-        };
         let random = model.random_at_ends(ctx.need.accuracy.basis, ctx.need.accuracy.yield_pct);
+        let sys = model.systematic_at_ends();
+        let quick = (random[0] + sys[0]).max(random[1] + sys[1]);
+        let ref_cost = costing(model.built(), ctx.need.search.bom_line_cost).total;
+        let could_win = best
+            .as_ref()
+            .is_none_or(|b| ref_cost < b.costing.total + 1e-12);
+        let worth_explaining = diagnosis.best_error_v.is_none_or(|e| quick < e);
+        if (quick <= ctx.target_v * SCREEN_SLACK && could_win)
+            || (best.is_none() && worth_explaining)
+        {
+            if let Some(reference) = verify(ctx, reference_design.clone()) {
+                diagnosis.note(&reference, objective);
+                if reference.analysis.meets_target {
+                    if best
+                        .as_ref()
+                        .is_none_or(|b| better(objective, &reference, b))
+                    {
+                        best = Some(reference.clone());
+                    }
+                    found.push(reference);
+                }
+            }
+        }
         let aol = model.open_loop_gain_error();
         let allowed = [
             ctx.target_v * SCREEN_SLACK - random[0],

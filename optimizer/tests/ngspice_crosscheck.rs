@@ -220,8 +220,6 @@ fn r(ohms: f64) -> String {
 struct Outcome {
     /// Largest relative mismatch of an output (nominal and moved decks).
     worst: f64,
-    /// Largest relative mismatch of a shift caused by moving one source.
-    worst_shift: f64,
     /// ngspice output at both span ends.
     ngspice_v: [f64; 2],
 }
@@ -364,7 +362,6 @@ fn cross_check(name: &str, spec: &NeedSpec, stages: &[String]) -> Outcome {
     );
     Outcome {
         worst,
-        worst_shift,
         ngspice_v: ng,
     }
 }

@@ -101,7 +101,8 @@ export async function openPage(context, url) {
     if (!/^(http:\/\/127\.0\.0\.1[:/]|file:|blob:|data:)/.test(u)) problems.remote.push(u);
   });
   await page.goto(url);
-  await page.waitForFunction(() => document.body.dataset.ready === 'yes', null, { timeout: 60000 });
+  await page.waitForFunction(() => document.body.dataset.ready === 'yes'
+    && document.querySelector('[data-testid=engine-state]').dataset.state === 'ready', null, { timeout: 60000 });
   return { page, problems };
 }
 

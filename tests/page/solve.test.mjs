@@ -87,23 +87,51 @@ test('changing the ADC window and solving again changes the result to fit', asyn
 });
 
 test('clicking a point of the trade-off plot shows that design', async () => {
-  const cli = cliDemoJson();
-  await withPage(async ({ page }) => {
+  await withPage(async ({ page, problems }) => {
+    // A looser target gives a front of several designs.
+    await page.fill('#f-accuracy-max_error_pct_fs', '2');
+    await page.waitForFunction(() => {
+      const s = window.spanfitPage.state;
+      return s.needValid && s.need.accuracy.max_error_pct_fs === 2 && s.checkedNeed === JSON.stringify(s.need);
+    });
     await solveAndWait(page);
-    const points = page.locator('[data-testid=pareto-chart] circle.point:not(.chosen)');
-    assert.equal(await points.count(), cli.alternatives.length, 'one point per alternative');
-    assert.equal(cli.alternatives.length > 0, true, 'the demo has a trade-off front');
-    const last = cli.alternatives.length - 1;
-    await page.locator(`[data-testid=pareto-chart] circle.point[data-index="${last}"]`).click();
-    await page.waitForFunction((n) => document.querySelector('[data-testid=viewing]').textContent.includes(`alternative ${n}`), last + 1);
-    const alt = cli.alternatives[last];
-    const cost = alt.cost ?? (alt.design && alt.design.cost);
-    assert.equal(Number(await page.getAttribute(`[data-testid=pareto-chart] circle.point[data-index="${last}"]`, 'data-cost')), cost);
-    assert.equal(await page.locator('[data-testid=pareto-chart] circle.point.selected').count(), 1);
+    const report = await page.evaluate(() => window.spanfitPage.state.result.bundle.report);
+    const alts = report.alternatives;
+    assert.equal(alts.length >= 2, true, `a front of ${alts.length}`);
+    assert.equal(await page.locator('[data-testid=pareto-chart] circle.point:not([data-index="-1"])').count(), alts.length, 'one point per alternative');
+    const pick = alts.findIndex((a) => a.cost !== report.design.cost);
+    assert.equal(pick >= 0, true, 'an alternative differs from the chosen design');
+    await page.locator(`[data-testid=pareto-chart] circle.point[data-index="${pick}"]`).click();
+    await page.waitForFunction((n) => document.querySelector('[data-testid=viewing]').textContent.startsWith(`Showing alternative ${n} of`), pick + 1);
+    assert.equal(Number(await figureRaw(page, 'cost')), alts[pick].cost);
+    assert.equal(await page.locator(`[data-testid=pareto-chart] circle.point.selected[data-index="${pick}"]`).count(), 1);
+    // Its own analysis arrives: a schematic and a parts list of its own.
+    await page.waitForSelector('[data-testid=schematic-img]');
+    const ids = await page.$$eval('[data-testid=parts-table] td[data-col="part_id"]', (tds) => tds.map((td) => JSON.parse(td.dataset.raw)));
+    assert.deepEqual(ids, alts[pick].parts.map((p) => p.part_id));
     await shot(page, 'solve-alternative');
     await page.locator('[data-testid=pareto-chart] circle.point.chosen').click();
     await page.waitForFunction(() => document.querySelector('[data-testid=viewing]').textContent.includes('the chosen design'));
-    assert.equal(Number(await figureRaw(page, 'cost')), cli.design.cost);
+    assert.equal(Number(await figureRaw(page, 'cost')), report.design.cost);
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('a need no stock can meet shows the binding reason and what to relax', async () => {
+  await withPage(async ({ page, problems }) => {
+    await page.fill('#f-accuracy-max_error_pct_fs', '0.01');
+    await page.waitForFunction(() => {
+      const s = window.spanfitPage.state;
+      return s.needValid && s.need.accuracy.max_error_pct_fs === 0.01 && s.checkedNeed === JSON.stringify(s.need);
+    });
+    await solveAndWait(page);
+    assert.equal(await page.getAttribute('[data-testid=result-banner]', 'data-status'), 'infeasible');
+    const report = await page.evaluate(() => window.spanfitPage.state.result.bundle.report);
+    assert.equal(await page.textContent('[data-testid=result-banner]'), `No design meets the need. ${report.reason}`);
+    const tips = await page.$$eval('[data-testid=suggestions] li .change', (li) => li.map((x) => x.textContent));
+    assert.deepEqual(tips, (report.infeasible.suggestions || []).map((t) => t.change));
+    await shot(page, 'solve-infeasible');
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
   });
 });
 

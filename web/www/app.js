@@ -819,6 +819,8 @@
       if (error.stopped) {
         $('run-status').dataset.cancelled = 'yes';
         setStatus('run-status', 'Stopped. A page opened from a file cannot keep a partial result; the search was ended and nothing changed.', 'warn');
+      } else if (error.fatal) {
+        setStatus('run-status', `The solver stopped on an internal error (${error.message}; details on the browser console). It has been restarted; please report the need that caused it.`, 'bad');
       } else {
         setStatus('run-status', error.message, 'bad');
       }
@@ -872,18 +874,13 @@
       banner.textContent = 'A design meets the need.';
       banner.dataset.tone = 'good';
     } else {
-      const why = [report.reason, report.message].filter((x) => typeof x === 'string');
-      if (isObject(report.infeasible)) {
-        for (const [key, value] of Object.entries(report.infeasible)) {
-          if (value !== null && typeof value !== 'object') why.push(`${key.replace(/_/g, ' ')}: ${value}`);
-        }
-      } else if (typeof report.infeasible === 'string') {
-        why.push(report.infeasible);
-      }
-      banner.textContent = `No design meets the need${why.length ? `. ${why.join('; ')}` : '.'}`;
+      const why = typeof report.reason === 'string' ? report.reason
+        : (isObject(report.infeasible) && typeof report.infeasible.binding === 'string' ? report.infeasible.binding : '');
+      banner.textContent = `No design meets the need${why ? `. ${why}` : '.'}`;
       banner.dataset.tone = 'bad';
     }
     banner.dataset.status = String(report.status);
+    renderInfeasible(report);
     renderViewed();
   }
 
@@ -1073,21 +1070,24 @@
       chart.append(svg('path', { d, class: 'front' }));
     }
     const viewedIndex = state.viewed ? state.viewed.index : -1;
+    const same = (a, b) => Math.abs(a.cost - b.cost) <= 1e-12 * Math.max(1, Math.abs(a.cost))
+      && Math.abs(a.error - b.error) <= 1e-12 * Math.max(1, Math.abs(a.error));
+    const chosenIndex = chosen ? points.findIndex((p) => same(p, chosen)) : -1;
     const drawPoint = (p, index, isChosen) => {
-      const selected = index === viewedIndex;
+      const selected = isChosen ? viewedIndex === -1 : index === viewedIndex;
       const dot = svg('circle', {
         cx: x(p.error), cy: y(p.cost), r: isChosen ? 7 : 5.5, tabindex: 0, role: 'button',
         class: `point${isChosen ? ' chosen' : ''}${selected ? ' selected' : ''}`,
         'data-index': index, 'data-cost': p.cost, 'data-error': p.error,
       });
       dot.append(svg('title', {}, `${isChosen ? 'chosen design: ' : ''}cost ${fmt(p.cost)}, error ${fmt(p.error, 3)} % FS`));
-      const pick = () => viewAlternative(index);
+      const pick = () => viewAlternative(isChosen ? -1 : index);
       dot.addEventListener('click', pick);
       dot.addEventListener('keydown', (ev) => { if (ev.key === 'Enter' || ev.key === ' ') { ev.preventDefault(); pick(); } });
       chart.append(dot);
     };
-    points.forEach((p) => drawPoint(p, p.index, false));
-    if (chosen) drawPoint(chosen, -1, true);
+    points.forEach((p) => drawPoint(p, p.index, p.index === chosenIndex));
+    if (chosen && chosenIndex < 0) drawPoint(chosen, -1, true);
     box.append(chart);
   }
 
@@ -1185,6 +1185,28 @@
       body.append(tr);
     }
     node.append(body);
+  }
+
+  function renderInfeasible(report) {
+    const box = $('infeasible-box');
+    const info = report.status !== 'ok' && isObject(report.infeasible) ? report.infeasible : null;
+    box.hidden = !info;
+    const tips = $('suggestions');
+    const largest = $('largest');
+    clear(tips);
+    clear(largest);
+    if (!info) return;
+    for (const tip of Array.isArray(info.suggestions) ? info.suggestions : []) {
+      if (!isObject(tip)) continue;
+      const figures = [num(tip.cost) !== null ? `cost ${fmt(tip.cost)}` : '', num(tip.error_pct_fs) !== null ? `${fmt(tip.error_pct_fs, 3)} % FS` : '']
+        .filter(Boolean).join(', ');
+      tips.append(el('li', {}, el('span', { className: 'change', text: String(tip.change ?? '') }),
+        el('span', { className: 'aside', text: figures ? ` (${figures})` : '' })));
+    }
+    for (const item of Array.isArray(info.largest) ? info.largest : []) {
+      if (!isObject(item)) continue;
+      largest.append(el('li', { text: `${String(item.source ?? '?')}: ${fmt(item.pct_fs, 3)} % FS` }));
+    }
   }
 
   function renderFindings(design) {
@@ -1297,21 +1319,24 @@
 
   // ---------------------------------------------------------------- start
 
-  const engines = { checker: null, solver: null, solverReady: false };
+  const engines = { checker: null, solver: null, solverReady: false, states: {} };
 
+  // The badge shows the two workers together: ready when both are.
   function engineState(engine, what, detail) {
     const badge = $('engine-state');
-    if (engine === engines.solver) engines.solverReady = what === 'ready';
-    if (what === 'ready') {
-      badge.textContent = `solver ready (${bundle ? 'single file' : 'served'})`;
-      badge.dataset.state = 'ready';
-      $('version').textContent = engine.version || '';
-    } else if (what === 'restarting') {
-      badge.textContent = 'restarting the solver…';
-      badge.dataset.state = 'loading';
-    } else if (what === 'failed') {
+    engines.states[engine.name] = what;
+    if (engine.name === 'solver') engines.solverReady = what === 'ready';
+    if (what === 'ready') $('version').textContent = engine.version || '';
+    const states = Object.values(engines.states);
+    if (what === 'failed') {
       badge.textContent = `solver failed: ${detail}`;
       badge.dataset.state = 'failed';
+    } else if (states.length === 2 && states.every((x) => x === 'ready')) {
+      badge.textContent = `solver ready (${bundle ? 'single file' : 'served'})`;
+      badge.dataset.state = 'ready';
+    } else if (!states.includes('failed')) {
+      badge.textContent = what === 'restarting' ? 'restarting the solver…' : 'loading the solver…';
+      badge.dataset.state = 'loading';
     }
     updateSolveButton();
   }

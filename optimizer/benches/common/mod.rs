@@ -1,0 +1,80 @@
+//! The search spaces the search benchmarks time, built in code so that
+//! `search.rs` (criterion) and `scaling.rs` (the README table) time the
+//! same thing.
+//!
+//! Every space is the demo need (an invented scenario, see
+//! `examples/demo-need.toml`) against the demo op-amps, references and
+//! in-amps, with the demo's two resistor families replaced by one 1 %
+//! family and one 0.1 % family of the chosen series over 10 ohm to
+//! 1 Mohm (costs and TCRs as in the demo stock), and `max_stages` set.
+
+use spanfit::need::{parse_need, Need};
+use spanfit::search::{solve, Progress, SolveControl, SolveOutcome};
+use spanfit::series::Series;
+use spanfit::stock::{parse_stock, Stock, StockFile};
+use std::time::Instant;
+
+/// The resistor series of the scaling table, smallest first.
+pub const SERIES: [Series; 4] = [Series::E12, Series::E24, Series::E96, Series::E192];
+
+/// Time limit given to every benchmarked search: long enough that none
+/// is cut short (each row reports whether its optimum was proven).
+pub const TIME_LIMIT_MS: u64 = 3_600_000;
+
+/// The demo stock with its resistor families replaced by a 1 % and a
+/// 0.1 % family of `series`.
+pub fn stock(series: Series) -> Stock {
+    let name = series.name();
+    let resistors = format!(
+        "part_id,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+         BR-{name}-F1,{name},10,1000000,1.0,100,0603,0.004,\n\
+         BR-{name}-F01,{name},10,1000000,0.1,25,0603,0.045,\n"
+    );
+    let mut files: Vec<StockFile> = spanfit::demo::stock_files()
+        .into_iter()
+        .filter(|f| f.name != "resistors.csv")
+        .collect();
+    files.push(StockFile {
+        name: "resistors.csv".into(),
+        bytes: resistors.into_bytes(),
+    });
+    parse_stock(&files).unwrap_or_else(|e| panic!("bench stock for {name} does not parse: {e}"))
+}
+
+/// Values in one family of `series` over the bench range.
+pub fn values_per_family(series: Series) -> usize {
+    series.values_in(10.0, 1_000_000.0).len()
+}
+
+/// The demo need with `max_stages` and the series set, and a time limit
+/// that does not cut any benchmarked search short.
+pub fn need(series: Series, max_stages: usize) -> Need {
+    let mut need = parse_need(spanfit::demo::NEED_TOML.as_bytes(), "demo-need.toml")
+        .unwrap_or_else(|e| panic!("the demo need does not parse: {e}"));
+    need.search.max_stages = max_stages;
+    need.search.resistor_series = vec![series];
+    need.search.time_limit_ms = TIME_LIMIT_MS;
+    need
+}
+
+/// The demo need and stock exactly as shipped (default time limit).
+pub fn demo() -> (Need, Stock) {
+    let need = parse_need(spanfit::demo::NEED_TOML.as_bytes(), "demo-need.toml")
+        .unwrap_or_else(|e| panic!("the demo need does not parse: {e}"));
+    let stock = parse_stock(&spanfit::demo::stock_files())
+        .unwrap_or_else(|e| panic!("the demo stock does not parse: {e}"));
+    (need, stock)
+}
+
+/// One search with the wall clock handed in (benches may read the clock;
+/// the core may not).
+pub fn run(need: &Need, stock: &Stock, exhaustive: bool) -> SolveOutcome {
+    let t0 = Instant::now();
+    let clock = move || t0.elapsed().as_secs_f64() * 1000.0;
+    let mut progress = |_p: Progress| true;
+    let mut control = SolveControl {
+        progress: &mut progress,
+        now_ms: &clock,
+    };
+    solve(need, stock, exhaustive, &mut control).unwrap_or_else(|e| panic!("solve failed: {e}"))
+}
