@@ -41,8 +41,8 @@ finish() {
 step setup bash scripts/setup.sh </dev/null || finish
 step fmt cargo fmt --all -- --check
 step clippy cargo clippy --workspace --all-targets -- -D warnings
-step native-tests cargo test --workspace
-step wasm-browser-tests cargo test -p spanfit-web --target wasm32-unknown-unknown
+step native-tests cargo test --workspace --no-fail-fast
+step wasm-browser-tests cargo test -p spanfit-web --target wasm32-unknown-unknown --no-fail-fast
 if step build bash -c 'bash scripts/build-web.sh && cargo build --release -p spanfit-cli'; then
   step page-tests node --test tests/page/
 fi

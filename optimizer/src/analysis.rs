@@ -186,6 +186,43 @@ pub struct Finding {
     pub detail: String,
 }
 
+/// A finding kept as numbers until it is shown (formatting text costs more
+/// than the checks themselves on the optimiser's hot path).
+#[derive(Debug, Clone, PartialEq)]
+pub struct RawFinding {
+    check: &'static str,
+    subject: String,
+    ok: bool,
+    numbers: [f64; 4],
+}
+
+impl RawFinding {
+    /// Whether the check passed.
+    pub fn ok(&self) -> bool {
+        self.ok
+    }
+
+    /// The finding with its text.
+    pub fn finding(&self) -> Finding {
+        let [a, b, c, d] = self.numbers;
+        let detail = match self.check {
+            "supply range" => format!("rails span {a:.3} V; the part runs from {b:.3} V to {c:.3} V"),
+            "input common mode" => format!("inputs sit at {a:.4} V to {b:.4} V; the part accepts {c:.4} V to {d:.4} V"),
+            "output swing" => format!("output moves {a:.4} V to {b:.4} V; the part swings {c:.4} V to {d:.4} V"),
+            "gain-bandwidth" => format!("noise gain {a:.1} leaves {b:.0} Hz closed-loop bandwidth; the need asks 10 x {c:.1} Hz"),
+            "reference headroom" => format!("the reference needs {a:.3} V above ground; the positive rail is {b:.3} V"),
+            "part count" => format!("{a:.0} parts; the need allows {b:.0}"),
+            _ => String::new(),
+        };
+        Finding {
+            check: self.check.to_string(),
+            subject: self.subject.clone(),
+            ok: self.ok,
+            detail,
+        }
+    }
+}
+
 /// Monte Carlo result.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct YieldResult {
@@ -348,7 +385,7 @@ pub struct Model {
     supply_nominal: f64,
     adc_low: f64,
     stages: Vec<StageReport>,
-    findings: Vec<Finding>,
+    findings: Vec<RawFinding>,
 }
 
 fn set_value(n: &mut Netlist, e: usize, v: f64) {
@@ -594,21 +631,35 @@ impl Model {
             });
         }
 
-        // Systematic: rounding (ideal op-amps) and finite gain.
-        let mut ideal_net = netlist.clone();
-        for sec in &built.sections {
-            if let AmplifierKind::OpAmp(_) = sec.kind {
-                set_value(&mut ideal_net, sec.gain_element, 0.0);
+        // Systematic: rounding (ideal op-amps) and finite gain. The output
+        // with every gain block ideal (g = 1/Aol = 0) follows from the
+        // adjoint to first order in g: d out/d g_k = -lambda_k * V(out_k);
+        // the neglected term is of order (noise gain / Aol)^2.
+        let mut out_ideal_opamps = out;
+        for (e, el) in netlist.elements.iter().enumerate() {
+            if let ElementKind::OpAmp { inverse_gain } = el.kind {
+                let lk = branch(e);
+                for (end, x) in xs.iter().enumerate() {
+                    out_ideal_opamps[end] += lk * volt(x, el.nodes[2]) * inverse_gain;
+                }
             }
         }
-        for e in 0..ideal_net.elements.len() {
-            if let ElementKind::OpAmp { .. } = ideal_net.elements[e].kind {
-                set_value(&mut ideal_net, e, 0.0);
+        // Where the neglected term could reach 1e-7 of full scale (low
+        // open-loop gain against a high noise gain), solve exactly instead.
+        let second_order = (0..2)
+            .map(|e| (out[e] - out_ideal_opamps[e]).powi(2) / out[e].abs().max(1e-3))
+            .fold(0.0, f64::max);
+        if second_order > 1e-7 * fs {
+            let mut ideal_net = netlist.clone();
+            for e in 0..ideal_net.elements.len() {
+                if let ElementKind::OpAmp { .. } = ideal_net.elements[e].kind {
+                    set_value(&mut ideal_net, e, 0.0);
+                }
             }
+            let mut ideal_solver = Solver::new(&ideal_net);
+            let xi = solve_ends(&mut ideal_solver, &mut ideal_net, built.vsense, signal)?;
+            out_ideal_opamps = [xi[0][out_u], xi[1][out_u]];
         }
-        let mut ideal_solver = Solver::new(&ideal_net);
-        let xi = solve_ends(&mut ideal_solver, &mut ideal_net, built.vsense, signal)?;
-        let out_ideal_opamps = [xi[0][out_u], xi[1][out_u]];
         let rounding = [
             out_ideal_opamps[0] - ideal[0],
             out_ideal_opamps[1] - ideal[1],
@@ -1150,9 +1201,15 @@ impl Model {
         t
     }
 
-    /// Feasibility findings.
-    pub fn findings(&self) -> &[Finding] {
-        &self.findings
+    /// Feasibility findings, with their text.
+    pub fn findings(&self) -> Vec<Finding> {
+        self.findings.iter().map(RawFinding::finding).collect()
+    }
+
+    /// Whether every feasibility check of the model passes (the ADC-window
+    /// check needs the worst case and is made in [`Model::report`]).
+    pub fn feasible(&self) -> bool {
+        self.findings.iter().all(|f| f.ok)
     }
 
     /// Full report on a need's basis. `mc_builds` sets the Monte Carlo size
@@ -1228,7 +1285,7 @@ impl Model {
                     * pct
             }
         };
-        let feasible = self.findings.iter().all(|f| f.ok);
+        let feasible = self.feasible();
         let within = match need.accuracy.basis {
             Basis::Yield => yield_result
                 .as_ref()
@@ -1238,7 +1295,7 @@ impl Model {
         };
         let (k, b) = need.ideal_transfer();
         let gain = (self.out[1] - self.out[0]) / (self.signal[1] - self.signal[0]);
-        let mut findings = self.findings.clone();
+        let mut findings = self.findings();
         // The final output, with its worst-case error, inside the ADC window.
         let lo = self.out[0].min(self.out[1]) - worst;
         let hi = self.out[0].max(self.out[1]) + worst;
@@ -1363,22 +1420,25 @@ fn feasibility(
     solver: &mut Solver,
     xs: &[Vec<f64>; 2],
     netlist: &Netlist,
-) -> Vec<Finding> {
+) -> Vec<RawFinding> {
     let mut out = Vec::new();
     let pos = need.supply.positive.0;
     let neg = need.supply.negative.0;
     let span = pos - neg;
-    let volt = |x: &[f64], node: usize| if node == 0 { 0.0 } else { x[node - 1] };
+    let node_map: Vec<Option<usize>> = (0..netlist.node_names.len())
+        .map(|n| solver.node_unknown(n))
+        .collect();
+    let volt = |x: &[f64], node: usize| node_map[node].map(|i| x[i]).unwrap_or(0.0);
     for pkg in &built.packages {
         let (lo, hi) = match pkg.kind {
             AmplifierKind::OpAmp(i) => (stock.opamps[i].supply_min.0, stock.opamps[i].supply_max.0),
             AmplifierKind::InAmp(i) => (stock.inamps[i].supply_min.0, stock.inamps[i].supply_max.0),
         };
-        out.push(Finding {
-            check: "supply range".into(),
+        out.push(RawFinding {
+            check: "supply range",
             subject: format!("{} ({})", pkg.designator, pkg.part_id),
             ok: span >= lo && span <= hi,
-            detail: format!("rails span {span:.3} V; the part runs from {lo:.3} V to {hi:.3} V"),
+            numbers: [span, lo, hi, 0.0],
         });
     }
     for sec in &built.sections {
@@ -1418,11 +1478,11 @@ fn feasibility(
                 vmax = vmax.max(v);
             }
         }
-        out.push(Finding {
-            check: "input common mode".into(),
+        out.push(RawFinding {
+            check: "input common mode",
             subject: sec.designator.clone(),
             ok: vmin >= cm_lo - 1e-9 && vmax <= cm_hi + 1e-9,
-            detail: format!("inputs sit at {vmin:.4} V to {vmax:.4} V; the part accepts {cm_lo:.4} V to {cm_hi:.4} V"),
+            numbers: [vmin, vmax, cm_lo, cm_hi],
         });
         let (sw_lo, sw_hi) = (neg + ol, pos - oh);
         let mut nodes = vec![sec.out];
@@ -1436,11 +1496,11 @@ fn feasibility(
                 omax = omax.max(v);
             }
         }
-        out.push(Finding {
-            check: "output swing".into(),
+        out.push(RawFinding {
+            check: "output swing",
             subject: sec.designator.clone(),
             ok: omin >= sw_lo - 1e-9 && omax <= sw_hi + 1e-9,
-            detail: format!("output moves {omin:.4} V to {omax:.4} V; the part swings {sw_lo:.4} V to {sw_hi:.4} V"),
+            numbers: [omin, omax, sw_lo, sw_hi],
         });
         // Noise gain of this section: its output per volt of its own offset.
         let mut mu = vec![0.0; solver.size()];
@@ -1455,31 +1515,31 @@ fn feasibility(
             .max(1.0);
         let needed = 10.0 * need.accuracy.bandwidth.0;
         let closed = gbw_hz / ng;
-        out.push(Finding {
-            check: "gain-bandwidth".into(),
+        out.push(RawFinding {
+            check: "gain-bandwidth",
             subject: sec.designator.clone(),
             ok: closed >= needed,
-            detail: format!("noise gain {ng:.1} leaves {closed:.0} Hz closed-loop bandwidth; the need asks 10 x {:.1} Hz", need.accuracy.bandwidth.0),
+            numbers: [ng, closed, need.accuracy.bandwidth.0, 0.0],
         });
     }
     for src in &built.sources {
         if let Some(i) = src.reference {
             let r = &stock.references[i];
             let needs = r.volts.0 + r.dropout.0;
-            out.push(Finding {
-                check: "reference headroom".into(),
+            out.push(RawFinding {
+                check: "reference headroom",
                 subject: format!("{} ({})", src.designator, r.part_id),
                 ok: needs <= pos,
-                detail: format!("the reference needs {needs:.3} V above ground; the positive rail is {pos:.3} V"),
+                numbers: [needs, pos, 0.0, 0.0],
             });
         }
     }
     let parts = part_count(built);
-    out.push(Finding {
-        check: "part count".into(),
+    out.push(RawFinding {
+        check: "part count",
         subject: "design".into(),
         ok: parts <= need.search.max_parts,
-        detail: format!("{parts} parts; the need allows {}", need.search.max_parts),
+        numbers: [parts as f64, need.search.max_parts as f64, 0.0, 0.0],
     });
     let _ = (design, netlist);
     out

@@ -24,41 +24,111 @@ pub struct Singular {
 }
 
 /// A reusable solver for one netlist shape.
+///
+/// An offset source `VOS_<ref>` in series with an op-amp's + input (its
+/// first node touching nothing but that + input) is folded into the
+/// op-amp's own row: `g V(out) - V(pin) + V(minus) = Vos`. That removes
+/// two unknowns per section and leaves every result unchanged; the
+/// source's sensitivity is then read from the op-amp's row, and the
+/// internal node reads as the pin.
 #[derive(Debug, Clone)]
 pub struct Solver {
     n: usize,
-    nodes: usize,
-    /// For each element, the index of its branch unknown (if any).
+    /// Unknown of each node (`None` for ground and folded nodes).
+    node_map: Vec<Option<usize>>,
+    /// For each element, the index of its branch unknown (if any); a
+    /// folded source maps to its op-amp's row.
     branch: Vec<Option<usize>>,
+    /// For each element: an op-amp's effective + node, or for a folded
+    /// source the marker that its value goes to the op-amp row.
+    plus: Vec<usize>,
+    folded: Vec<bool>,
+    /// For a folded internal node, the + pin it stands for.
+    pin_of: Vec<Option<Node>>,
     lu: Vec<f64>,
     pivot: Vec<usize>,
-    scratch: Vec<f64>,
 }
 
 impl Solver {
     /// A solver sized for this netlist.
     pub fn new(netlist: &Netlist) -> Self {
-        let nodes = netlist.node_names.len() - 1;
-        let mut next = nodes;
-        let branch = netlist
-            .elements
-            .iter()
-            .map(|e| match e.kind {
-                ElementKind::VoltageSource { .. } | ElementKind::OpAmp { .. } => {
-                    next += 1;
-                    Some(next - 1)
-                }
-                _ => None,
-            })
-            .collect();
+        let nn = netlist.node_names.len();
+        let ne = netlist.elements.len();
+        let mut uses = vec![0usize; nn];
+        for e in &netlist.elements {
+            let k = if matches!(e.kind, ElementKind::OpAmp { .. }) {
+                3
+            } else {
+                2
+            };
+            for &node in &e.nodes[..k] {
+                uses[node] += 1;
+            }
+        }
+        // Find foldable offset sources.
+        let mut folded = vec![false; ne];
+        let mut fold_of_opamp: Vec<Option<usize>> = vec![None; ne];
+        let mut node_folded = vec![false; nn];
+        for (k, e) in netlist.elements.iter().enumerate() {
+            if !matches!(e.kind, ElementKind::OpAmp { .. }) {
+                continue;
+            }
+            let pi = e.nodes[0];
+            if pi == 0 || uses[pi] != 2 || node_folded[pi] {
+                continue;
+            }
+            let src = netlist.elements.iter().position(|s| {
+                matches!(s.kind, ElementKind::VoltageSource { .. })
+                    && s.name.starts_with("VOS_")
+                    && s.nodes[0] == pi
+                    && s.nodes[1] != pi
+            });
+            if let Some(si) = src {
+                folded[si] = true;
+                fold_of_opamp[k] = Some(si);
+                node_folded[pi] = true;
+            }
+        }
+        let mut node_map = vec![None; nn];
+        let mut next = 0;
+        for (i, slot) in node_map.iter_mut().enumerate().skip(1) {
+            if !node_folded[i] {
+                *slot = Some(next);
+                next += 1;
+            }
+        }
+        let mut branch = vec![None; ne];
+        for (ei, e) in netlist.elements.iter().enumerate() {
+            if folded[ei] {
+                continue;
+            }
+            if matches!(
+                e.kind,
+                ElementKind::VoltageSource { .. } | ElementKind::OpAmp { .. }
+            ) {
+                branch[ei] = Some(next);
+                next += 1;
+            }
+        }
+        let mut plus: Vec<usize> = netlist.elements.iter().map(|e| e.nodes[0]).collect();
+        let mut pin_of = vec![None; nn];
+        for (k, f) in fold_of_opamp.iter().enumerate() {
+            if let Some(si) = *f {
+                branch[si] = branch[k];
+                plus[k] = netlist.elements[si].nodes[1];
+                pin_of[netlist.elements[k].nodes[0]] = Some(plus[k]);
+            }
+        }
         let n = next;
         Solver {
             n,
-            nodes,
+            node_map,
             branch,
+            plus,
+            folded,
+            pin_of,
             lu: vec![0.0; n * n],
             pivot: vec![0; n],
-            scratch: vec![0.0; n],
         }
     }
 
@@ -67,17 +137,24 @@ impl Solver {
         self.n
     }
 
-    /// Index of the unknown for a node (`None` for ground).
+    /// Index of the unknown for a node (`None` for ground; a folded
+    /// internal node reads as its op-amp's + pin).
     #[inline]
     pub fn node_unknown(&self, node: Node) -> Option<usize> {
-        if node == 0 {
-            None
-        } else {
-            Some(node - 1)
+        match self.node_map.get(node).copied().flatten() {
+            Some(i) => Some(i),
+            None => self
+                .pin_of
+                .get(node)
+                .copied()
+                .flatten()
+                .and_then(|pin| self.node_map[pin]),
         }
     }
 
-    /// Index of the branch-current unknown of an element, if it has one.
+    /// Index of the branch-current unknown of an element, if it has one
+    /// (for a folded offset source: its op-amp's row, where its value
+    /// enters).
     #[inline]
     pub fn branch_unknown(&self, element: usize) -> Option<usize> {
         self.branch[element]
@@ -88,7 +165,7 @@ impl Solver {
         let n = self.n;
         self.lu.iter_mut().for_each(|v| *v = 0.0);
         let a = &mut self.lu;
-        let idx = |node: Node| if node == 0 { None } else { Some(node - 1) };
+        let idx = |node: Node| self.node_map[node];
         for (ei, e) in netlist.elements.iter().enumerate() {
             match e.kind {
                 ElementKind::Resistor { ohms } => {
@@ -106,6 +183,9 @@ impl Solver {
                     }
                 }
                 ElementKind::VoltageSource { .. } => {
+                    if self.folded[ei] {
+                        continue;
+                    }
                     let k = self.branch[ei].unwrap_or(0);
                     if let Some(p) = idx(e.nodes[0]) {
                         a[p * n + k] += 1.0;
@@ -123,7 +203,7 @@ impl Solver {
                         a[o * n + k] += 1.0;
                         a[k * n + o] += inverse_gain;
                     }
-                    if let Some(p) = idx(e.nodes[0]) {
+                    if let Some(p) = idx(self.plus[ei]) {
                         a[k * n + p] -= 1.0;
                     }
                     if let Some(m) = idx(e.nodes[1]) {
@@ -176,11 +256,11 @@ impl Solver {
     }
 
     fn unknown_name(&self, netlist: &Netlist, i: usize) -> String {
-        if i < self.nodes {
-            return format!("node {}", netlist.node_names[i + 1]);
+        if let Some(node) = self.node_map.iter().position(|m| *m == Some(i)) {
+            return format!("node {}", netlist.node_names[node]);
         }
         for (ei, b) in self.branch.iter().enumerate() {
-            if *b == Some(i) {
+            if *b == Some(i) && !self.folded[ei] {
                 return format!("branch current of {}", netlist.elements[ei].name);
             }
         }
@@ -194,7 +274,7 @@ impl Solver {
             match e.kind {
                 ElementKind::VoltageSource { volts } => {
                     if let Some(k) = self.branch[ei] {
-                        b[k] = volts;
+                        b[k] += volts;
                     }
                 }
                 ElementKind::CurrentSource { amps } => {
@@ -255,7 +335,6 @@ impl Solver {
         for i in (0..n).rev() {
             y.swap(i, self.pivot[i]);
         }
-        self.scratch.copy_from_slice(y);
     }
 
     /// Factor and solve in one call, returning the unknowns.

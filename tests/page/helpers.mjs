@@ -132,6 +132,36 @@ export function cliDemoJson() {
   return cliDemo;
 }
 
+// The CLI's files for the demo need file (examples/demo-need.toml, whose
+// stock folder is the demo stock): {json, spice, bom, svg}.
+let cliFiles = null;
+export function cliDemoFiles() {
+  if (cliFiles) return cliFiles;
+  cliDemoJson();
+  const dir = mkdtempSync(join(tmpdir(), 'spanfit-cli-'));
+  const out = (name) => join(dir, name);
+  const bin = join(ROOT, 'target', 'release', 'spanfit');
+  const args = ['solve', 'examples/demo-need.toml', '--json', '--spice', out('demo.cir'), '--bom', out('bom.csv'), '--svg', out('demo.svg')];
+  const run = existsSync(bin)
+    ? spawnSync(bin, args, { cwd: ROOT, encoding: 'utf8' })
+    : spawnSync('cargo', ['run', '-q', '--release', '-p', 'spanfit-cli', '--', ...args], { cwd: ROOT, encoding: 'utf8' });
+  if (run.status !== 0) throw new Error(`spanfit solve exited ${run.status}: ${run.stderr || run.stdout}`);
+  cliFiles = {
+    json: JSON.parse(run.stdout),
+    spice: readFileSync(out('demo.cir'), 'utf8'),
+    bom: readFileSync(out('bom.csv'), 'utf8'),
+    svg: readFileSync(out('demo.svg'), 'utf8'),
+  };
+  rmSync(dir, { recursive: true, force: true });
+  return cliFiles;
+}
+
+export async function downloadText(page, selector) {
+  const [download] = await Promise.all([page.waitForEvent('download'), page.click(selector)]);
+  const chunks = await (await download.createReadStream()).toArray();
+  return { name: download.suggestedFilename(), text: Buffer.concat(chunks).toString('utf8') };
+}
+
 // The page's own number formatting (app.js `fmt`), for comparing shown text.
 export function fmt(value, digits = 4) {
   if (typeof value !== 'number' || !Number.isFinite(value)) return '—';

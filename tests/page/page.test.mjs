@@ -119,6 +119,9 @@ test('a malformed CSV upload gets an error naming the line', async () => {
     assert.match(status, /resistors\.csv/);
     assert.match(status, /tolerance_pct/);
     assert.equal(await page.isDisabled('[data-testid=solve]'), true);
+    // The named cell is marked in the table.
+    const col = header.indexOf('tolerance_pct');
+    assert.deepEqual(await page.$$eval('[data-testid=stock-table] input.bad-cell', (i) => i.map((x) => [x.dataset.row, x.dataset.col, x.value])), [['0', String(col), 'tight']]);
     await shot(page, 'page-bad-csv');
   });
 });
@@ -171,12 +174,32 @@ test('edits to the need and the shelf survive a reload', async () => {
     await page.waitForFunction(() => document.body.dataset.ready === 'yes');
     assert.equal(await page.inputValue('#f-sensor-source_ohms'), '470');
     assert.equal(await page.isChecked('#f-search-resistor_series-E24'), true);
+    // The blank op-amp row came back too: the shelf check names it, and the
+    // page shows that table with the row marked.
+    const demoOpamps = (await demoCsv(page, 'opamps.csv')).trim().split('\n').length - 1;
+    await page.waitForFunction(() => document.querySelector('[data-testid=stock-status]').dataset.tone === 'bad');
+    assert.match(await page.textContent('[data-testid=stock-status]'), new RegExp(`^opamps\\.csv, line ${demoOpamps + 2}`));
+    assert.equal(await page.locator(`[data-testid=stock-table] input.bad-cell[data-row="${demoOpamps}"]`).count() > 0, true);
+    await page.click('button.tab[data-file="resistors.csv"]');
     assert.equal(await page.inputValue('[data-testid=stock-table] input[data-row="0"][data-col="0"]'), 'HR-EDITED');
     const tabs = await page.$$eval('button.tab', (b) => b.map((x) => x.textContent));
-    const demoOpamps = (await demoCsv(page, 'opamps.csv')).trim().split('\n').length - 1;
     assert.equal(tabs.includes(`Op-amps (${demoOpamps + 1})`), true, tabs.join(' | '));
     await shot(page, 'page-after-reload');
     assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('a need file (TOML) opens into the form', async () => {
+  await withPage(async ({ page }) => {
+    const toml = await page.evaluate(() => window.spanfitPage.call('demo_need'));
+    const changed = toml.replace(/^bits = 16$/m, 'bits = 12');
+    assert.notEqual(changed, toml);
+    await page.setInputFiles('#need-file', { name: 'mine.toml', mimeType: 'text/plain', buffer: Buffer.from(changed) });
+    await page.waitForFunction(() => document.querySelector('#f-adc-bits').value === '12');
+    await page.waitForFunction(() => window.spanfitPage.state.needValid && window.spanfitPage.state.checkedNeed === JSON.stringify(window.spanfitPage.state.need));
+    assert.match(await page.textContent('[data-testid=derived]'), /1 LSB = 732\.4 µV/);
+    await page.setInputFiles('#need-file', { name: 'broken.toml', mimeType: 'text/plain', buffer: Buffer.from('[adc]\nbits = = 3\n') });
+    await page.waitForFunction(() => /^broken\.toml, line 2, column/.test(document.querySelector('[data-testid=need-status]').textContent));
   });
 });
 

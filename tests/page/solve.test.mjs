@@ -5,7 +5,7 @@ import assert from 'node:assert/strict';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { after, before, test } from 'node:test';
-import { ARTIFACTS, cliDemoJson, fmt, launch, openPage, serveDist, shot, solveAndWait, unexpected } from './helpers.mjs';
+import { ARTIFACTS, cliDemoFiles, cliDemoJson, downloadText, fmt, launch, openPage, serveDist, shot, solveAndWait, unexpected } from './helpers.mjs';
 
 let server;
 before(async () => { server = await serveDist(); });
@@ -61,6 +61,52 @@ test('the demo result on the page equals the CLI --json output', async () => {
     assert.equal(await page.locator('[data-testid=budget-chart] line.target').count(), 1);
     assert.equal(await page.locator('[data-testid=bom-table] tbody tr').count() > 0, true);
     await shot(page, 'solve-demo');
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('the downloads are the files the CLI writes for the same need', async () => {
+  const cli = cliDemoFiles();
+  await withPage(async ({ page, problems }) => {
+    await solveAndWait(page);
+    const spice = await downloadText(page, '#dl-spice');
+    assert.equal(spice.text, cli.spice, 'SPICE netlist');
+    assert.match(spice.text, /^VSENSE /m);
+    const bom = await downloadText(page, '#dl-bom');
+    assert.equal(bom.text, cli.bom, 'BOM');
+    const svgFile = await downloadText(page, '#dl-svg');
+    assert.equal(svgFile.text, cli.svg, 'schematic');
+    const report = JSON.parse((await downloadText(page, '#dl-json')).text);
+    assert.equal(report.status, cli.json.status);
+    assert.deepEqual(report.design.parts, cli.json.design.parts);
+    assert.equal(report.design.cost, cli.json.design.cost);
+    // The BOM table shows the BOM file's rows.
+    const rows = await page.$$eval('[data-testid=bom-table] tbody tr', (trs) => trs.map((tr) => [...tr.children].map((td) => td.textContent).join(',')));
+    assert.deepEqual(rows, cli.bom.trim().split('\n').slice(1));
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('hostile part names from the shelf reach the results as text', async () => {
+  const HOSTILE = '<img src=x onerror=window.__pwned=1>';
+  await withPage(async ({ page, problems }) => {
+    const csv = await page.evaluate(() => window.spanfitPage.call('demo_stock').then((t) => JSON.parse(t)['resistors.csv']));
+    const lines = csv.trim().split('\n');
+    const cells = lines[1].split(',');
+    cells[0] = HOSTILE;
+    lines[1] = cells.join(',');
+    await page.setInputFiles('[data-testid=stock-file]', { name: 'resistors.csv', mimeType: 'text/csv', buffer: Buffer.from(`${lines.join('\n')}\n`) });
+    await page.waitForFunction(() => window.spanfitPage.state.stockValid);
+    await solveAndWait(page);
+    const ids = await page.$$eval('[data-testid=parts-table] td[data-col="part_id"]', (tds) => tds.map((td) => td.textContent));
+    assert.equal(ids.some((t) => t.startsWith(HOSTILE)), true, ids.join(' | '));
+    const bomText = await page.textContent('[data-testid=bom-table]');
+    assert.equal(bomText.includes(HOSTILE), true);
+    await page.waitForSelector('[data-testid=schematic-img]');
+    await page.waitForTimeout(300);
+    assert.equal(await page.evaluate(() => window.__pwned), undefined);
+    assert.equal(await page.locator('img[src="x"]').count(), 0);
+    await shot(page, 'solve-hostile-names');
     assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
   });
 });
@@ -160,10 +206,11 @@ test('a yield need shows the Monte Carlo histogram when the report has one', asy
 test('Stop during a search returns the best design found so far', async () => {
   await withPage(async ({ page, problems }) => {
     await page.waitForFunction(() => !document.querySelector('[data-testid=solve]').disabled);
-    // The worker holds 1.5 s at its first progress report, so the click
-    // lands while the search is running.
-    await page.evaluate(() => { window.__run = window.spanfitPage.solve({ debugPauseMs: 1500 }); });
-    await page.waitForFunction(() => document.querySelector('[data-testid=progress-text]').dataset.seen === 'yes');
+    const full = await page.evaluate(() => window.spanfitPage.solve().then(() => window.spanfitPage.state.result.bundle.report));
+    // The worker holds 1.5 s at the first progress report that has a design,
+    // so the click lands while the search is running.
+    await page.evaluate(() => { window.__run = window.spanfitPage.solve({ debugPauseMs: 1500, debugPauseOnBest: true }); });
+    await page.waitForFunction(() => /best cost so far/.test(document.querySelector('[data-testid=progress-text]').textContent));
     assert.equal(await page.isEnabled('[data-testid=cancel]'), true);
     await shot(page, 'solve-running');
     await page.click('[data-testid=cancel]');
@@ -171,7 +218,12 @@ test('Stop during a search returns the best design found so far', async () => {
     assert.deepEqual(reply, { cancelled: true, cancellable: true });
     assert.equal(await page.getAttribute('[data-testid=run-status]', 'data-cancelled'), 'yes');
     assert.match(await page.textContent('[data-testid=run-status]'), /^Stopped early/);
-    assert.equal(await page.isVisible('[data-testid=result]'), true);
+    const stopped = await page.evaluate(() => window.spanfitPage.state.result.bundle.report);
+    assert.equal(stopped.status, 'ok', 'a design had been found before the stop');
+    assert.equal(stopped.search.evaluated <= full.search.evaluated, true, `${stopped.search.evaluated} evaluated after a stop, ${full.search.evaluated} in full`);
+    assert.equal(stopped.design.cost >= full.design.cost, true, 'the full search is at least as cheap');
+    assert.equal(Number(await figureRaw(page, 'cost')), stopped.design.cost);
+    assert.match(await page.textContent('[data-testid=result-banner]'), /best found before the stop/);
     assert.equal(await page.isDisabled('[data-testid=cancel]'), true);
     await shot(page, 'solve-stopped');
     assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });

@@ -738,8 +738,28 @@
       if (seq !== stockCheckSeq) return;
       state.stockValid = false;
       setStatus('stock-status', error.message, 'bad');
+      markBadCell(error.message);
     }
     updateSolveButton();
+  }
+
+  // Point at the cell a stock message names ("resistors.csv, line 3,
+  // column unit_cost: ..."). Rows are sent one a line after the header, so
+  // line n is row n - 2.
+  function markBadCell(message) {
+    const match = /^([\w.-]+\.csv), line (\d+)(?:, column ([\w]+))?/.exec(message);
+    if (!match || !state.stock[match[1]]) return;
+    const [, file, line, column] = match;
+    if (state.activeTable !== file) {
+      state.activeTable = file;
+      buildTabs();
+      renderStockTable();
+    }
+    const table = state.stock[file];
+    const row = Number(line) - 2;
+    const col = column === undefined ? -1 : table.header.indexOf(column);
+    const selector = col >= 0 ? `input[data-row="${row}"][data-col="${col}"]` : `input[data-row="${row}"]`;
+    for (const input of $('stock-table').querySelectorAll(selector)) input.classList.add('bad-cell');
   }
 
   async function onStockUpload(files) {
@@ -795,7 +815,7 @@
     $('run-status').dataset.cancelled = '';
     try {
       const reply = await engines.solver.solve(
-        { need: needText, needName: 'need', stock, debugPauseMs: options.debugPauseMs || 0 },
+        { need: needText, needName: 'need', stock, debugPauseMs: options.debugPauseMs || 0, debugPauseOnBest: !!options.debugPauseOnBest },
         (p) => {
           if (num(p.total) && p.total > 0) {
             $('progress').max = p.total;
@@ -812,7 +832,7 @@
       $('run-status').dataset.elapsedMs = String(reply.elapsedMs);
       const when = `solved in ${fmt(reply.elapsedMs, 3)} ms in this browser`;
       setStatus('run-status', reply.cancelled ? `Stopped early: the best design found before the stop is shown (${when}).` : `Done: ${when}.`, reply.cancelled ? 'warn' : 'good');
-      state.result = { bundle: bundleValue, need: JSON.parse(needText), derived, stock };
+      state.result = { bundle: bundleValue, need: JSON.parse(needText), derived, stock, cancelled: !!reply.cancelled };
       showReport();
       return reply;
     } catch (error) {
@@ -871,8 +891,11 @@
     $('result').hidden = false;
     const banner = $('result-banner');
     if (report.status === 'ok') {
-      banner.textContent = 'A design meets the need.';
+      banner.textContent = state.result.cancelled ? 'A design meets the need (the best found before the stop).' : 'A design meets the need.';
       banner.dataset.tone = 'good';
+    } else if (state.result.cancelled) {
+      banner.textContent = 'Stopped before any design was found. Run it again and let the search go on longer.';
+      banner.dataset.tone = 'warn';
     } else {
       const why = typeof report.reason === 'string' ? report.reason
         : (isObject(report.infeasible) && typeof report.infeasible.binding === 'string' ? report.infeasible.binding : '');
@@ -888,6 +911,7 @@
     const report = isObject(state.result.bundle.report) ? state.result.bundle.report : state.result.bundle;
     const { design, artifacts, label } = state.viewed;
     $('viewing').textContent = design ? `Showing ${label}.` : '';
+    $('design-details').hidden = !isObject(design);
     renderFigures(design, report);
     renderSchematic(artifacts.svg);
     renderBudget(design);
@@ -1189,7 +1213,7 @@
 
   function renderInfeasible(report) {
     const box = $('infeasible-box');
-    const info = report.status !== 'ok' && isObject(report.infeasible) ? report.infeasible : null;
+    const info = report.status !== 'ok' && !state.result.cancelled && isObject(report.infeasible) ? report.infeasible : null;
     box.hidden = !info;
     const tips = $('suggestions');
     const largest = $('largest');
@@ -1207,6 +1231,9 @@
       if (!isObject(item)) continue;
       largest.append(el('li', { text: `${String(item.source ?? '?')}: ${fmt(item.pct_fs, 3)} % FS` }));
     }
+    tips.parentElement.hidden = !tips.childElementCount;
+    largest.parentElement.hidden = !largest.childElementCount;
+    if (!tips.childElementCount && !largest.childElementCount) box.hidden = true;
   }
 
   function renderFindings(design) {

@@ -6,7 +6,7 @@
 //   {type: 'call', id, fn, args}           fn: check_need | need_keys | check_stock |
 //                                           analyze | demo_need | demo_stock | version |
 //                                           diagnostic_panic
-//   {type: 'solve', id, need, needName, stock, cancelToken, debugPauseMs}
+//   {type: 'solve', id, need, needName, stock, cancelToken, debugPauseMs, debugPauseOnBest}
 // (worker -> page):
 //   {type: 'ready', version} | {type: 'init-failed', message}
 //   {type: 'progress', id, done, total, best, cancellable}
@@ -56,17 +56,23 @@ function errorReply(id, error) {
 function runSolve(job) {
   const cancellable = typeof job.cancelToken === 'string' && tokenAlive(job.cancelToken);
   let lastPost = -Infinity;
+  let lastBest = null;
   let lastCheck = performance.now();
   let reports = 0;
+  let paused = false;
   let cancelled = false;
   const progress = (done, total, best) => {
     const now = performance.now();
     reports += 1;
-    if (now - lastPost >= PROGRESS_EVERY_MS || done >= total || reports === 1) {
+    if (now - lastPost >= PROGRESS_EVERY_MS || done >= total || reports === 1 || best !== lastBest) {
       lastPost = now;
+      lastBest = best;
       postMessage({ type: 'progress', id: job.id, done, total, best, cancellable });
     }
-    if (reports === 1 && job.debugPauseMs > 0) {
+    // Test hook: hold once (at the first report, or the first with a design)
+    // so that a test can press Stop while the search is running.
+    if (!paused && job.debugPauseMs > 0 && (!job.debugPauseOnBest || best !== null)) {
+      paused = true;
       const until = performance.now() + job.debugPauseMs;
       while (performance.now() < until) { /* hold, so a test can press Stop */ }
       lastCheck = -Infinity;

@@ -8,6 +8,9 @@
 //! family and one 0.1 % family of the chosen series over 10 ohm to
 //! 1 Mohm (costs and TCRs as in the demo stock), and `max_stages` set.
 
+// Each bench binary uses part of this module.
+#![allow(dead_code)]
+
 use spanfit::need::{parse_need, Need};
 use spanfit::search::{solve, Progress, SolveControl, SolveOutcome};
 use spanfit::series::Series;
@@ -54,6 +57,14 @@ pub fn need(series: Series, max_stages: usize) -> Need {
     need.search.max_stages = max_stages;
     need.search.resistor_series = vec![series];
     need.search.time_limit_ms = TIME_LIMIT_MS;
+    need
+}
+
+/// The same need with another accuracy target, % FS. The demo's
+/// 0.5 % FS (worst case, offset-calibrated) has no design with E12 or E24
+/// values; 1 % FS has one with every series.
+pub fn with_target(mut need: Need, max_error_pct_fs: f64) -> Need {
+    need.accuracy.max_error_pct_fs = max_error_pct_fs;
     need
 }
 
