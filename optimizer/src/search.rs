@@ -1579,9 +1579,7 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
         // same netlist with other grades, rescaled.
         if let Some(split) = splits.get(&st.group) {
             let est = estimate_random(ctx, split, &st.grades);
-            if est[0] > ctx.target_v * SCREEN_SLACK
-                || est[1] > ctx.target_v * SCREEN_SLACK
-            {
+            if est[0] > ctx.target_v * SCREEN_SLACK || est[1] > ctx.target_v * SCREEN_SLACK {
                 continue;
             }
         }
@@ -1619,9 +1617,7 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
             .as_ref()
             .is_none_or(|b| ref_cost < b.costing.total + 1e-12);
         let worth_explaining = diagnosis.best_error_v.is_none_or(|e| quick < e);
-        if (quick <= ctx.target_v * 1.0 && could_win)
-            || (best.is_none() && worth_explaining)
-        {
+        if (quick <= ctx.target_v * 1.0 && could_win) || (best.is_none() && worth_explaining) {
             if let Some(reference) = verify(ctx, reference_design.clone()) {
                 diagnosis.note(&reference, objective);
                 if reference.analysis.meets_target {
@@ -1664,7 +1660,10 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
             )
         };
         let reference_closed = closed_form(&picks);
-        let missed = [rounding[0] - reference_closed[0], rounding[1] - reference_closed[1]];
+        let missed = [
+            rounding[0] - reference_closed[0],
+            rounding[1] - reference_closed[1],
+        ];
         let constant_abs = [missed[0] + aol[0], missed[1] + aol[1]];
         let mut cuts: Vec<Vec<usize>> = Vec::new();
         let mut analysed = 0;
