@@ -949,7 +949,10 @@ fn gain_splits(k: f64, n: usize, signs: &[f64]) -> Vec<Vec<f64>> {
         .collect()
 }
 
-fn enumerate_groups(ctx: &Ctx<'_>) -> Vec<Group> {
+/// Every group that passes the closed-form swing and supply checks; the
+/// nearest miss among the rest is kept in `closest` to explain an
+/// infeasible need.
+fn enumerate_groups(ctx: &Ctx<'_>, closest: &mut Option<(String, f64)>) -> Vec<Group> {
     let need = ctx.need;
     let stock = ctx.stock;
     let (k, b) = need.ideal_transfer();
@@ -1101,8 +1104,13 @@ fn enumerate_groups(ctx: &Ctx<'_>) -> Vec<Group> {
                             resistors_per_stage,
                             packages,
                         };
-                        if swing_ok(ctx, &g) {
-                            groups.push(g);
+                        match swing_ok(ctx, &g) {
+                            Ok(()) => groups.push(g),
+                            Err((why, by)) => {
+                                if closest.as_ref().is_none_or(|c: &(String, f64)| by < c.1) {
+                                    *closest = Some((why, by));
+                                }
+                            }
                         }
                     }
                 }
@@ -1112,18 +1120,20 @@ fn enumerate_groups(ctx: &Ctx<'_>) -> Vec<Group> {
     groups
 }
 
-/// Ideal stage outputs inside the amplifier's swing (closed form).
-fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> bool {
+/// Ideal stage outputs inside the amplifier's swing and supply range
+/// (closed form); `Err` says which limit fails and by how much.
+fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> std::result::Result<(), (String, f64)> {
     let pos = ctx.need.supply.positive.0;
     let neg = ctx.need.supply.negative.0;
     let span = pos - neg;
     let mut v = ctx.signal;
     for (i, &shape) in g.shapes.iter().enumerate() {
-        let (lo, hi, smin, smax) = if shape == Shape::InstrumentationIntegrated {
+        let (id, lo, hi, smin, smax) = if shape == Shape::InstrumentationIntegrated {
             let Some(p) = g.inamp.map(|x| &ctx.stock.inamps[x]) else {
-                return false;
+                return Err(("no in-amp part".into(), f64::INFINITY));
             };
             (
+                &p.part_id,
                 neg + p.output_headroom_low.0,
                 pos - p.output_headroom_high.0,
                 p.supply_min.0,
@@ -1131,9 +1141,10 @@ fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> bool {
             )
         } else {
             let Some(p) = g.opamp.map(|x| &ctx.stock.opamps[x]) else {
-                return false;
+                return Err(("no op-amp part".into(), f64::INFINITY));
             };
             (
+                &p.part_id,
                 neg + p.output_headroom_low.0,
                 pos - p.output_headroom_high.0,
                 p.supply_min.0,
@@ -1141,17 +1152,32 @@ fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> bool {
             )
         };
         if span < smin || span > smax {
-            return false;
+            let by = if span < smin {
+                smin - span
+            } else {
+                span - smax
+            };
+            return Err((
+                format!("supply range: the rails span {span:.3} V but {id} runs from {smin:.3} V to {smax:.3} V"),
+                1e3 + by,
+            ));
         }
         for x in v.iter_mut() {
             *x = g.gains[i] * *x + g.offsets[i];
             if *x < lo || *x > hi {
-                return false;
+                let by = if *x < lo { lo - *x } else { *x - hi };
+                return Err((
+                    format!(
+                        "output swing: stage {} ({id}) must reach {:.4} V but swings only {lo:.4} V to {hi:.4} V ({by:.4} V short)",
+                        i + 1,
+                        *x
+                    ),
+                    by,
+                ));
             }
         }
     }
-    let _ = ctx.ideal;
-    true
+    Ok(())
 }
 
 /// One structure: a group with a grade per stage (and, last, one for the
@@ -1445,6 +1471,7 @@ struct Diagnosis {
     failed_checks: BTreeMap<String, (usize, String)>,
     best: Option<Candidate>,
     best_error_v: Option<f64>,
+    closest_rejection: Option<(String, f64)>,
 }
 
 impl Diagnosis {
@@ -1485,12 +1512,14 @@ struct RunResult {
 fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunResult {
     let start = (control.now_ms)();
     let objective = ctx.need.search.objective;
-    let groups = enumerate_groups(ctx);
+    let mut diagnosis = Diagnosis::default();
+    let mut closest = None;
+    let groups = enumerate_groups(ctx, &mut closest);
+    diagnosis.closest_rejection = closest;
     let list = structures(ctx, &groups);
     let total = list.len() as u64;
     let mut best: Option<Candidate> = None;
     let mut found: Vec<Candidate> = Vec::new();
-    let mut diagnosis = Diagnosis::default();
     let mut splits: BTreeMap<usize, crate::analysis::RandomSplit> = BTreeMap::new();
     let mut evaluated = 0u64;
     let mut milp_solves = 0u64;
@@ -1841,7 +1870,10 @@ fn explain(
             let worst = d.failed_checks.iter().max_by_key(|(_, v)| v.0);
             match worst {
                 Some((check, (_, detail))) => (format!("{check}: no structure passes; for example {detail}"), None, Vec::new()),
-                None => ("no structure can be built from this stock for this need (check the topologies, the supplies and the offset sources)".into(), None, Vec::new()),
+                None => match &d.closest_rejection {
+                    Some((why, _)) => (format!("no structure passes; the nearest miss: {why}"), None, Vec::new()),
+                    None => ("no structure can be built from this stock for this need (check the topologies, the supplies and the offset sources)".into(), None, Vec::new()),
+                },
             }
         }
     };
