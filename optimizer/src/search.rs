@@ -1503,6 +1503,7 @@ impl Diagnosis {
 }
 
 struct RunResult {
+    cancelled: bool,
     best: Option<Candidate>,
     found: Vec<Candidate>,
     diagnosis: Diagnosis,
@@ -1524,6 +1525,7 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
     let mut evaluated = 0u64;
     let mut milp_solves = 0u64;
     let mut proven = true;
+    let mut cancelled = false;
     let mut gap = None;
     let mut extra_after_proof = 0usize;
     let mut proof_reached = false;
@@ -1554,6 +1556,9 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
             total,
             best_cost: best.as_ref().map(|b| b.costing.total),
         });
+        if !keep_going {
+            cancelled = true;
+        }
         if !keep_going || elapsed > limit {
             if !proof_reached {
                 proven = false;
@@ -1740,6 +1745,7 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
     }
     let elapsed_ms = (control.now_ms)() - start;
     RunResult {
+        cancelled,
         best,
         found,
         diagnosis,
@@ -1824,7 +1830,15 @@ fn solve_inner(
         });
         alternatives.insert(0, best.clone());
     }
-    let infeasible = if r.best.is_none() {
+    let infeasible = if r.best.is_none() && r.cancelled {
+        Some(Infeasibility {
+            binding: "stopped before any design was found".into(),
+            best_error_pct_fs: None,
+            target_pct_fs: need.accuracy.max_error_pct_fs,
+            largest: Vec::new(),
+            suggestions: Vec::new(),
+        })
+    } else if r.best.is_none() {
         Some(explain(need, &stock, &r.diagnosis, control, suggest))
     } else {
         None
