@@ -304,13 +304,31 @@ struct Group {
     shapes: Vec<Shape>,
     opamp: Option<usize>,
     inamp: Option<usize>,
-    offset: Option<OffsetPlan>,
+    /// Offset plans, at most one per stage, all from one source.
+    plans: Vec<OffsetPlan>,
     gains: Vec<f64>,
     offsets: Vec<f64>,
     fixed_cost: f64,
     fixed_lines: usize,
     resistors_per_stage: Vec<usize>,
     packages: usize,
+}
+
+impl Group {
+    /// The offset plan of a stage, if it has one.
+    fn plan(&self, stage: usize) -> Option<&OffsetPlan> {
+        self.plans.iter().find(|p| p.stage == stage)
+    }
+
+    /// Whether a plan places a divider (whose grade is its own slot).
+    fn has_divider(&self) -> bool {
+        self.plans.iter().any(|p| {
+            matches!(
+                p.how,
+                OffsetHow::GainLeg | OffsetHow::InvertingBias | OffsetHow::RefDivider
+            )
+        })
+    }
 }
 
 /// A stage value set with its linearised effect.
@@ -432,7 +450,7 @@ fn ratio_pairs(
             best.push((i, k, err));
         }
     }
-    best.sort_by(|a, b| a.2.total_cmp(&b.2));
+    best.sort_unstable_by(|a, b| a.2.total_cmp(&b.2).then(a.0.cmp(&b.0)));
     let mut out: Vec<(usize, usize, f64)> = Vec::new();
     for b in best {
         if out
@@ -458,12 +476,9 @@ fn nearest_values(values: &[f64], target: f64, keep: usize) -> Vec<usize> {
     let lo = j.saturating_sub(keep / 2 + 1);
     let hi = (j + keep / 2 + 1).min(values.len());
     let mut idx: Vec<usize> = (lo..hi).collect();
-    idx.sort_by(|a, b| {
-        (values[*a] / target)
-            .ln()
-            .abs()
-            .total_cmp(&(values[*b] / target).ln().abs())
-    });
+    // max(v/t, t/v) orders like |ln(v/t)| without the logarithm.
+    let off = |v: f64| (v / target).max(target / v);
+    idx.sort_unstable_by(|a, b| off(values[*a]).total_cmp(&off(values[*b])));
     idx.truncate(keep);
     idx
 }
@@ -525,7 +540,7 @@ impl<'a> Ctx<'a> {
         let shape = g.shapes[stage];
         let a = g.gains[stage];
         let c = g.offsets[stage];
-        let plan = g.offset.as_ref().filter(|p| p.stage == stage);
+        let plan = g.plan(stage);
         let how = plan.map(|p| p.how);
         let vsrc = plan.map(|p| p.volts).unwrap_or(0.0);
         let v = &grade.values;
@@ -752,10 +767,10 @@ impl<'a> Ctx<'a> {
         // Score by the linearised effect at the output.
         let k_total = self.need.ideal_transfer().0;
         let down: f64 = g.gains[stage + 1..].iter().product();
-        let offset_stage = g.offset.as_ref().map(|p| p.stage);
-        let c_off = offset_stage
-            .map(|k| g.offsets[k] * g.gains[k + 1..].iter().product::<f64>())
-            .unwrap_or(0.0);
+        // Offsets made upstream of this stage, as they reach the output.
+        let upstream: f64 = (0..stage)
+            .map(|i| g.offsets[i] * g.gains[i + 1..].iter().product::<f64>())
+            .sum();
         let ins = self.stage_inputs(stage, prev_ideal);
         let mut out: Vec<Choice> = Vec::new();
         for (roles, div) in raw {
@@ -795,17 +810,10 @@ impl<'a> Ctx<'a> {
                 continue;
             }
             let rel = ratio.ln();
-            let offset_term = match offset_stage {
-                Some(k) if k == stage && c != 0.0 && c_real / c > 0.0 => c_off * (c_real / c).ln(),
-                _ => (c_real - c) * down,
-            };
+            let offset_term = (c_real - c) * down;
             let mut contribution = [0.0; 2];
             for (e, ce) in contribution.iter_mut().enumerate() {
-                let mut v_e = rel * k_total * self.signal[e] + offset_term;
-                if offset_stage.is_some_and(|k| stage > k) {
-                    v_e += rel * c_off;
-                }
-                *ce = v_e;
+                *ce = rel * (k_total * self.signal[e] + upstream) + offset_term;
             }
             let mut cost: f64 = roles
                 .values()
@@ -847,7 +855,7 @@ impl<'a> Ctx<'a> {
                 .iter()
                 .map(|(k, &v)| (k.clone(), res(v)))
                 .collect();
-            let plan = g.offset.as_ref().filter(|p| p.stage == i);
+            let plan = g.plan(i);
             let divider = |buffered: bool, p: &OffsetPlan| match (ch.offset_top, ch.offset_bottom) {
                 (Some(t), Some(b)) => Injection::Divider {
                     source: p.source.clone(),
@@ -952,7 +960,11 @@ fn gain_splits(k: f64, n: usize, signs: &[f64]) -> Vec<Vec<f64>> {
 /// Every group that passes the closed-form swing and supply checks; the
 /// nearest miss among the rest is kept in `closest` to explain an
 /// infeasible need.
-fn enumerate_groups(ctx: &Ctx<'_>, closest: &mut Option<(String, f64)>) -> Vec<Group> {
+fn enumerate_groups(
+    ctx: &Ctx<'_>,
+    closest: &mut Option<(String, f64)>,
+    floor_miss: &mut Option<(String, f64)>,
+) -> Vec<Group> {
     let need = ctx.need;
     let stock = ctx.stock;
     let (k, b) = need.ideal_transfer();
@@ -999,51 +1011,105 @@ fn enumerate_groups(ctx: &Ctx<'_>, closest: &mut Option<(String, f64)>) -> Vec<G
             vec![None]
         };
         for gains in gain_splits(k, shapes.len(), &signs) {
-            // Offset plans: none, or one stage from one source.
-            let mut plans: Vec<Option<OffsetPlan>> = Vec::new();
+            // Offset plans: none; one stage from one source; or, for two or
+            // more stages, every stage lifted so its output starts a tenth
+            // of the rails above the negative rail (so no intermediate node
+            // clips), each from the same source.
+            let hows_for = |shape: Shape, c: f64| -> Option<OffsetHow> {
+                match shape {
+                    Shape::NonInverting if c < 0.0 => Some(OffsetHow::GainLeg),
+                    Shape::NonInvertingSummed if c > 0.0 => Some(OffsetHow::Summed),
+                    Shape::Inverting if c < 0.0 => Some(OffsetHow::InvertingRo),
+                    Shape::Inverting if c > 0.0 => Some(OffsetHow::InvertingBias),
+                    Shape::Difference
+                    | Shape::InstrumentationDiscrete
+                    | Shape::InstrumentationIntegrated
+                        if c > 0.0 =>
+                    {
+                        Some(OffsetHow::RefDivider)
+                    }
+                    _ => None,
+                }
+            };
+            let mut plan_sets: Vec<(Vec<OffsetPlan>, Vec<f64>)> = Vec::new();
             if b.abs() < 1e-9 {
-                plans.push(None);
+                plan_sets.push((Vec::new(), vec![0.0; shapes.len()]));
             } else {
                 for (stage, &shape) in shapes.iter().enumerate() {
                     let down: f64 = gains[stage + 1..].iter().product();
                     let c = b / down;
-                    let hows: &[OffsetHow] = match shape {
-                        Shape::NonInverting if c < 0.0 => &[OffsetHow::GainLeg],
-                        Shape::NonInvertingSummed if c > 0.0 => &[OffsetHow::Summed],
-                        Shape::Inverting if c < 0.0 => &[OffsetHow::InvertingRo],
-                        Shape::Inverting if c > 0.0 => &[OffsetHow::InvertingBias],
-                        Shape::Difference
-                        | Shape::InstrumentationDiscrete
-                        | Shape::InstrumentationIntegrated
-                            if c > 0.0 =>
-                        {
-                            &[OffsetHow::RefDivider]
-                        }
-                        _ => &[],
-                    };
-                    for &how in hows {
+                    if let Some(how) = hows_for(shape, c) {
                         for (src, volts, cost) in &sources {
-                            plans.push(Some(OffsetPlan {
+                            let mut offsets = vec![0.0; shapes.len()];
+                            offsets[stage] = c;
+                            plan_sets.push((
+                                vec![OffsetPlan {
+                                    stage,
+                                    how,
+                                    source: src.clone(),
+                                    volts: *volts,
+                                    cost: *cost,
+                                }],
+                                offsets,
+                            ));
+                        }
+                    }
+                }
+            }
+            if shapes.len() >= 2 {
+                let pos = need.supply.positive.0;
+                let neg = need.supply.negative.0;
+                let floor = neg + 0.1 * (pos - neg);
+                let mut offsets = vec![0.0; shapes.len()];
+                let mut v = ctx.signal;
+                for (i, &a) in gains.iter().enumerate() {
+                    let y = [a * v[0], a * v[1]];
+                    offsets[i] = if i + 1 == shapes.len() {
+                        ctx.ideal[0] - y[0]
+                    } else {
+                        floor - y[0].min(y[1])
+                    };
+                    v = [y[0] + offsets[i], y[1] + offsets[i]];
+                }
+                let staged: Option<Vec<OffsetHow>> = shapes
+                    .iter()
+                    .zip(&offsets)
+                    .map(|(&sh, &c)| {
+                        if c.abs() < 1e-9 {
+                            Some(None)
+                        } else {
+                            hows_for(sh, c).map(Some)
+                        }
+                    })
+                    .collect::<Option<Vec<Option<OffsetHow>>>>()
+                    .map(|v| v.into_iter().flatten().collect());
+                let count = offsets.iter().filter(|c| c.abs() >= 1e-9).count();
+                if let Some(hows) = staged.filter(|_| count >= 2) {
+                    let stages_with: Vec<usize> = (0..shapes.len())
+                        .filter(|&i| offsets[i].abs() >= 1e-9)
+                        .collect();
+                    for (src, volts, cost) in &sources {
+                        let plans = stages_with
+                            .iter()
+                            .zip(&hows)
+                            .map(|(&stage, &how)| OffsetPlan {
                                 stage,
                                 how,
                                 source: src.clone(),
                                 volts: *volts,
                                 cost: *cost,
-                            }));
-                        }
+                            })
+                            .collect();
+                        plan_sets.push((plans, offsets.clone()));
                     }
                 }
             }
-            for plan in plans {
-                let mut offsets = vec![0.0; shapes.len()];
-                if let Some(p) = &plan {
-                    let down: f64 = gains[p.stage + 1..].iter().product();
-                    offsets[p.stage] = b / down;
-                }
-                let buffer_section = plan
-                    .as_ref()
-                    .is_some_and(|p| p.how == OffsetHow::RefDivider);
-                let sections = opamp_sections + usize::from(buffer_section);
+            for (plans, offsets) in plan_sets {
+                let buffer_sections = plans
+                    .iter()
+                    .filter(|p| p.how == OffsetHow::RefDivider)
+                    .count();
+                let sections = opamp_sections + buffer_sections;
                 let opamps: Vec<Option<usize>> = if sections == 0 {
                     vec![None]
                 } else {
@@ -1051,9 +1117,9 @@ fn enumerate_groups(ctx: &Ctx<'_>, closest: &mut Option<(String, f64)>) -> Vec<G
                 };
                 for &opamp in &opamps {
                     for &inamp in &inamps {
-                        let mut fixed_cost = plan.as_ref().map(|p| p.cost).unwrap_or(0.0);
+                        let mut fixed_cost = plans.first().map(|p| p.cost).unwrap_or(0.0);
                         let mut fixed_lines =
-                            usize::from(plan.as_ref().is_some_and(|p| p.source != Source::Supply));
+                            usize::from(plans.first().is_some_and(|p| p.source != Source::Supply));
                         let mut packages = 0;
                         if let Some(o) = opamp {
                             let ch = stock.opamps[o].channels.max(1) as usize;
@@ -1078,17 +1144,17 @@ fn enumerate_groups(ctx: &Ctx<'_>, closest: &mut Option<(String, f64)>) -> Vec<G
                                     Shape::InstrumentationDiscrete => 7,
                                     Shape::InstrumentationIntegrated => 1,
                                 };
-                                let extra =
-                                    match plan.as_ref().filter(|p| p.stage == i).map(|p| p.how) {
-                                        Some(
-                                            OffsetHow::GainLeg
-                                            | OffsetHow::InvertingBias
-                                            | OffsetHow::RefDivider,
-                                        ) => 2,
-                                        Some(OffsetHow::Summed) => 0,
-                                        Some(OffsetHow::InvertingRo) => 1,
-                                        None => 0,
-                                    };
+                                let extra = match plans.iter().find(|p| p.stage == i).map(|p| p.how)
+                                {
+                                    Some(
+                                        OffsetHow::GainLeg
+                                        | OffsetHow::InvertingBias
+                                        | OffsetHow::RefDivider,
+                                    ) => 2,
+                                    Some(OffsetHow::Summed) => 0,
+                                    Some(OffsetHow::InvertingRo) => 1,
+                                    None => 0,
+                                };
                                 base + extra
                             })
                             .collect();
@@ -1096,7 +1162,7 @@ fn enumerate_groups(ctx: &Ctx<'_>, closest: &mut Option<(String, f64)>) -> Vec<G
                             shapes: shapes.clone(),
                             opamp,
                             inamp,
-                            offset: plan.clone(),
+                            plans: plans.clone(),
                             gains: gains.clone(),
                             offsets: offsets.clone(),
                             fixed_cost,
@@ -1105,10 +1171,26 @@ fn enumerate_groups(ctx: &Ctx<'_>, closest: &mut Option<(String, f64)>) -> Vec<G
                             packages,
                         };
                         match swing_ok(ctx, &g) {
-                            Ok(()) => groups.push(g),
-                            Err((why, by)) => {
+                            Ok(()) => {
+                                let floor = amplifier_floor(ctx, &g);
+                                if floor <= ctx.target_v * SCREEN_SLACK {
+                                    groups.push(g);
+                                } else {
+                                    let by = floor - ctx.target_v;
+                                    if floor_miss.as_ref().is_none_or(|c: &(String, f64)| by < c.1)
+                                    {
+                                        let why = format!(
+                                            "accuracy: amplifier offset drift alone comes to {:.4} % FS against {:.4} % FS",
+                                            100.0 * floor / ctx.need.full_scale(),
+                                            ctx.need.accuracy.max_error_pct_fs
+                                        );
+                                        *floor_miss = Some((why, by));
+                                    }
+                                }
+                            }
+                            Err((miss, by)) => {
                                 if closest.as_ref().is_none_or(|c: &(String, f64)| by < c.1) {
-                                    *closest = Some((why, by));
+                                    *closest = Some((miss.text(by), by));
                                 }
                             }
                         }
@@ -1120,9 +1202,42 @@ fn enumerate_groups(ctx: &Ctx<'_>, closest: &mut Option<(String, f64)>) -> Vec<G
     groups
 }
 
+/// Why a group fails the closed-form checks, kept as numbers until shown.
+#[derive(Debug, Clone)]
+enum Miss {
+    NoPart,
+    Supply {
+        part: String,
+        span: f64,
+        min: f64,
+        max: f64,
+    },
+    Swing {
+        stage: usize,
+        part: String,
+        at: f64,
+        lo: f64,
+        hi: f64,
+    },
+}
+
+impl Miss {
+    fn text(&self, by: f64) -> String {
+        match self {
+            Miss::NoPart => "no amplifier part for a stage".into(),
+            Miss::Supply { part, span, min, max } => format!(
+                "supply range: the rails span {span:.3} V but {part} runs from {min:.3} V to {max:.3} V"
+            ),
+            Miss::Swing { stage, part, at, lo, hi } => format!(
+                "output swing: stage {stage} ({part}) must reach {at:.4} V but swings only {lo:.4} V to {hi:.4} V ({by:.4} V short)"
+            ),
+        }
+    }
+}
+
 /// Ideal stage outputs inside the amplifier's swing and supply range
-/// (closed form); `Err` says which limit fails and by how much.
-fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> std::result::Result<(), (String, f64)> {
+/// (closed form); `Err` says which limit fails and by how much (volts).
+fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> std::result::Result<(), (Miss, f64)> {
     let pos = ctx.need.supply.positive.0;
     let neg = ctx.need.supply.negative.0;
     let span = pos - neg;
@@ -1130,7 +1245,7 @@ fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> std::result::Result<(), (String, f64)> 
     for (i, &shape) in g.shapes.iter().enumerate() {
         let (id, lo, hi, smin, smax) = if shape == Shape::InstrumentationIntegrated {
             let Some(p) = g.inamp.map(|x| &ctx.stock.inamps[x]) else {
-                return Err(("no in-amp part".into(), f64::INFINITY));
+                return Err((Miss::NoPart, f64::INFINITY));
             };
             (
                 &p.part_id,
@@ -1141,7 +1256,7 @@ fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> std::result::Result<(), (String, f64)> 
             )
         } else {
             let Some(p) = g.opamp.map(|x| &ctx.stock.opamps[x]) else {
-                return Err(("no op-amp part".into(), f64::INFINITY));
+                return Err((Miss::NoPart, f64::INFINITY));
             };
             (
                 &p.part_id,
@@ -1158,7 +1273,12 @@ fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> std::result::Result<(), (String, f64)> 
                 span - smax
             };
             return Err((
-                format!("supply range: the rails span {span:.3} V but {id} runs from {smin:.3} V to {smax:.3} V"),
+                Miss::Supply {
+                    part: id.clone(),
+                    span,
+                    min: smin,
+                    max: smax,
+                },
                 1e3 + by,
             ));
         }
@@ -1167,17 +1287,65 @@ fn swing_ok(ctx: &Ctx<'_>, g: &Group) -> std::result::Result<(), (String, f64)> 
             if *x < lo || *x > hi {
                 let by = if *x < lo { lo - *x } else { *x - hi };
                 return Err((
-                    format!(
-                        "output swing: stage {} ({id}) must reach {:.4} V but swings only {lo:.4} V to {hi:.4} V ({by:.4} V short)",
-                        i + 1,
-                        *x
-                    ),
+                    Miss::Swing {
+                        stage: i + 1,
+                        part: id.clone(),
+                        at: *x,
+                        lo,
+                        hi,
+                    },
                     by,
                 ));
             }
         }
     }
     Ok(())
+}
+
+/// A lower bound on the error a group can reach whatever its resistors:
+/// the output-referred offset drift of its amplifiers (and their initial
+/// offset where no calibration removes it), each times its noise gain and
+/// the gain after it, on the need's basis. Volts.
+fn amplifier_floor(ctx: &Ctx<'_>, g: &Group) -> f64 {
+    let dt = ctx.need.max_delta_t();
+    let calibrated = ctx.need.accuracy.calibration != Calibration::None;
+    let mut worst = 0.0;
+    let mut squares = 0.0;
+    for (i, &shape) in g.shapes.iter().enumerate() {
+        let a = g.gains[i].abs();
+        let down: f64 = g.gains[i + 1..].iter().map(|x| x.abs()).product();
+        let (vos, drift) = if shape == Shape::InstrumentationIntegrated {
+            match g.inamp.map(|x| &ctx.stock.inamps[x]) {
+                Some(p) => (p.input_offset_uv * 1e-6, p.offset_drift_uv_per_c * 1e-6),
+                None => (0.0, 0.0),
+            }
+        } else {
+            match g.opamp.map(|x| &ctx.stock.opamps[x]) {
+                Some(p) => (p.vos_max_uv * 1e-6, p.vos_drift_uv_per_c * 1e-6),
+                None => (0.0, 0.0),
+            }
+        };
+        let noise_gain = match shape {
+            Shape::Inverting | Shape::Difference => 1.0 + a,
+            _ => a.max(1.0),
+        };
+        let per_volt = noise_gain * down;
+        let mut terms = vec![drift * dt * per_volt];
+        if !calibrated {
+            terms.push(vos * per_volt);
+        }
+        for t in terms {
+            worst += t;
+            squares += t * t;
+        }
+    }
+    match ctx.need.accuracy.basis {
+        Basis::WorstCase => worst,
+        Basis::Rss => squares.sqrt(),
+        Basis::Yield => {
+            crate::analysis::yield_k_sigma(ctx.need.accuracy.yield_pct) * (squares / 3.0).sqrt()
+        }
+    }
 }
 
 /// One structure: a group with a grade per stage (and, last, one for the
@@ -1196,12 +1364,19 @@ fn structures(ctx: &Ctx<'_>, groups: &[Group]) -> Vec<Structure> {
     let ng = ctx.grades.len();
     for (gi, g) in groups.iter().enumerate() {
         let n = g.shapes.len();
-        // The offset divider, where there is one, has a grade of its own.
-        let divider_stage = g.offset.as_ref().and_then(|p| match p.how {
-            OffsetHow::GainLeg | OffsetHow::InvertingBias | OffsetHow::RefDivider => Some(p.stage),
-            _ => None,
-        });
-        let slots = n + usize::from(divider_stage.is_some());
+        // Offset dividers, where there are any, share a grade of their own.
+        let divider_stages: Vec<usize> = g
+            .plans
+            .iter()
+            .filter(|p| {
+                matches!(
+                    p.how,
+                    OffsetHow::GainLeg | OffsetHow::InvertingBias | OffsetHow::RefDivider
+                )
+            })
+            .map(|p| p.stage)
+            .collect();
+        let slots = n + usize::from(g.has_divider());
         let combos = ng.pow(slots as u32);
         for code in 0..combos {
             let mut grades = Vec::with_capacity(n + 1);
@@ -1210,11 +1385,11 @@ fn structures(ctx: &Ctx<'_>, groups: &[Group]) -> Vec<Structure> {
                 grades.push(c % ng);
                 c /= ng;
             }
-            if divider_stage.is_none() {
+            if !g.has_divider() {
                 grades.push(0);
             }
             let mut counts = g.resistors_per_stage.clone();
-            if let Some(k) = divider_stage {
+            for &k in &divider_stages {
                 counts[k] -= 2;
             }
             let mut resistor_cost: f64 = grades[..n]
@@ -1223,8 +1398,8 @@ fn structures(ctx: &Ctx<'_>, groups: &[Group]) -> Vec<Structure> {
                 .map(|(&gr, &cnt)| cnt as f64 * ctx.grades[gr].min_cost)
                 .sum();
             let mut distinct: BTreeSet<usize> = grades[..n].iter().copied().collect();
-            if divider_stage.is_some() {
-                resistor_cost += 2.0 * ctx.grades[grades[n]].min_cost;
+            if g.has_divider() {
+                resistor_cost += 2.0 * divider_stages.len() as f64 * ctx.grades[grades[n]].min_cost;
                 distinct.insert(grades[n]);
             }
             let min_lines = distinct
@@ -1236,11 +1411,7 @@ fn structures(ctx: &Ctx<'_>, groups: &[Group]) -> Vec<Structure> {
                 });
             let parts = g.resistors_per_stage.iter().sum::<usize>()
                 + g.packages
-                + usize::from(
-                    g.offset
-                        .as_ref()
-                        .is_some_and(|p| p.source != Source::Supply),
-                );
+                + usize::from(g.plans.first().is_some_and(|p| p.source != Source::Supply));
             if parts > ctx.need.search.max_parts {
                 continue;
             }
@@ -1389,18 +1560,40 @@ fn pick(
         .collect()
 }
 
+/// Value sets already generated, by (group, stage, grade, divider grade):
+/// structures of one group share them.
+type ChoiceCache = BTreeMap<(usize, usize, usize, usize), Vec<Choice>>;
+
 /// Choices for every stage of a structure, chained through ideal outputs.
-fn all_choices(ctx: &Ctx<'_>, g: &Group, st: &Structure) -> Option<Vec<Vec<Choice>>> {
+fn all_choices(
+    ctx: &Ctx<'_>,
+    g: &Group,
+    st: &Structure,
+    cache: &mut ChoiceCache,
+) -> Option<Vec<Vec<Choice>>> {
+    let n = g.shapes.len();
     let mut prev = ctx.signal;
     let mut out = Vec::new();
-    for i in 0..g.shapes.len() {
-        let ch = ctx.choices(
-            g,
-            i,
-            &ctx.grades[st.grades[i]],
-            &ctx.grades[st.grades[g.shapes.len()]],
-            prev,
-        );
+    for i in 0..n {
+        // The divider grade matters only to a stage with a divider.
+        let dgrade = if g.plan(i).is_some() {
+            st.grades[n]
+        } else {
+            usize::MAX
+        };
+        let key = (st.group, i, st.grades[i], dgrade);
+        let ch = cache
+            .entry(key)
+            .or_insert_with(|| {
+                ctx.choices(
+                    g,
+                    i,
+                    &ctx.grades[st.grades[i]],
+                    &ctx.grades[st.grades[n]],
+                    prev,
+                )
+            })
+            .clone();
         if ch.is_empty() {
             return None;
         }
@@ -1515,13 +1708,16 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
     let objective = ctx.need.search.objective;
     let mut diagnosis = Diagnosis::default();
     let mut closest = None;
-    let groups = enumerate_groups(ctx, &mut closest);
-    diagnosis.closest_rejection = closest;
+    let mut floor_miss = None;
+    let groups = enumerate_groups(ctx, &mut closest, &mut floor_miss);
+    // An accuracy floor is the nearer miss when some group had the swing.
+    diagnosis.closest_rejection = floor_miss.or(closest);
     let list = structures(ctx, &groups);
     let total = list.len() as u64;
     let mut best: Option<Candidate> = None;
     let mut found: Vec<Candidate> = Vec::new();
     let mut splits: BTreeMap<usize, crate::analysis::RandomSplit> = BTreeMap::new();
+    let mut choice_cache = ChoiceCache::new();
     let mut evaluated = 0u64;
     let mut milp_solves = 0u64;
     let mut proven = true;
@@ -1569,7 +1765,17 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
             break;
         }
         let g = &groups[st.group];
-        let Some(choices) = all_choices(ctx, g, st) else {
+        if !exhaustive {
+            // Screen by the group's shared budget split where one exists: the
+            // same netlist with other grades, rescaled.
+            if let Some(split) = splits.get(&st.group) {
+                let est = estimate_random(ctx, split, &st.grades);
+                if est[0] > ctx.target_v * SCREEN_SLACK || est[1] > ctx.target_v * SCREEN_SLACK {
+                    continue;
+                }
+            }
+        }
+        let Some(choices) = all_choices(ctx, g, st, &mut choice_cache) else {
             continue;
         };
         if exhaustive {
@@ -1608,14 +1814,6 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
                 }
             }
             continue;
-        }
-        // Screen by the group's shared budget split where one exists: the
-        // same netlist with other grades, rescaled.
-        if let Some(split) = splits.get(&st.group) {
-            let est = estimate_random(ctx, split, &st.grades);
-            if est[0] > ctx.target_v * SCREEN_SLACK || est[1] > ctx.target_v * SCREEN_SLACK {
-                continue;
-            }
         }
         // Reference design: the best-rounding choice of every stage.
         let picks: Vec<&Choice> = choices.iter().map(|c| &c[0]).collect();
