@@ -450,7 +450,9 @@ fn ratio_pairs(
             best.push((i, k, err));
         }
     }
-    best.sort_unstable_by(|a, b| a.2.total_cmp(&b.2).then(a.0.cmp(&b.0)));
+    // Only the best few matter: select them, then order them (the
+    // dedupe below may need a few spares).
+    keep_best(&mut best, keep * 4);
     let mut out: Vec<(usize, usize, f64)> = Vec::new();
     for b in best {
         if out
@@ -465,6 +467,32 @@ fn ratio_pairs(
         }
     }
     out
+}
+
+/// The indices of the values just below and just above `target` in a
+/// sorted list (no allocation: the inner loop of the ratio searches).
+fn bracket(values: &[f64], target: f64) -> impl Iterator<Item = usize> {
+    let ok = target.is_finite() && target > 0.0;
+    let j = if ok {
+        values.partition_point(|&v| v < target)
+    } else {
+        0
+    };
+    let n = if ok { values.len() } else { 0 };
+    [j.wrapping_sub(1), j].into_iter().filter(move |&k| k < n)
+}
+
+/// Keep the `k` entries of lowest error (third field), in order, ties by
+/// index so the result does not depend on the sort.
+fn keep_best(items: &mut Vec<(usize, usize, f64)>, k: usize) {
+    let cmp = |a: &(usize, usize, f64), b: &(usize, usize, f64)| {
+        a.2.total_cmp(&b.2).then(a.0.cmp(&b.0)).then(a.1.cmp(&b.1))
+    };
+    if items.len() > k && k > 0 {
+        items.select_nth_unstable_by(k - 1, cmp);
+        items.truncate(k);
+    }
+    items.sort_unstable_by(cmp);
 }
 
 /// Indices of the values nearest `target` (up to `keep`, both sides).
@@ -592,12 +620,12 @@ impl<'a> Ctx<'a> {
                                     continue;
                                 }
                                 let rg = rf / (a - 1.0) - rth;
-                                for k in nearest_values(v, rg, 2) {
+                                for k in bracket(v, rg) {
                                     let err = ((v[k] + rth) / (rf / (a - 1.0)) - 1.0).abs();
                                     local.push((i, k, err));
                                 }
                             }
-                            local.sort_by(|x, y| x.2.total_cmp(&y.2));
+                            keep_best(&mut local, PAIRS_PER_RATIO);
                             for (i, k, _) in local.into_iter().take(PAIRS_PER_RATIO) {
                                 raw.push((map(&[("rf", i), ("rg", k)]), Some((t, b))));
                             }
@@ -628,11 +656,11 @@ impl<'a> Ctx<'a> {
                         continue;
                     }
                     let ri = ro * ratio_ri_ro - rs.0;
-                    for k in nearest_values(v, ri, 2) {
+                    for k in bracket(v, ri) {
                         local.push((k, o, (((v[k] + rs.0) / ro) / ratio_ri_ro - 1.0).abs()));
                     }
                 }
-                local.sort_by(|x, y| x.2.total_cmp(&y.2));
+                keep_best(&mut local, PAIRS_PER_RATIO);
                 for (k, o, _) in local.into_iter().take(PAIRS_PER_RATIO) {
                     ri_ro.push((k, o));
                 }
@@ -653,11 +681,11 @@ impl<'a> Ctx<'a> {
                     if ri < BAND.0 || ri > BAND.1 {
                         continue;
                     }
-                    for k in nearest_values(v, gain * (ri + rs.0), 2) {
+                    for k in bracket(v, gain * (ri + rs.0)) {
                         local.push((i, k, (v[k] / (ri + rs.0) / gain - 1.0).abs()));
                     }
                 }
-                local.sort_by(|x, y| x.2.total_cmp(&y.2));
+                keep_best(&mut local, PAIRS_PER_RATIO);
                 for (i, k, _) in local.into_iter().take(PAIRS_PER_RATIO) {
                     ri_rf.push((i, k));
                 }
@@ -667,7 +695,7 @@ impl<'a> Ctx<'a> {
                             if c >= 0.0 {
                                 return Vec::new();
                             }
-                            for ro in nearest_values(v, v[rf] * vsrc / (-c), 2) {
+                            for ro in bracket(v, v[rf] * vsrc / (-c)) {
                                 raw.push((map(&[("ri", ri), ("rf", rf), ("ro", ro)]), None));
                             }
                         }
@@ -690,11 +718,11 @@ impl<'a> Ctx<'a> {
                     if r1 < BAND.0 || r1 > BAND.1 {
                         continue;
                     }
-                    for k in nearest_values(v, a * (r1 + rs.1), 2) {
+                    for k in bracket(v, a * (r1 + rs.1)) {
                         local.push((i, k, (v[k] / (r1 + rs.1) / a - 1.0).abs()));
                     }
                 }
-                local.sort_by(|x, y| x.2.total_cmp(&y.2));
+                keep_best(&mut local, PAIRS_PER_RATIO);
                 let divs = if how == Some(OffsetHow::RefDivider) {
                     dividers(c)
                 } else {
