@@ -779,7 +779,17 @@ impl Model {
             });
         }
 
-        let findings = feasibility(need, stock, design, &built, &mut solver, &xs, &netlist);
+        let output_adjoint = lambda.clone();
+        let findings = feasibility(
+            need,
+            stock,
+            design,
+            &built,
+            &mut solver,
+            &xs,
+            &netlist,
+            output_adjoint,
+        );
         let cold = need.accuracy.temp_min.0 - 25.0;
         let hot = need.accuracy.temp_max.0 - 25.0;
         let cold_ratio = if dt > 0.0 {
@@ -1412,6 +1422,7 @@ fn inverse_normal(p: f64) -> f64 {
     }
 }
 
+#[allow(clippy::too_many_arguments)]
 fn feasibility(
     need: &Need,
     stock: &Stock,
@@ -1420,6 +1431,7 @@ fn feasibility(
     solver: &mut Solver,
     xs: &[Vec<f64>; 2],
     netlist: &Netlist,
+    output_adjoint: Vec<f64>,
 ) -> Vec<RawFinding> {
     let mut out = Vec::new();
     let pos = need.supply.positive.0;
@@ -1441,6 +1453,9 @@ fn feasibility(
             numbers: [span, lo, hi, 0.0],
         });
     }
+    let mut adjoints: std::collections::BTreeMap<usize, Vec<f64>> =
+        std::collections::BTreeMap::new();
+    adjoints.insert(built.out, output_adjoint);
     for sec in &built.sections {
         let (il, ih, ol, oh, gbw_hz) = match sec.kind {
             AmplifierKind::OpAmp(i) => {
@@ -1502,17 +1517,26 @@ fn feasibility(
             ok: omin >= sw_lo - 1e-9 && omax <= sw_hi + 1e-9,
             numbers: [omin, omax, sw_lo, sw_hi],
         });
-        // Noise gain of this section: its output per volt of its own offset.
-        let mut mu = vec![0.0; solver.size()];
-        if let Some(i) = solver.node_unknown(sec.out) {
-            mu[i] = 1.0;
-        }
-        solver.solve_transposed_in_place(&mut mu);
-        let ng = solver
-            .branch_unknown(sec.vos)
-            .map(|i| mu[i].abs())
-            .unwrap_or(1.0)
-            .max(1.0);
+        // Noise gain of this section: its output per volt of its own offset,
+        // from the adjoint of its output node (one solve per distinct
+        // output node; a follower's is 1 without solving).
+        let ng = if sec.minus == sec.out && matches!(sec.kind, AmplifierKind::OpAmp(_)) {
+            1.0
+        } else {
+            let mu = adjoints.entry(sec.out).or_insert_with(|| {
+                let mut mu = vec![0.0; solver.size()];
+                if let Some(i) = solver.node_unknown(sec.out) {
+                    mu[i] = 1.0;
+                }
+                solver.solve_transposed_in_place(&mut mu);
+                mu
+            });
+            solver
+                .branch_unknown(sec.vos)
+                .map(|i| mu[i].abs())
+                .unwrap_or(1.0)
+                .max(1.0)
+        };
         let needed = 10.0 * need.accuracy.bandwidth.0;
         let closed = gbw_hz / ng;
         out.push(RawFinding {

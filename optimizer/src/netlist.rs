@@ -62,29 +62,36 @@ pub struct Netlist {
     pub node_names: Vec<String>,
     /// Elements in insertion order.
     pub elements: Vec<Element>,
+    /// Node names to indices (kept by [`Netlist::node`]).
+    index: std::collections::HashMap<String, Node>,
 }
 
 impl Netlist {
     /// An empty netlist with only the ground node.
     pub fn new() -> Self {
+        let mut index = std::collections::HashMap::new();
+        index.insert("0".to_string(), 0);
         Netlist {
             node_names: vec!["0".to_string()],
             elements: Vec::new(),
+            index,
         }
     }
 
     /// The node of this name, created if new.
     pub fn node(&mut self, name: &str) -> Node {
-        if let Some(i) = self.node_names.iter().position(|n| n == name) {
+        if let Some(&i) = self.index.get(name) {
             return i;
         }
         self.node_names.push(name.to_string());
-        self.node_names.len() - 1
+        let i = self.node_names.len() - 1;
+        self.index.insert(name.to_string(), i);
+        i
     }
 
     /// The node of this name, if it exists.
     pub fn find_node(&self, name: &str) -> Option<Node> {
-        self.node_names.iter().position(|n| n == name)
+        self.index.get(name).copied()
     }
 
     /// Add an element; returns its index.
