@@ -184,7 +184,15 @@ fn grades(stock: &Stock) -> Vec<Grade> {
     for (i, r) in stock.resistors.iter().enumerate() {
         let key = match &r.family {
             Some(f) => format!("family:{f}"),
-            None => format!("single:{}:{}", r.tolerance.0, r.tcr.0),
+            // Rows held in limited quantity form a grade apart from rows
+            // that can be had in any number, so a design short of one can
+            // fall back on the other.
+            None => format!(
+                "single:{}:{}:{}",
+                r.tolerance.0,
+                r.tcr.0,
+                r.stock_qty.is_some()
+            ),
         };
         map.entry(key).or_default().push(i);
     }
@@ -1018,7 +1026,7 @@ fn enumerate_groups(
     if need.supply.positive.0 > 0.0 {
         sources.push((Source::Supply, need.supply.positive.0, 0.0));
     }
-    for r in &stock.references {
+    for r in stock.references.iter().filter(|r| r.stock_qty != Some(0)) {
         sources.push((Source::Reference(r.part_id.clone()), r.volts.0, r.unit_cost));
     }
     let mut groups = Vec::new();
@@ -1151,11 +1159,21 @@ fn enumerate_groups(
                         let mut packages = 0;
                         if let Some(o) = opamp {
                             let ch = stock.opamps[o].channels.max(1) as usize;
-                            packages += sections.div_ceil(ch);
+                            let needed = sections.div_ceil(ch);
+                            if stock.opamps[o]
+                                .stock_qty
+                                .is_some_and(|q| (q as usize) < needed)
+                            {
+                                continue;
+                            }
+                            packages += needed;
                             fixed_cost += packages as f64 * stock.opamps[o].unit_cost;
                             fixed_lines += 1;
                         }
                         if let Some(i) = inamp {
+                            if stock.inamps[i].stock_qty == Some(0) {
+                                continue;
+                            }
                             packages += 1;
                             fixed_cost += stock.inamps[i].unit_cost;
                             fixed_lines += 1;
@@ -1569,6 +1587,22 @@ fn pick(
         model = model.with(sum.clone().leq(allowed[end]));
         model = model.with(sum.geq(-allowed[end]));
     }
+    // Stock quantities: no part used more often than the shelf holds.
+    let mut uses: BTreeMap<usize, Expression> = BTreeMap::new();
+    for (s, slot) in choices.iter().enumerate() {
+        for c in 0..slot.len() {
+            for part in &parts[s][c] {
+                if ctx.stock.resistors[*part].stock_qty.is_some() {
+                    *uses.entry(*part).or_insert_with(|| Expression::from(0.0)) += z[s][c];
+                }
+            }
+        }
+    }
+    for (part, used) in uses {
+        if let Some(qty) = ctx.stock.resistors[part].stock_qty {
+            model = model.with(used.leq(qty as f64));
+        }
+    }
     for cut in cuts {
         let sum: Expression = cut
             .iter()
@@ -1633,8 +1667,37 @@ fn all_choices(
     Some(out)
 }
 
+/// Whether a built design uses no part more often than the stock holds.
+fn within_stock(stock: &Stock, built: &Built) -> bool {
+    let mut used: BTreeMap<&str, u32> = BTreeMap::new();
+    for r in &built.resistors {
+        *used.entry(r.part.part_id.as_str()).or_default() += 1;
+    }
+    for p in &built.packages {
+        *used.entry(p.part_id.as_str()).or_default() += 1;
+    }
+    for s in &built.sources {
+        if let Source::Reference(id) = &s.source {
+            *used.entry(id.as_str()).or_default() += 1;
+        }
+    }
+    used.iter().all(|(id, &n)| {
+        let qty = stock
+            .resistor(id)
+            .map(|p| p.stock_qty)
+            .or_else(|| stock.opamp(id).map(|p| p.stock_qty))
+            .or_else(|| stock.inamp(id).map(|p| p.stock_qty))
+            .or_else(|| stock.reference(id).map(|p| p.stock_qty))
+            .flatten();
+        qty.is_none_or(|q| n <= q)
+    })
+}
+
 fn verify(ctx: &Ctx<'_>, design: Design) -> Option<Candidate> {
     let model = Model::new(ctx.need, ctx.stock, &design).ok()?;
+    if !within_stock(ctx.stock, model.built()) {
+        return None;
+    }
     let builds = if ctx.need.accuracy.basis == Basis::Yield {
         20_000
     } else {

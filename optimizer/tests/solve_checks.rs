@@ -30,14 +30,13 @@
 //! prints the numbers of every design. ngspice must be on PATH; when it is
 //! not, these tests fail with a message saying so (they never skip).
 
+mod common;
+use common::ngspice::run_ngspice;
 use spanfit::analysis::Line;
 use spanfit::design::Shape;
 use spanfit::need::{parse_need, Calibration, Need};
 use spanfit::search::{solve, Candidate, Progress, SolveControl, SolveOutcome};
 use spanfit::stock::{parse_stock, Stock};
-use std::path::PathBuf;
-use std::process::Command;
-use std::sync::atomic::{AtomicUsize, Ordering};
 use std::time::Instant;
 
 /// Relative tolerance of the comparison with ngspice (as in
@@ -50,85 +49,6 @@ const ERROR_SLACK_V: f64 = 1e-6;
 /// Half an E96 step (IEC 60063: the E96 series steps by 10^(1/96)).
 fn half_e96_step() -> f64 {
     10f64.powf(1.0 / 192.0) - 1.0
-}
-
-static RUN: AtomicUsize = AtomicUsize::new(0);
-
-/// The ngspice binary on PATH, or a failure that says what to install.
-fn ngspice() -> PathBuf {
-    let path = std::env::var_os("PATH").unwrap_or_default();
-    for dir in std::env::split_paths(&path) {
-        let candidate = dir.join("ngspice");
-        if candidate.is_file() {
-            return candidate;
-        }
-    }
-    panic!(
-        "ngspice is not on PATH. These checks run every design the optimiser returns in \
-         ngspice (Debian package `ngspice`: apt-get install -y ngspice). They are not \
-         skipped on purpose."
-    );
-}
-
-/// Run a deck in `ngspice -b` in a fresh temporary folder; the output at
-/// the low and the high end of the span, as the deck's `.control` block
-/// prints them.
-fn run_ngspice(deck: &str, tag: &str) -> [f64; 2] {
-    let bin = ngspice();
-    let n = RUN.fetch_add(1, Ordering::SeqCst);
-    let dir = std::env::temp_dir().join(format!(
-        "spanfit-solve-checks-{}-{n}-{tag}",
-        std::process::id()
-    ));
-    std::fs::create_dir_all(&dir)
-        .unwrap_or_else(|e| panic!("cannot create {}: {e}", dir.display()));
-    let file = dir.join("deck.cir");
-    std::fs::write(&file, deck).unwrap_or_else(|e| panic!("cannot write {}: {e}", file.display()));
-    let out = Command::new(&bin)
-        .arg("-b")
-        .arg(&file)
-        .current_dir(&dir)
-        .output()
-        .unwrap_or_else(|e| panic!("cannot run {}: {e}", bin.display()));
-    let stdout = String::from_utf8_lossy(&out.stdout).to_string();
-    let stderr = String::from_utf8_lossy(&out.stderr).to_string();
-    // SPANFIT_KEEP_DECKS=1 keeps the folders for inspection.
-    if std::env::var_os("SPANFIT_KEEP_DECKS").is_none() {
-        let _ = std::fs::remove_dir_all(&dir);
-    }
-    assert!(
-        out.status.success(),
-        "ngspice failed on {tag} ({}):\n{stdout}\n{stderr}\n--- deck ---\n{deck}",
-        out.status
-    );
-    for bad in ["singular matrix", "Error", "error:"] {
-        assert!(
-            !stdout.contains(bad) && !stderr.contains(bad),
-            "ngspice reported `{bad}` on {tag}:\n{stdout}\n{stderr}\n--- deck ---\n{deck}"
-        );
-    }
-    let read = |name: &str| -> f64 {
-        let prefix = format!("{name} = ");
-        let values: Vec<f64> = stdout
-            .lines()
-            .filter_map(|l| l.trim().strip_prefix(&prefix))
-            .map(|v| {
-                v.trim()
-                    .parse::<f64>()
-                    .unwrap_or_else(|e| panic!("{tag}: `{name} = {v}` is not a number: {e}"))
-            })
-            .collect();
-        assert_eq!(
-            values.len(),
-            1,
-            "{tag}: expected one `{name}` line in:\n{stdout}\n{stderr}"
-        );
-        values[0]
-    };
-    [
-        read(spanfit::spice::OUT_LOW_NAME),
-        read(spanfit::spice::OUT_HIGH_NAME),
-    ]
 }
 
 /// Relative mismatch of `a` against `b`, with the absolute floor.
