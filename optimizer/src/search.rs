@@ -529,7 +529,9 @@ const SCREEN_SLACK: f64 = 1.15;
 /// Loosening of the MILP's linearised error bound (see `run`).
 const LINEAR_SLACK: f64 = 1.25;
 /// Most picks cut off in one structure before it is given up.
-const MAX_CUTS: usize = 40;
+const MAX_CUTS: usize = 60;
+/// Most picks analysed in full in one structure before it is given up.
+const MAX_ANALYSED: usize = 16;
 
 struct Ctx<'a> {
     need: &'a Need,
@@ -1990,7 +1992,7 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
         let constant_abs = [missed[0] + aol[0], missed[1] + aol[1]];
         let mut cuts: Vec<Vec<usize>> = Vec::new();
         let mut analysed = 0;
-        while cuts.len() < MAX_CUTS && analysed < 6 {
+        while cuts.len() < MAX_CUTS && analysed < MAX_ANALYSED {
             milp_solves += 1;
             // The MILP bound is loosened by the linearisation's own error
             // (a stage gain error times the others'); the exact closed-form
@@ -2148,7 +2150,39 @@ fn explain(
     suggest: bool,
 ) -> Infeasibility {
     let target = need.accuracy.max_error_pct_fs;
-    let (binding, best_error, largest) = match &d.best {
+    // The best error this stock can reach: a search for the most accurate
+    // design, whatever its cost (the cost search screens out the accurate
+    // but dear structures before analysing them).
+    // It is searched over the best resistor grade on the shelf only, which
+    // keeps it to a fraction of the cost search's structures.
+    let most_accurate = if suggest {
+        let mut n = need.clone();
+        n.search.objective = Objective::Error;
+        n.accuracy.max_error_pct_fs = 100.0;
+        n.search.time_limit_ms = need.search.time_limit_ms.min(1000);
+        let best_grade = stock
+            .resistors
+            .iter()
+            .map(|r| (r.tolerance.0, r.tcr.0))
+            .reduce(|a, b| if (b.0, b.1) < (a.0, a.1) { b } else { a });
+        let mut precise = stock.clone();
+        if let Some((tol, tcr)) = best_grade {
+            precise
+                .resistors
+                .retain(|r| r.tolerance.0 == tol && r.tcr.0 == tcr);
+        }
+        solve_inner(&n, &precise, false, control, false)
+            .ok()
+            .and_then(|o| o.best)
+    } else {
+        None
+    };
+    let best_known = match (&d.best, most_accurate) {
+        (Some(b), Some(m)) if m.analysis.basis_pct_fs < b.analysis.basis_pct_fs => Some(m),
+        (Some(b), _) => Some(b.clone()),
+        (None, m) => m,
+    };
+    let (binding, best_error, largest) = match &best_known {
         Some(b) => {
             let e = b.analysis.basis_pct_fs;
             let mut lines: Vec<(String, f64)> = b
@@ -2227,6 +2261,50 @@ fn explain(
                 ),
                 n,
             ));
+        }
+        if need.supply.negative.0 == 0.0 && need.supply.positive.0 > 0.0 {
+            let mut n = need.clone();
+            n.supply.negative = crate::units::Volts(-need.supply.positive.0);
+            tries.push((
+                format!(
+                    "add a negative rail: negative_v = {}",
+                    -need.supply.positive.0
+                ),
+                n,
+            ));
+        }
+        // Stock the search did not use for want of a grade: every resistor
+        // at the best tolerance and TCR the stock offers.
+        if let (Some(tol), Some(tcr)) = (
+            stock
+                .resistors
+                .iter()
+                .map(|r| r.tolerance.0)
+                .reduce(f64::min),
+            stock.resistors.iter().map(|r| r.tcr.0).reduce(f64::min),
+        ) {
+            if stock
+                .resistors
+                .iter()
+                .any(|r| r.tolerance.0 > tol || r.tcr.0 > tcr)
+            {
+                let mut tighter = stock.clone();
+                for r in &mut tighter.resistors {
+                    r.tolerance = crate::units::Percent(tol);
+                    r.tcr = crate::units::PpmPerC(tcr);
+                }
+                if let Ok(o) = solve_inner(need, &tighter, false, control, false) {
+                    if let Some(b) = o.best {
+                        suggestions.push(Suggestion {
+                            change: format!(
+                                "stock every resistor value of the design in the best grade on the shelf ({tol} %, {tcr} ppm/degC)"
+                            ),
+                            cost: b.costing.total,
+                            error_pct_fs: b.analysis.basis_pct_fs,
+                        });
+                    }
+                }
+            }
         }
         for (change, n) in tries {
             if let Ok(o) = solve_inner(&n, stock, false, control, false) {
