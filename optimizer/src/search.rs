@@ -1700,6 +1700,11 @@ fn within_stock(stock: &Stock, built: &Built) -> bool {
 
 fn verify(ctx: &Ctx<'_>, design: Design) -> Option<Candidate> {
     let model = Model::new(ctx.need, ctx.stock, &design).ok()?;
+    verify_model(ctx, design, model)
+}
+
+/// The full report of a design whose model is built already.
+fn verify_model(ctx: &Ctx<'_>, design: Design, model: Model) -> Option<Candidate> {
     if !within_stock(ctx.stock, model.built()) {
         return None;
     }
@@ -2022,7 +2027,26 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
                 continue;
             }
             analysed += 1;
-            let Some(c) = verify(ctx, ctx.design(g, &st.grades, &picks)) else {
+            // The first-order total of the pick's own model first: a pick
+            // that misses by it is cut without the corner solves of a full
+            // report (the worst case is never below the first-order sum).
+            let design = ctx.design(g, &st.grades, &picks);
+            let Ok(pick_model) = Model::new(ctx.need, ctx.stock, &design) else {
+                cuts.push(sel);
+                continue;
+            };
+            let first_order = {
+                let r =
+                    pick_model.random_at_ends(ctx.need.accuracy.basis, ctx.need.accuracy.yield_pct);
+                let sys = pick_model.systematic_at_ends();
+                (r[0] + sys[0]).max(r[1] + sys[1])
+            };
+            let quick_miss = ctx.need.accuracy.basis != Basis::Yield && first_order > ctx.target_v;
+            if !pick_model.feasible() || quick_miss {
+                cuts.push(sel);
+                continue;
+            }
+            let Some(c) = verify_model(ctx, design, pick_model) else {
                 cuts.push(sel);
                 continue;
             };
