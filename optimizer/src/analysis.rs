@@ -12,7 +12,7 @@
 //! the full netlist at its extreme corner. Finite open-loop gain and the
 //! rounding of values are exact systematic terms.
 
-use crate::design::{Design, Shape};
+use crate::design::Design;
 use crate::error::{Error, Result};
 use crate::mna::Solver;
 use crate::montecarlo::{wilson_interval, Rng};
@@ -780,16 +780,7 @@ impl Model {
         }
 
         let output_adjoint = lambda.clone();
-        let findings = feasibility(
-            need,
-            stock,
-            design,
-            &built,
-            &mut solver,
-            &xs,
-            &netlist,
-            output_adjoint,
-        );
+        let findings = feasibility(need, stock, &built, &mut solver, &xs, output_adjoint);
         let cold = need.accuracy.temp_min.0 - 25.0;
         let hot = need.accuracy.temp_max.0 - 25.0;
         let cold_ratio = if dt > 0.0 {
@@ -1422,25 +1413,30 @@ fn inverse_normal(p: f64) -> f64 {
     }
 }
 
-#[allow(clippy::too_many_arguments)]
 fn feasibility(
     need: &Need,
     stock: &Stock,
-    design: &Design,
     built: &Built,
     solver: &mut Solver,
     xs: &[Vec<f64>; 2],
-    netlist: &Netlist,
     output_adjoint: Vec<f64>,
 ) -> Vec<RawFinding> {
     let mut out = Vec::new();
     let pos = need.supply.positive.0;
     let neg = need.supply.negative.0;
     let span = pos - neg;
-    let node_map: Vec<Option<usize>> = (0..netlist.node_names.len())
+    let node_map: Vec<Option<usize>> = (0..built.netlist.node_names.len())
         .map(|n| solver.node_unknown(n))
         .collect();
     let volt = |x: &[f64], node: usize| node_map[node].map(|i| x[i]).unwrap_or(0.0);
+    // Lowest and highest voltage of these nodes at both span ends.
+    let span_of = |nodes: &[usize]| {
+        xs.iter()
+            .flat_map(|x| nodes.iter().map(move |&n| volt(x, n)))
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
+                (lo.min(v), hi.max(v))
+            })
+    };
     for pkg in &built.packages {
         let (lo, hi) = match pkg.kind {
             AmplifierKind::OpAmp(i) => (stock.opamps[i].supply_min.0, stock.opamps[i].supply_max.0),
@@ -1484,15 +1480,7 @@ fn feasibility(
         if matches!(sec.kind, AmplifierKind::InAmp(_)) {
             inputs.push(sec.minus);
         }
-        let mut vmin = f64::INFINITY;
-        let mut vmax = f64::NEG_INFINITY;
-        for x in xs {
-            for &n in &inputs {
-                let v = volt(x, n);
-                vmin = vmin.min(v);
-                vmax = vmax.max(v);
-            }
-        }
+        let (vmin, vmax) = span_of(&inputs);
         out.push(RawFinding {
             check: "input common mode",
             subject: sec.designator.clone(),
@@ -1502,15 +1490,7 @@ fn feasibility(
         let (sw_lo, sw_hi) = (neg + ol, pos - oh);
         let mut nodes = vec![sec.out];
         nodes.extend(&sec.internal_outputs);
-        let mut omin = f64::INFINITY;
-        let mut omax = f64::NEG_INFINITY;
-        for x in xs {
-            for &n in &nodes {
-                let v = volt(x, n);
-                omin = omin.min(v);
-                omax = omax.max(v);
-            }
-        }
+        let (omin, omax) = span_of(&nodes);
         out.push(RawFinding {
             check: "output swing",
             subject: sec.designator.clone(),
@@ -1565,7 +1545,6 @@ fn feasibility(
         ok: parts <= need.search.max_parts,
         numbers: [parts as f64, need.search.max_parts as f64, 0.0, 0.0],
     });
-    let _ = (design, netlist);
     out
 }
 
@@ -1598,9 +1577,4 @@ pub fn analyze(
     };
     let report = model.report(need, builds, seed)?;
     Ok((model, report))
-}
-
-#[allow(dead_code)]
-fn _shape_used(s: Shape) -> bool {
-    s.sections() > 0
 }

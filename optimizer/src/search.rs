@@ -440,27 +440,17 @@ fn ratio_pairs(
     band: (f64, f64),
     keep: usize,
 ) -> Vec<(usize, usize, f64)> {
-    let mut best: Vec<(usize, usize, f64)> = Vec::new();
     if !(ratio.is_finite() && ratio > 0.0) {
-        return best;
+        return Vec::new();
     }
-    for (i, &x) in values.iter().enumerate() {
-        if x < band.0 || x > band.1 {
-            continue;
-        }
-        let target = x * ratio;
-        let j = values.partition_point(|&v| v < target);
-        for k in [j.wrapping_sub(1), j] {
-            if k >= values.len() {
-                continue;
-            }
-            let err = (values[k] / x / ratio - 1.0).abs();
-            best.push((i, k, err));
-        }
-    }
-    // Only the best few matter: select them, then order them (the
-    // dedupe below may need a few spares).
-    keep_best(&mut best, keep * 4);
+    // The dedupe below may need a few spares.
+    let best = bracketed_pairs(
+        values,
+        band,
+        keep * 4,
+        |x| x * ratio,
+        |x, y| (y / x / ratio - 1.0).abs(),
+    );
     let mut out: Vec<(usize, usize, f64)> = Vec::new();
     for b in best {
         if out
@@ -488,6 +478,29 @@ fn bracket(values: &[f64], target: f64) -> impl Iterator<Item = usize> {
     };
     let n = if ok { values.len() } else { 0 };
     [j.wrapping_sub(1), j].into_iter().filter(move |&k| k < n)
+}
+
+/// Pairs `(base, partner, error)` from one sorted value list: for every
+/// base value inside `band`, the two values bracketing `partner_for(base)`,
+/// scored by `error(base, partner)`; the `keep` best, best first.
+fn bracketed_pairs(
+    values: &[f64],
+    band: (f64, f64),
+    keep: usize,
+    partner_for: impl Fn(f64) -> f64,
+    error: impl Fn(f64, f64) -> f64,
+) -> Vec<(usize, usize, f64)> {
+    let mut out = Vec::new();
+    for (i, &x) in values.iter().enumerate() {
+        if x < band.0 || x > band.1 {
+            continue;
+        }
+        for k in bracket(values, partner_for(x)) {
+            out.push((i, k, error(x, values[k])));
+        }
+    }
+    keep_best(&mut out, keep);
+    out
 }
 
 /// Keep the `k` entries of lowest error (third field), in order, ties by
@@ -616,6 +629,22 @@ impl<'a> Ctx<'a> {
         let map = |items: &[(&str, usize)]| -> BTreeMap<String, usize> {
             items.iter().map(|(k, i)| (k.to_string(), *i)).collect()
         };
+        // A REF-pin stage takes each network with every divider for its
+        // offset, or alone when the REF pin is grounded.
+        let ref_dividers = if how == Some(OffsetHow::RefDivider) {
+            dividers(c)
+        } else {
+            Vec::new()
+        };
+        let with_ref = |raw: &mut Vec<RawChoice>, m: BTreeMap<String, usize>| {
+            if how == Some(OffsetHow::RefDivider) {
+                for &d in &ref_dividers {
+                    raw.push((m.clone(), Some(d)));
+                }
+            } else {
+                raw.push((m, None));
+            }
+        };
         match shape {
             Shape::NonInverting => {
                 if a <= 1.0 {
@@ -627,19 +656,14 @@ impl<'a> Ctx<'a> {
                         for (t, b) in dividers(vth) {
                             let rth = vd[t] * vd[b] / (vd[t] + vd[b]);
                             // rf over the band, rg from the folded leg.
-                            let mut local: Vec<(usize, usize, f64)> = Vec::new();
-                            for (i, &rf) in v.iter().enumerate() {
-                                if rf < BAND.0 || rf > BAND.1 * 10.0 {
-                                    continue;
-                                }
-                                let rg = rf / (a - 1.0) - rth;
-                                for k in bracket(v, rg) {
-                                    let err = ((v[k] + rth) / (rf / (a - 1.0)) - 1.0).abs();
-                                    local.push((i, k, err));
-                                }
-                            }
-                            keep_best(&mut local, PAIRS_PER_RATIO);
-                            for (i, k, _) in local.into_iter().take(PAIRS_PER_RATIO) {
+                            let legs = bracketed_pairs(
+                                v,
+                                (BAND.0, BAND.1 * 10.0),
+                                PAIRS_PER_RATIO,
+                                |rf| rf / (a - 1.0) - rth,
+                                |rf, rg| ((rg + rth) / (rf / (a - 1.0)) - 1.0).abs(),
+                            );
+                            for (i, k, _) in legs {
                                 raw.push((map(&[("rf", i), ("rg", k)]), Some((t, b))));
                             }
                         }
@@ -662,22 +686,14 @@ impl<'a> Ctx<'a> {
                 }
                 // ri' / ro = (1 - alpha) / alpha, with ri' = ri + rs.
                 let ratio_ri_ro = (1.0 - alpha) / alpha;
-                let mut ri_ro: Vec<(usize, usize)> = Vec::new();
-                let mut local: Vec<(usize, usize, f64)> = Vec::new();
-                for (o, &ro) in v.iter().enumerate() {
-                    if ro < BAND.0 || ro > BAND.1 {
-                        continue;
-                    }
-                    let ri = ro * ratio_ri_ro - rs.0;
-                    for k in bracket(v, ri) {
-                        local.push((k, o, (((v[k] + rs.0) / ro) / ratio_ri_ro - 1.0).abs()));
-                    }
-                }
-                keep_best(&mut local, PAIRS_PER_RATIO);
-                for (k, o, _) in local.into_iter().take(PAIRS_PER_RATIO) {
-                    ri_ro.push((k, o));
-                }
-                for (ri, ro) in ri_ro {
+                let ri_ro = bracketed_pairs(
+                    v,
+                    BAND,
+                    PAIRS_PER_RATIO,
+                    |ro| ro * ratio_ri_ro - rs.0,
+                    |ro, ri| (((ri + rs.0) / ro) / ratio_ri_ro - 1.0).abs(),
+                );
+                for (ro, ri, _) in ri_ro {
                     for (rg, rf, _) in pairs(gain - 1.0) {
                         raw.push((map(&[("ri", ri), ("ro", ro), ("rg", rg), ("rf", rf)]), None));
                     }
@@ -688,21 +704,14 @@ impl<'a> Ctx<'a> {
                     return Vec::new();
                 }
                 let gain = -a;
-                let mut ri_rf: Vec<(usize, usize)> = Vec::new();
-                let mut local: Vec<(usize, usize, f64)> = Vec::new();
-                for (i, &ri) in v.iter().enumerate() {
-                    if ri < BAND.0 || ri > BAND.1 {
-                        continue;
-                    }
-                    for k in bracket(v, gain * (ri + rs.0)) {
-                        local.push((i, k, (v[k] / (ri + rs.0) / gain - 1.0).abs()));
-                    }
-                }
-                keep_best(&mut local, PAIRS_PER_RATIO);
-                for (i, k, _) in local.into_iter().take(PAIRS_PER_RATIO) {
-                    ri_rf.push((i, k));
-                }
-                for (ri, rf) in ri_rf {
+                let ri_rf = bracketed_pairs(
+                    v,
+                    BAND,
+                    PAIRS_PER_RATIO,
+                    |ri| gain * (ri + rs.0),
+                    |ri, rf| (rf / (ri + rs.0) / gain - 1.0).abs(),
+                );
+                for (ri, rf, _) in ri_rf {
                     match how {
                         Some(OffsetHow::InvertingRo) => {
                             if c >= 0.0 {
@@ -726,30 +735,16 @@ impl<'a> Ctx<'a> {
                 if a <= 0.0 {
                     return Vec::new();
                 }
-                let mut local: Vec<(usize, usize, f64)> = Vec::new();
-                for (i, &r1) in v.iter().enumerate() {
-                    if r1 < BAND.0 || r1 > BAND.1 {
-                        continue;
-                    }
-                    for k in bracket(v, a * (r1 + rs.1)) {
-                        local.push((i, k, (v[k] / (r1 + rs.1) / a - 1.0).abs()));
-                    }
-                }
-                keep_best(&mut local, PAIRS_PER_RATIO);
-                let divs = if how == Some(OffsetHow::RefDivider) {
-                    dividers(c)
-                } else {
-                    Vec::new()
-                };
-                for (r1, r2, _) in local.into_iter().take(PAIRS_PER_RATIO) {
+                let r1_r2 = bracketed_pairs(
+                    v,
+                    BAND,
+                    PAIRS_PER_RATIO,
+                    |r1| a * (r1 + rs.1),
+                    |r1, r2| (r2 / (r1 + rs.1) / a - 1.0).abs(),
+                );
+                for (r1, r2, _) in r1_r2 {
                     let m = map(&[("r1", r1), ("r2", r2), ("r3", r1), ("r4", r2)]);
-                    if how == Some(OffsetHow::RefDivider) {
-                        for &d in &divs {
-                            raw.push((m.clone(), Some(d)));
-                        }
-                    } else {
-                        raw.push((m, None));
-                    }
+                    with_ref(&mut raw, m);
                 }
             }
             Shape::InstrumentationDiscrete => {
@@ -759,11 +754,6 @@ impl<'a> Ctx<'a> {
                 let unity = nearest_values(v, 10_000.0, 1);
                 let Some(&u) = unity.first() else {
                     return Vec::new();
-                };
-                let divs = if how == Some(OffsetHow::RefDivider) {
-                    dividers(c)
-                } else {
-                    Vec::new()
                 };
                 for (rg, rf, _) in pairs((a - 1.0) / 2.0) {
                     let m = map(&[
@@ -775,33 +765,15 @@ impl<'a> Ctx<'a> {
                         ("r3", u),
                         ("r4", u),
                     ]);
-                    if how == Some(OffsetHow::RefDivider) {
-                        for &d in &divs {
-                            raw.push((m.clone(), Some(d)));
-                        }
-                    } else {
-                        raw.push((m, None));
-                    }
+                    with_ref(&mut raw, m);
                 }
             }
             Shape::InstrumentationIntegrated => {
                 if a <= 1.0 || rk <= 0.0 {
                     return Vec::new();
                 }
-                let divs = if how == Some(OffsetHow::RefDivider) {
-                    dividers(c)
-                } else {
-                    Vec::new()
-                };
                 for rg in nearest_values(v, rk / (a - 1.0), 4) {
-                    let m = map(&[("rg", rg)]);
-                    if how == Some(OffsetHow::RefDivider) {
-                        for &d in &divs {
-                            raw.push((m.clone(), Some(d)));
-                        }
-                    } else {
-                        raw.push((m, None));
-                    }
+                    with_ref(&mut raw, map(&[("rg", rg)]));
                 }
             }
         }
@@ -1779,8 +1751,7 @@ impl Diagnosis {
         }
     }
 
-    fn note(&mut self, c: &Candidate, objective: Objective) {
-        let _ = objective;
+    fn note(&mut self, c: &Candidate) {
         if !c.analysis.feasible {
             self.note_findings(&c.analysis.findings);
             return;
@@ -1890,7 +1861,7 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
                     .collect();
                 if let Some(c) = verify(ctx, ctx.design(g, &st.grades, &picks)) {
                     evaluated += 1;
-                    diagnosis.note(&c, objective);
+                    diagnosis.note(&c);
                     if c.analysis.meets_target {
                         if best.as_ref().is_none_or(|b| better(objective, &c, b)) {
                             best = Some(c.clone());
@@ -1945,14 +1916,17 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
         let random = model.random_at_ends(ctx.need.accuracy.basis, ctx.need.accuracy.yield_pct);
         let sys = model.systematic_at_ends();
         let quick = (random[0] + sys[0]).max(random[1] + sys[1]);
+        let aol = model.open_loop_gain_error();
+        let rounding = model.rounding_error();
         let ref_cost = costing(model.built(), ctx.need.search.bom_line_cost).total;
         let could_win = best
             .as_ref()
             .is_none_or(|b| ref_cost < b.costing.total + 1e-12);
         let worth_explaining = diagnosis.best_error_v.is_none_or(|e| quick < e);
         if (quick <= ctx.target_v * 1.0 && could_win) || (best.is_none() && worth_explaining) {
-            if let Some(reference) = verify(ctx, reference_design.clone()) {
-                diagnosis.note(&reference, objective);
+            // The reference's model is reported as it is, not built again.
+            if let Some(reference) = verify_model(ctx, reference_design, model) {
+                diagnosis.note(&reference);
                 if reference.analysis.meets_target {
                     if best
                         .as_ref()
@@ -1964,7 +1938,6 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
                 }
             }
         }
-        let aol = model.open_loop_gain_error();
         // The random part is the reference's; other value sets of the
         // structure move it (other ratios, other impedances), so the bound
         // on the nominal error allows it to be smaller by RANDOM_SPREAD.
@@ -1980,7 +1953,6 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
         // sensor's resistance where it is not in a closed form) is taken from
         // the reference: its netlist rounding less its closed-form rounding;
         // with the finite-gain error it is the MILP's constant term.
-        let rounding = model.rounding_error();
         let cal = ctx.need.accuracy.calibration;
         let closed_form = |picks: &[&Choice]| -> [f64; 2] {
             let (mut k_real, mut b_real) = (1.0, 0.0);
@@ -2051,7 +2023,7 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
                 continue;
             };
             evaluated += 1;
-            diagnosis.note(&c, objective);
+            diagnosis.note(&c);
             if c.analysis.meets_target {
                 if best.as_ref().is_none_or(|b| better(objective, &c, b)) {
                     best = Some(c.clone());
@@ -2061,9 +2033,6 @@ fn run(ctx: &Ctx<'_>, exhaustive: bool, control: &mut SolveControl<'_>) -> RunRe
             }
             cuts.push(sel);
         }
-    }
-    if exhaustive && (control.now_ms)() - start > limit * 1000.0 {
-        proven = false;
     }
     let elapsed_ms = (control.now_ms)() - start;
     RunResult {
