@@ -1,4 +1,4 @@
-//! The search timing tables for the README (DESIGN.md section 5), printed
+//! The search timing tables for the README (its Performance section), printed
 //! as markdown:
 //!
 //! 1. the demo solve as shipped (bar: proven optimum under 100 ms);

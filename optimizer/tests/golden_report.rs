@@ -8,7 +8,7 @@
 //! UPDATE_EXPECT=1 cargo test -p spanfit-optimizer --test golden_report
 //! ```
 //!
-//! Beside the golden file, the contract of DESIGN.md section 4 is checked
+//! Beside the golden file, the contract of `docs/report.md` is checked
 //! field by field (so a refresh cannot drop a contract field unnoticed),
 //! and the report's own invariants: part prices add up to the parts cost,
 //! op-amp sections are parts named as their `VOS_<ref>` sources, budget
@@ -112,7 +112,7 @@ fn design_object_keys_are_pinned() {
     }
 }
 
-/// The fields DESIGN.md section 4 names, each with the kind it must have.
+/// The fields `docs/report.md` names, each with the kind it must have.
 #[test]
 fn design_object_holds_the_contract_fields() {
     let (need, stock, c) = demo();

@@ -469,8 +469,8 @@ fn loop_on_split_rails_with_demo_stock_matches_op_amp_limits() {
     }
 }
 
-/// DESIGN.md section 4: an infeasible need gets "the binding reason:
-/// which limit, by how much". Here the limit is the op-amp output swing
+/// `docs/report.md`: an infeasible need gets the binding reason (which
+/// limit, by how much). Here the limit is the op-amp output swing
 /// (by the stock rows, as in the check above), so the reason must name it.
 #[test]
 fn loop_infeasibility_names_the_output_swing() {
