@@ -42,13 +42,13 @@ fn code(o: &Output) -> i32 {
 fn scratch(test: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("spanfit-cli-{}-{test}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::create_dir_all(&dir).expect("the scratch folder can be made");
     dir
 }
 
 /// The demo need with one piece of text replaced (the piece must be there).
 fn demo_need_with(from: &str, to: &str) -> String {
-    let text = std::fs::read_to_string(example("demo-need.toml")).unwrap();
+    let text = std::fs::read_to_string(example("demo-need.toml")).expect("the demo need reads");
     assert!(text.contains(from), "the demo need has no `{from}`");
     text.replacen(from, to, 1)
 }

@@ -15,6 +15,9 @@
 //! difference stage with its REF pin on a 1.25 V reference, then two
 //! non-inverting stages whose offsets come from buffered dividers.
 
+// A benchmark binary: it prints what it measured.
+#![allow(clippy::print_stderr)]
+
 use criterion::{black_box, criterion_group, criterion_main, Criterion};
 use spanfit::analysis::Model;
 use spanfit::design::{parse_design, Design};

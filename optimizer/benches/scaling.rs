@@ -19,6 +19,15 @@
 //! `SPANFIT_BENCH_RUNS=<n>` sets the runs per optimised cell (default 7);
 //! exhaustive cells run 3 times.
 
+// A benchmark binary: it reads the clock and the environment and prints
+// its tables.
+#![allow(
+    clippy::disallowed_methods,
+    clippy::disallowed_types,
+    clippy::print_stdout,
+    clippy::print_stderr
+)]
+
 mod common;
 
 use spanfit::need::Need;

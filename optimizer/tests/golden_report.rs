@@ -15,6 +15,10 @@
 //! lines agree in % FS, LSB and the sensor's unit, and `file` reads back
 //! as the same design.
 
+// The golden file is read (and, with UPDATE_EXPECT=1, written), and the
+// checked-in demo inputs are known good: a failed unwrap is a failed test.
+#![allow(clippy::disallowed_methods, clippy::unwrap_used)]
+
 use serde_json::Value;
 use spanfit::design::parse_design;
 use spanfit::need::{parse_need, Need};

@@ -21,6 +21,10 @@
 //! ngspice must be on PATH: when it is not, these tests fail with a
 //! message saying so (CI installs it); they never skip silently.
 
+// The cross-check prints what ngspice found for each case (shown with
+// --nocapture).
+#![allow(clippy::print_stdout)]
+
 mod common;
 use common::ngspice::run_ngspice;
 use spanfit::analysis::analyze;

@@ -30,6 +30,14 @@
 //! prints the numbers of every design. ngspice must be on PATH; when it is
 //! not, these tests fail with a message saying so (they never skip).
 
+// These checks time the search and print the numbers of every design they
+// check (shown with --nocapture), besides running ngspice.
+#![allow(
+    clippy::disallowed_methods,
+    clippy::disallowed_types,
+    clippy::print_stdout
+)]
+
 mod common;
 use common::ngspice::run_ngspice;
 use spanfit::analysis::Line;
