@@ -1,6 +1,6 @@
 //! The `spanfit` binary as a user runs it: verbs, exit codes (0 with a
 //! design, 1 when none meets the need, 2 on bad input), the JSON fields of
-//! DESIGN.md section 4, and the export files.
+//! the report (`docs/report.md`), and the export files.
 //!
 //! Inputs are the checked-in examples (`examples/demo-need.toml`,
 //! `examples/demo-design.json`, whose stock path points at
@@ -42,13 +42,13 @@ fn code(o: &Output) -> i32 {
 fn scratch(test: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("spanfit-cli-{}-{test}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::create_dir_all(&dir).expect("the scratch folder can be made");
     dir
 }
 
 /// The demo need with one piece of text replaced (the piece must be there).
 fn demo_need_with(from: &str, to: &str) -> String {
-    let text = std::fs::read_to_string(example("demo-need.toml")).unwrap();
+    let text = std::fs::read_to_string(example("demo-need.toml")).expect("the demo need reads");
     assert!(text.contains(from), "the demo need has no `{from}`");
     text.replacen(from, to, 1)
 }
@@ -68,7 +68,7 @@ fn json(o: &Output) -> Value {
     })
 }
 
-/// The fields DESIGN.md section 4 promises in a design object.
+/// The fields `docs/report.md` promises in a design object.
 fn assert_contract_design(d: &Value) {
     assert!(d["topology"].is_string(), "topology: {}", d["topology"]);
     assert!(!d["stages"].as_array().expect("stages[]").is_empty());

@@ -1,4 +1,4 @@
-//! Criterion benchmarks of the optimiser (DESIGN.md section 5 bars):
+//! Criterion benchmarks of the optimiser (the README's performance bars):
 //!
 //! - `demo_solve`: the demo need against the demo stock, as shipped
 //!   (bar: proven optimum in under 100 ms, native release);

@@ -1,6 +1,6 @@
 //! SPICE export: the netlist of a design as a deck that runs unmodified in
-//! ngspice batch mode (`ngspice -b FILE`), under the contract of DESIGN.md
-//! section 4.
+//! ngspice batch mode (`ngspice -b FILE`), under the contract documented
+//! in `docs/spice.md`.
 //!
 //! The deck is a straight copy of the [`Netlist`] the analysis solves:
 //! every element keeps its name (`R3`, `VSENSE`, `VOS_U1A`, ...) and its

@@ -6,7 +6,7 @@
 //! ngspice in a temporary folder. The output at both ends of the sensor
 //! span must match the core's MNA result (`analysis::analyze` ->
 //! `transfer.output_at_ends_v`) within 1e-6 relative. Then each explicit
-//! error source of the DESIGN.md section 4 contract is moved in the deck
+//! error source of the netlist contract (`docs/spice.md`) is moved in the deck
 //! text (`VOS_<ref>` to 1 mV, `IBP_<ref>`/`IBN_<ref>` to 1 uA, each
 //! `VREF_<ref>`/`VSUP` by +10 mV), and the output shift ngspice reports
 //! must match the core netlist solved with the same change
@@ -20,6 +20,10 @@
 //!
 //! ngspice must be on PATH: when it is not, these tests fail with a
 //! message saying so (CI installs it); they never skip silently.
+
+// The cross-check prints what ngspice found for each case (shown with
+// --nocapture).
+#![allow(clippy::print_stdout)]
 
 mod common;
 use common::ngspice::run_ngspice;
@@ -170,7 +174,7 @@ fn cross_check(name: &str, spec: &NeedSpec, stages: &[String]) -> Outcome {
     let deck = spanfit::spice::export(&need, &stock, &design)
         .unwrap_or_else(|e| panic!("{name}: export failed: {e}"));
 
-    // The naming contract of DESIGN.md section 4, on the text itself.
+    // The naming contract of `docs/spice.md`, on the text itself.
     let has_line = |prefix: &str| deck.lines().any(|l| l.starts_with(prefix));
     assert!(has_line("VSENSE inp "), "{name}: no VSENSE element\n{deck}");
     assert_eq!(

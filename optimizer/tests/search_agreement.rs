@@ -49,7 +49,9 @@ fn need_text(differential: bool, span_mv: f64, high_v: f64, err: f64, stages: us
     )
 }
 
-fn run(need: &spanfit::need::Need, exhaustive: bool) -> Option<f64> {
+/// The cost of the best design (if any) and the number of designs the
+/// search analysed in full.
+fn run_counted(need: &spanfit::need::Need, exhaustive: bool) -> (Option<f64>, u64) {
     let stock = parse_stock(&small_stock()).expect("stock parses");
     let clock = || 0.0;
     let mut progress = |_p: Progress| true;
@@ -58,7 +60,15 @@ fn run(need: &spanfit::need::Need, exhaustive: bool) -> Option<f64> {
         now_ms: &clock,
     };
     let outcome = solve(need, &stock, exhaustive, &mut control).expect("search runs");
-    outcome.best.map(|b| b.costing.total)
+    (
+        outcome.best.map(|b| b.costing.total),
+        outcome.stats.evaluated,
+    )
+}
+
+/// The cost of the best design, if any.
+fn run(need: &spanfit::need::Need, exhaustive: bool) -> Option<f64> {
+    run_counted(need, exhaustive).0
 }
 
 proptest! {
@@ -90,29 +100,37 @@ proptest! {
 }
 
 /// A need that has designs: both modes find one, at the same cost, and the
-/// optimiser evaluates far fewer designs.
+/// optimiser analyses fewer designs in full than the exhaustive mode.
 #[test]
 fn feasible_case_agrees() {
     for (differential, stages) in [(false, 1), (false, 2), (true, 1), (true, 2)] {
         let text = need_text(differential, 100.0, 3.0, 3.0, stages);
         let need = spanfit::need::parse_need(text.as_bytes(), "case.toml").expect("need parses");
-        let fast = run(&need, false);
-        let full = run(&need, true);
+        let (fast, fast_evaluated) = run_counted(&need, false);
+        let (full, full_evaluated) = run_counted(&need, true);
         assert!(fast.is_some(), "optimiser found no design for\n{text}");
         assert_eq!(
             fast.map(|c| (c * 1e9).round()),
             full.map(|c| (c * 1e9).round()),
             "{text}"
         );
+        assert!(
+            fast_evaluated < full_evaluated,
+            "the optimiser analysed {fast_evaluated} designs, the exhaustive mode \
+             {full_evaluated}, for\n{text}"
+        );
     }
 }
 
 /// Cases where the two modes once disagreed (found by the property test
-/// with other seeds): optima at the edge of the target, reached only by
-/// value sets whose errors cancel across stages.
+/// with other seeds; all single-ended, two stages): optima at the edge of
+/// the target, reached only by value sets whose errors cancel across
+/// stages. The property test keeps no failure file (its seed is fixed), so
+/// every such case lives here.
 #[test]
 fn former_disagreements_agree() {
     for (span_mv, high_v, err) in [
+        (140.754_258_498_921_67, 4.096, 1.5),
         (133.937_810_854_299_87, 4.096, 0.6),
         (133.937_810_854_299_87, 3.0, 0.6),
         (68.176_384_646_760_35, 3.0, 1.5),

@@ -30,6 +30,14 @@
 //! prints the numbers of every design. ngspice must be on PATH; when it is
 //! not, these tests fail with a message saying so (they never skip).
 
+// These checks time the search and print the numbers of every design they
+// check (shown with --nocapture), besides running ngspice.
+#![allow(
+    clippy::disallowed_methods,
+    clippy::disallowed_types,
+    clippy::print_stdout
+)]
+
 mod common;
 use common::ngspice::run_ngspice;
 use spanfit::analysis::Line;
@@ -469,8 +477,8 @@ fn loop_on_split_rails_with_demo_stock_matches_op_amp_limits() {
     }
 }
 
-/// DESIGN.md section 4: an infeasible need gets "the binding reason:
-/// which limit, by how much". Here the limit is the op-amp output swing
+/// `docs/report.md`: an infeasible need gets the binding reason (which
+/// limit, by how much). Here the limit is the op-amp output swing
 /// (by the stock rows, as in the check above), so the reason must name it.
 #[test]
 fn loop_infeasibility_names_the_output_swing() {

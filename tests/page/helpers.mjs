@@ -113,7 +113,7 @@ export async function shot(page, name) {
   return path;
 }
 
-// The CLI's answer for the demo need: the object of DESIGN.md section 4.
+// The CLI's answer for the demo need: the report object of docs/report.md.
 let cliDemo = null;
 export function cliDemoJson() {
   if (cliDemo) return cliDemo;

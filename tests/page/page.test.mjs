@@ -7,7 +7,7 @@ import { launch, openPage, serveDist, shot, unexpected } from './helpers.mjs';
 
 const CAUTION = 'This designs low-voltage signal conditioning only; it does not design isolation, protection against mains or high-voltage faults, or intrinsic safety; follow the applicable standards, local codes and licensed practice, and verify on the bench before use.';
 
-// Every key of DESIGN.md section 3 (need), by table.
+// Every key of the need file (docs/need.md), by table.
 const NEED_KEYS = {
   sensor: ['label', 'signal_low_v', 'signal_high_v', 'quantity_low', 'quantity_high', 'quantity_unit', 'output', 'common_mode_v', 'source_ohms'],
   adc: ['low_v', 'high_v', 'bits', 'margin_pct'],

@@ -47,7 +47,7 @@ fn demo_need_parses_and_gives_the_ideal_transfer() {
         "a small-span sensor needs gain above 1, got {gain}"
     );
     assert!(low < high, "target window {low}..{high}");
-    // The gain spans the target window over the sensor span (DESIGN.md 2).
+    // The gain spans the target window over the sensor span (docs/need.md, "What the reader derives").
     let keys: serde_json::Value =
         serde_json::from_str(&need_keys(&demo_need(), "demo.toml").unwrap()).unwrap();
     let span = keys["sensor"]["signal_high_v"].as_f64().unwrap()

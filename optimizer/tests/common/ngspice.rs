@@ -1,6 +1,9 @@
 //! Running ngspice (Debian package `ngspice`, batch mode) on a deck that
 //! spanfit exported, shared by the cross-check tests.
 
+// Tests run ngspice: they write decks to files and start a process.
+#![allow(clippy::disallowed_methods, clippy::disallowed_types)]
+
 use std::path::PathBuf;
 use std::process::Command;
 use std::sync::atomic::{AtomicUsize, Ordering};
