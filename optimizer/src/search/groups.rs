@@ -4,66 +4,13 @@
 
 use super::Problem;
 use crate::design::{Shape, Source};
-use crate::need::{Basis, Calibration, Need, SensorOutput, Topology};
+use crate::need::{Basis, Calibration, Need, SensorOutput};
+use crate::shape::OffsetNetwork;
 use crate::stock::Stock;
 
 /// Screening slack: a group or structure is dropped only when its estimate
 /// exceeds the target by more than this factor.
 pub(super) const SCREEN_SLACK: f64 = 1.15;
-
-/// How the offset of an offset-carrying stage is made.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub(super) enum OffsetNetwork {
-    /// Non-inverting: unbuffered divider at the bottom of the gain leg.
-    GainLeg,
-    /// Summed at the + input through `ro` straight from the source.
-    Summed,
-    /// Inverting: `ro` from the source into the summing node.
-    InvertingRo,
-    /// Inverting: unbuffered divider biasing the + input.
-    InvertingBias,
-    /// REF node (difference, instrumentation) from a buffered divider.
-    RefDivider,
-}
-
-impl OffsetNetwork {
-    /// Whether the network places a divider (two resistors whose grade is
-    /// the structure's divider slot).
-    pub(super) fn has_divider(self) -> bool {
-        matches!(
-            self,
-            OffsetNetwork::GainLeg | OffsetNetwork::InvertingBias | OffsetNetwork::RefDivider
-        )
-    }
-
-    /// Resistors the network adds to its stage.
-    fn extra_resistors(self) -> usize {
-        match self {
-            OffsetNetwork::GainLeg | OffsetNetwork::InvertingBias | OffsetNetwork::RefDivider => 2,
-            OffsetNetwork::Summed => 0,
-            OffsetNetwork::InvertingRo => 1,
-        }
-    }
-
-    /// The network a shape uses for a stage offset `c` (volts at its
-    /// output), if it can make one of that sign.
-    pub(super) fn for_shape(shape: Shape, c: f64) -> Option<OffsetNetwork> {
-        match shape {
-            Shape::NonInverting if c < 0.0 => Some(OffsetNetwork::GainLeg),
-            Shape::NonInvertingSummed if c > 0.0 => Some(OffsetNetwork::Summed),
-            Shape::Inverting if c < 0.0 => Some(OffsetNetwork::InvertingRo),
-            Shape::Inverting if c > 0.0 => Some(OffsetNetwork::InvertingBias),
-            Shape::Difference
-            | Shape::InstrumentationDiscrete
-            | Shape::InstrumentationIntegrated
-                if c > 0.0 =>
-            {
-                Some(OffsetNetwork::RefDivider)
-            }
-            _ => None,
-        }
-    }
-}
 
 /// A source an offset can be taken from.
 #[derive(Debug, Clone, PartialEq)]
@@ -143,34 +90,19 @@ impl Rejections {
     }
 }
 
-/// The shapes a stage may take: the first stage sees the sensor.
+/// The shapes a stage may take, in registration order: the first stage
+/// sees the sensor; an in-amp stage needs an in-amp on the shelf.
 fn shapes_for(need: &Need, stock: &Stock, first: bool) -> Vec<Shape> {
-    let allowed = |t: Topology| need.search.topologies.contains(&t);
-    let mut out = Vec::new();
     let differential = need.sensor.output == SensorOutput::Differential;
-    if first && differential {
-        if allowed(Topology::Difference) {
-            out.push(Shape::Difference);
-        }
-        if allowed(Topology::Instrumentation) {
-            out.push(Shape::InstrumentationDiscrete);
-            if !stock.inamps.is_empty() {
-                out.push(Shape::InstrumentationIntegrated);
-            }
-        }
-        return out;
-    }
-    if allowed(Topology::NonInverting) {
-        out.push(Shape::NonInverting);
-        out.push(Shape::NonInvertingSummed);
-    }
-    if allowed(Topology::Inverting) {
-        out.push(Shape::Inverting);
-    }
-    if first && allowed(Topology::Difference) {
-        out.push(Shape::Difference);
-    }
-    out
+    Shape::ALL
+        .iter()
+        .copied()
+        .filter(|shape| {
+            need.search.topologies.contains(&shape.topology())
+                && shape.behaviour().may_take_stage(first, differential)
+                && !(shape.integrated() && stock.inamps.is_empty())
+        })
+        .collect()
 }
 
 /// The gain splits tried for `n` stages of the given signs: fractions of
@@ -265,7 +197,7 @@ fn offset_plan_sets(
         for (stage, &shape) in shapes.iter().enumerate() {
             let down: f64 = gains[stage + 1..].iter().product();
             let c = b / down;
-            if let Some(network) = OffsetNetwork::for_shape(shape, c) {
+            if let Some(network) = shape.offset_network(c) {
                 for from in sources {
                     let mut offsets = vec![0.0; shapes.len()];
                     offsets[stage] = c;
@@ -283,7 +215,7 @@ fn offset_plan_sets(
                 if c.abs() < 1e-9 {
                     Some(None)
                 } else {
-                    OffsetNetwork::for_shape(shape, c).map(Some)
+                    shape.offset_network(c).map(Some)
                 }
             })
             .collect();
@@ -333,14 +265,7 @@ fn resistors_per_stage(shapes: &[Shape], plans: &[OffsetPlan]) -> Vec<usize> {
         .iter()
         .enumerate()
         .map(|(i, s)| {
-            let base = match s {
-                Shape::NonInverting => 2,
-                Shape::NonInvertingSummed => 4,
-                Shape::Inverting => 2,
-                Shape::Difference => 4,
-                Shape::InstrumentationDiscrete => 7,
-                Shape::InstrumentationIntegrated => 1,
-            };
+            let base = s.resistor_count();
             let extra = plans
                 .iter()
                 .find(|p| p.stage == i)
@@ -360,10 +285,7 @@ pub(super) fn enumerate_groups(problem: &Problem<'_>, rejections: &mut Rejection
     let sources = offset_sources(need, stock);
     let mut groups = Vec::new();
     for shapes in shape_sequences(need, stock) {
-        let signs: Vec<f64> = shapes
-            .iter()
-            .map(|s| if *s == Shape::Inverting { -1.0 } else { 1.0 })
-            .collect();
+        let signs: Vec<f64> = shapes.iter().map(|s| s.sign()).collect();
         let sign: f64 = signs.iter().product();
         if sign * k <= 0.0 {
             continue;
@@ -401,16 +323,12 @@ fn groups_with_parts(
 ) {
     let stock = problem.stock;
     let opamp_sections: usize = frame.shapes.iter().map(|s| s.sections()).sum();
-    let inamps: Vec<Option<usize>> = if frame.shapes.contains(&Shape::InstrumentationIntegrated) {
+    let inamps: Vec<Option<usize>> = if frame.shapes.iter().any(|s| s.integrated()) {
         (0..stock.inamps.len()).map(Some).collect()
     } else {
         vec![None]
     };
-    let buffer_sections = frame
-        .plans
-        .iter()
-        .filter(|p| p.network == OffsetNetwork::RefDivider)
-        .count();
+    let buffer_sections = frame.plans.iter().filter(|p| p.network.buffered()).count();
     let sections = opamp_sections + buffer_sections;
     let opamps: Vec<Option<usize>> = if sections == 0 {
         vec![None]
@@ -524,7 +442,7 @@ fn stage_amplifier(
 ) -> Option<(String, f64, f64, f64, f64)> {
     let pos = problem.need.supply.positive.0;
     let neg = problem.need.supply.negative.0;
-    if shape == Shape::InstrumentationIntegrated {
+    if shape.integrated() {
         let p = &problem.stock.inamps[group.inamp?];
         Some((
             p.part_id.clone(),
@@ -599,7 +517,7 @@ fn amplifier_floor(problem: &Problem<'_>, group: &Group) -> f64 {
     for (i, &shape) in group.shapes.iter().enumerate() {
         let a = group.gains[i].abs();
         let down: f64 = group.gains[i + 1..].iter().map(|x| x.abs()).product();
-        let (vos, drift) = if shape == Shape::InstrumentationIntegrated {
+        let (vos, drift) = if shape.integrated() {
             match group.inamp.map(|x| &problem.stock.inamps[x]) {
                 Some(p) => (p.input_offset_uv * 1e-6, p.offset_drift_uv_per_c * 1e-6),
                 None => (0.0, 0.0),
@@ -610,10 +528,7 @@ fn amplifier_floor(problem: &Problem<'_>, group: &Group) -> f64 {
                 None => (0.0, 0.0),
             }
         };
-        let noise_gain = match shape {
-            Shape::Inverting | Shape::Difference => 1.0 + a,
-            _ => a.max(1.0),
-        };
+        let noise_gain = shape.noise_gain(a);
         let per_volt = noise_gain * down;
         let mut terms = vec![drift * dt * per_volt];
         if !calibrated {

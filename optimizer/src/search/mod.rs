@@ -29,6 +29,7 @@ mod explain;
 mod groups;
 mod milp;
 mod pareto;
+pub(crate) mod ratio;
 mod strategy;
 mod structures;
 mod value_sets;
