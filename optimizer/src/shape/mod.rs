@@ -462,7 +462,10 @@ impl Shape {
 }
 
 #[cfg(test)]
-mod tests {
+mod tests;
+
+#[cfg(test)]
+mod names {
     use super::*;
 
     #[test]
