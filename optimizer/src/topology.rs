@@ -383,9 +383,9 @@ impl<'a> Builder<'a> {
                             "a buffered divider on an in-amp stage needs a `buffer` op-amp part",
                         )
                     })?;
-                    let b = self.netlist.node(&format!("s{}{}b", stage + 1, what));
-                    self.section(stage, part, tap, b, b);
-                    Ok(b)
+                    let buffered_node = self.netlist.node(&format!("s{}{}b", stage + 1, what));
+                    self.section(stage, part, tap, buffered_node, buffered_node);
+                    Ok(buffered_node)
                 } else {
                     Ok(tap)
                 }
@@ -404,7 +404,7 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
     if design.stages.is_empty() {
         return Err(Error::design("a design needs at least one stage"));
     }
-    let mut b = Builder {
+    let mut builder = Builder {
         need,
         stock,
         netlist: Netlist::new(),
@@ -418,17 +418,19 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
         open_packages: BTreeMap::new(),
     };
     // The sensor.
-    let inp = b.netlist.node("inp");
+    let inp = builder.netlist.node("inp");
     let differential = need.sensor.output == SensorOutput::Differential;
     let (vsense, vcm, inn) = if differential {
-        let inn = b.netlist.node("inn");
-        let vs = b
+        let inn = builder.netlist.node("inn");
+        let vs = builder
             .netlist
             .vsource("VSENSE", inp, inn, need.sensor.signal_low.0);
-        let vcm = b.netlist.vsource("VCM", inn, 0, need.sensor.common_mode.0);
+        let vcm = builder
+            .netlist
+            .vsource("VCM", inn, 0, need.sensor.common_mode.0);
         (vs, Some(vcm), inn)
     } else {
-        let vs = b
+        let vs = builder
             .netlist
             .vsource("VSENSE", inp, 0, need.sensor.signal_low.0);
         (vs, None, 0)
@@ -436,14 +438,14 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
     let mut source_resistors = Vec::new();
     let rs = need.sensor.source.0;
     let (sp, sn) = if rs > 0.0 {
-        let sp = b.netlist.node("sp");
+        let sp = builder.netlist.node("sp");
         if differential {
-            let sn = b.netlist.node("sn");
-            source_resistors.push(b.netlist.resistor("RSENSE_P", inp, sp, rs));
-            source_resistors.push(b.netlist.resistor("RSENSE_N", inn, sn, rs));
+            let sn = builder.netlist.node("sn");
+            source_resistors.push(builder.netlist.resistor("RSENSE_P", inp, sp, rs));
+            source_resistors.push(builder.netlist.resistor("RSENSE_N", inn, sn, rs));
             (sp, sn)
         } else {
-            source_resistors.push(b.netlist.resistor("RSENSE", inp, sp, rs));
+            source_resistors.push(builder.netlist.resistor("RSENSE", inp, sp, rs));
             (sp, 0)
         }
     } else {
@@ -452,39 +454,39 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
     let last = design.stages.len() - 1;
     let mut vin = (sp, sn);
     let mut stage_outputs = Vec::new();
-    for (i, st) in design.stages.iter().enumerate() {
-        if i == 0 && differential && !st.shape.differential_input() {
+    for (i, stage) in design.stages.iter().enumerate() {
+        if i == 0 && differential && !stage.shape.differential_input() {
             return Err(Error::design(format!(
                 "the sensor is differential, so the first stage must be a difference or instrumentation stage, not {}",
-                st.shape.name()
+                stage.shape.name()
             )));
         }
         let out = if i == last {
-            b.netlist.node("out")
+            builder.netlist.node("out")
         } else {
-            b.netlist.node(&format!("s{}o", i + 1))
+            builder.netlist.node(&format!("s{}o", i + 1))
         };
         let nodes = StageNodes {
             plus: vin.0,
             minus: vin.1,
             out,
         };
-        b.stage(i, st, nodes)?;
+        builder.stage(i, stage, nodes)?;
         stage_outputs.push(out);
         vin = (out, 0);
     }
     let out = *stage_outputs.last().unwrap_or(&0);
     Ok(Built {
-        netlist: b.netlist,
+        netlist: builder.netlist,
         out,
         vsense,
         vcm,
-        resistors: b.resistors,
+        resistors: builder.resistors,
         source_resistors,
-        internal_resistors: b.internal_resistors,
-        sections: b.sections,
-        packages: b.packages,
-        sources: b.sources,
+        internal_resistors: builder.internal_resistors,
+        sections: builder.sections,
+        packages: builder.packages,
+        sources: builder.sources,
         stage_outputs,
     })
 }

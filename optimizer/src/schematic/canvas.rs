@@ -78,8 +78,8 @@ impl Canvas {
     }
 
     /// Text; `anchor` is `start`, `middle` or `end`.
-    pub(crate) fn text(&mut self, x: f64, y: f64, anchor: &str, class: &str, s: &str) {
-        let width = 6.3 * s.chars().count() as f64;
+    pub(crate) fn text(&mut self, x: f64, y: f64, anchor: &str, class: &str, content: &str) {
+        let width = 6.3 * content.chars().count() as f64;
         let right = match anchor {
             "start" => x + width,
             "middle" => x + width / 2.0,
@@ -91,7 +91,7 @@ impl Canvas {
             "<text x=\"{}\" y=\"{}\" text-anchor=\"{anchor}\" class=\"{class}\">{}</text>",
             num(x),
             num(y),
-            xml_escape(s)
+            xml_escape(content)
         );
     }
 
@@ -128,7 +128,7 @@ impl Canvas {
     /// A node label: a tag with the netlist node name at the end of a
     /// short stub from `(x, y)` towards `side`.
     pub(crate) fn tag(&mut self, x: f64, y: f64, name: &str, side: Side) {
-        let w = 6.0 * name.chars().count() as f64 + 10.0;
+        let width = 6.0 * name.chars().count() as f64 + 10.0;
         let (sx, sy) = match side {
             Side::Below => (x, y + 10.0),
             Side::Above => (x, y - 10.0),
@@ -137,20 +137,20 @@ impl Canvas {
         };
         self.wire(&[(x, y), (sx, sy)]);
         let (rx, ry) = match side {
-            Side::Below => (sx - w / 2.0, sy),
-            Side::Above => (sx - w / 2.0, sy - 14.0),
+            Side::Below => (sx - width / 2.0, sy),
+            Side::Above => (sx - width / 2.0, sy - 14.0),
             Side::Right => (sx, sy - 7.0),
-            Side::Left => (sx - w, sy - 7.0),
+            Side::Left => (sx - width, sy - 7.0),
         };
         let _ = writeln!(
             self.body,
             "<rect class=\"tag\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"14\" rx=\"7\"/>",
             num(rx),
             num(ry),
-            num(w)
+            num(width)
         );
-        self.extend(rx + w, ry + 14.0);
-        self.text(rx + w / 2.0, ry + 10.5, "middle", "node", name);
+        self.extend(rx + width, ry + 14.0);
+        self.text(rx + width / 2.0, ry + 10.5, "middle", "node", name);
     }
 
     /// A small node name written beside a wire.
@@ -244,11 +244,11 @@ impl Canvas {
         x: f64,
         y1: f64,
         y2: f64,
-        s: &Labelled,
+        labelled: &Labelled,
         lines: &[String],
         side: Side,
     ) {
-        self.open_part(&s.designator, &s.hover);
+        self.open_part(&labelled.designator, &labelled.hover);
         let cy = (y1 + y2) / 2.0;
         self.wire(&[(x, y1), (x, cy - 14.0)]);
         self.wire(&[(x, cy + 14.0), (x, y2)]);
@@ -265,7 +265,7 @@ impl Canvas {
         } else {
             (x + 20.0, "start")
         };
-        let mut all = vec![s.label.clone()];
+        let mut all = vec![labelled.label.clone()];
         all.extend(lines.iter().cloned());
         let top = cy - 6.0 * (all.len() as f64 - 1.0) + 4.0;
         for (i, l) in all.iter().enumerate() {

@@ -450,7 +450,7 @@ pub fn svg(built: &Built, design: &Design, title: &str) -> String {
     let mut nets = Vec::new();
     let mut prev: Option<(f64, f64)> = None;
     let last = design.stages.len().saturating_sub(1);
-    for (i, st) in design.stages.iter().enumerate() {
+    for (i, stage) in design.stages.iter().enumerate() {
         if let Some((px, py)) = prev {
             let mx = px + GAP / 2.0;
             canvas.wire(&[(px, py), (mx, py), (mx, Y0), (x, Y0)]);
@@ -464,9 +464,9 @@ pub fn svg(built: &Built, design: &Design, title: &str) -> String {
             40.0,
             "start",
             "stage",
-            &format!("stage {}: {}", i + 1, st.shape.name()),
+            &format!("stage {}: {}", i + 1, stage.shape.name()),
         );
-        let outline = st.shape.behaviour().draw(&mut canvas, &sheet, i, x, out);
+        let outline = stage.shape.behaviour().draw(&mut canvas, &sheet, i, x, out);
         collect_networks(&sheet, i, &mut nets);
         if i == last {
             canvas.tag(
@@ -491,8 +491,14 @@ pub fn svg(built: &Built, design: &Design, title: &str) -> String {
     for k in 0..built.sources.len() {
         bx = draw_source(&mut canvas, &sheet, k, bx, ny) + 20.0;
     }
-    // Anything a template did not place (a role it does not know) is still
-    // listed, so no part goes missing from the drawing.
+    list_undrawn(&mut canvas, &sheet);
+    document(&canvas, title)
+}
+
+/// Anything a template did not place (a role it does not know) is still
+/// listed, so no part goes missing from the drawing; then the footnote.
+fn list_undrawn(canvas: &mut Canvas, sheet: &Sheet<'_>) {
+    let built = sheet.built;
     let mut missing: Vec<String> = Vec::new();
     for r in &built.resistors {
         if !canvas.drawn.contains(&r.designator) {
@@ -525,6 +531,10 @@ pub fn svg(built: &Built, design: &Design, title: &str) -> String {
         "sub",
         "Drawn by spanfit from the design's netlist. Error sources (VOS_, IBP_, IBN_) are in the SPICE export, not drawn.",
     );
+}
+
+/// The SVG document around a drawn canvas.
+fn document(canvas: &Canvas, title: &str) -> String {
     let width = (canvas.max_x + 30.0).ceil();
     let height = (canvas.max_y + 20.0).ceil();
     let mut s = String::new();

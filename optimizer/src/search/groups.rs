@@ -135,7 +135,7 @@ fn shape_sequences(need: &Need, stock: &Stock) -> Vec<Vec<Shape>> {
     let firsts = shapes_for(need, stock, true);
     let laters = shapes_for(need, stock, false);
     for n in 1..=need.search.max_stages.clamp(1, 3) {
-        let mut partial: Vec<Vec<Shape>> = firsts.iter().map(|s| vec![*s]).collect();
+        let mut partial: Vec<Vec<Shape>> = firsts.iter().map(|shape| vec![*shape]).collect();
         for _ in 1..n {
             let mut next = Vec::new();
             for sequence in &partial {
@@ -264,8 +264,8 @@ fn resistors_per_stage(shapes: &[Shape], plans: &[OffsetPlan]) -> Vec<usize> {
     shapes
         .iter()
         .enumerate()
-        .map(|(i, s)| {
-            let base = s.resistor_count();
+        .map(|(i, shape)| {
+            let base = shape.resistor_count();
             let extra = plans
                 .iter()
                 .find(|p| p.stage == i)
@@ -285,7 +285,7 @@ pub(super) fn enumerate_groups(problem: &Problem<'_>, rejections: &mut Rejection
     let sources = offset_sources(need, stock);
     let mut groups = Vec::new();
     for shapes in shape_sequences(need, stock) {
-        let signs: Vec<f64> = shapes.iter().map(|s| s.sign()).collect();
+        let signs: Vec<f64> = shapes.iter().map(|shape| shape.sign()).collect();
         let sign: f64 = signs.iter().product();
         if sign * k <= 0.0 {
             continue;
@@ -322,8 +322,8 @@ fn groups_with_parts(
     groups: &mut Vec<Group>,
 ) {
     let stock = problem.stock;
-    let opamp_sections: usize = frame.shapes.iter().map(|s| s.sections()).sum();
-    let inamps: Vec<Option<usize>> = if frame.shapes.iter().any(|s| s.integrated()) {
+    let opamp_sections: usize = frame.shapes.iter().map(|shape| shape.sections()).sum();
+    let inamps: Vec<Option<usize>> = if frame.shapes.iter().any(|shape| shape.integrated()) {
         (0..stock.inamps.len()).map(Some).collect()
     } else {
         vec![None]

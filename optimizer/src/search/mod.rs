@@ -123,9 +123,9 @@ pub fn costing(built: &Built, bom_line_cost: f64) -> Costing {
         parts_cost += p.unit_cost;
         ids.insert(format!("u:{}", p.part_id));
     }
-    for s in &built.sources {
-        if let (Some(_), Source::Reference(id)) = (s.reference, &s.source) {
-            parts_cost += s.unit_cost;
+    for source in &built.sources {
+        if let (Some(_), Source::Reference(id)) = (source.reference, &source.source) {
+            parts_cost += source.unit_cost;
             ids.insert(format!("v:{id}"));
         }
     }

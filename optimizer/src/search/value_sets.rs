@@ -7,7 +7,7 @@ use super::groups::{Group, OffsetPlan};
 use super::structures::{Grade, Structure};
 use super::Problem;
 use crate::design::{Design, Injection, Resistor, Stage};
-use crate::shape::{OffsetNetwork, Role, StageDrive, ValueSetRequest};
+use crate::shape::{offset_drive, OffsetNetwork, Role, StageDrive, StageShape, ValueSetRequest};
 use std::collections::BTreeMap;
 
 /// Value sets kept per stage.
@@ -46,116 +46,76 @@ impl ValueSet {
     }
 }
 
+/// What scoring a stage's value sets needs besides the sets.
+struct StageScoring<'s> {
+    behaviour: &'static dyn StageShape,
+    grade: &'s Grade,
+    divider_grade: &'s Grade,
+    /// Target stage gain and output offset.
+    gain: f64,
+    offset: f64,
+    network: Option<OffsetNetwork>,
+    source_volts: f64,
+    sensor_ohms: (f64, f64),
+    inamp_gain_ohms: f64,
+    /// The stage's (+, -) inputs at both span ends.
+    inputs: [(f64, f64); 2],
+    /// Gain after the stage.
+    gain_after: f64,
+    /// Offsets made upstream of the stage, as they reach the output.
+    upstream_offset: f64,
+    /// The need's overall gain.
+    overall_gain: f64,
+}
+
 impl Problem<'_> {
-    /// Generate value sets for one stage of a group in a grade.
+    /// The value sets of one stage of a group in a grade, best first: the
+    /// shape's candidates scored by their linearised effect at the output.
     pub(super) fn value_sets_for_stage(
         &self,
         group: &Group,
         stage: usize,
         grade: &Grade,
         divider_grade: &Grade,
-        prev_ideal: [f64; 2],
+        previous_ideal: [f64; 2],
     ) -> Vec<ValueSet> {
-        let shape = group.shapes[stage];
-        let a = group.gains[stage];
-        let c = group.offsets[stage];
         let plan = group.plan(stage);
-        let how = plan.map(|p| p.network);
-        let vsrc = plan.map(|p| p.volts).unwrap_or(0.0);
-        let rk = group
-            .inamp
-            .map(|i| self.stock.inamps[i].gain_resistor.0)
-            .unwrap_or(0.0);
-        let behaviour = shape.behaviour();
+        let scoring = StageScoring {
+            behaviour: group.shapes[stage].behaviour(),
+            grade,
+            divider_grade,
+            gain: group.gains[stage],
+            offset: group.offsets[stage],
+            network: plan.map(|p| p.network),
+            source_volts: plan.map(|p| p.volts).unwrap_or(0.0),
+            sensor_ohms: self.sensor_ohms(stage),
+            inamp_gain_ohms: group
+                .inamp
+                .map(|i| self.stock.inamps[i].gain_resistor.0)
+                .unwrap_or(0.0),
+            inputs: self.stage_inputs(stage, previous_ideal),
+            gain_after: group.gains[stage + 1..].iter().product(),
+            upstream_offset: (0..stage)
+                .map(|i| group.offsets[i] * group.gains[i + 1..].iter().product::<f64>())
+                .sum(),
+            overall_gain: self.need.ideal_transfer().0,
+        };
         let request = ValueSetRequest {
             values: &grade.values,
             divider_values: &divider_grade.values,
-            gain: a,
-            offset: c,
-            network: how,
-            source_volts: vsrc,
-            sensor_ohms: self.sensor_ohms(stage),
-            inamp_gain_ohms: rk,
+            gain: scoring.gain,
+            offset: scoring.offset,
+            network: scoring.network,
+            source_volts: scoring.source_volts,
+            sensor_ohms: scoring.sensor_ohms,
+            inamp_gain_ohms: scoring.inamp_gain_ohms,
         };
-        let raw = behaviour.value_sets(&request);
-        let (v, vd, rs) = (&grade.values, &divider_grade.values, request.sensor_ohms);
-        // Score by the linearised effect at the output.
-        let k_total = self.need.ideal_transfer().0;
-        let down: f64 = group.gains[stage + 1..].iter().product();
-        // Offsets made upstream of this stage, as they reach the output.
-        let upstream: f64 = (0..stage)
-            .map(|i| group.offsets[i] * group.gains[i + 1..].iter().product::<f64>())
-            .sum();
-        let ins = self.stage_inputs(stage, prev_ideal);
-        let mut out: Vec<ValueSet> = Vec::new();
-        for (roles, div) in raw {
-            let ohms = |role: Role| roles.get(&role).map(|&i| v[i]).unwrap_or(f64::NAN);
-            let (vo, rth) = match (how, div) {
-                (Some(OffsetNetwork::GainLeg), Some((t, b)))
-                | (Some(OffsetNetwork::InvertingBias), Some((t, b))) => (
-                    vsrc * vd[b] / (vd[t] + vd[b]),
-                    if how == Some(OffsetNetwork::GainLeg) {
-                        vd[t] * vd[b] / (vd[t] + vd[b])
-                    } else {
-                        0.0
-                    },
-                ),
-                (Some(OffsetNetwork::RefDivider), Some((t, b))) => {
-                    (vsrc * vd[b] / (vd[t] + vd[b]), 0.0)
-                }
-                (Some(_), None) => (vsrc, 0.0),
-                _ => (0.0, 0.0),
-            };
-            let drive = StageDrive {
-                ohms: &ohms,
-                network: how,
-                offset_volts: vo,
-                thevenin_ohms: rth,
-                sensor_ohms: rs,
-                inamp_gain_ohms: rk,
-            };
-            let f = |p: (f64, f64)| behaviour.ideal_output(&drive, p.0, p.1);
-            let y0 = f(ins[0]);
-            let y1 = f(ins[1]);
-            let dx = ins[1].0 - ins[1].1 - (ins[0].0 - ins[0].1);
-            let a_real = (y1 - y0) / dx;
-            let c_real = y0 - a_real * (ins[0].0 - ins[0].1);
-            if !(a_real.is_finite() && c_real.is_finite()) {
-                continue;
-            }
-            // The effect at the output, linear in logarithms: the overall
-            // gain is the product of stage gains and the offset the product
-            // of the offset stage's offset and the gains after it, so their
-            // log errors add exactly across stages; only exp(L) - 1 ~ L is
-            // approximate, and that is small where the total is small.
-            let ratio = a_real / a;
-            if ratio <= 0.0 {
-                continue;
-            }
-            let rel = ratio.ln();
-            let offset_term = (c_real - c) * down;
-            let mut contribution = [0.0; 2];
-            for (e, ce) in contribution.iter_mut().enumerate() {
-                *ce = rel * (k_total * self.signal[e] + upstream) + offset_term;
-            }
-            let mut cost: f64 = roles
-                .values()
-                .map(|&i| self.stock.resistors[grade.parts[i]].unit_cost)
-                .sum();
-            if let Some((t, b)) = div {
-                cost += self.stock.resistors[divider_grade.parts[t]].unit_cost
-                    + self.stock.resistors[divider_grade.parts[b]].unit_cost;
-            }
-            out.push(ValueSet {
-                resistors: roles,
-                offset_top: div.map(|d| d.0),
-                offset_bottom: div.map(|d| d.1),
-                gain: a_real,
-                offset: c_real,
-                contribution,
-                cost,
-            });
-        }
+        let mut out: Vec<ValueSet> = scoring
+            .behaviour
+            .value_sets(&request)
+            .into_iter()
+            .filter_map(|(roles, divider)| self.score(&scoring, roles, divider))
+            .collect();
         out.sort_by(|x, y| {
             let mx = x.contribution[0].abs().max(x.contribution[1].abs());
             let my = y.contribution[0].abs().max(y.contribution[1].abs());
@@ -165,7 +125,75 @@ impl Problem<'_> {
         out
     }
 
-    /// Turn one choice per stage into a design.
+    /// One candidate's exact stage gain and offset from the shape's closed
+    /// form, its linearised effect at the output and its price; `None`
+    /// when the closed form gives no usable gain.
+    fn score(
+        &self,
+        scoring: &StageScoring<'_>,
+        roles: BTreeMap<Role, usize>,
+        divider: Option<(usize, usize)>,
+    ) -> Option<ValueSet> {
+        let values = &scoring.grade.values;
+        let divider_values = &scoring.divider_grade.values;
+        let ohms = |role: Role| roles.get(&role).map(|&i| values[i]).unwrap_or(f64::NAN);
+        let (offset_volts, thevenin_ohms) = offset_drive(
+            scoring.network,
+            scoring.source_volts,
+            divider.map(|(top, bottom)| (divider_values[top], divider_values[bottom])),
+        );
+        let drive = StageDrive {
+            ohms: &ohms,
+            network: scoring.network,
+            offset_volts,
+            thevenin_ohms,
+            sensor_ohms: scoring.sensor_ohms,
+            inamp_gain_ohms: scoring.inamp_gain_ohms,
+        };
+        let ins = scoring.inputs;
+        let output =
+            |(plus, minus): (f64, f64)| scoring.behaviour.ideal_output(&drive, plus, minus);
+        let (y0, y1) = (output(ins[0]), output(ins[1]));
+        let dx = ins[1].0 - ins[1].1 - (ins[0].0 - ins[0].1);
+        let gain = (y1 - y0) / dx;
+        let offset = y0 - gain * (ins[0].0 - ins[0].1);
+        if !(gain.is_finite() && offset.is_finite()) {
+            return None;
+        }
+        // The effect at the output, linear in logarithms: the overall
+        // gain is the product of stage gains and the offset the product
+        // of the offset stage's offset and the gains after it, so their
+        // log errors add exactly across stages; only exp(L) - 1 ~ L is
+        // approximate, and that is small where the total is small.
+        let ratio = gain / scoring.gain;
+        if ratio <= 0.0 {
+            return None;
+        }
+        let log_gain_error = ratio.ln();
+        let offset_term = (offset - scoring.offset) * scoring.gain_after;
+        let mut contribution = [0.0; 2];
+        for (end, at_end) in contribution.iter_mut().enumerate() {
+            *at_end = log_gain_error
+                * (scoring.overall_gain * self.signal[end] + scoring.upstream_offset)
+                + offset_term;
+        }
+        let price = |grade: &Grade, i: usize| self.stock.resistors[grade.parts[i]].unit_cost;
+        let mut cost: f64 = roles.values().map(|&i| price(scoring.grade, i)).sum();
+        if let Some((top, bottom)) = divider {
+            cost += price(scoring.divider_grade, top) + price(scoring.divider_grade, bottom);
+        }
+        Some(ValueSet {
+            resistors: roles,
+            offset_top: divider.map(|d| d.0),
+            offset_bottom: divider.map(|d| d.1),
+            gain,
+            offset,
+            contribution,
+            cost,
+        })
+    }
+
+    /// Turn one value set per stage into a design.
     pub(super) fn design(&self, group: &Group, grades: &[usize], picks: &[&ValueSet]) -> Design {
         let mut stages = Vec::new();
         for (i, (&shape, value_set)) in group.shapes.iter().zip(picks).enumerate() {

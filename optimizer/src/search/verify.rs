@@ -19,8 +19,8 @@ fn within_stock(stock: &Stock, built: &Built) -> bool {
     for p in &built.packages {
         *used.entry(p.part_id.as_str()).or_default() += 1;
     }
-    for s in &built.sources {
-        if let Source::Reference(id) = &s.source {
+    for source in &built.sources {
+        if let Source::Reference(id) = &source.source {
             *used.entry(id.as_str()).or_default() += 1;
         }
     }

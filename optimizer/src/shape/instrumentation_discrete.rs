@@ -136,125 +136,149 @@ impl StageShape for InstrumentationDiscrete {
     ) -> StageOutline {
         let o1 = x0 + 140.0;
         let yb = Y0 + 200.0;
-        let rf1 = sheet.resistor(index, Role::Rf1);
-        let rf2 = sheet.resistor(index, Role::Rf2);
-        let a1 = rf1.map(|r| sheet.nodes_of(r.element)[0]);
-        let a2 = rf2.map(|r| sheet.nodes_of(r.element)[0]);
-        // Input amplifiers.
-        canvas.wire(&[(x0, Y0), (o1, Y0)]);
-        if let Some(sec) = a1.and_then(|n| sheet.section_driving(n)) {
-            canvas.opamp(
-                o1,
-                Y0 + 15.0,
-                true,
-                &sheet.labelled_section(sec),
-                Side::Above,
-            );
-            input_from(canvas, x0, Y0, sec.plus);
-        }
-        canvas.wire(&[
-            (x0, Y0 + DY),
-            (x0 + 20.0, Y0 + DY),
-            (x0 + 20.0, yb + 15.0),
-            (o1, yb + 15.0),
-        ]);
-        if let Some(sec) = a2.and_then(|n| sheet.section_driving(n)) {
-            canvas.opamp(o1, yb, false, &sheet.labelled_section(sec), Side::Below);
-            input_from(canvas, x0, Y0 + DY, sec.plus);
-        }
-        let g1 = (o1 - 20.0, Y0 + 70.0);
-        let g2 = (o1 - 20.0, yb - 55.0);
-        canvas.wire(&[(o1, Y0 + 30.0), (g1.0, Y0 + 30.0), g1]);
-        canvas.wire(&[(o1, yb - 15.0), (g2.0, yb - 15.0), g2]);
-        canvas.dot(g1.0, g1.1);
-        canvas.dot(g2.0, g2.1);
-        if let Some(rf1) = rf1 {
-            canvas.resistor_h(
-                g1.0,
-                o1 + 80.0,
-                g1.1,
-                &sheet.labelled_resistor(rf1),
-                Side::Above,
-            );
-        }
-        canvas.wire(&[(o1 + 80.0, g1.1), (o1 + 80.0, Y0 + 15.0)]);
-        if let Some(rf2) = rf2 {
-            canvas.resistor_h(
-                g2.0,
-                o1 + 80.0,
-                g2.1,
-                &sheet.labelled_resistor(rf2),
-                Side::Above,
-            );
-        }
-        canvas.wire(&[(o1 + 80.0, g2.1), (o1 + 80.0, yb)]);
-        if let Some(rg) = sheet.resistor(index, Role::Rg) {
-            canvas.resistor_v(g1.0, g1.1, g2.1, &sheet.labelled_resistor(rg), Side::Left);
-        }
-        // Output difference amplifier.
-        let o3 = o1 + 240.0;
-        let q = (o1 + 200.0, Y0 + 15.0);
-        canvas.wire(&[(o1 + 60.0, Y0 + 15.0), (o1 + 90.0, Y0 + 15.0)]);
-        canvas.dot(o1 + 80.0, Y0 + 15.0);
-        if let Some(r3) = sheet.resistor(index, Role::R3) {
-            canvas.resistor_h(
-                o1 + 90.0,
-                q.0,
-                q.1,
-                &sheet.labelled_resistor(r3),
-                Side::Above,
-            );
-        }
-        canvas.dot(q.0, q.1);
-        canvas.wire(&[q, (o3, q.1)]);
-        if let Some(r4) = sheet.resistor(index, Role::R4) {
-            canvas.resistor_v(
-                q.0,
-                q.1,
-                Y0 - 65.0,
-                &sheet.labelled_resistor(r4),
-                Side::Left,
-            );
-            let far = sheet.nodes_of(r4.element)[1];
-            anchor(canvas, sheet, q.0, Y0 - 65.0, far, Side::Above);
-        }
-        if let Some(sec) = sheet.section_driving(out) {
-            canvas.opamp(
-                o3,
-                Y0 + 30.0,
-                true,
-                &sheet.labelled_section(sec),
-                Side::Below,
-            );
-        }
-        let m = (o1 + 210.0, yb);
-        canvas.wire(&[(o1 + 60.0, yb), (o1 + 80.0, yb)]);
-        canvas.dot(o1 + 80.0, yb);
-        if let Some(r1) = sheet.resistor(index, Role::R1) {
-            canvas.resistor_h(
-                o1 + 80.0,
-                m.0,
-                m.1,
-                &sheet.labelled_resistor(r1),
-                Side::Above,
-            );
-        }
-        canvas.dot(m.0, m.1);
-        canvas.wire(&[m, (m.0, Y0 + 45.0), (o3, Y0 + 45.0)]);
-        if let Some(r2) = sheet.resistor(index, Role::R2) {
-            canvas.resistor_h(
-                m.0,
-                o3 + 80.0,
-                m.1,
-                &sheet.labelled_resistor(r2),
-                Side::Above,
-            );
-        }
-        canvas.wire(&[(o3 + 80.0, m.1), (o3 + 80.0, Y0 + 30.0)]);
-        canvas.dot(o3 + 80.0, Y0 + 30.0);
-        canvas.wire(&[(o3 + 60.0, Y0 + 30.0), (o3 + 100.0, Y0 + 30.0)]);
-        StageOutline {
-            out: (o3 + 100.0, Y0 + 30.0),
-        }
+        draw_input_pair(canvas, sheet, index, x0, o1, yb);
+        draw_output_difference(canvas, sheet, index, out, o1, yb)
+    }
+}
+
+/// The input pair: two op-amps at `o1` (the upper on the signal line, the
+/// lower at `yb`) with `rf1`, `rf2` and `rg` between them.
+fn draw_input_pair(
+    canvas: &mut Canvas,
+    sheet: &Sheet<'_>,
+    index: usize,
+    x0: f64,
+    o1: f64,
+    yb: f64,
+) {
+    let rf1 = sheet.resistor(index, Role::Rf1);
+    let rf2 = sheet.resistor(index, Role::Rf2);
+    let a1 = rf1.map(|r| sheet.nodes_of(r.element)[0]);
+    let a2 = rf2.map(|r| sheet.nodes_of(r.element)[0]);
+    // Input amplifiers.
+    canvas.wire(&[(x0, Y0), (o1, Y0)]);
+    if let Some(sec) = a1.and_then(|n| sheet.section_driving(n)) {
+        canvas.opamp(
+            o1,
+            Y0 + 15.0,
+            true,
+            &sheet.labelled_section(sec),
+            Side::Above,
+        );
+        input_from(canvas, x0, Y0, sec.plus);
+    }
+    canvas.wire(&[
+        (x0, Y0 + DY),
+        (x0 + 20.0, Y0 + DY),
+        (x0 + 20.0, yb + 15.0),
+        (o1, yb + 15.0),
+    ]);
+    if let Some(sec) = a2.and_then(|n| sheet.section_driving(n)) {
+        canvas.opamp(o1, yb, false, &sheet.labelled_section(sec), Side::Below);
+        input_from(canvas, x0, Y0 + DY, sec.plus);
+    }
+    let g1 = (o1 - 20.0, Y0 + 70.0);
+    let g2 = (o1 - 20.0, yb - 55.0);
+    canvas.wire(&[(o1, Y0 + 30.0), (g1.0, Y0 + 30.0), g1]);
+    canvas.wire(&[(o1, yb - 15.0), (g2.0, yb - 15.0), g2]);
+    canvas.dot(g1.0, g1.1);
+    canvas.dot(g2.0, g2.1);
+    if let Some(rf1) = rf1 {
+        canvas.resistor_h(
+            g1.0,
+            o1 + 80.0,
+            g1.1,
+            &sheet.labelled_resistor(rf1),
+            Side::Above,
+        );
+    }
+    canvas.wire(&[(o1 + 80.0, g1.1), (o1 + 80.0, Y0 + 15.0)]);
+    if let Some(rf2) = rf2 {
+        canvas.resistor_h(
+            g2.0,
+            o1 + 80.0,
+            g2.1,
+            &sheet.labelled_resistor(rf2),
+            Side::Above,
+        );
+    }
+    canvas.wire(&[(o1 + 80.0, g2.1), (o1 + 80.0, yb)]);
+    if let Some(rg) = sheet.resistor(index, Role::Rg) {
+        canvas.resistor_v(g1.0, g1.1, g2.1, &sheet.labelled_resistor(rg), Side::Left);
+    }
+}
+
+/// The output difference amplifier fed by the input pair's outputs.
+fn draw_output_difference(
+    canvas: &mut Canvas,
+    sheet: &Sheet<'_>,
+    index: usize,
+    out: Node,
+    o1: f64,
+    yb: f64,
+) -> StageOutline {
+    let o3 = o1 + 240.0;
+    let q = (o1 + 200.0, Y0 + 15.0);
+    canvas.wire(&[(o1 + 60.0, Y0 + 15.0), (o1 + 90.0, Y0 + 15.0)]);
+    canvas.dot(o1 + 80.0, Y0 + 15.0);
+    if let Some(r3) = sheet.resistor(index, Role::R3) {
+        canvas.resistor_h(
+            o1 + 90.0,
+            q.0,
+            q.1,
+            &sheet.labelled_resistor(r3),
+            Side::Above,
+        );
+    }
+    canvas.dot(q.0, q.1);
+    canvas.wire(&[q, (o3, q.1)]);
+    if let Some(r4) = sheet.resistor(index, Role::R4) {
+        canvas.resistor_v(
+            q.0,
+            q.1,
+            Y0 - 65.0,
+            &sheet.labelled_resistor(r4),
+            Side::Left,
+        );
+        let far = sheet.nodes_of(r4.element)[1];
+        anchor(canvas, sheet, q.0, Y0 - 65.0, far, Side::Above);
+    }
+    if let Some(sec) = sheet.section_driving(out) {
+        canvas.opamp(
+            o3,
+            Y0 + 30.0,
+            true,
+            &sheet.labelled_section(sec),
+            Side::Below,
+        );
+    }
+    let m = (o1 + 210.0, yb);
+    canvas.wire(&[(o1 + 60.0, yb), (o1 + 80.0, yb)]);
+    canvas.dot(o1 + 80.0, yb);
+    if let Some(r1) = sheet.resistor(index, Role::R1) {
+        canvas.resistor_h(
+            o1 + 80.0,
+            m.0,
+            m.1,
+            &sheet.labelled_resistor(r1),
+            Side::Above,
+        );
+    }
+    canvas.dot(m.0, m.1);
+    canvas.wire(&[m, (m.0, Y0 + 45.0), (o3, Y0 + 45.0)]);
+    if let Some(r2) = sheet.resistor(index, Role::R2) {
+        canvas.resistor_h(
+            m.0,
+            o3 + 80.0,
+            m.1,
+            &sheet.labelled_resistor(r2),
+            Side::Above,
+        );
+    }
+    canvas.wire(&[(o3 + 80.0, m.1), (o3 + 80.0, Y0 + 30.0)]);
+    canvas.dot(o3 + 80.0, Y0 + 30.0);
+    canvas.wire(&[(o3 + 60.0, Y0 + 30.0), (o3 + 100.0, Y0 + 30.0)]);
+    StageOutline {
+        out: (o3 + 100.0, Y0 + 30.0),
     }
 }

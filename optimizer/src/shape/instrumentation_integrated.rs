@@ -86,8 +86,7 @@ impl StageShape for InstrumentationIntegrated {
             minus: vin_n,
             out,
         } = nodes;
-        let s = index + 1;
-        let idx = builder
+        let part_index = builder
             .stock
             .inamps
             .iter()
@@ -95,70 +94,48 @@ impl StageShape for InstrumentationIntegrated {
             .ok_or_else(|| {
                 Error::design(format!("in-amp `{}` is not in stock", stage.amplifier))
             })?;
-        let part = &builder.stock.inamps[idx];
+        let part = &builder.stock.inamps[part_index];
         let rk_half = part.gain_resistor.0 / 2.0;
         let buffer = match &stage.buffer {
             Some(id) => Some(builder.opamp_index(id)?),
             None => None,
         };
-        let inj = builder.injection(index, &stage.offset, InjectionPoint::Offset, buffer)?;
+        let ref_node = builder.injection(index, &stage.offset, InjectionPoint::Offset, buffer)?;
         builder.package_count += 1;
         let d = format!("U{}", builder.package_count);
         let lower = d.to_lowercase();
-        let g1 = builder.netlist.node(&format!("s{s}g1"));
-        let g2 = builder.netlist.node(&format!("s{s}g2"));
-        let pi = builder.netlist.node(&format!("{lower}_pi"));
-        let vos = builder.netlist.vsource(&format!("VOS_{d}"), pi, vin, 0.0);
+        let g1 = builder.stage_node(index, "g1");
+        let g2 = builder.stage_node(index, "g2");
+        let plus_internal = builder.netlist.node(&format!("{lower}_pi"));
+        let vos = builder
+            .netlist
+            .vsource(&format!("VOS_{d}"), plus_internal, vin, 0.0);
         let ibp = builder.netlist.isource(&format!("IBP_{d}"), vin, 0, 0.0);
         let ibn = builder.netlist.isource(&format!("IBN_{d}"), vin_n, 0, 0.0);
         builder.resistor(index, Role::Rg, stage.r(Role::Rg)?, g1, g2);
-        let a1 = builder.netlist.node(&format!("{lower}_a1"));
-        let a2 = builder.netlist.node(&format!("{lower}_a2"));
-        let m = builder.netlist.node(&format!("{lower}_m"));
-        let q = builder.netlist.node(&format!("{lower}_q"));
-        let oi = builder.netlist.node(&format!("{lower}_oi"));
-        let g = 1.0 / INAMP_INTERNAL_GAIN;
-        let amp = ElementKind::OpAmp { inverse_gain: g };
+        let mut node = |suffix: &str| builder.netlist.node(&format!("{lower}_{suffix}"));
+        let (a1, a2, m, q, oi) = (node("a1"), node("a2"), node("m"), node("q"), node("oi"));
+        // The part's insides, in its subcircuit: input pair with the gain
+        // constant split in two, then a unity difference stage to REF.
+        let amp = ElementKind::OpAmp {
+            inverse_gain: 1.0 / INAMP_INTERNAL_GAIN,
+        };
         let res = |ohms| ElementKind::Resistor { ohms };
-        let gain_element = builder
-            .netlist
-            .add_in(&d, &format!("{d}.EA1"), amp, [pi, g1, a1]);
-        builder
-            .netlist
-            .add_in(&d, &format!("{d}.EA2"), amp, [vin_n, g2, a2]);
-        let rk1 = builder
-            .netlist
-            .add_in(&d, &format!("{d}.RK1"), res(rk_half), [a1, g1, 0]);
-        let rk2 = builder
-            .netlist
-            .add_in(&d, &format!("{d}.RK2"), res(rk_half), [a2, g2, 0]);
-        let r1 = builder.netlist.add_in(
-            &d,
-            &format!("{d}.RD1"),
-            res(INAMP_INTERNAL_OHMS),
-            [a2, m, 0],
-        );
-        let r2 = builder.netlist.add_in(
-            &d,
-            &format!("{d}.RD2"),
-            res(INAMP_INTERNAL_OHMS),
-            [m, oi, 0],
-        );
-        let r3 = builder.netlist.add_in(
-            &d,
-            &format!("{d}.RD3"),
-            res(INAMP_INTERNAL_OHMS),
-            [a1, q, 0],
-        );
-        let r4 = builder.netlist.add_in(
-            &d,
-            &format!("{d}.RD4"),
-            res(INAMP_INTERNAL_OHMS),
-            [q, inj, 0],
-        );
-        builder
-            .netlist
-            .add_in(&d, &format!("{d}.EA3"), amp, [q, m, oi]);
+        let rd = res(INAMP_INTERNAL_OHMS);
+        let mut inside = |name: &str, kind: ElementKind, pins: [Node; 3]| {
+            builder
+                .netlist
+                .add_in(&d, &format!("{d}.{name}"), kind, pins)
+        };
+        let gain_element = inside("EA1", amp, [plus_internal, g1, a1]);
+        inside("EA2", amp, [vin_n, g2, a2]);
+        let rk1 = inside("RK1", res(rk_half), [a1, g1, 0]);
+        let rk2 = inside("RK2", res(rk_half), [a2, g2, 0]);
+        let r1 = inside("RD1", rd, [a2, m, 0]);
+        let r2 = inside("RD2", rd, [m, oi, 0]);
+        let r3 = inside("RD3", rd, [a1, q, 0]);
+        let r4 = inside("RD4", rd, [q, ref_node, 0]);
+        inside("EA3", amp, [q, m, oi]);
         let output_offset = builder.netlist.vsource(&format!("VOSO_{d}"), out, oi, 0.0);
         builder
             .internal_resistors
@@ -167,7 +144,7 @@ impl StageShape for InstrumentationIntegrated {
             designator: d.clone(),
             package: d.clone(),
             stage: index,
-            kind: AmplifierKind::InAmp(idx),
+            kind: AmplifierKind::InAmp(part_index),
             plus: vin,
             minus: vin_n,
             out,
@@ -183,7 +160,7 @@ impl StageShape for InstrumentationIntegrated {
         });
         builder.packages.push(Package {
             designator: d.clone(),
-            kind: AmplifierKind::InAmp(idx),
+            kind: AmplifierKind::InAmp(part_index),
             part_id: part.part_id.clone(),
             channels: 1,
             used: vec![d],

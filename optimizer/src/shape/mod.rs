@@ -191,6 +191,28 @@ impl OffsetNetwork {
     }
 }
 
+/// The volts a stage's closed form sees from its offset network, and the
+/// Thevenin resistance in series with them: the source itself, or the tap
+/// of a divider `(top, bottom)` ohms (in series only where the divider is
+/// unbuffered in the gain leg).
+pub(crate) fn offset_drive(
+    network: Option<OffsetNetwork>,
+    source_volts: f64,
+    divider: Option<(f64, f64)>,
+) -> (f64, f64) {
+    match (network, divider) {
+        (Some(OffsetNetwork::GainLeg), Some((top, bottom))) => (
+            source_volts * bottom / (top + bottom),
+            top * bottom / (top + bottom),
+        ),
+        (Some(OffsetNetwork::InvertingBias | OffsetNetwork::RefDivider), Some((top, bottom))) => {
+            (source_volts * bottom / (top + bottom), 0.0)
+        }
+        (Some(_), None) => (source_volts, 0.0),
+        _ => (0.0, 0.0),
+    }
+}
+
 /// What the closed form of a stage is evaluated with (ideal op-amps).
 pub(crate) struct StageDrive<'d> {
     /// Ohms by role.
