@@ -3,27 +3,27 @@
 //!
 //! The shape of the search (docs/error-budget.md gives the budget it
 //! judges by):
-//! 1. *groups* ([`groups`]): stage shapes in sequence, the op-amp (and
+//! 1. *groups* (`groups`): stage shapes in sequence, the op-amp (and
 //!    in-amp) part, the stage that carries the offset and its source, and
 //!    the gain split; each group is checked for swing and common mode with
 //!    the ideal closed forms before anything costly;
-//! 2. *structures* ([`structures`]): a group with a resistor grade per
+//! 2. *structures* (`structures`): a group with a resistor grade per
 //!    stage; each has a cost lower bound, and structures are taken cheapest
 //!    bound first, so the search stops (proven) when the next bound is no
 //!    better than the best design found;
 //! 3. for each structure, a reference design is analysed once; its budget,
 //!    split by stage and rescaled per grade, screens the structure; per
 //!    stage the best few value sets for the target ratios come from a ratio
-//!    search over the sorted value list ([`value_sets`]);
-//! 4. a MILP ([`milp`]) picks one value set per stage: linearised rounding
+//!    search over the sorted value list (`value_sets`, `ratio`);
+//! 4. a MILP (`milp`) picks one value set per stage: linearised rounding
 //!    errors that may cancel across stages, a fee per distinct BOM line,
 //!    the error bound at both span ends; the pick is re-verified by the
 //!    full analysis and cut off if it fails.
 //!
 //! [`SearchMode::Exhaustive`] enumerates the same structures and value sets
 //! with no bound, screen or MILP, analysing every combination in full
-//! ([`strategy`]). The Pareto front of verified designs is kept
-//! ([`pareto`]), and an infeasible need is explained ([`explain`]).
+//! (`strategy`, `verify`). The Pareto front of verified designs is kept
+//! (`pareto`), and an infeasible need is explained (`explain`).
 
 mod explain;
 mod groups;
