@@ -6,8 +6,9 @@
 //! shape through [`Shape`] (public facts) or the crate's `StageShape`
 //! trait (search, netlist and drawing hooks).
 //!
-//! A new shape goes in one new module implementing `StageShape` plus one
-//! line in the `register_shapes!` list below.
+//! A new shape goes in one new module implementing `StageShape`, its
+//! `mod` line, and one line in the `register_shapes!` list below (which
+//! makes the [`Shape`] variant and ties it to the module).
 //!
 //! ```
 //! use spanfit::shape::{Role, Shape};
@@ -383,7 +384,9 @@ pub(crate) trait StageShape: Sync {
     ) -> StageOutline;
 }
 
-/// The shapes: `Variant => module::Unit`, one line each.
+/// The shapes: `Variant => module::Unit`, one line each (with its doc);
+/// the line makes the enum variant and ties it to its behaviour. (The
+/// `mod` lines stay outside the macro so rustfmt reaches the modules.)
 macro_rules! register_shapes {
     ($($(#[$doc:meta])* $variant:ident => $module:ident :: $unit:ident,)*) => {
         /// The shape of one stage (its netlist template). Serialised by
