@@ -129,7 +129,12 @@ pub fn solve_bundle(
     control: &mut SolveControl<'_>,
 ) -> Result<Value> {
     let (need, stock) = load(need, need_name, stock)?;
-    let mut outcome = crate::search::solve(&need, &stock, exhaustive, control)?;
+    let mut outcome = crate::search::solve(
+        &need,
+        &stock,
+        crate::search::SearchMode::from_exhaustive(exhaustive),
+        control,
+    )?;
     // The chosen design is reported as `analyze` would report it, Monte
     // Carlo histogram included.
     if let Some(best) = outcome.best.as_mut() {

@@ -12,99 +12,7 @@ use crate::stock::{ResistorPart, Stock};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
-/// The shape of one stage (its netlist template).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
-#[serde(rename_all = "kebab-case")]
-pub enum Shape {
-    /// Gain `1 + rf/rg`, offset injected at the bottom of `rg`.
-    NonInverting,
-    /// Input through `ri` and offset through `ro` summed at the + input,
-    /// optional `rp` to ground, then gain `1 + rf/rg`.
-    NonInvertingSummed,
-    /// Summing inverting stage: `-rf (v/ri + vo/ro)` plus the + bias.
-    Inverting,
-    /// Four-resistor difference amplifier, `r2/r1` with `r4/r3 = r2/r1`.
-    Difference,
-    /// Three op-amp instrumentation amplifier: `(1 + (rf1 + rf2)/rg) * r2/r1`.
-    InstrumentationDiscrete,
-    /// Integrated in-amp part, gain `1 + Rk/rg`.
-    InstrumentationIntegrated,
-}
-
-impl Shape {
-    /// Every shape.
-    pub const ALL: [Shape; 6] = [
-        Shape::NonInverting,
-        Shape::NonInvertingSummed,
-        Shape::Inverting,
-        Shape::Difference,
-        Shape::InstrumentationDiscrete,
-        Shape::InstrumentationIntegrated,
-    ];
-
-    /// Name in files and reports.
-    pub fn name(self) -> &'static str {
-        match self {
-            Shape::NonInverting => "non-inverting",
-            Shape::NonInvertingSummed => "non-inverting-summed",
-            Shape::Inverting => "inverting",
-            Shape::Difference => "difference",
-            Shape::InstrumentationDiscrete => "instrumentation-discrete",
-            Shape::InstrumentationIntegrated => "instrumentation-integrated",
-        }
-    }
-
-    /// The topology family (DESIGN.md trade name) of this shape.
-    pub fn topology(self) -> crate::need::Topology {
-        use crate::need::Topology;
-        match self {
-            Shape::NonInverting | Shape::NonInvertingSummed => Topology::NonInverting,
-            Shape::Inverting => Topology::Inverting,
-            Shape::Difference => Topology::Difference,
-            Shape::InstrumentationDiscrete | Shape::InstrumentationIntegrated => {
-                Topology::Instrumentation
-            }
-        }
-    }
-
-    /// Resistor roles the shape requires (offset network roles apart).
-    pub fn required_roles(self) -> &'static [&'static str] {
-        match self {
-            Shape::NonInverting => &["rf", "rg"],
-            Shape::NonInvertingSummed => &["ri", "ro", "rf", "rg"],
-            Shape::Inverting => &["ri", "rf"],
-            Shape::Difference => &["r1", "r2", "r3", "r4"],
-            Shape::InstrumentationDiscrete => &["rf1", "rf2", "rg", "r1", "r2", "r3", "r4"],
-            Shape::InstrumentationIntegrated => &["rg"],
-        }
-    }
-
-    /// Roles the shape may also have.
-    pub fn optional_roles(self) -> &'static [&'static str] {
-        match self {
-            Shape::NonInvertingSummed => &["rp"],
-            Shape::Inverting => &["ro"],
-            _ => &[],
-        }
-    }
-
-    /// Op-amp sections the stage uses (an integrated part counts none).
-    pub fn sections(self) -> usize {
-        match self {
-            Shape::InstrumentationDiscrete => 3,
-            Shape::InstrumentationIntegrated => 0,
-            _ => 1,
-        }
-    }
-
-    /// Whether the stage takes a differential input.
-    pub fn differential_input(self) -> bool {
-        matches!(
-            self,
-            Shape::Difference | Shape::InstrumentationDiscrete | Shape::InstrumentationIntegrated
-        )
-    }
-}
+pub use crate::shape::{Role, Shape};
 
 /// One resistor as placed: value, grade and where it comes from.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -192,7 +100,7 @@ pub struct Stage {
     /// Op-amp part id (or in-amp part id for an integrated stage).
     pub amplifier: String,
     /// Resistors by role (see [`Shape::required_roles`]).
-    pub resistors: BTreeMap<String, Resistor>,
+    pub resistors: BTreeMap<Role, Resistor>,
     /// The offset node: bottom of `rg` (non-inverting), far end of `ro`
     /// (summed, inverting), far end of `r4` or the REF pin (difference,
     /// instrumentation).
@@ -207,8 +115,8 @@ pub struct Stage {
 
 impl Stage {
     /// The resistor of a role; an error naming the stage and role if absent.
-    pub fn r(&self, role: &str) -> Result<&Resistor> {
-        self.resistors.get(role).ok_or_else(|| {
+    pub fn r(&self, role: Role) -> Result<&Resistor> {
+        self.resistors.get(&role).ok_or_else(|| {
             Error::design(format!(
                 "a {} stage needs a resistor `{role}`",
                 self.shape.name()
@@ -217,8 +125,8 @@ impl Stage {
     }
 
     /// Ohms of a role (0 when absent; callers check roles first).
-    pub fn ohms(&self, role: &str) -> f64 {
-        self.resistors.get(role).map(|r| r.ohms).unwrap_or(0.0)
+    pub fn ohms(&self, role: Role) -> f64 {
+        self.resistors.get(&role).map(|r| r.ohms).unwrap_or(0.0)
     }
 }
 
@@ -461,25 +369,25 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
         let mut resistors = BTreeMap::new();
         for (role, r) in &s.resistors {
             let k = format!("{key}.resistors.{role}");
-            if !s.shape.required_roles().contains(&role.as_str())
-                && !s.shape.optional_roles().contains(&role.as_str())
-            {
+            let known = Role::from_name(role).filter(|r| {
+                s.shape.required_roles().contains(r) || s.shape.optional_roles().contains(r)
+            });
+            let Some(known) = known else {
+                let expected: Vec<&str> =
+                    s.shape.required_roles().iter().map(|r| r.name()).collect();
                 return Err(Error::input(
                     Location::key(file, &k),
                     format!(
                         "a {} stage has no resistor `{role}`; expected {}",
                         s.shape.name(),
-                        s.shape.required_roles().join(", ")
+                        expected.join(", ")
                     ),
                 ));
-            }
-            resistors.insert(
-                role.clone(),
-                resolve_resistor(r, stock, &Location::key(file, &k))?,
-            );
+            };
+            resistors.insert(known, resolve_resistor(r, stock, &Location::key(file, &k))?);
         }
         for role in s.shape.required_roles() {
-            if !resistors.contains_key(*role) {
+            if !resistors.contains_key(role) {
                 return Err(Error::input(
                     Location::key(file, &format!("{key}.resistors")),
                     format!("a {} stage needs a resistor `{role}`", s.shape.name()),
@@ -541,7 +449,7 @@ pub fn design_to_json(design: &Design) -> serde_json::Value {
             let mut o = json!({
                 "shape": s.shape.name(),
                 "amplifier": s.amplifier,
-                "resistors": s.resistors.iter().map(|(k, r)| (k.clone(), res(r))).collect::<serde_json::Map<_, _>>(),
+                "resistors": s.resistors.iter().map(|(k, r)| (k.name().to_string(), res(r))).collect::<serde_json::Map<_, _>>(),
                 "offset": inj(&s.offset),
             });
             if s.bias != Injection::Ground {

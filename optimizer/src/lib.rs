@@ -38,6 +38,7 @@ pub mod report;
 pub mod schematic;
 pub mod search;
 pub mod series;
+pub mod shape;
 pub mod spice;
 pub mod stock;
 mod stock_parse;

@@ -1,17 +1,19 @@
-//! Netlist templates: one function per stage shape turns a [`Design`]
-//! into a [`Netlist`] with the element names of the SPICE contract
-//! (DESIGN.md section 4), and records where each part sits so the analysis
-//! can perturb it.
+//! A [`Design`] turned into a [`Netlist`] with the element names of the
+//! SPICE contract (docs/spice.md): the sensor, the sources, the amplifier
+//! sections and packages, and each stage by its shape's netlist template
+//! (`crate::shape`); records where each part sits so the analysis can
+//! perturb it.
 //!
 //! Node names: the sensor source `VSENSE` sits between `inp` and `inn`
 //! (single-ended: `inp` and ground), `VCM` holds `inn` at the common mode,
 //! the sensor's own resistance runs from `inp`/`inn` to `sp`/`sn`, stage
 //! `i` has internal nodes `s<i>...`, and the last stage drives `out`.
 
-use crate::design::{Design, Injection, Resistor, Shape, Source, Stage};
+use crate::design::{Design, Injection, Resistor, Source, Stage};
 use crate::error::{Error, Result};
 use crate::need::{Need, SensorOutput};
 use crate::netlist::{ElementKind, Netlist, Node};
+use crate::shape::{Role, StageNodes};
 use crate::stock::Stock;
 use std::collections::BTreeMap;
 
@@ -32,7 +34,7 @@ pub struct PlacedResistor {
     pub designator: String,
     /// Stage index (0-based).
     pub stage: usize,
-    /// Role in the stage (`rf`, `offset.top`, ...).
+    /// Role in the stage (`rf`, `o.top`, ...).
     pub role: String,
     /// The part.
     pub part: Resistor,
@@ -150,31 +152,74 @@ pub struct Built {
     pub stage_outputs: Vec<Node>,
 }
 
-struct Builder<'a> {
+/// The netlist under construction with its part map; shape templates
+/// (`crate::shape`) place their elements through it.
+pub(crate) struct Builder<'a> {
     need: &'a Need,
-    stock: &'a Stock,
-    n: Netlist,
+    /// The stock parts are taken from.
+    pub(crate) stock: &'a Stock,
+    /// The circuit so far.
+    pub(crate) netlist: Netlist,
     resistors: Vec<PlacedResistor>,
-    internal_resistors: Vec<usize>,
-    sections: Vec<Section>,
-    packages: Vec<Package>,
+    /// Resistors inside integrated parts.
+    pub(crate) internal_resistors: Vec<usize>,
+    /// Amplifier sections so far.
+    pub(crate) sections: Vec<Section>,
+    /// Amplifier packages so far.
+    pub(crate) packages: Vec<Package>,
     sources: Vec<PlacedSource>,
-    next_u: usize,
-    next_vr: usize,
+    /// Packages numbered so far (`U<n>`).
+    pub(crate) package_count: usize,
+    reference_count: usize,
     open_packages: BTreeMap<String, usize>,
+}
+
+/// Where an injection drives a stage: its offset node or its + bias.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum InjectionPoint {
+    /// The offset node (roles `o.top`, `o.bottom`).
+    Offset,
+    /// The + input bias (roles `b.top`, `b.bottom`).
+    Bias,
+}
+
+impl InjectionPoint {
+    /// Letter in node names (`s1ot`, `s1bb`).
+    fn letter(self) -> &'static str {
+        match self {
+            InjectionPoint::Offset => "o",
+            InjectionPoint::Bias => "b",
+        }
+    }
+
+    /// The divider roles (top, bottom).
+    fn divider_roles(self) -> (Role, Role) {
+        match self {
+            InjectionPoint::Offset => (Role::OffsetTop, Role::OffsetBottom),
+            InjectionPoint::Bias => (Role::BiasTop, Role::BiasBottom),
+        }
+    }
 }
 
 const LETTERS: [&str; 4] = ["A", "B", "C", "D"];
 
 impl<'a> Builder<'a> {
-    fn resistor(&mut self, stage: usize, role: &str, part: &Resistor, a: Node, b: Node) -> usize {
+    /// Place a resistor part of a stage between `a` and `b`.
+    pub(crate) fn resistor(
+        &mut self,
+        stage: usize,
+        role: Role,
+        part: &Resistor,
+        a: Node,
+        b: Node,
+    ) -> usize {
         let designator = format!("R{}", self.resistors.len() + 1);
-        let e = self.n.resistor(&designator, a, b, part.ohms);
+        let e = self.netlist.resistor(&designator, a, b, part.ohms);
         self.resistors.push(PlacedResistor {
             element: e,
             designator,
             stage,
-            role: role.to_string(),
+            role: role.name().to_string(),
             part: part.clone(),
         });
         e
@@ -186,8 +231,10 @@ impl<'a> Builder<'a> {
         }
         match source {
             Source::Supply => {
-                let node = self.n.node("vsup");
-                let e = self.n.vsource("VSUP", node, 0, self.need.supply.positive.0);
+                let node = self.netlist.node("vsup");
+                let e = self
+                    .netlist
+                    .vsource("VSUP", node, 0, self.need.supply.positive.0);
                 self.sources.push(PlacedSource {
                     designator: "VSUP".into(),
                     source: source.clone(),
@@ -205,11 +252,11 @@ impl<'a> Builder<'a> {
                     .iter()
                     .position(|r| &r.part_id == id)
                     .ok_or_else(|| Error::design(format!("reference `{id}` is not in stock")))?;
-                self.next_vr += 1;
-                let d = format!("VR{}", self.next_vr);
-                let node = self.n.node(&d.to_lowercase());
+                self.reference_count += 1;
+                let d = format!("VR{}", self.reference_count);
+                let node = self.netlist.node(&d.to_lowercase());
                 let volts = self.stock.references[idx].volts.0;
-                let e = self.n.vsource(&format!("VREF_{d}"), node, 0, volts);
+                let e = self.netlist.vsource(&format!("VREF_{d}"), node, 0, volts);
                 self.sources.push(PlacedSource {
                     designator: d,
                     source: source.clone(),
@@ -223,7 +270,8 @@ impl<'a> Builder<'a> {
         }
     }
 
-    fn opamp_index(&self, id: &str) -> Result<usize> {
+    /// The stock index of an op-amp part.
+    pub(crate) fn opamp_index(&self, id: &str) -> Result<usize> {
         self.stock
             .opamps
             .iter()
@@ -243,8 +291,8 @@ impl<'a> Builder<'a> {
                 return (d, pkg.designator.clone());
             }
         }
-        self.next_u += 1;
-        let pd = format!("U{}", self.next_u);
+        self.package_count += 1;
+        let pd = format!("U{}", self.package_count);
         let d = if channels == 1 {
             pd.clone()
         } else {
@@ -264,14 +312,21 @@ impl<'a> Builder<'a> {
     }
 
     /// An op-amp section with its explicit error sources.
-    fn section(&mut self, stage: usize, part: usize, plus: Node, minus: Node, out: Node) -> usize {
+    pub(crate) fn section(
+        &mut self,
+        stage: usize,
+        part: usize,
+        plus: Node,
+        minus: Node,
+        out: Node,
+    ) -> usize {
         let (d, pkg) = self.take_section(part);
         let inverse_gain = 1.0 / self.stock.opamps[part].aol_min.ratio();
-        let pi = self.n.node(&format!("{}_pi", d.to_lowercase()));
-        let vos = self.n.vsource(&format!("VOS_{d}"), pi, plus, 0.0);
-        let ibp = self.n.isource(&format!("IBP_{d}"), plus, 0, 0.0);
-        let ibn = self.n.isource(&format!("IBN_{d}"), minus, 0, 0.0);
-        let gain_element = self.n.add(
+        let pi = self.netlist.node(&format!("{}_pi", d.to_lowercase()));
+        let vos = self.netlist.vsource(&format!("VOS_{d}"), pi, plus, 0.0);
+        let ibp = self.netlist.isource(&format!("IBP_{d}"), plus, 0, 0.0);
+        let ibn = self.netlist.isource(&format!("IBN_{d}"), minus, 0, 0.0);
+        let gain_element = self.netlist.add(
             &format!("E{d}"),
             ElementKind::OpAmp { inverse_gain },
             [pi, minus, out],
@@ -294,14 +349,21 @@ impl<'a> Builder<'a> {
         self.sections.len() - 1
     }
 
+    /// A node of stage `index` (`s<index+1><suffix>`).
+    pub(crate) fn stage_node(&mut self, index: usize, suffix: &str) -> Node {
+        self.netlist.node(&format!("s{}{suffix}", index + 1))
+    }
+
     /// The node an injection drives (creating divider and buffer).
-    fn injection(
+    pub(crate) fn injection(
         &mut self,
         stage: usize,
         inj: &Injection,
-        what: &str,
+        point: InjectionPoint,
         opamp: Option<usize>,
     ) -> Result<Node> {
+        let what = point.letter();
+        let (top_role, bottom_role) = point.divider_roles();
         match inj {
             Injection::Ground => Ok(0),
             Injection::Direct { source } => self.source_node(source),
@@ -312,18 +374,18 @@ impl<'a> Builder<'a> {
                 buffered,
             } => {
                 let src = self.source_node(source)?;
-                let tap = self.n.node(&format!("s{}{}t", stage + 1, what));
-                self.resistor(stage, &format!("{what}.top"), top, src, tap);
-                self.resistor(stage, &format!("{what}.bottom"), bottom, tap, 0);
+                let tap = self.netlist.node(&format!("s{}{}t", stage + 1, what));
+                self.resistor(stage, top_role, top, src, tap);
+                self.resistor(stage, bottom_role, bottom, tap, 0);
                 if *buffered {
                     let part = opamp.ok_or_else(|| {
                         Error::design(
                             "a buffered divider on an in-amp stage needs a `buffer` op-amp part",
                         )
                     })?;
-                    let b = self.n.node(&format!("s{}{}b", stage + 1, what));
-                    self.section(stage, part, tap, b, b);
-                    Ok(b)
+                    let buffered_node = self.netlist.node(&format!("s{}{}b", stage + 1, what));
+                    self.section(stage, part, tap, buffered_node, buffered_node);
+                    Ok(buffered_node)
                 } else {
                     Ok(tap)
                 }
@@ -331,187 +393,9 @@ impl<'a> Builder<'a> {
         }
     }
 
-    fn stage(&mut self, i: usize, st: &Stage, vin: Node, vin_n: Node, out: Node) -> Result<()> {
-        let s = i + 1;
-        let node = |b: &mut Self, suffix: &str| b.n.node(&format!("s{s}{suffix}"));
-        if st.shape == Shape::InstrumentationIntegrated {
-            return self.inamp_stage(i, st, vin, vin_n, out);
-        }
-        let part = self.opamp_index(&st.amplifier)?;
-        match st.shape {
-            Shape::NonInverting => {
-                let inj = self.injection(i, &st.offset, "o", Some(part))?;
-                let m = node(self, "m");
-                self.resistor(i, "rf", st.r("rf")?, out, m);
-                self.resistor(i, "rg", st.r("rg")?, m, inj);
-                self.section(i, part, vin, m, out);
-            }
-            Shape::NonInvertingSummed => {
-                let inj = self.injection(i, &st.offset, "o", Some(part))?;
-                let p = node(self, "p");
-                let m = node(self, "m");
-                self.resistor(i, "ri", st.r("ri")?, vin, p);
-                self.resistor(i, "ro", st.r("ro")?, inj, p);
-                if let Some(rp) = st.resistors.get("rp") {
-                    self.resistor(i, "rp", rp, p, 0);
-                }
-                self.resistor(i, "rf", st.r("rf")?, out, m);
-                self.resistor(i, "rg", st.r("rg")?, m, 0);
-                self.section(i, part, p, m, out);
-            }
-            Shape::Inverting => {
-                let inj = self.injection(i, &st.offset, "o", Some(part))?;
-                let bias = self.injection(i, &st.bias, "b", Some(part))?;
-                let m = node(self, "m");
-                self.resistor(i, "ri", st.r("ri")?, vin, m);
-                self.resistor(i, "rf", st.r("rf")?, out, m);
-                if let Some(ro) = st.resistors.get("ro") {
-                    self.resistor(i, "ro", ro, inj, m);
-                } else if st.offset != Injection::Ground {
-                    return Err(Error::design(
-                        "an inverting stage with an offset source needs a resistor `ro`",
-                    ));
-                }
-                self.section(i, part, bias, m, out);
-            }
-            Shape::Difference => {
-                let inj = self.injection(i, &st.offset, "o", Some(part))?;
-                let m = node(self, "m");
-                let q = node(self, "q");
-                self.resistor(i, "r1", st.r("r1")?, vin_n, m);
-                self.resistor(i, "r2", st.r("r2")?, m, out);
-                self.resistor(i, "r3", st.r("r3")?, vin, q);
-                self.resistor(i, "r4", st.r("r4")?, q, inj);
-                self.section(i, part, q, m, out);
-            }
-            Shape::InstrumentationDiscrete => {
-                let inj = self.injection(i, &st.offset, "o", Some(part))?;
-                let (g1, g2, a1, a2) = (
-                    node(self, "g1"),
-                    node(self, "g2"),
-                    node(self, "a1"),
-                    node(self, "a2"),
-                );
-                let m = node(self, "m");
-                let q = node(self, "q");
-                self.section(i, part, vin, g1, a1);
-                self.section(i, part, vin_n, g2, a2);
-                self.resistor(i, "rf1", st.r("rf1")?, a1, g1);
-                self.resistor(i, "rf2", st.r("rf2")?, a2, g2);
-                self.resistor(i, "rg", st.r("rg")?, g1, g2);
-                self.resistor(i, "r1", st.r("r1")?, a2, m);
-                self.resistor(i, "r2", st.r("r2")?, m, out);
-                self.resistor(i, "r3", st.r("r3")?, a1, q);
-                self.resistor(i, "r4", st.r("r4")?, q, inj);
-                self.section(i, part, q, m, out);
-            }
-            Shape::InstrumentationIntegrated => {}
-        }
-        Ok(())
-    }
-
-    fn inamp_stage(
-        &mut self,
-        i: usize,
-        st: &Stage,
-        vin: Node,
-        vin_n: Node,
-        out: Node,
-    ) -> Result<()> {
-        let s = i + 1;
-        let idx = self
-            .stock
-            .inamps
-            .iter()
-            .position(|p| p.part_id == st.amplifier)
-            .ok_or_else(|| Error::design(format!("in-amp `{}` is not in stock", st.amplifier)))?;
-        let part = &self.stock.inamps[idx];
-        let rk_half = part.gain_resistor.0 / 2.0;
-        let buffer = match &st.buffer {
-            Some(id) => Some(self.opamp_index(id)?),
-            None => None,
-        };
-        let inj = self.injection(i, &st.offset, "o", buffer)?;
-        self.next_u += 1;
-        let d = format!("U{}", self.next_u);
-        let lower = d.to_lowercase();
-        let g1 = self.n.node(&format!("s{s}g1"));
-        let g2 = self.n.node(&format!("s{s}g2"));
-        let pi = self.n.node(&format!("{lower}_pi"));
-        let vos = self.n.vsource(&format!("VOS_{d}"), pi, vin, 0.0);
-        let ibp = self.n.isource(&format!("IBP_{d}"), vin, 0, 0.0);
-        let ibn = self.n.isource(&format!("IBN_{d}"), vin_n, 0, 0.0);
-        self.resistor(i, "rg", st.r("rg")?, g1, g2);
-        let a1 = self.n.node(&format!("{lower}_a1"));
-        let a2 = self.n.node(&format!("{lower}_a2"));
-        let m = self.n.node(&format!("{lower}_m"));
-        let q = self.n.node(&format!("{lower}_q"));
-        let oi = self.n.node(&format!("{lower}_oi"));
-        let g = 1.0 / INAMP_INTERNAL_GAIN;
-        let amp = ElementKind::OpAmp { inverse_gain: g };
-        let res = |ohms| ElementKind::Resistor { ohms };
-        let gain_element = self.n.add_in(&d, &format!("{d}.EA1"), amp, [pi, g1, a1]);
-        self.n.add_in(&d, &format!("{d}.EA2"), amp, [vin_n, g2, a2]);
-        let rk1 = self
-            .n
-            .add_in(&d, &format!("{d}.RK1"), res(rk_half), [a1, g1, 0]);
-        let rk2 = self
-            .n
-            .add_in(&d, &format!("{d}.RK2"), res(rk_half), [a2, g2, 0]);
-        let r1 = self.n.add_in(
-            &d,
-            &format!("{d}.RD1"),
-            res(INAMP_INTERNAL_OHMS),
-            [a2, m, 0],
-        );
-        let r2 = self.n.add_in(
-            &d,
-            &format!("{d}.RD2"),
-            res(INAMP_INTERNAL_OHMS),
-            [m, oi, 0],
-        );
-        let r3 = self.n.add_in(
-            &d,
-            &format!("{d}.RD3"),
-            res(INAMP_INTERNAL_OHMS),
-            [a1, q, 0],
-        );
-        let r4 = self.n.add_in(
-            &d,
-            &format!("{d}.RD4"),
-            res(INAMP_INTERNAL_OHMS),
-            [q, inj, 0],
-        );
-        self.n.add_in(&d, &format!("{d}.EA3"), amp, [q, m, oi]);
-        let output_offset = self.n.vsource(&format!("VOSO_{d}"), out, oi, 0.0);
-        self.internal_resistors.extend([rk1, rk2, r1, r2, r3, r4]);
-        self.sections.push(Section {
-            designator: d.clone(),
-            package: d.clone(),
-            stage: i,
-            kind: AmplifierKind::InAmp(idx),
-            plus: vin,
-            minus: vin_n,
-            out,
-            gain_element,
-            vos,
-            ibp,
-            ibn,
-            internal_outputs: vec![a1, a2],
-            inamp: Some(InAmpInternals {
-                output_offset,
-                gain_resistors: vec![r2, r4],
-            }),
-        });
-        self.packages.push(Package {
-            designator: d.clone(),
-            kind: AmplifierKind::InAmp(idx),
-            part_id: part.part_id.clone(),
-            channels: 1,
-            used: vec![d],
-            unit_cost: part.unit_cost,
-        });
-        Ok(())
+    /// Place stage `index` by its shape's netlist template.
+    fn stage(&mut self, index: usize, stage: &Stage, nodes: StageNodes) -> Result<()> {
+        stage.shape.behaviour().build(self, index, stage, nodes)
     }
 }
 
@@ -520,42 +404,48 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
     if design.stages.is_empty() {
         return Err(Error::design("a design needs at least one stage"));
     }
-    let mut b = Builder {
+    let mut builder = Builder {
         need,
         stock,
-        n: Netlist::new(),
+        netlist: Netlist::new(),
         resistors: Vec::new(),
         internal_resistors: Vec::new(),
         sections: Vec::new(),
         packages: Vec::new(),
         sources: Vec::new(),
-        next_u: 0,
-        next_vr: 0,
+        package_count: 0,
+        reference_count: 0,
         open_packages: BTreeMap::new(),
     };
     // The sensor.
-    let inp = b.n.node("inp");
+    let inp = builder.netlist.node("inp");
     let differential = need.sensor.output == SensorOutput::Differential;
     let (vsense, vcm, inn) = if differential {
-        let inn = b.n.node("inn");
-        let vs = b.n.vsource("VSENSE", inp, inn, need.sensor.signal_low.0);
-        let vcm = b.n.vsource("VCM", inn, 0, need.sensor.common_mode.0);
+        let inn = builder.netlist.node("inn");
+        let vs = builder
+            .netlist
+            .vsource("VSENSE", inp, inn, need.sensor.signal_low.0);
+        let vcm = builder
+            .netlist
+            .vsource("VCM", inn, 0, need.sensor.common_mode.0);
         (vs, Some(vcm), inn)
     } else {
-        let vs = b.n.vsource("VSENSE", inp, 0, need.sensor.signal_low.0);
+        let vs = builder
+            .netlist
+            .vsource("VSENSE", inp, 0, need.sensor.signal_low.0);
         (vs, None, 0)
     };
     let mut source_resistors = Vec::new();
     let rs = need.sensor.source.0;
     let (sp, sn) = if rs > 0.0 {
-        let sp = b.n.node("sp");
+        let sp = builder.netlist.node("sp");
         if differential {
-            let sn = b.n.node("sn");
-            source_resistors.push(b.n.resistor("RSENSE_P", inp, sp, rs));
-            source_resistors.push(b.n.resistor("RSENSE_N", inn, sn, rs));
+            let sn = builder.netlist.node("sn");
+            source_resistors.push(builder.netlist.resistor("RSENSE_P", inp, sp, rs));
+            source_resistors.push(builder.netlist.resistor("RSENSE_N", inn, sn, rs));
             (sp, sn)
         } else {
-            source_resistors.push(b.n.resistor("RSENSE", inp, sp, rs));
+            source_resistors.push(builder.netlist.resistor("RSENSE", inp, sp, rs));
             (sp, 0)
         }
     } else {
@@ -564,34 +454,39 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
     let last = design.stages.len() - 1;
     let mut vin = (sp, sn);
     let mut stage_outputs = Vec::new();
-    for (i, st) in design.stages.iter().enumerate() {
-        if i == 0 && differential && !st.shape.differential_input() {
+    for (i, stage) in design.stages.iter().enumerate() {
+        if i == 0 && differential && !stage.shape.differential_input() {
             return Err(Error::design(format!(
                 "the sensor is differential, so the first stage must be a difference or instrumentation stage, not {}",
-                st.shape.name()
+                stage.shape.name()
             )));
         }
         let out = if i == last {
-            b.n.node("out")
+            builder.netlist.node("out")
         } else {
-            b.n.node(&format!("s{}o", i + 1))
+            builder.netlist.node(&format!("s{}o", i + 1))
         };
-        b.stage(i, st, vin.0, vin.1, out)?;
+        let nodes = StageNodes {
+            plus: vin.0,
+            minus: vin.1,
+            out,
+        };
+        builder.stage(i, stage, nodes)?;
         stage_outputs.push(out);
         vin = (out, 0);
     }
     let out = *stage_outputs.last().unwrap_or(&0);
     Ok(Built {
-        netlist: b.n,
+        netlist: builder.netlist,
         out,
         vsense,
         vcm,
-        resistors: b.resistors,
+        resistors: builder.resistors,
         source_resistors,
-        internal_resistors: b.internal_resistors,
-        sections: b.sections,
-        packages: b.packages,
-        sources: b.sources,
+        internal_resistors: builder.internal_resistors,
+        sections: builder.sections,
+        packages: builder.packages,
+        sources: builder.sources,
         stage_outputs,
     })
 }

@@ -142,7 +142,10 @@ impl Case {
         let rs = self.source_ohms;
         let mut r = BTreeMap::new();
         let mut put = |role: &str, ohms: f64, precise: bool| {
-            r.insert(role.to_string(), resistor(ohms, precise));
+            r.insert(
+                role.parse::<spanfit::design::Role>().expect("a role"),
+                resistor(ohms, precise),
+            );
         };
         let direct = |reference: Option<&str>| match reference {
             Some(id) => Injection::Direct {

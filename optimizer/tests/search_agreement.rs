@@ -5,7 +5,7 @@
 //! tight target); both must reach the same optimum objective.
 
 use proptest::prelude::*;
-use spanfit::search::{solve, Progress, SolveControl};
+use spanfit::search::{solve, Progress, SearchMode, SolveControl};
 use spanfit::stock::{parse_stock, StockFile};
 
 fn small_stock() -> Vec<StockFile> {
@@ -59,7 +59,13 @@ fn run_counted(need: &spanfit::need::Need, exhaustive: bool) -> (Option<f64>, u6
         progress: &mut progress,
         now_ms: &clock,
     };
-    let outcome = solve(need, &stock, exhaustive, &mut control).expect("search runs");
+    let outcome = solve(
+        need,
+        &stock,
+        SearchMode::from_exhaustive(exhaustive),
+        &mut control,
+    )
+    .expect("search runs");
     (
         outcome.best.map(|b| b.costing.total),
         outcome.stats.evaluated,

@@ -43,7 +43,7 @@ use common::ngspice::run_ngspice;
 use spanfit::analysis::Line;
 use spanfit::design::Shape;
 use spanfit::need::{parse_need, Calibration, Need};
-use spanfit::search::{solve, Candidate, Progress, SolveControl, SolveOutcome};
+use spanfit::search::{solve, Candidate, Progress, SearchMode, SolveControl, SolveOutcome};
 use spanfit::stock::{parse_stock, Stock};
 use std::time::Instant;
 
@@ -220,7 +220,13 @@ fn solve_timed(need: &Need, stock: &Stock, exhaustive: bool) -> SolveOutcome {
         progress: &mut progress,
         now_ms: &clock,
     };
-    solve(need, stock, exhaustive, &mut control).unwrap_or_else(|e| panic!("solve failed: {e}"))
+    solve(
+        need,
+        stock,
+        SearchMode::from_exhaustive(exhaustive),
+        &mut control,
+    )
+    .unwrap_or_else(|e| panic!("solve failed: {e}"))
 }
 
 /// The best design and every alternative, each once.
@@ -583,7 +589,8 @@ fn cancelled_search_is_not_proven_and_keeps_its_best() {
             progress: &mut progress,
             now_ms: &clock,
         };
-        solve(&n, &stock, false, &mut control).unwrap_or_else(|e| panic!("solve failed: {e}"))
+        solve(&n, &stock, SearchMode::Optimised, &mut control)
+            .unwrap_or_else(|e| panic!("solve failed: {e}"))
     };
     let Some(optimum) = full.best.as_ref().map(|b| b.costing.total) else {
         panic!("no demo design: {:?}", full.infeasible);
@@ -619,8 +626,8 @@ fn cancelled_search_is_not_proven_and_keeps_its_best() {
             progress: &mut progress,
             now_ms: &clock,
         };
-        let o =
-            solve(&n, &stock, false, &mut control).unwrap_or_else(|e| panic!("solve failed: {e}"));
+        let o = solve(&n, &stock, SearchMode::Optimised, &mut control)
+            .unwrap_or_else(|e| panic!("solve failed: {e}"));
         println!(
             "cut after {cut} calls: proven {}, best {:?}, gap {:?}",
             o.stats.proven_optimal,

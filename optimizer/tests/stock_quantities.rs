@@ -2,7 +2,7 @@
 //! or two at a time, no returned design uses a part more often than the
 //! shelf holds, and the search still finds a design.
 
-use spanfit::search::{solve, Progress, SolveControl};
+use spanfit::search::{solve, Progress, SearchMode, SolveControl};
 use spanfit::stock::{parse_stock, StockFile};
 use std::collections::BTreeMap;
 
@@ -40,7 +40,8 @@ fn no_part_is_used_more_often_than_stocked() {
             progress: &mut progress,
             now_ms: &clock,
         };
-        let outcome = solve(&need, &stock, false, &mut control).expect("search runs");
+        let outcome =
+            solve(&need, &stock, SearchMode::Optimised, &mut control).expect("search runs");
         let best = outcome.best.as_ref().expect("a design within stock");
         for c in &outcome.alternatives {
             let mut used: BTreeMap<&str, u32> = BTreeMap::new();

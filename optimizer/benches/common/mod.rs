@@ -14,7 +14,7 @@
 #![allow(dead_code)]
 
 use spanfit::need::{parse_need, Need};
-use spanfit::search::{solve, Progress, SolveControl, SolveOutcome};
+use spanfit::search::{solve, Progress, SearchMode, SolveControl, SolveOutcome};
 use spanfit::series::Series;
 use spanfit::stock::{parse_stock, Stock, StockFile};
 use std::time::Instant;
@@ -89,5 +89,11 @@ pub fn run(need: &Need, stock: &Stock, exhaustive: bool) -> SolveOutcome {
         progress: &mut progress,
         now_ms: &clock,
     };
-    solve(need, stock, exhaustive, &mut control).unwrap_or_else(|e| panic!("solve failed: {e}"))
+    solve(
+        need,
+        stock,
+        SearchMode::from_exhaustive(exhaustive),
+        &mut control,
+    )
+    .unwrap_or_else(|e| panic!("solve failed: {e}"))
 }

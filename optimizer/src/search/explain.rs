@@ -1,0 +1,295 @@
+//! Why a need is infeasible: what the search learnt (failed checks, the
+//! most accurate design, the nearest rejected group), the binding limit in
+//! words, and changes to the need or stock verified by solving again.
+
+use super::{
+    solve_with, Candidate, Infeasibility, SearchMode, SolveControl, Suggestion, Suggestions,
+};
+use crate::analysis::Finding;
+use crate::need::{Basis, Calibration, Need, Objective};
+use crate::stock::Stock;
+use std::collections::BTreeMap;
+
+/// What the search learnt about why designs fail, for the infeasible case.
+#[derive(Default)]
+pub(super) struct Diagnosis {
+    /// Failed check name to (designs failing it, one detail).
+    failed_checks: BTreeMap<String, (usize, String)>,
+    /// The most accurate feasible design analysed.
+    best: Option<Candidate>,
+    /// Its error, volts.
+    pub(super) best_error_v: Option<f64>,
+    /// The nearest miss among the groups turned away.
+    pub(super) closest_rejection: Option<(String, f64)>,
+}
+
+impl Diagnosis {
+    /// Count the failed checks of an analysis.
+    pub(super) fn note_findings(&mut self, findings: &[Finding]) {
+        for f in findings.iter().filter(|f| !f.ok) {
+            let entry = self
+                .failed_checks
+                .entry(f.check.clone())
+                .or_insert((0, f.detail.clone()));
+            entry.0 += 1;
+        }
+    }
+
+    /// Learn from a verified design.
+    pub(super) fn note(&mut self, c: &Candidate) {
+        if !c.analysis.feasible {
+            self.note_findings(&c.analysis.findings);
+            return;
+        }
+        let replace = match &self.best {
+            None => true,
+            Some(b) => c.analysis.basis_pct_fs < b.analysis.basis_pct_fs,
+        };
+        if replace {
+            self.best_error_v = Some(c.analysis.basis_pct_fs / 100.0 * c.analysis.full_scale_v);
+            self.best = Some(c.clone());
+        }
+    }
+}
+
+/// The best error this stock can reach: a search for the most accurate
+/// design, whatever its cost (the cost search screens out the accurate but
+/// dear structures before analysing them). It is searched over the best
+/// resistor grade on the shelf only, which keeps it to a fraction of the
+/// cost search's structures.
+fn most_accurate(need: &Need, stock: &Stock, control: &mut SolveControl<'_>) -> Option<Candidate> {
+    let mut loose = need.clone();
+    loose.search.objective = Objective::Error;
+    loose.accuracy.max_error_pct_fs = 100.0;
+    loose.search.time_limit_ms = need.search.time_limit_ms.min(1000);
+    let best_grade = stock
+        .resistors
+        .iter()
+        .map(|r| (r.tolerance.0, r.tcr.0))
+        .reduce(|a, b| if (b.0, b.1) < (a.0, a.1) { b } else { a });
+    let mut precise = stock.clone();
+    if let Some((tol, tcr)) = best_grade {
+        precise
+            .resistors
+            .retain(|r| r.tolerance.0 == tol && r.tcr.0 == tcr);
+    }
+    solve_with(
+        &loose,
+        &precise,
+        SearchMode::Optimised,
+        control,
+        Suggestions::Skip,
+    )
+    .ok()
+    .and_then(|o| o.best)
+}
+
+/// The binding limit in words, the best error (% FS) and the largest
+/// contributors of the best design known.
+fn binding_limit(
+    need: &Need,
+    diagnosis: &Diagnosis,
+    best_known: Option<&Candidate>,
+) -> (String, Option<f64>, Vec<(String, f64)>) {
+    let target = need.accuracy.max_error_pct_fs;
+    match best_known {
+        Some(b) => {
+            let e = b.analysis.basis_pct_fs;
+            let mut lines: Vec<(String, f64)> = b
+                .analysis
+                .budget
+                .iter()
+                .map(|l| (l.source.clone(), l.pct_fs))
+                .collect();
+            lines.sort_by(|x, y| y.1.total_cmp(&x.1));
+            lines.truncate(4);
+            (
+                format!(
+                    "accuracy: the best design this stock allows reaches {e:.4} % FS on the {} basis against a target of {target:.4} % FS ({:.4} % FS over)",
+                    basis_name(need.accuracy.basis),
+                    e - target
+                ),
+                Some(e),
+                lines,
+            )
+        }
+        None => {
+            let worst = diagnosis.failed_checks.iter().max_by_key(|(_, v)| v.0);
+            match worst {
+                Some((check, (_, detail))) => (format!("{check}: no structure passes; for example {detail}"), None, Vec::new()),
+                None => match &diagnosis.closest_rejection {
+                    Some((why, _)) => (format!("no structure passes; the nearest miss: {why}"), None, Vec::new()),
+                    None => ("no structure can be built from this stock for this need (check the topologies, the supplies and the offset sources)".into(), None, Vec::new()),
+                },
+            }
+        }
+    }
+}
+
+/// Explain an infeasible need: the binding limit and, with
+/// [`Suggestions::Try`], the verified changes.
+pub(super) fn explain(
+    need: &Need,
+    stock: &Stock,
+    diagnosis: &Diagnosis,
+    control: &mut SolveControl<'_>,
+    suggestions: Suggestions,
+) -> Infeasibility {
+    let most_accurate = match suggestions {
+        Suggestions::Try => most_accurate(need, stock, control),
+        Suggestions::Skip => None,
+    };
+    let best_known = match (&diagnosis.best, most_accurate) {
+        (Some(b), Some(m)) if m.analysis.basis_pct_fs < b.analysis.basis_pct_fs => Some(m),
+        (Some(b), _) => Some(b.clone()),
+        (None, m) => m,
+    };
+    let (binding, best_error, largest) = binding_limit(need, diagnosis, best_known.as_ref());
+    let verified = match suggestions {
+        Suggestions::Try => verified_suggestions(need, stock, best_error, control),
+        Suggestions::Skip => Vec::new(),
+    };
+    Infeasibility {
+        binding,
+        best_error_pct_fs: best_error,
+        target_pct_fs: need.accuracy.max_error_pct_fs,
+        largest,
+        suggestions: verified,
+    }
+}
+
+/// Changes to the need worth trying, each with the need it makes.
+fn need_changes(need: &Need, best_error: Option<f64>) -> Vec<(String, Need)> {
+    let mut tries: Vec<(String, Need)> = Vec::new();
+    for (calibration, name) in [
+        (Calibration::Offset, "offset"),
+        (Calibration::TwoPoint, "two-point"),
+    ] {
+        if need.accuracy.calibration != calibration
+            && need.accuracy.calibration != Calibration::TwoPoint
+        {
+            let mut changed = need.clone();
+            changed.accuracy.calibration = calibration;
+            tries.push((
+                format!("calibrate after assembly: calibration = \"{name}\""),
+                changed,
+            ));
+        }
+    }
+    if need.accuracy.basis == Basis::WorstCase {
+        let mut changed = need.clone();
+        changed.accuracy.basis = Basis::Rss;
+        tries.push((
+            "judge the budget by RSS instead of worst case: basis = \"rss\"".into(),
+            changed,
+        ));
+    }
+    if need.search.max_stages < 3 {
+        let mut changed = need.clone();
+        changed.search.max_stages = 3;
+        tries.push(("allow up to three stages: max_stages = 3".into(), changed));
+    }
+    if let Some(e) = best_error {
+        let relaxed = (e * 1.05 * 1000.0).ceil() / 1000.0;
+        let mut changed = need.clone();
+        changed.accuracy.max_error_pct_fs = relaxed;
+        tries.push((
+            format!("relax the target: max_error_pct_fs = {relaxed}"),
+            changed,
+        ));
+    }
+    if need.adc.margin.0 > 0.0 {
+        let mut changed = need.clone();
+        changed.adc.margin = crate::units::Percent(need.adc.margin.0 / 2.0);
+        tries.push((
+            format!(
+                "halve the ADC margin: margin_pct = {}",
+                need.adc.margin.0 / 2.0
+            ),
+            changed,
+        ));
+    }
+    if need.supply.negative.0 == 0.0 && need.supply.positive.0 > 0.0 {
+        let mut changed = need.clone();
+        changed.supply.negative = crate::units::Volts(-need.supply.positive.0);
+        tries.push((
+            format!(
+                "add a negative rail: negative_v = {}",
+                -need.supply.positive.0
+            ),
+            changed,
+        ));
+    }
+    tries
+}
+
+/// The cheapest design of a changed need or stock, as a suggestion.
+fn try_change(
+    change: String,
+    need: &Need,
+    stock: &Stock,
+    control: &mut SolveControl<'_>,
+) -> Option<Suggestion> {
+    let outcome = solve_with(
+        need,
+        stock,
+        SearchMode::Optimised,
+        control,
+        Suggestions::Skip,
+    )
+    .ok()?;
+    outcome.best.map(|b| Suggestion {
+        change,
+        cost: b.costing.total,
+        error_pct_fs: b.analysis.basis_pct_fs,
+    })
+}
+
+/// Every change that makes the need feasible, each verified by a search.
+fn verified_suggestions(
+    need: &Need,
+    stock: &Stock,
+    best_error: Option<f64>,
+    control: &mut SolveControl<'_>,
+) -> Vec<Suggestion> {
+    let tries = need_changes(need, best_error);
+    let mut out = Vec::new();
+    // Stock the search did not use for want of a grade: every resistor at
+    // the best tolerance and TCR the stock offers.
+    if let (Some(tol), Some(tcr)) = (
+        stock
+            .resistors
+            .iter()
+            .map(|r| r.tolerance.0)
+            .reduce(f64::min),
+        stock.resistors.iter().map(|r| r.tcr.0).reduce(f64::min),
+    ) {
+        if stock
+            .resistors
+            .iter()
+            .any(|r| r.tolerance.0 > tol || r.tcr.0 > tcr)
+        {
+            let mut tighter = stock.clone();
+            for r in &mut tighter.resistors {
+                r.tolerance = crate::units::Percent(tol);
+                r.tcr = crate::units::PpmPerC(tcr);
+            }
+            let change = format!(
+                "stock every resistor value of the design in the best grade on the shelf ({tol} %, {tcr} ppm/degC)"
+            );
+            out.extend(try_change(change, need, &tighter, control));
+        }
+    }
+    for (change, changed) in tries {
+        out.extend(try_change(change, &changed, stock, control));
+    }
+    out
+}
+
+fn basis_name(b: Basis) -> &'static str {
+    match b {
+        Basis::WorstCase => "worst-case",
+        Basis::Rss => "RSS",
+        Basis::Yield => "yield",
+    }
+}

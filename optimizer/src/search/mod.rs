@@ -1,0 +1,332 @@
+//! The optimiser: from a need and a stock, the cheapest design that meets
+//! the accuracy target by the engine's own numbers.
+//!
+//! The shape of the search (docs/error-budget.md gives the budget it
+//! judges by):
+//! 1. *groups* (`groups`): stage shapes in sequence, the op-amp (and
+//!    in-amp) part, the stage that carries the offset and its source, and
+//!    the gain split; each group is checked for swing and common mode with
+//!    the ideal closed forms before anything costly;
+//! 2. *structures* (`structures`): a group with a resistor grade per
+//!    stage; each has a cost lower bound, and structures are taken cheapest
+//!    bound first, so the search stops (proven) when the next bound is no
+//!    better than the best design found;
+//! 3. for each structure, a reference design is analysed once; its budget,
+//!    split by stage and rescaled per grade, screens the structure; per
+//!    stage the best few value sets for the target ratios come from a ratio
+//!    search over the sorted value list (`value_sets`, `ratio`);
+//! 4. a MILP (`milp`) picks one value set per stage: linearised rounding
+//!    errors that may cancel across stages, a fee per distinct BOM line,
+//!    the error bound at both span ends; the pick is re-verified by the
+//!    full analysis and cut off if it fails.
+//!
+//! [`SearchMode::Exhaustive`] enumerates the same structures and value sets
+//! with no bound, screen or MILP, analysing every combination in full
+//! (`strategy`, `verify`). The Pareto front of verified designs is kept
+//! (`pareto`), and an infeasible need is explained (`explain`).
+
+mod explain;
+mod groups;
+mod milp;
+mod pareto;
+pub(crate) mod ratio;
+mod strategy;
+mod structures;
+mod value_sets;
+mod verify;
+
+pub use structures::augment_stock;
+
+use crate::analysis::{part_count, Analysis};
+use crate::design::{Design, Source};
+use crate::error::Result;
+use crate::need::{Need, SensorOutput};
+use crate::stock::Stock;
+use crate::topology::Built;
+use serde::Serialize;
+use std::collections::BTreeSet;
+use structures::Grade;
+
+/// Progress of a search, reported through [`SolveControl::progress`].
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Progress {
+    /// Candidate structures done.
+    pub done: u64,
+    /// Candidate structures in all.
+    pub total: u64,
+    /// Cost of the best design found so far, if any.
+    pub best_cost: Option<f64>,
+}
+
+/// What a front end hands the search besides the need: a progress sink
+/// (return `false` to stop early and keep the best so far) and a clock in
+/// milliseconds (the core reads no clock itself).
+pub struct SolveControl<'a> {
+    /// Called now and then; returning `false` cancels the search.
+    pub progress: &'a mut dyn FnMut(Progress) -> bool,
+    /// Monotonic milliseconds from any origin.
+    pub now_ms: &'a dyn Fn() -> f64,
+}
+
+/// How the search walks the structures.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SearchMode {
+    /// Cheapest bound first, screened, one MILP per structure; stops when
+    /// the next bound cannot beat the best design (proven optimum).
+    Optimised,
+    /// Every structure and every combination of its value sets analysed
+    /// in full: no bound, screen or MILP.
+    Exhaustive,
+}
+
+impl SearchMode {
+    /// The mode a front end's `--exhaustive` switch asks for.
+    pub fn from_exhaustive(exhaustive: bool) -> SearchMode {
+        if exhaustive {
+            SearchMode::Exhaustive
+        } else {
+            SearchMode::Optimised
+        }
+    }
+
+    /// The name in the report's `search.mode` field.
+    pub fn name(self) -> &'static str {
+        match self {
+            SearchMode::Optimised => "optimised",
+            SearchMode::Exhaustive => "exhaustive",
+        }
+    }
+}
+
+/// Money and counts of a built design.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Costing {
+    /// Sum of unit costs of all parts.
+    pub parts_cost: f64,
+    /// Distinct part numbers.
+    pub bom_lines: usize,
+    /// Parts on the board.
+    pub part_count: usize,
+    /// Parts cost plus one line fee per distinct part number.
+    pub total: f64,
+}
+
+/// Cost a built design.
+pub fn costing(built: &Built, bom_line_cost: f64) -> Costing {
+    let mut ids = BTreeSet::new();
+    let mut parts_cost = 0.0;
+    for r in &built.resistors {
+        parts_cost += r.part.unit_cost;
+        ids.insert(format!("r:{}", r.part.part_id));
+    }
+    for p in &built.packages {
+        parts_cost += p.unit_cost;
+        ids.insert(format!("u:{}", p.part_id));
+    }
+    for source in &built.sources {
+        if let (Some(_), Source::Reference(id)) = (source.reference, &source.source) {
+            parts_cost += source.unit_cost;
+            ids.insert(format!("v:{id}"));
+        }
+    }
+    let bom_lines = ids.len();
+    Costing {
+        parts_cost,
+        bom_lines,
+        part_count: part_count(built),
+        total: parts_cost + bom_line_cost * bom_lines as f64,
+    }
+}
+
+/// One evaluated design.
+#[derive(Debug, Clone)]
+pub struct Candidate {
+    /// The design.
+    pub design: Design,
+    /// Its netlist and part map.
+    pub built: Built,
+    /// Its costing.
+    pub costing: Costing,
+    /// Its full analysis.
+    pub analysis: Analysis,
+}
+
+/// Counters of a search.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SearchStats {
+    /// `"optimised"` or `"exhaustive"` ([`SearchMode::name`]).
+    pub mode: String,
+    /// Designs fully analysed.
+    pub evaluated: u64,
+    /// Structures considered.
+    pub structures: u64,
+    /// MILP problems solved.
+    pub milp_solves: u64,
+    /// Wall time from the caller's clock.
+    pub elapsed_ms: f64,
+    /// The optimum over the search space is proven.
+    pub proven_optimal: bool,
+    /// Proven gap between the best cost found and the lowest cost still
+    /// possible, when cut short.
+    pub gap: Option<f64>,
+}
+
+/// A change that would make an infeasible need feasible, verified by
+/// solving again with it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Suggestion {
+    /// What to change, in words.
+    pub change: String,
+    /// Cost of the cheapest design with the change.
+    pub cost: f64,
+    /// Its error on the need's basis, % FS.
+    pub error_pct_fs: f64,
+}
+
+/// Why no design meets the need.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Infeasibility {
+    /// The limit that binds, in words, with by how much.
+    pub binding: String,
+    /// Best error reached with this stock on the need's basis, % FS.
+    pub best_error_pct_fs: Option<f64>,
+    /// The target.
+    pub target_pct_fs: f64,
+    /// Largest contributors of the best design: (source, % FS).
+    pub largest: Vec<(String, f64)>,
+    /// Verified changes that would make it feasible.
+    pub suggestions: Vec<Suggestion>,
+}
+
+/// The outcome of a search.
+#[derive(Debug, Clone)]
+pub struct SolveOutcome {
+    /// The chosen design, when one meets the need.
+    pub best: Option<Candidate>,
+    /// The cost/error Pareto front (each a full design), best first.
+    pub alternatives: Vec<Candidate>,
+    /// Counters.
+    pub stats: SearchStats,
+    /// Why not, when no design meets the need.
+    pub infeasible: Option<Infeasibility>,
+}
+
+/// Whether an infeasible need is explained with verified suggestions (each
+/// a search of its own) or with the binding limit alone (the searches the
+/// suggestions run use this, so they do not recurse).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Suggestions {
+    /// Search for the most accurate design and try each change.
+    Try,
+    /// The binding limit only.
+    Skip,
+}
+
+/// What every part of the search reads: the need, the stock as augmented,
+/// its resistor grades, and the need's numbers the search uses most.
+struct Problem<'a> {
+    need: &'a Need,
+    stock: &'a Stock,
+    grades: Vec<Grade>,
+    /// Sensor signal at the low and high span ends, volts.
+    signal: [f64; 2],
+    /// Ideal output at the span ends, volts.
+    ideal: [f64; 2],
+    /// Allowed error on the need's basis, volts at the output.
+    target_v: f64,
+}
+
+impl Problem<'_> {
+    /// The sensor's own resistance on the (+, -) input legs of a stage
+    /// (zero past the first stage).
+    fn sensor_ohms(&self, stage: usize) -> (f64, f64) {
+        if stage > 0 {
+            return (0.0, 0.0);
+        }
+        let r = self.need.sensor.source.0;
+        match self.need.sensor.output {
+            SensorOutput::Differential => (r, r),
+            SensorOutput::SingleEnded => (r, 0.0),
+        }
+    }
+
+    /// The (+, -) input voltages of a stage at both span ends; `previous`
+    /// is the ideal output of the stage before.
+    fn stage_inputs(&self, stage: usize, previous: [f64; 2]) -> [(f64, f64); 2] {
+        if stage == 0 {
+            let cm = match self.need.sensor.output {
+                SensorOutput::Differential => self.need.sensor.common_mode.0,
+                SensorOutput::SingleEnded => 0.0,
+            };
+            [(cm + self.signal[0], cm), (cm + self.signal[1], cm)]
+        } else {
+            [(previous[0], 0.0), (previous[1], 0.0)]
+        }
+    }
+}
+
+/// Search for the cheapest design meeting the need (or, with
+/// `objective = "error"` / `"parts"`, the most accurate / the fewest parts).
+pub fn solve(
+    need: &Need,
+    stock: &Stock,
+    mode: SearchMode,
+    control: &mut SolveControl<'_>,
+) -> Result<SolveOutcome> {
+    solve_with(need, stock, mode, control, Suggestions::Try)
+}
+
+fn solve_with(
+    need: &Need,
+    stock: &Stock,
+    mode: SearchMode,
+    control: &mut SolveControl<'_>,
+    suggestions: Suggestions,
+) -> Result<SolveOutcome> {
+    let stock = augment_stock(need, stock);
+    let (k, b) = need.ideal_transfer();
+    let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
+    let problem = Problem {
+        need,
+        stock: &stock,
+        grades: structures::grades(&stock),
+        signal,
+        ideal: [k * signal[0] + b, k * signal[1] + b],
+        target_v: need.accuracy.max_error_pct_fs / 100.0 * need.full_scale(),
+    };
+    let run = strategy::run(&problem, mode, control);
+    let mut alternatives = pareto::front(run.found);
+    if let Some(best) = &run.best {
+        alternatives.retain(|a| {
+            a.design != best.design
+                && !((a.costing.total - best.costing.total).abs() < 1e-12
+                    && (a.analysis.basis_pct_fs - best.analysis.basis_pct_fs).abs() < 1e-12)
+        });
+        alternatives.insert(0, best.clone());
+    }
+    let infeasible = if run.best.is_none() && run.cancelled {
+        Some(Infeasibility {
+            binding: "stopped before any design was found".into(),
+            best_error_pct_fs: None,
+            target_pct_fs: need.accuracy.max_error_pct_fs,
+            largest: Vec::new(),
+            suggestions: Vec::new(),
+        })
+    } else if run.best.is_none() {
+        Some(explain::explain(
+            need,
+            &stock,
+            &run.diagnosis,
+            control,
+            suggestions,
+        ))
+    } else {
+        None
+    };
+    Ok(SolveOutcome {
+        best: run.best,
+        alternatives,
+        stats: run.stats,
+        infeasible,
+    })
+}

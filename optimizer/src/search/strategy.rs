@@ -1,0 +1,504 @@
+//! The walk over structures, with the two ways of searching one structure
+//! behind one interface: [`Optimised`] (screen, reference design, MILP
+//! picks verified in full) and [`Exhaustive`] (every combination of value
+//! sets analysed). Both hand their verified designs to one
+//! [`SearchState::offer`], which keeps the best and the Pareto candidates.
+
+use super::explain::Diagnosis;
+use super::groups::{enumerate_groups, Group, Rejections, SCREEN_SLACK};
+use super::milp::{calibrated, default_solver, select_value_sets, SelectionBounds};
+use super::structures::{structures, Structure};
+use super::value_sets::{value_sets_for_structure, ValueSet, ValueSetCache};
+use super::verify::{estimate_random, verify, verify_model};
+use super::{costing, Candidate, Problem, Progress, SearchMode, SearchStats, SolveControl};
+use crate::analysis::{Model, RandomSplit};
+use crate::need::{Basis, Objective};
+use std::collections::BTreeMap;
+
+/// Share of a structure's reference random error that every value set of
+/// the structure is assumed to keep (see [`Optimised`]).
+const RANDOM_SPREAD: f64 = 0.7;
+/// Loosening of the MILP's linearised error bound (see [`Optimised`]).
+const LINEAR_SLACK: f64 = 1.25;
+/// Most picks cut off in one structure before it is given up.
+const MAX_CUTS: usize = 60;
+/// Most picks analysed in full in one structure before it is given up.
+const MAX_ANALYSED: usize = 16;
+/// Structures searched past the proof, for the Pareto front.
+const PARETO_EXTRA_STRUCTURES: usize = 6;
+
+/// Objective key of a verified design (lower is better).
+fn objective_key(objective: Objective, c: &Candidate) -> (f64, f64, f64) {
+    let e = c.analysis.basis_pct_fs;
+    let cost = (c.costing.total * 1e9).round() / 1e9;
+    let parts = c.costing.part_count as f64;
+    match objective {
+        Objective::Cost => (cost, parts, e),
+        Objective::Parts => (parts, cost, e),
+        Objective::Error => (e, cost, parts),
+    }
+}
+
+/// Whether `a` ranks before `b` under the objective (ties broken by the
+/// second and third key).
+fn ranks_before(objective: Objective, a: &Candidate, b: &Candidate) -> bool {
+    let (x, y) = (objective_key(objective, a), objective_key(objective, b));
+    x.0 < y.0 - 1e-12
+        || ((x.0 - y.0).abs() <= 1e-12
+            && (x.1 < y.1 - 1e-12 || ((x.1 - y.1).abs() <= 1e-12 && x.2 < y.2)))
+}
+
+/// What a search holds as it goes: the best design, every design that met
+/// the target, what it learnt of failures, and its counters.
+pub(super) struct SearchState {
+    objective: Objective,
+    /// The best design meeting the target.
+    pub(super) best: Option<Candidate>,
+    /// Every verified design meeting the target.
+    pub(super) found: Vec<Candidate>,
+    /// Failures and the most accurate design, for an infeasible need.
+    pub(super) diagnosis: Diagnosis,
+    /// Designs analysed.
+    evaluated: u64,
+    /// MILP problems solved.
+    milp_solves: u64,
+}
+
+impl SearchState {
+    /// A verified design: learnt from, and kept when it meets the target
+    /// (as the best when it ranks first). Returns whether it met the target.
+    fn offer(&mut self, candidate: Candidate) -> bool {
+        self.diagnosis.note(&candidate);
+        if !candidate.analysis.meets_target {
+            return false;
+        }
+        if self
+            .best
+            .as_ref()
+            .is_none_or(|b| ranks_before(self.objective, &candidate, b))
+        {
+            self.best = Some(candidate.clone());
+        }
+        self.found.push(candidate);
+        true
+    }
+}
+
+/// How one structure is searched.
+trait StructureSearch {
+    /// The mode, for the report.
+    fn mode(&self) -> SearchMode;
+    /// Whether the walk stops once the structures' bounds prove the best.
+    fn stops_at_proof(&self) -> bool;
+    /// Whether a structure is dropped before its value sets are made.
+    fn screens_out(&self, problem: &Problem<'_>, structure: &Structure) -> bool;
+    /// Search one structure with its value sets, offering every verified
+    /// design to `state`.
+    fn search(
+        &mut self,
+        problem: &Problem<'_>,
+        group: &Group,
+        structure: &Structure,
+        value_sets: &[Vec<ValueSet>],
+        state: &mut SearchState,
+    );
+}
+
+/// Every combination of value sets analysed in full.
+struct Exhaustive;
+
+impl StructureSearch for Exhaustive {
+    fn mode(&self) -> SearchMode {
+        SearchMode::Exhaustive
+    }
+
+    fn stops_at_proof(&self) -> bool {
+        false
+    }
+
+    fn screens_out(&self, _: &Problem<'_>, _: &Structure) -> bool {
+        false
+    }
+
+    fn search(
+        &mut self,
+        problem: &Problem<'_>,
+        group: &Group,
+        structure: &Structure,
+        value_sets: &[Vec<ValueSet>],
+        state: &mut SearchState,
+    ) {
+        let stages = value_sets.len();
+        let mut index = vec![0usize; stages];
+        loop {
+            let picks: Vec<&ValueSet> = index
+                .iter()
+                .enumerate()
+                .map(|(stage, &i)| &value_sets[stage][i])
+                .collect();
+            if let Some(c) = verify(problem, problem.design(group, &structure.grades, &picks)) {
+                state.evaluated += 1;
+                state.offer(c);
+            }
+            // The next combination, first stage fastest.
+            let mut stage = 0;
+            while stage < stages {
+                index[stage] += 1;
+                if index[stage] < value_sets[stage].len() {
+                    break;
+                }
+                index[stage] = 0;
+                stage += 1;
+            }
+            if stage == stages {
+                break;
+            }
+        }
+    }
+}
+
+/// Screened by a budget split shared across a group, a reference design
+/// per structure, then MILP picks verified in full.
+///
+/// The random part of the budget is the reference's; other value sets of
+/// the structure move it (other ratios, other impedances), so the bound on
+/// the nominal error allows it to be smaller by [`RANDOM_SPREAD`]. The MILP
+/// bound is loosened by [`LINEAR_SLACK`] for the linearisation's own error;
+/// the exact closed-form check of each pick holds the real bound, and the
+/// full analysis of each pick is what decides.
+#[derive(Default)]
+struct Optimised {
+    /// Budget split of the first reference design of each group.
+    splits: BTreeMap<usize, RandomSplit>,
+}
+
+/// What the reference design of a structure leaves for its MILP.
+struct ReferenceBounds {
+    /// Allowed nominal error at each span end, volts.
+    allowed: [f64; 2],
+    /// Error no value set changes: what the closed forms miss plus the
+    /// finite-gain error, volts.
+    constant: [f64; 2],
+}
+
+/// The exact nominal error of one value set per stage from the stage
+/// closed forms, as calibration leaves it, volts at both span ends.
+fn closed_form_error(problem: &Problem<'_>, picks: &[&ValueSet]) -> [f64; 2] {
+    let (mut k_real, mut b_real) = (1.0, 0.0);
+    for set in picks {
+        k_real *= set.gain;
+        b_real = set.gain * b_real + set.offset;
+    }
+    calibrated(
+        problem.need.accuracy.calibration,
+        [
+            k_real * problem.signal[0] + b_real - problem.ideal[0],
+            k_real * problem.signal[1] + b_real - problem.ideal[1],
+        ],
+    )
+}
+
+impl Optimised {
+    /// Analyse the reference design (the best-rounding value set of every
+    /// stage), offer it when it may win, and return the bounds its budget
+    /// leaves for the other value sets; `None` ends the structure.
+    fn reference(
+        &mut self,
+        problem: &Problem<'_>,
+        group: &Group,
+        structure: &Structure,
+        value_sets: &[Vec<ValueSet>],
+        state: &mut SearchState,
+    ) -> Option<ReferenceBounds> {
+        let picks: Vec<&ValueSet> = value_sets.iter().map(|sets| &sets[0]).collect();
+        let reference_design = problem.design(group, &structure.grades, &picks);
+        let model = Model::new(problem.need, problem.stock, &reference_design).ok()?;
+        state.evaluated += 1;
+        self.splits
+            .entry(structure.group)
+            .or_insert_with(|| model.random_split(group.shapes.len()));
+        // Checks that no choice of values can change end the structure
+        // here; a swing or common-mode miss may be the reference values'.
+        if !model.feasible() {
+            let findings = model.findings();
+            state.diagnosis.note_findings(&findings);
+            let fixed = findings.iter().any(|f| {
+                !f.ok
+                    && matches!(
+                        f.check.as_str(),
+                        "supply range" | "gain-bandwidth" | "reference headroom" | "part count"
+                    )
+            });
+            if fixed {
+                return None;
+            }
+        }
+        let accuracy = &problem.need.accuracy;
+        let random = model.random_at_ends(accuracy.basis, accuracy.yield_pct);
+        let systematic = model.systematic_at_ends();
+        let quick = (random[0] + systematic[0]).max(random[1] + systematic[1]);
+        let open_loop = model.open_loop_gain_error();
+        let rounding = model.rounding_error();
+        let reference_cost = costing(model.built(), problem.need.search.bom_line_cost).total;
+        let could_win = state
+            .best
+            .as_ref()
+            .is_none_or(|b| reference_cost < b.costing.total + 1e-12);
+        let worth_explaining = state.diagnosis.best_error_v.is_none_or(|e| quick < e);
+        if (quick <= problem.target_v * 1.0 && could_win)
+            || (state.best.is_none() && worth_explaining)
+        {
+            // The reference's model is reported as it is, not built again.
+            if let Some(reference) = verify_model(problem, reference_design, model) {
+                state.offer(reference);
+            }
+        }
+        let allowed = [
+            problem.target_v * SCREEN_SLACK - RANDOM_SPREAD * random[0],
+            problem.target_v * SCREEN_SLACK - RANDOM_SPREAD * random[1],
+        ];
+        if allowed[0] < 0.0 || allowed[1] < 0.0 {
+            return None;
+        }
+        // What the stage closed forms miss (loading by the network, the
+        // sensor's resistance where it is not in a closed form) is taken from
+        // the reference: its netlist rounding less its closed-form rounding;
+        // with the finite-gain error it is the MILP's constant term.
+        let reference_closed = closed_form_error(problem, &picks);
+        let missed = [
+            rounding[0] - reference_closed[0],
+            rounding[1] - reference_closed[1],
+        ];
+        Some(ReferenceBounds {
+            allowed,
+            constant: [missed[0] + open_loop[0], missed[1] + open_loop[1]],
+        })
+    }
+
+    /// One MILP pick after another until one is verified, the cuts run out
+    /// or the MILP finds none.
+    fn picks(
+        &mut self,
+        problem: &Problem<'_>,
+        group: &Group,
+        structure: &Structure,
+        value_sets: &[Vec<ValueSet>],
+        reference: &ReferenceBounds,
+        state: &mut SearchState,
+    ) {
+        let (allowed, constant) = (reference.allowed, reference.constant);
+        let accuracy = &problem.need.accuracy;
+        let mut cuts: Vec<Vec<usize>> = Vec::new();
+        let mut analysed = 0;
+        while cuts.len() < MAX_CUTS && analysed < MAX_ANALYSED {
+            state.milp_solves += 1;
+            let bounds = SelectionBounds {
+                allowed: [allowed[0] * LINEAR_SLACK, allowed[1] * LINEAR_SLACK],
+                constant,
+                cuts: &cuts,
+            };
+            let Some(selection) =
+                select_value_sets(problem, structure, value_sets, &bounds, default_solver())
+            else {
+                break;
+            };
+            let picks: Vec<&ValueSet> = selection
+                .iter()
+                .enumerate()
+                .map(|(stage, &i)| &value_sets[stage][i])
+                .collect();
+            // The exact nominal error of the pick from the stage closed
+            // forms: the linearisation is rough for coarse series, so a
+            // pick it admits wrongly is cut here, before any analysis.
+            let nominal = closed_form_error(problem, &picks);
+            if (0..2).any(|e| (nominal[e] + constant[e]).abs() > allowed[e]) {
+                cuts.push(selection);
+                continue;
+            }
+            analysed += 1;
+            // The first-order total of the pick's own model first: a pick
+            // that misses by it is cut without the corner solves of a full
+            // report (the worst case is never below the first-order sum).
+            let design = problem.design(group, &structure.grades, &picks);
+            let Ok(pick_model) = Model::new(problem.need, problem.stock, &design) else {
+                cuts.push(selection);
+                continue;
+            };
+            let first_order = {
+                let random = pick_model.random_at_ends(accuracy.basis, accuracy.yield_pct);
+                let systematic = pick_model.systematic_at_ends();
+                (random[0] + systematic[0]).max(random[1] + systematic[1])
+            };
+            let quick_miss = accuracy.basis != Basis::Yield && first_order > problem.target_v;
+            if !pick_model.feasible() || quick_miss {
+                cuts.push(selection);
+                continue;
+            }
+            let Some(c) = verify_model(problem, design, pick_model) else {
+                cuts.push(selection);
+                continue;
+            };
+            state.evaluated += 1;
+            if state.offer(c) {
+                break;
+            }
+            cuts.push(selection);
+        }
+    }
+}
+
+impl StructureSearch for Optimised {
+    fn mode(&self) -> SearchMode {
+        SearchMode::Optimised
+    }
+
+    fn stops_at_proof(&self) -> bool {
+        true
+    }
+
+    /// Screen by the group's shared budget split where one exists: the
+    /// same netlist with other grades, rescaled.
+    fn screens_out(&self, problem: &Problem<'_>, structure: &Structure) -> bool {
+        self.splits.get(&structure.group).is_some_and(|split| {
+            let estimate = estimate_random(problem, split, &structure.grades);
+            estimate[0] > problem.target_v * SCREEN_SLACK
+                || estimate[1] > problem.target_v * SCREEN_SLACK
+        })
+    }
+
+    fn search(
+        &mut self,
+        problem: &Problem<'_>,
+        group: &Group,
+        structure: &Structure,
+        value_sets: &[Vec<ValueSet>],
+        state: &mut SearchState,
+    ) {
+        if let Some(bounds) = self.reference(problem, group, structure, value_sets, state) {
+            self.picks(problem, group, structure, value_sets, &bounds, state);
+        }
+    }
+}
+
+/// What a run hands back.
+pub(super) struct RunResult {
+    /// The caller stopped it.
+    pub(super) cancelled: bool,
+    /// The best design meeting the target.
+    pub(super) best: Option<Candidate>,
+    /// Every verified design meeting the target.
+    pub(super) found: Vec<Candidate>,
+    /// What it learnt of failures.
+    pub(super) diagnosis: Diagnosis,
+    /// Counters.
+    pub(super) stats: SearchStats,
+}
+
+/// Where the walk stands against the structures' bounds.
+#[derive(Default)]
+struct Proof {
+    /// The next bound could not beat the best design.
+    reached: bool,
+    /// Structures searched since.
+    extra: usize,
+    /// The run ended without the proof.
+    unproven: bool,
+    /// Gap between the best and the lowest bound left, when unproven.
+    gap: Option<f64>,
+}
+
+/// Walk the structures in bound order and search each.
+pub(super) fn run(
+    problem: &Problem<'_>,
+    mode: SearchMode,
+    control: &mut SolveControl<'_>,
+) -> RunResult {
+    let start = (control.now_ms)();
+    let objective = problem.need.search.objective;
+    let mut state = SearchState {
+        objective,
+        best: None,
+        found: Vec::new(),
+        diagnosis: Diagnosis::default(),
+        evaluated: 0,
+        milp_solves: 0,
+    };
+    let mut rejections = Rejections::default();
+    let groups = enumerate_groups(problem, &mut rejections);
+    // An accuracy floor is the nearer miss when some group had the swing.
+    state.diagnosis.closest_rejection = rejections.floor_miss.or(rejections.closest);
+    let list = structures(problem, &groups);
+    let total = list.len() as u64;
+    let mut strategy: Box<dyn StructureSearch> = match mode {
+        SearchMode::Optimised => Box::new(Optimised::default()),
+        SearchMode::Exhaustive => Box::new(Exhaustive),
+    };
+    let mut cache = ValueSetCache::new();
+    let mut proof = Proof::default();
+    let mut cancelled = false;
+    let limit = problem.need.search.time_limit_ms as f64;
+    for (done, structure) in list.iter().enumerate() {
+        let bound_key = match objective {
+            Objective::Cost => Some(structure.bound),
+            Objective::Parts => Some(structure.parts as f64),
+            Objective::Error => None,
+        };
+        if strategy.stops_at_proof() {
+            if let (Some(bound), Some(best)) = (bound_key, state.best.as_ref()) {
+                if bound >= objective_key(objective, best).0 - 1e-12 {
+                    proof.reached = true;
+                }
+            }
+            if proof.reached {
+                // A few more structures for the Pareto front, then stop.
+                proof.extra += 1;
+                if proof.extra > PARETO_EXTRA_STRUCTURES {
+                    break;
+                }
+            }
+        }
+        let elapsed = (control.now_ms)() - start;
+        let keep_going = (control.progress)(Progress {
+            done: done as u64,
+            total,
+            best_cost: state.best.as_ref().map(|b| b.costing.total),
+        });
+        if !keep_going {
+            cancelled = true;
+        }
+        if !keep_going || elapsed > limit {
+            if !proof.reached {
+                proof.unproven = true;
+                if let (Some(bound), Some(best)) = (bound_key, state.best.as_ref()) {
+                    proof.gap = Some((objective_key(objective, best).0 - bound).max(0.0));
+                }
+            }
+            break;
+        }
+        if strategy.screens_out(problem, structure) {
+            continue;
+        }
+        let group = &groups[structure.group];
+        let Some(value_sets) = value_sets_for_structure(problem, group, structure, &mut cache)
+        else {
+            continue;
+        };
+        strategy.search(problem, group, structure, &value_sets, &mut state);
+    }
+    let elapsed_ms = (control.now_ms)() - start;
+    RunResult {
+        cancelled,
+        best: state.best,
+        found: state.found,
+        diagnosis: state.diagnosis,
+        stats: SearchStats {
+            mode: strategy.mode().name().into(),
+            evaluated: state.evaluated,
+            structures: total,
+            milp_solves: state.milp_solves,
+            elapsed_ms,
+            proven_optimal: !proof.unproven,
+            gap: proof.gap,
+        },
+    }
+}

@@ -1,0 +1,105 @@
+//! Verification of a design by the full analysis, the shelf-quantity
+//! check, and the estimate of a structure's random error from another
+//! structure of its group.
+
+use super::{costing, Candidate, Problem};
+use crate::analysis::{Model, RandomSplit};
+use crate::design::{Design, Source};
+use crate::need::Basis;
+use crate::stock::Stock;
+use crate::topology::Built;
+use std::collections::BTreeMap;
+
+/// Whether a built design uses no part more often than the stock holds.
+fn within_stock(stock: &Stock, built: &Built) -> bool {
+    let mut used: BTreeMap<&str, u32> = BTreeMap::new();
+    for r in &built.resistors {
+        *used.entry(r.part.part_id.as_str()).or_default() += 1;
+    }
+    for p in &built.packages {
+        *used.entry(p.part_id.as_str()).or_default() += 1;
+    }
+    for source in &built.sources {
+        if let Source::Reference(id) = &source.source {
+            *used.entry(id.as_str()).or_default() += 1;
+        }
+    }
+    used.iter().all(|(id, &count)| {
+        let qty = stock
+            .resistor(id)
+            .map(|p| p.stock_qty)
+            .or_else(|| stock.opamp(id).map(|p| p.stock_qty))
+            .or_else(|| stock.inamp(id).map(|p| p.stock_qty))
+            .or_else(|| stock.reference(id).map(|p| p.stock_qty))
+            .flatten();
+        qty.is_none_or(|q| count <= q)
+    })
+}
+
+/// The full report of a design, or `None` when it cannot be built from
+/// the stock.
+pub(super) fn verify(problem: &Problem<'_>, design: Design) -> Option<Candidate> {
+    let model = Model::new(problem.need, problem.stock, &design).ok()?;
+    verify_model(problem, design, model)
+}
+
+/// The full report of a design whose model is built already.
+pub(super) fn verify_model(
+    problem: &Problem<'_>,
+    design: Design,
+    model: Model,
+) -> Option<Candidate> {
+    if !within_stock(problem.stock, model.built()) {
+        return None;
+    }
+    let builds = if problem.need.accuracy.basis == Basis::Yield {
+        20_000
+    } else {
+        0
+    };
+    let analysis = model.report(problem.need, builds, 1).ok()?;
+    let built = model.built().clone();
+    let costing = costing(&built, problem.need.search.bom_line_cost);
+    Some(Candidate {
+        design,
+        built,
+        costing,
+        analysis,
+    })
+}
+
+/// The random part of a structure's budget estimated from another
+/// structure of the same group (same netlist shape, other grades): the
+/// per-unit resistor sums rescaled by each slot's grade.
+pub(super) fn estimate_random(
+    problem: &Problem<'_>,
+    split: &RandomSplit,
+    grades: &[usize],
+) -> [f64; 2] {
+    let n = split.per_stage.len() / 2;
+    let mut out = [0.0; 2];
+    for (end, estimate) in out.iter_mut().enumerate() {
+        let mut worst = split.other_worst[end];
+        let mut squares = split.other_squares[end];
+        for (slot, sums) in split.per_stage.iter().enumerate() {
+            let stage = slot / 2;
+            let grade = if slot % 2 == 1 {
+                &problem.grades[grades[n]]
+            } else {
+                &problem.grades[grades[stage]]
+            };
+            worst += grade.tolerance * sums.tolerance_worst[end] + grade.tcr * sums.tcr_worst[end];
+            squares += grade.tolerance.powi(2) * sums.tolerance_squares[end]
+                + grade.tcr.powi(2) * sums.tcr_squares[end];
+        }
+        *estimate = match problem.need.accuracy.basis {
+            Basis::WorstCase => worst,
+            Basis::Rss => squares.sqrt(),
+            Basis::Yield => {
+                crate::analysis::yield_k_sigma(problem.need.accuracy.yield_pct)
+                    * (squares / 3.0).sqrt()
+            }
+        };
+    }
+    out
+}

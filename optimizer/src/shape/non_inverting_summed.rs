@@ -1,0 +1,188 @@
+//! Non-inverting summed stage: the input through `ri` and the offset
+//! source through `ro` meet at the + input (optional `rp` to ground), then
+//! gain `1 + rf/rg`; makes a positive output offset.
+
+use super::{
+    roles, OffsetNetwork, Role, RoleValues, StageDrive, StageNodes, StageShape, ValueSetRequest,
+};
+use crate::design::Stage;
+use crate::error::Result;
+use crate::need::Topology;
+use crate::netlist::Node;
+use crate::schematic::{anchor, Canvas, Sheet, Side, StageOutline, Y0};
+use crate::search::ratio::{bracketed_pairs, BAND, PAIRS_PER_RATIO};
+use crate::topology::{Builder, InjectionPoint};
+
+/// The non-inverting-summed shape.
+pub(crate) struct NonInvertingSummed;
+
+impl StageShape for NonInvertingSummed {
+    fn name(&self) -> &'static str {
+        "non-inverting-summed"
+    }
+
+    fn topology(&self) -> Topology {
+        Topology::NonInverting
+    }
+
+    fn required_roles(&self) -> &'static [Role] {
+        &[Role::Ri, Role::Ro, Role::Rf, Role::Rg]
+    }
+
+    fn optional_roles(&self) -> &'static [Role] {
+        &[Role::Rp]
+    }
+
+    fn may_take_stage(&self, first: bool, differential_sensor: bool) -> bool {
+        !(first && differential_sensor)
+    }
+
+    fn offset_network(&self, offset: f64) -> Option<OffsetNetwork> {
+        (offset > 0.0).then_some(OffsetNetwork::Summed)
+    }
+
+    fn ideal_output(&self, drive: &StageDrive<'_>, plus: f64, _minus: f64) -> f64 {
+        let r = drive.ohms;
+        let ri = r(Role::Ri) + drive.sensor_ohms.0;
+        let ro = r(Role::Ro);
+        let summed = (plus * ro + drive.offset_volts * ri) / (ri + ro);
+        summed * (1.0 + r(Role::Rf) / r(Role::Rg))
+    }
+
+    fn value_sets(&self, request: &ValueSetRequest<'_>) -> Vec<RoleValues> {
+        let mut out = Vec::new();
+        let volts = request.source_volts;
+        if volts <= 0.0 {
+            return out;
+        }
+        let gain = request.gain + request.offset / volts;
+        let alpha = request.gain / gain;
+        if !(gain > 1.05 && alpha > 0.0 && alpha < 1.0) {
+            return out;
+        }
+        // ri' / ro = (1 - alpha) / alpha, with ri' = ri + rs.
+        let ratio_ri_ro = (1.0 - alpha) / alpha;
+        let rs = request.sensor_ohms.0;
+        let ri_ro = bracketed_pairs(
+            request.values,
+            BAND,
+            PAIRS_PER_RATIO,
+            |ro| ro * ratio_ri_ro - rs,
+            |ro, ri| (((ri + rs) / ro) / ratio_ri_ro - 1.0).abs(),
+        );
+        for (ro, ri, _) in ri_ro {
+            for (rg, rf, _) in request.pairs(gain - 1.0) {
+                out.push((
+                    roles(&[
+                        (Role::Ri, ri),
+                        (Role::Ro, ro),
+                        (Role::Rg, rg),
+                        (Role::Rf, rf),
+                    ]),
+                    None,
+                ));
+            }
+        }
+        out
+    }
+
+    fn build(
+        &self,
+        builder: &mut Builder<'_>,
+        index: usize,
+        stage: &Stage,
+        nodes: StageNodes,
+    ) -> Result<()> {
+        let StageNodes { plus: vin, out, .. } = nodes;
+        let part = builder.opamp_index(&stage.amplifier)?;
+        let inj = builder.injection(index, &stage.offset, InjectionPoint::Offset, Some(part))?;
+        let p = builder.stage_node(index, "p");
+        let m = builder.stage_node(index, "m");
+        builder.resistor(index, Role::Ri, stage.r(Role::Ri)?, vin, p);
+        builder.resistor(index, Role::Ro, stage.r(Role::Ro)?, inj, p);
+        if let Some(rp) = stage.resistors.get(&Role::Rp) {
+            builder.resistor(index, Role::Rp, rp, p, 0);
+        }
+        builder.resistor(index, Role::Rf, stage.r(Role::Rf)?, out, m);
+        builder.resistor(index, Role::Rg, stage.r(Role::Rg)?, m, 0);
+        builder.section(index, part, p, m, out);
+        Ok(())
+    }
+
+    fn draw(
+        &self,
+        canvas: &mut Canvas,
+        sheet: &Sheet<'_>,
+        index: usize,
+        x0: f64,
+        out: Node,
+    ) -> StageOutline {
+        let ox = x0 + 150.0;
+        let p = (x0 + 90.0, Y0 - 15.0);
+        canvas.wire(&[(x0, Y0), (x0 + 10.0, Y0), (x0 + 10.0, Y0 - 15.0)]);
+        if let Some(ri) = sheet.resistor(index, Role::Ri) {
+            canvas.resistor_h(
+                x0 + 10.0,
+                p.0,
+                p.1,
+                &sheet.labelled_resistor(ri),
+                Side::Below,
+            );
+        }
+        canvas.dot(p.0, p.1);
+        canvas.wire(&[p, (ox, p.1)]);
+        if let Some(ro) = sheet.resistor(index, Role::Ro) {
+            canvas.resistor_v(
+                p.0,
+                p.1,
+                Y0 - 95.0,
+                &sheet.labelled_resistor(ro),
+                Side::Right,
+            );
+            let far = sheet.nodes_of(ro.element)[0];
+            anchor(canvas, sheet, p.0, Y0 - 95.0, far, Side::Above);
+        }
+        if let Some(rp) = sheet.resistor(index, Role::Rp) {
+            canvas.resistor_v(
+                p.0,
+                p.1,
+                Y0 + 65.0,
+                &sheet.labelled_resistor(rp),
+                Side::Left,
+            );
+            canvas.ground(p.0, Y0 + 65.0);
+        }
+        if let Some(sec) = sheet.section_driving(out) {
+            canvas.opamp(ox, Y0, true, &sheet.labelled_section(sec), Side::Above);
+        }
+        let j = (ox - 20.0, Y0 + 70.0);
+        canvas.wire(&[(ox, Y0 + 15.0), (ox - 20.0, Y0 + 15.0), j]);
+        canvas.dot(j.0, j.1);
+        if let Some(rf) = sheet.resistor(index, Role::Rf) {
+            canvas.resistor_h(
+                j.0,
+                ox + 80.0,
+                j.1,
+                &sheet.labelled_resistor(rf),
+                Side::Above,
+            );
+        }
+        canvas.wire(&[(ox + 80.0, j.1), (ox + 80.0, Y0)]);
+        canvas.dot(ox + 80.0, Y0);
+        canvas.wire(&[(ox + 60.0, Y0), (ox + 100.0, Y0)]);
+        if let Some(rg) = sheet.resistor(index, Role::Rg) {
+            canvas.resistor_v(
+                j.0,
+                j.1,
+                Y0 + 150.0,
+                &sheet.labelled_resistor(rg),
+                Side::Right,
+            );
+            let far = sheet.nodes_of(rg.element)[1];
+            anchor(canvas, sheet, j.0, Y0 + 150.0, far, Side::Below);
+        }
+        StageOutline {
+            out: (ox + 100.0, Y0),
+        }
+    }
+}
