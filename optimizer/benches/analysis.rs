@@ -1,5 +1,5 @@
-//! Benchmarks of the analysis of one three-stage design (DESIGN.md
-//! section 5 bars: the linear model with every budget line under 50 us;
+//! Benchmarks of the analysis of one three-stage design (the targets in the
+//! README's performance table: the linear model with every budget line under 50 us;
 //! 100,000 Monte Carlo builds under 200 ms, native release):
 //!
 //! - `model_new_quick_totals`: build the netlist, solve it at both ends,

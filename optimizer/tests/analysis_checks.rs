@@ -8,7 +8,7 @@
 //! the `TEST_*` tables below), idealised so that one imperfection at a
 //! time is non-zero.
 
-use spanfit::analysis::{analyze, Analysis, Line, Model};
+use spanfit::analysis::{analyze, Analysis, Contributor, Model};
 use spanfit::design::parse_design;
 use spanfit::need::{parse_need, Need};
 use spanfit::stock::{parse_stock, Stock, StockFile};
@@ -81,7 +81,7 @@ fn run(need: &Need, stock: &Stock, design: serde_json::Value) -> (Model, Analysi
     analyze(need, stock, &design, 0, 1).expect("the test design analyses")
 }
 
-fn line(a: &Analysis, which: Line) -> [f64; 2] {
+fn line(a: &Analysis, which: Contributor) -> [f64; 2] {
     a.budget
         .iter()
         .find(|b| b.line == which)
@@ -110,7 +110,7 @@ fn ground() -> serde_json::Value {
 }
 
 // ---------------------------------------------------------------------
-// Two-point span and offset (common practice; DESIGN.md section 2).
+// Two-point span and offset (common practice; docs/need.md, the target window).
 
 fn two_point(lo: f64, hi: f64, adc_hi: f64, margin: f64) -> (f64, f64) {
     need(&format!(
@@ -139,7 +139,7 @@ fn four_to_twenty_millivolts_to_0_5_v() {
 }
 
 /// With a 2 % margin a 0-3 V window shrinks to 0.06-2.94 V, so a 25 mV
-/// span needs K = 2.88 / 0.025 = 115.2 and B = 0.06 V (DESIGN.md section 2
+/// span needs K = 2.88 / 0.025 = 115.2 and B = 0.06 V (docs/need.md
 /// window formula; arithmetic by hand).
 #[test]
 fn margin_shrinks_the_target_window() {
@@ -173,7 +173,7 @@ fn non_inverting_gain_is_one_plus_rf_over_rg() {
 /// Non-inverting stage with an unbuffered divider at the bottom of Rg:
 /// `Vout = Vs(1 + Rf/Rg') - Vth Rf/Rg'`, `Rg' = Rg + Rth`, with the
 /// divider's Thevenin source `Vth = Vref Rb/(Rt+Rb)`, `Rth = Rt || Rb`
-/// (DESIGN.md section 2; Thevenin's theorem, common practice).
+/// (docs/error-budget.md; Thevenin's theorem, common practice).
 #[test]
 fn non_inverting_with_divider_offset_matches_thevenin_formula() {
     let n = single_ended(0.5, 1.0, 0.0, (0.0, 3.0), (0.0, 5.0));
@@ -194,7 +194,7 @@ fn non_inverting_with_divider_offset_matches_thevenin_formula() {
 }
 
 /// Inverting summing stage on split rails: `Vout = -Rf(Vs/(R1+Rs) + Vr/R2)`,
-/// the sensor's own resistance Rs adding to R1 (DESIGN.md section 2;
+/// the sensor's own resistance Rs adding to R1 (docs/error-budget.md;
 /// summing amplifier, common practice).
 #[test]
 fn inverting_summing_stage_matches_closed_form() {
@@ -217,7 +217,7 @@ fn inverting_summing_stage_matches_closed_form() {
 
 /// Four-resistor difference amplifier with `R4/R3 = R2/R1`:
 /// `Vout = (R2/R1)(V+ - V-) + Vref`, the 2.5 V common mode rejected
-/// (DESIGN.md section 2; difference amplifier, common practice).
+/// (docs/error-budget.md; difference amplifier, common practice).
 #[test]
 fn matched_difference_amplifier_matches_closed_form() {
     let n = need(
@@ -261,12 +261,12 @@ fn finite_open_loop_gain_follows_feedback_formula() {
     // line at the top of the span is 0.25 V * (1/beta - A/(1 + A beta)).
     let want_pct = 100.0 * 0.25 * (1.0 / beta - closed) / 2.5;
     close(
-        line(&a, Line::OpenLoopGain)[1],
+        line(&a, Contributor::OpenLoopGain)[1],
         want_pct,
         1e-8,
         "open-loop-gain line",
     );
-    assert!(line(&a, Line::NominalRounding)[1].abs() < 1e-10);
+    assert!(line(&a, Contributor::NominalRounding)[1].abs() < 1e-10);
 }
 
 // ---------------------------------------------------------------------
@@ -281,7 +281,7 @@ fn offset_voltage_line_is_vos_times_noise_gain() {
     let (rf, rg) = (47_000.0, 2_200.0);
     let (_, a) = run(&n, &test_stock(), non_inverting("TA-VOS", rf, rg, ground()));
     let want = 100.0 * 1e-3 * (1.0 + rf / rg) / fs;
-    for v in line(&a, Line::OffsetVoltage) {
+    for v in line(&a, Contributor::OffsetVoltage) {
         close(v, want, 1e-8, "non-inverting Vos line");
     }
 
@@ -294,7 +294,7 @@ fn offset_voltage_line_is_vos_times_noise_gain() {
     }]});
     let (_, a) = run(&n, &test_stock(), design);
     let want = 100.0 * 1e-3 * (1.0 + rf / (ri + rs)) / fs;
-    for v in line(&a, Line::OffsetVoltage) {
+    for v in line(&a, Contributor::OffsetVoltage) {
         close(v, want, 1e-8, "inverting Vos line");
     }
 }
@@ -312,7 +312,7 @@ fn bias_current_line_is_current_through_network_resistance() {
         let n = single_ended(0.0, 0.1, rs, (0.0, fs), (0.0, 5.0));
         let (_, a) = run(&n, &test_stock(), non_inverting("TA-IB", rf, rg, ground()));
         let want = 100.0 * (ib * (rs * (1.0 + rf / rg) - rf)).abs() / fs;
-        for v in line(&a, Line::BiasCurrent) {
+        for v in line(&a, Contributor::BiasCurrent) {
             close(v, want, 1e-8, "bias-current line");
         }
     }
@@ -351,7 +351,7 @@ fn resistor_johnson_noise_appears_in_rms() {
         1e-12,
         "peak-to-peak",
     );
-    let noise_line = line(&a, Line::Noise);
+    let noise_line = line(&a, Contributor::Noise);
     close(
         noise_line[1],
         100.0 * 3.3 * a.noise.rms_v / 3.0,
@@ -464,15 +464,15 @@ fn monte_carlo_case_lines_match_closed_forms() {
     let (_, _, a) = mc_case("TA-MC");
     let fs = 2.5;
     for (which, volts) in [
-        (Line::OffsetVoltage, 2e-3),
-        (Line::BiasCurrent, 1e-3),
-        (Line::ReferenceInitial, 3e-3),
+        (Contributor::OffsetVoltage, 2e-3),
+        (Contributor::BiasCurrent, 1e-3),
+        (Contributor::ReferenceInitial, 3e-3),
     ] {
         for v in line(&a, which) {
             close(v, 100.0 * volts / fs, 1e-6, which.label());
         }
     }
-    assert!(line(&a, Line::NominalRounding)[1].abs() < 1e-6);
+    assert!(line(&a, Contributor::NominalRounding)[1].abs() < 1e-6);
 }
 
 /// The spread of a sum of independent uniforms of half-widths `L_i` has
@@ -484,7 +484,7 @@ fn monte_carlo_sigma_and_yield_match_sum_of_uniforms() {
     let random: Vec<f64> = a
         .budget
         .iter()
-        .filter(|b| !b.systematic && b.line != Line::Noise)
+        .filter(|b| !b.systematic && b.line != Contributor::Noise)
         .map(|b| b.pct_fs)
         .collect();
     let sigma_closed = (random.iter().map(|l| l * l / 3.0).sum::<f64>()).sqrt();
@@ -554,7 +554,7 @@ fn monte_carlo_yield_bounds() {
 fn monte_carlo_single_uniform_term_yield_is_linear() {
     let (_, m, a) = mc_case("TA-IDEAL");
     close(
-        line(&a, Line::ReferenceInitial)[1],
+        line(&a, Contributor::ReferenceInitial)[1],
         100.0 * 3e-3 / 2.5,
         1e-6,
         "reference line",
@@ -584,7 +584,7 @@ fn monte_carlo_is_reproducible_by_seed() {
 }
 
 // ---------------------------------------------------------------------
-// Worst case confirmed by corner evaluation (DESIGN.md section 2).
+// Worst case confirmed by corner evaluation (docs/error-budget.md).
 
 #[test]
 fn demo_worst_case_covers_corner_check_and_rss() {
