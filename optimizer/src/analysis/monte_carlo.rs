@@ -41,14 +41,18 @@ pub struct Histogram {
 /// The drift at the end of the temperature range with the smaller
 /// excursion from 25 degC, as a signed fraction of the drift at the end
 /// with the larger one (the parameters' drift limits are taken there).
+/// Drift is linear in `T - 25 degC` (TCR and tempco are specified against
+/// 25 degC; common practice), so the ratio is the smaller excursion over
+/// the larger, signs kept: negative when the range straddles 25 degC,
+/// whichever end is the farther.
 pub(crate) fn other_end_drift_ratio(need: &Need) -> f64 {
     let cold = need.accuracy.temp_min.0 - 25.0;
     let hot = need.accuracy.temp_max.0 - 25.0;
     if need.max_delta_t() > 0.0 {
         if hot.abs() >= cold.abs() {
-            cold / hot.abs()
+            cold / hot
         } else {
-            hot / cold.abs()
+            hot / cold
         }
     } else {
         0.0
