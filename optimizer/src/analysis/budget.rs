@@ -63,9 +63,9 @@ impl Model {
             noise_peak: self.noise_peak,
             ..Spread::default()
         };
-        for p in &self.params {
-            let initial = p.initial_error(self.calibration, end);
-            let drift = p.drift_error(end);
+        for parameter in &self.params {
+            let initial = parameter.initial_error(self.calibration, end);
+            let drift = parameter.drift_error(end);
             spread.limit_sum += initial.abs() + drift.abs();
             spread.limit_squares += initial * initial + drift * drift;
         }
@@ -98,14 +98,14 @@ impl Model {
 
     /// Worst-case, RSS and sigma totals at the ends in % FS (fast; no corner check).
     pub fn quick_totals(&self) -> (f64, f64, f64) {
-        let pct = 100.0 / self.fs;
-        let w = self.worst_at_ends();
-        let r = self.rss_at_ends();
-        let s = self.sigma_at_ends();
+        let pct = 100.0 / self.full_scale;
+        let worst = self.worst_at_ends();
+        let rss = self.rss_at_ends();
+        let sigma = self.sigma_at_ends();
         (
-            w[0].max(w[1]) * pct,
-            r[0].max(r[1]) * pct,
-            s[0].max(s[1]) * pct,
+            worst[0].max(worst[1]) * pct,
+            rss[0].max(rss[1]) * pct,
+            sigma[0].max(sigma[1]) * pct,
         )
     }
 
@@ -122,8 +122,8 @@ impl Model {
     fn systematic_error(&self, contributor: Contributor) -> [f64; 2] {
         self.systematic
             .iter()
-            .find(|t| t.contributor == contributor)
-            .map(|t| t.error)
+            .find(|term| term.contributor == contributor)
+            .map(|term| term.error)
             .unwrap_or([0.0; 2])
     }
 
@@ -151,7 +151,7 @@ impl Model {
     /// The budget lines that are present, in report order, with their
     /// value at `binding_end`.
     pub(crate) fn budget_lines(&self, need: &Need, binding_end: usize) -> Vec<BudgetLine> {
-        let pct = 100.0 / self.fs;
+        let pct = 100.0 / self.full_scale;
         let lsb = need.lsb();
         let volts_per_unit = need.volts_per_unit();
         let mut budget = Vec::new();
@@ -159,13 +159,13 @@ impl Model {
             let Some(at) = self.line_at_ends(line) else {
                 continue;
             };
-            let v = at[binding_end];
+            let volts = at[binding_end];
             budget.push(BudgetLine {
                 line,
                 source: line.label().to_string(),
-                pct_fs: v * pct,
-                lsb: v / lsb,
-                units: volts_per_unit.map(|k| v / k),
+                pct_fs: volts * pct,
+                lsb: volts / lsb,
+                units: volts_per_unit.map(|per_unit| volts / per_unit),
                 at_ends_pct_fs: [at[0] * pct, at[1] * pct],
                 systematic: line.systematic(),
             });
@@ -181,20 +181,20 @@ impl Model {
         }
         let mut at = [0.0f64; 2];
         let mut any = false;
-        for (end, a) in at.iter_mut().enumerate() {
+        for (end, size) in at.iter_mut().enumerate() {
             for term in &self.systematic {
                 if term.contributor == line {
-                    *a += term.error[end].abs();
+                    *size += term.error[end].abs();
                     any = true;
                 }
             }
-            for p in &self.params {
-                if p.initial_contributor == line {
-                    *a += p.initial_error(self.calibration, end).abs();
+            for parameter in &self.params {
+                if parameter.initial_contributor == line {
+                    *size += parameter.initial_error(self.calibration, end).abs();
                     any = true;
                 }
-                if p.drift_contributor == line && p.drift != 0.0 {
-                    *a += p.drift_error(end).abs();
+                if parameter.drift_contributor == line && parameter.drift != 0.0 {
+                    *size += parameter.drift_error(end).abs();
                     any = true;
                 }
             }
@@ -213,31 +213,35 @@ impl Model {
             other_worst: [self.noise_peak; 2],
             other_squares: [self.noise_peak * self.noise_peak; 2],
         };
-        let resistor_stage = |e: usize| {
+        // The slot of a placed resistor, with its tolerance and TCR.
+        let resistor_slot = |element: usize| {
             self.built
                 .resistors
                 .iter()
-                .find(|r| r.element == e)
-                .map(|r| {
-                    let divider = r.role.starts_with("offset.") || r.role.starts_with("bias.");
+                .find(|placed| placed.element == element)
+                .map(|placed| {
+                    let divider =
+                        placed.role.starts_with("offset.") || placed.role.starts_with("bias.");
                     (
-                        2 * r.stage + usize::from(divider),
-                        r.part.tolerance_pct / 100.0,
-                        r.part.tcr_ppm_per_c * 1e-6,
+                        2 * placed.stage + usize::from(divider),
+                        placed.part.tolerance_pct / 100.0,
+                        placed.part.tcr_ppm_per_c * 1e-6,
                     )
                 })
         };
-        for p in &self.params {
-            let stage = match (&p.target, p.initial_contributor) {
-                (Target::Resistors(es), Contributor::ResistorTolerance) if es.len() == 1 => {
-                    resistor_stage(es[0])
+        for parameter in &self.params {
+            let slot = match (&parameter.target, parameter.initial_contributor) {
+                (Target::Resistors(elements), Contributor::ResistorTolerance)
+                    if elements.len() == 1 =>
+                {
+                    resistor_slot(elements[0])
                 }
                 _ => None,
             };
             for end in 0..2 {
-                let initial = p.initial_error(self.calibration, end);
-                let drift = p.drift_error(end);
-                match stage {
+                let initial = parameter.initial_error(self.calibration, end);
+                let drift = parameter.drift_error(end);
+                match slot {
                     Some((slot, tolerance, tcr)) if slot < 2 * stages => {
                         let sums = &mut split.per_stage[slot];
                         if tolerance > 0.0 {

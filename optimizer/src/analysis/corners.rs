@@ -22,47 +22,54 @@ fn signum0(v: f64) -> f64 {
 
 impl Model {
     /// Exact calibrated error (volts, both ends) with each parameter at the
-    /// given point in its range (`x` initial, `y` drift, each in -1..1);
-    /// for tests of the worst-case claim.
-    pub fn error_at(&self, x: &[f64], y: &[f64]) -> Result<[f64; 2]> {
-        if x.len() != self.params.len() || y.len() != self.params.len() {
+    /// given point in its range (`initial` and `drift`, each in -1..1, in
+    /// the order of the model's parameters); for tests of the worst-case
+    /// claim and of the Monte Carlo spread.
+    pub fn error_at(&self, initial: &[f64], drift: &[f64]) -> Result<[f64; 2]> {
+        if initial.len() != self.params.len() || drift.len() != self.params.len() {
             return Err(Error::design("wrong number of parameter deviations"));
         }
-        self.exact_error(x, y)
+        self.exact_error(initial, drift)
     }
 
-    /// Solve the full netlist with every parameter at `x` (initial, in
-    /// units of its range) and `y` (drift), and return the calibrated
+    /// Solve the full netlist with every parameter at `initial` and
+    /// `drift` (each in units of its range), and return the calibrated
     /// error at each end in volts.
-    pub(crate) fn exact_error(&self, x: &[f64], y: &[f64]) -> Result<[f64; 2]> {
-        let in_service = self.outputs_at(x, y, true)?;
-        self.calibration
-            .apply_exact(self.ideal, in_service, || self.outputs_at(x, y, false))
+    pub(crate) fn exact_error(&self, initial: &[f64], drift: &[f64]) -> Result<[f64; 2]> {
+        let in_service = self.outputs_at(initial, drift, true)?;
+        self.calibration.apply_exact(self.ideal, in_service, || {
+            self.outputs_at(initial, drift, false)
+        })
     }
 
-    /// The output at both span ends with the parameters at `x` (and at `y`
-    /// when `with_drift`: in service; without, the board as calibrated,
-    /// where a deviation that calibration cannot remove, the supply moving
-    /// in service, is absent).
-    fn outputs_at(&self, x: &[f64], y: &[f64], with_drift: bool) -> Result<[f64; 2]> {
-        let deviation = |i: usize, p: &Parameter, end: usize| {
-            let initial = if p.calibratable || with_drift {
-                x[i] * p.initial[end]
+    /// The output at both span ends with the parameters at `initial` (and
+    /// at `drift` when `with_drift`: in service; without, the board as
+    /// calibrated, where a deviation that calibration cannot remove, the
+    /// supply moving in service, is absent).
+    fn outputs_at(&self, initial: &[f64], drift: &[f64], with_drift: bool) -> Result<[f64; 2]> {
+        let deviation = |i: usize, parameter: &Parameter, end: usize| {
+            let initial_part = if parameter.calibratable || with_drift {
+                initial[i] * parameter.initial[end]
             } else {
                 0.0
             };
-            initial + if with_drift { y[i] * p.drift } else { 0.0 }
+            initial_part
+                + if with_drift {
+                    drift[i] * parameter.drift
+                } else {
+                    0.0
+                }
         };
         // Resistors set the matrix (the same at both ends); sources set the
         // right-hand side, end by end.
         let nominal = &self.built.netlist;
         let mut netlist = nominal.clone();
-        for (i, p) in self.params.iter().enumerate() {
-            if let Target::Resistors(elements) = &p.target {
-                let d = deviation(i, p, 0);
+        for (i, parameter) in self.params.iter().enumerate() {
+            if let Target::Resistors(elements) = &parameter.target {
+                let relative = deviation(i, parameter, 0);
                 for &e in elements {
-                    let v = element_value(&netlist, e);
-                    set_element_value(&mut netlist, e, v * (1.0 + d));
+                    let ohms = element_value(&netlist, e);
+                    set_element_value(&mut netlist, e, ohms * (1.0 + relative));
                 }
             }
         }
@@ -72,11 +79,11 @@ impl Model {
             .map_err(|e| Error::design(format!("corner has no DC solution ({})", e.unknown)))?;
         let mut result = [0.0; 2];
         let mut unknowns = vec![0.0; solver.size()];
-        for (end, r) in result.iter_mut().enumerate() {
+        for (end, reading) in result.iter_mut().enumerate() {
             // Sources back to nominal, then every deviation added.
             let mut supply_deviation = 0.0;
-            for (i, p) in self.params.iter().enumerate() {
-                match &p.target {
+            for (i, parameter) in self.params.iter().enumerate() {
+                match &parameter.target {
                     Target::Resistors(_) | Target::AdcScale => {}
                     Target::Source(e) => {
                         set_element_value(&mut netlist, *e, element_value(nominal, *e))
@@ -86,41 +93,42 @@ impl Model {
                         set_element_value(&mut netlist, *b, element_value(nominal, *b));
                     }
                 }
-                if p.initial_contributor == Contributor::SupplyTolerance {
-                    supply_deviation = deviation(i, p, end);
+                if parameter.initial_contributor == Contributor::SupplyTolerance {
+                    supply_deviation = deviation(i, parameter, end);
                 }
             }
-            for (i, p) in self.params.iter().enumerate() {
-                let d = deviation(i, p, end);
+            for (i, parameter) in self.params.iter().enumerate() {
+                let delta = deviation(i, parameter, end);
                 let mut add = |e: usize, delta: f64| {
-                    let v = element_value(&netlist, e);
-                    set_element_value(&mut netlist, e, v + delta);
+                    let value = element_value(&netlist, e);
+                    set_element_value(&mut netlist, e, value + delta);
                 };
-                match &p.target {
+                match &parameter.target {
                     Target::Resistors(_) | Target::AdcScale => {}
-                    Target::Source(e) => add(*e, d),
+                    Target::Source(e) => add(*e, delta),
                     Target::BiasCommon(a, b) => {
-                        add(*a, d);
-                        add(*b, d);
+                        add(*a, delta);
+                        add(*b, delta);
                     }
                     Target::BiasOffset(a, b) => {
-                        add(*a, 0.5 * d);
-                        add(*b, -0.5 * d);
+                        add(*a, 0.5 * delta);
+                        add(*b, -0.5 * delta);
                     }
                 }
             }
             set_element_value(&mut netlist, self.built.vsense, self.signal[end]);
             solver.rhs(&netlist, &mut unknowns);
             solver.solve_in_place(&mut unknowns);
-            let mut v = solver.voltage(&unknowns, self.built.out);
+            let mut output = solver.voltage(&unknowns, self.built.out);
             if self.ratiometric {
                 // The ADC window scales with the supply: refer the reading
                 // back to the nominal window.
                 let low = self.adc_low;
-                v = low
-                    + (v - low) * self.supply_nominal / (self.supply_nominal + supply_deviation);
+                output = low
+                    + (output - low) * self.supply_nominal
+                        / (self.supply_nominal + supply_deviation);
             }
-            *r = v;
+            *reading = output;
         }
         Ok(result)
     }
@@ -133,17 +141,17 @@ impl Model {
         // second-order terms may favour either.
         let mut worst = 0.0f64;
         for sign in [1.0, -1.0] {
-            let x: Vec<f64> = self
+            let initial: Vec<f64> = self
                 .params
                 .iter()
-                .map(|p| sign * signum0(p.initial_error(self.calibration, end)))
+                .map(|parameter| sign * signum0(parameter.initial_error(self.calibration, end)))
                 .collect();
-            let y: Vec<f64> = self
+            let drift: Vec<f64> = self
                 .params
                 .iter()
-                .map(|p| sign * signum0(p.drift_error(end)))
+                .map(|parameter| sign * signum0(parameter.drift_error(end)))
                 .collect();
-            worst = worst.max(self.exact_error(&x, &y)?[end].abs());
+            worst = worst.max(self.exact_error(&initial, &drift)?[end].abs());
         }
         Ok(worst + self.noise_peak)
     }

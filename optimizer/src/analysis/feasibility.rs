@@ -223,19 +223,19 @@ struct SectionLimits {
 fn section_limits(stock: &Stock, kind: AmplifierKind) -> SectionLimits {
     match kind {
         AmplifierKind::OpAmp(i) => {
-            let p = &stock.opamps[i];
+            let part = &stock.opamps[i];
             SectionLimits {
-                input_headroom: [p.input_headroom_low.0, p.input_headroom_high.0],
-                output_headroom: [p.output_headroom_low.0, p.output_headroom_high.0],
-                gbw_hz: p.gbw_mhz * 1e6,
+                input_headroom: [part.input_headroom_low.0, part.input_headroom_high.0],
+                output_headroom: [part.output_headroom_low.0, part.output_headroom_high.0],
+                gbw_hz: part.gbw_mhz * 1e6,
             }
         }
         AmplifierKind::InAmp(i) => {
-            let p = &stock.inamps[i];
+            let part = &stock.inamps[i];
             SectionLimits {
-                input_headroom: [p.input_headroom_low.0, p.input_headroom_high.0],
-                output_headroom: [p.output_headroom_low.0, p.output_headroom_high.0],
-                gbw_hz: p.gbw_mhz * 1e6,
+                input_headroom: [part.input_headroom_low.0, part.input_headroom_high.0],
+                output_headroom: [part.output_headroom_low.0, part.output_headroom_high.0],
+                gbw_hz: part.gbw_mhz * 1e6,
             }
         }
     }

@@ -120,7 +120,7 @@ pub struct Analysis {
 pub struct Model {
     built: Built,
     /// ADC full-scale span, volts.
-    fs: f64,
+    full_scale: f64,
     params: Vec<Parameter>,
     /// Systematic lines, calibrated.
     systematic: Vec<SystematicTerm>,
@@ -128,8 +128,10 @@ pub struct Model {
     noise_peak: f64,
     noise: NoiseSummary,
     /// Output with nominal values, each end.
-    out: [f64; 2],
+    nominal_output: [f64; 2],
+    /// Ideal output at each end.
     ideal: [f64; 2],
+    /// Sensor signal at each end.
     signal: [f64; 2],
     calibration: Calibration,
     /// Drift at the temperature end with the smaller excursion, as a
@@ -169,12 +171,12 @@ impl Model {
         let stages = ranges::stage_reports(design, &built, &dc);
         let findings = feasibility::findings(need, stock, &built, &dc);
         Ok(Model {
-            fs: need.full_scale(),
+            full_scale: need.full_scale(),
             params,
             systematic,
             noise_peak: noise.peak_v(),
             noise,
-            out: dc.output(),
+            nominal_output: dc.output(),
             ideal,
             signal,
             calibration: need.accuracy.calibration,
@@ -217,7 +219,7 @@ impl Model {
     /// Full report on a need's basis. `mc_builds` sets the Monte Carlo size
     /// for the yield basis (and is run for every basis when non-zero).
     pub fn report(&self, need: &Need, mc_builds: u64, seed: u64) -> Result<Analysis> {
-        let pct = 100.0 / self.fs;
+        let pct = 100.0 / self.full_scale;
         let worst_ends = self.worst_at_ends();
         let first_order = worst_ends[0].max(worst_ends[1]);
         let binding_end = if worst_ends[1] > worst_ends[0] { 1 } else { 0 };
@@ -242,8 +244,9 @@ impl Model {
             (Basis::Yield, Some(y)) => y.yield_pct >= need.accuracy.yield_pct,
             _ => basis_pct_fs <= need.accuracy.max_error_pct_fs,
         };
-        let gain = (self.out[1] - self.out[0]) / (self.signal[1] - self.signal[0]);
-        let window = feasibility::adc_window(need, self.out, worst);
+        let gain =
+            (self.nominal_output[1] - self.nominal_output[0]) / (self.signal[1] - self.signal[0]);
+        let window = feasibility::adc_window(need, self.nominal_output, worst);
         let feasible = self.feasible() && window.ok();
         let mut findings = self.findings();
         findings.push(window.finding());
@@ -251,10 +254,10 @@ impl Model {
         Ok(Analysis {
             transfer: Transfer {
                 gain,
-                offset_v: self.out[0] - gain * self.signal[0],
+                offset_v: self.nominal_output[0] - gain * self.signal[0],
                 ideal_gain: k,
                 ideal_offset_v: b,
-                output_at_ends_v: self.out,
+                output_at_ends_v: self.nominal_output,
                 ideal_at_ends_v: self.ideal,
             },
             stages: self.stages.clone(),
@@ -265,7 +268,7 @@ impl Model {
             rss_pct_fs: rss * pct,
             basis_pct_fs,
             quantisation_pct_fs: 0.5 * need.lsb() * pct,
-            full_scale_v: self.fs,
+            full_scale_v: self.full_scale,
             noise: self.noise.clone(),
             yield_result,
             findings,

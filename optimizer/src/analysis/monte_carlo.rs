@@ -68,16 +68,16 @@ impl Model {
         let initial: Vec<[f64; 2]> = self
             .params
             .iter()
-            .map(|p| [0, 1].map(|end| p.initial_error(self.calibration, end)))
+            .map(|parameter| [0, 1].map(|end| parameter.initial_error(self.calibration, end)))
             .collect();
         let drift: Vec<[f64; 2]> = self
             .params
             .iter()
-            .map(|p| [0, 1].map(|end| p.drift_error(end)))
+            .map(|parameter| [0, 1].map(|end| parameter.drift_error(end)))
             .collect();
         let systematic: [f64; 2] = [
-            self.systematic.iter().map(|t| t.error[0]).sum(),
-            self.systematic.iter().map(|t| t.error[1]).sum(),
+            self.systematic.iter().map(|term| term.error[0]).sum(),
+            self.systematic.iter().map(|term| term.error[1]).sum(),
         ];
         let other_end = self.other_end_drift_ratio;
         let limit = limit_v - self.noise_peak;
@@ -121,7 +121,7 @@ impl Model {
         let mean = sum / n;
         let sigma = (sum_squares / n - mean * mean).max(0.0).sqrt();
         let (low, high) = wilson_interval(pass, builds);
-        let pct = 100.0 / self.fs;
+        let pct = 100.0 / self.full_scale;
         YieldResult {
             builds,
             seed,

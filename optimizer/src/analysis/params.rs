@@ -100,14 +100,14 @@ pub(crate) fn collect(
     for source in &built.sources {
         if let Some(i) = source.reference {
             let reference = &stock.references[i];
-            let s = dc.branch_adjoint(source.element);
+            let sensitivity = dc.branch_adjoint(source.element);
             params.push(Parameter {
                 initial_contributor: Contributor::ReferenceInitial,
                 drift_contributor: Contributor::ReferenceTempco,
                 target: Target::Source(source.element),
                 initial: [reference.volts.0 * reference.initial.fraction(); 2],
                 drift: reference.volts.0 * reference.tempco.fraction_per_c() * delta_t,
-                sensitivity: [s, s],
+                sensitivity: [sensitivity, sensitivity],
                 calibratable: true,
             });
         }
@@ -143,23 +143,23 @@ struct AmplifierLimits {
 fn amplifier_limits(stock: &Stock, kind: AmplifierKind, delta_t: f64) -> AmplifierLimits {
     match kind {
         AmplifierKind::OpAmp(i) => {
-            let p = &stock.opamps[i];
+            let part = &stock.opamps[i];
             AmplifierLimits {
-                offset_v: p.vos_max_uv * 1e-6,
-                offset_drift_v: p.vos_drift_uv_per_c * 1e-6 * delta_t,
-                bias_a: p.ib_max_na * 1e-9,
-                offset_current_a: p.ios_max_na * 1e-9,
-                cmrr_ratio: p.cmrr_min.ratio(),
+                offset_v: part.vos_max_uv * 1e-6,
+                offset_drift_v: part.vos_drift_uv_per_c * 1e-6 * delta_t,
+                bias_a: part.ib_max_na * 1e-9,
+                offset_current_a: part.ios_max_na * 1e-9,
+                cmrr_ratio: part.cmrr_min.ratio(),
             }
         }
         AmplifierKind::InAmp(i) => {
-            let p = &stock.inamps[i];
+            let part = &stock.inamps[i];
             AmplifierLimits {
-                offset_v: p.input_offset_uv * 1e-6,
-                offset_drift_v: p.offset_drift_uv_per_c * 1e-6 * delta_t,
-                bias_a: p.ib_max_na * 1e-9,
+                offset_v: part.input_offset_uv * 1e-6,
+                offset_drift_v: part.offset_drift_uv_per_c * 1e-6 * delta_t,
+                bias_a: part.ib_max_na * 1e-9,
                 offset_current_a: 0.0,
-                cmrr_ratio: p.cmrr_min.ratio(),
+                cmrr_ratio: part.cmrr_min.ratio(),
             }
         }
     }
@@ -230,9 +230,9 @@ fn amplifier_parameters(
         let part = &stock.inamps[i];
         let mut s_gain = [0.0; 2];
         for &e in &internals.gain_resistors {
-            let s = dc.resistor_sensitivity(netlist, e);
-            s_gain[0] += s[0];
-            s_gain[1] += s[1];
+            let sensitivity = dc.resistor_sensitivity(netlist, e);
+            s_gain[0] += sensitivity[0];
+            s_gain[1] += sensitivity[1];
         }
         params.push(Parameter {
             initial_contributor: Contributor::InAmpGainError,
