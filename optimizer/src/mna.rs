@@ -593,6 +593,33 @@ mod tests {
         );
     }
 
+    /// The divider's tap moves `V R1 R2/(R1 + R2)^2` per unit relative
+    /// change of R2 (differentiating Ohm's-law division by hand), at each
+    /// value of the swept source; a grounded output is refused.
+    #[test]
+    fn dc_solution_sensitivity_matches_divider_formula() {
+        let mut n = Netlist::new();
+        let top = n.node("top");
+        let mid = n.node("mid");
+        let source = n.vsource("V1", top, 0, 0.0);
+        n.resistor("R1", top, mid, 1000.0);
+        let r2 = n.resistor("R2", mid, 0, 3000.0);
+        let dc = DcSolution::solve(&mut n, source, [10.0, 20.0], mid).unwrap();
+        assert_eq!(element_value(&n, source), 10.0);
+        for (end, volts) in [10.0, 20.0].into_iter().enumerate() {
+            assert!((dc.output()[end] - 0.75 * volts).abs() < 1e-12);
+            let want = volts * 1000.0 * 3000.0 / 4000.0f64.powi(2);
+            let got = dc.resistor_sensitivity(&n, r2)[end];
+            assert!((got - want).abs() < 1e-12, "{got} vs {want}");
+        }
+        // d V(mid) / d V1 = R2/(R1 + R2).
+        assert!((dc.branch_adjoint(source) - 0.75).abs() < 1e-12);
+        assert_eq!(
+            DcSolution::solve(&mut n, source, [1.0, 2.0], 0).err(),
+            Some(DcFailure::GroundedOutput)
+        );
+    }
+
     #[test]
     fn floating_node_is_singular() {
         let mut n = Netlist::new();

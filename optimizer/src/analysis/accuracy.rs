@@ -142,3 +142,70 @@ fn inverse_normal(p: f64) -> f64 {
         -inverse_normal(1.0 - p)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The two-sided 99 % normal quantile is 2.5758 (normal tables, common
+    /// practice).
+    #[test]
+    fn yield_k_sigma_matches_normal_table() {
+        assert!((yield_k_sigma(99.0) - 2.575_829).abs() < 1e-5);
+        assert!((yield_k_sigma(95.0) - 1.959_964).abs() < 1e-5);
+    }
+
+    /// Each basis combines a spread as its definition says.
+    #[test]
+    fn bases_combine_a_spread() {
+        let spread = Spread {
+            limit_sum: 7.0,
+            limit_squares: 25.0,
+            noise_rms: 1.0,
+            noise_peak: 3.3,
+        };
+        assert_eq!(Basis::WorstCase.random_total(&spread, 99.0), 10.3);
+        let rss = (25.0f64 + 3.3 * 3.3).sqrt();
+        assert!((Basis::Rss.random_total(&spread, 99.0) - rss).abs() < 1e-15);
+        let sigma = (25.0f64 / 3.0 + 1.0).sqrt();
+        let want = yield_k_sigma(99.0) * sigma + 3.3;
+        assert!((Basis::Yield.random_total(&spread, 99.0) - want).abs() < 1e-12);
+        // Without noise, the bare sums.
+        let bare = Spread {
+            limit_sum: 7.0,
+            limit_squares: 25.0,
+            ..Spread::default()
+        };
+        assert_eq!(Basis::WorstCase.random_total(&bare, 99.0), 7.0);
+        assert_eq!(Basis::Rss.random_total(&bare, 99.0), 5.0);
+        assert_eq!(
+            Basis::Yield.random_total(&bare, 99.0),
+            yield_k_sigma(99.0) * (25.0f64 / 3.0).sqrt()
+        );
+    }
+
+    /// On a board whose error is the same in service as at calibration,
+    /// the exact trim agrees with the linear rule.
+    #[test]
+    fn exact_trim_agrees_with_linear_rule_without_drift() {
+        let ideal = [0.5, 2.5];
+        let reading = [0.503, 2.49];
+        let error = [reading[0] - ideal[0], reading[1] - ideal[1]];
+        for calibration in [
+            Calibration::None,
+            Calibration::Offset,
+            Calibration::TwoPoint,
+        ] {
+            let exact = calibration
+                .apply_exact(ideal, reading, || Ok(reading))
+                .expect("no solve fails here");
+            let linear = calibration.apply(error);
+            for end in 0..2 {
+                assert!(
+                    (exact[end] - linear[end]).abs() < 1e-12,
+                    "{calibration:?}: {exact:?} vs {linear:?}"
+                );
+            }
+        }
+    }
+}

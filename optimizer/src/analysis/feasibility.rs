@@ -325,3 +325,33 @@ pub fn part_count(built: &Built) -> usize {
             .filter(|s| s.reference.is_some())
             .count()
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn labels_are_distinct_and_read_back() {
+        for check in Check::ALL {
+            assert_eq!(Check::from_label(check.label()), Some(check));
+        }
+        assert_eq!(Check::from_label("no such check"), None);
+    }
+
+    #[test]
+    fn detail_text_carries_the_numbers() {
+        let finding = RawFinding {
+            check: Check::OutputSwing,
+            subject: "U1A".into(),
+            ok: false,
+            numbers: [0.01, 4.99, 0.05, 4.95],
+        }
+        .finding();
+        assert_eq!(finding.check, "output swing");
+        assert_eq!(finding.kind, Check::OutputSwing);
+        assert_eq!(
+            finding.detail,
+            "output moves 0.0100 V to 4.9900 V; the part swings 0.0500 V to 4.9500 V"
+        );
+    }
+}

@@ -149,3 +149,37 @@ fn histogram(errors: &[f64], limit_v: f64, pct: f64) -> Histogram {
         counts,
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn need(temp_min: f64, temp_max: f64) -> Need {
+        crate::need::parse_need(
+            format!(
+                "[sensor]\nsignal_low_v = 0\nsignal_high_v = 0.1\n\
+                 [adc]\nlow_v = 0\nhigh_v = 3\nbits = 12\n[supply]\npositive_v = 5\n\
+                 [accuracy]\nmax_error_pct_fs = 1\ntemp_min_c = {temp_min}\ntemp_max_c = {temp_max}\n"
+            )
+            .as_bytes(),
+            "ratio.toml",
+        )
+        .expect("the test need parses")
+    }
+
+    /// Drift linear in T - 25 degC: the nearer end's drift over the
+    /// farther end's is the ratio of the signed excursions.
+    #[test]
+    fn drift_ratio_is_the_ratio_of_signed_excursions() {
+        for (low, high, want) in [
+            (-40.0, 50.0, 25.0 / -65.0),
+            (-10.0, 85.0, -35.0 / 60.0),
+            (30.0, 85.0, 5.0 / 60.0),
+            (-40.0, 0.0, -25.0 / -65.0),
+            (25.0, 25.0, 0.0),
+        ] {
+            let got = other_end_drift_ratio(&need(low, high));
+            assert!((got - want).abs() < 1e-15, "{low}..{high}: {got} vs {want}");
+        }
+    }
+}
