@@ -314,7 +314,7 @@ impl Solver {
     }
 
     /// Solve `A^T y = c` in place with the current factors (the adjoint).
-    pub fn solve_transposed_in_place(&mut self, y: &mut [f64]) {
+    pub fn solve_transposed_in_place(&self, y: &mut [f64]) {
         let n = self.n;
         let a = &self.lu;
         // P A = L U  =>  A^T = U^T L^T P ; solve U^T w = c, L^T z = w, y = P^T z.
@@ -353,6 +353,164 @@ impl Solver {
             Some(i) => x[i],
             None => 0.0,
         }
+    }
+}
+
+/// Why a [`DcSolution`] could not be formed.
+#[derive(Debug, Clone, PartialEq)]
+pub enum DcFailure {
+    /// The circuit has no unique DC solution.
+    Singular(Singular),
+    /// The output node asked for is ground.
+    GroundedOutput,
+}
+
+/// The DC operating point of a circuit at the two values of one swept
+/// source (the two ends of the sensor span), and the adjoint of one output
+/// node: everything the error budget needs from the solver.
+///
+/// The matrix is factored once; the forward solutions differ only in the
+/// right-hand side, and the adjoint `A^T lambda = e_out` reuses the same
+/// factors. From `lambda`, the sensitivity of the output to any source
+/// value or resistor follows without another solve.
+#[derive(Debug, Clone)]
+pub struct DcSolution {
+    solver: Solver,
+    /// All unknowns at each value of the swept source.
+    ends: [Vec<f64>; 2],
+    /// The adjoint of the output node.
+    output_adjoint: Vec<f64>,
+    /// Output voltage at each value of the swept source.
+    output: [f64; 2],
+}
+
+impl DcSolution {
+    /// Factor `netlist`, solve it with the voltage source `swept` at each
+    /// of `values`, and form the adjoint of `output`. The swept source is
+    /// left at `values[0]`.
+    pub fn solve(
+        netlist: &mut Netlist,
+        swept: usize,
+        values: [f64; 2],
+        output: Node,
+    ) -> Result<DcSolution, DcFailure> {
+        let mut solver = Solver::new(netlist);
+        solver.factor(netlist).map_err(DcFailure::Singular)?;
+        let mut ends = [vec![0.0; solver.size()], vec![0.0; solver.size()]];
+        for (end, x) in ends.iter_mut().enumerate() {
+            set_element_value(netlist, swept, values[end]);
+            solver.rhs(netlist, x);
+            solver.solve_in_place(x);
+        }
+        set_element_value(netlist, swept, values[0]);
+        let out = solver
+            .node_unknown(output)
+            .ok_or(DcFailure::GroundedOutput)?;
+        let mut output_adjoint = vec![0.0; solver.size()];
+        output_adjoint[out] = 1.0;
+        solver.solve_transposed_in_place(&mut output_adjoint);
+        let output = [ends[0][out], ends[1][out]];
+        Ok(DcSolution {
+            solver,
+            ends,
+            output_adjoint,
+            output,
+        })
+    }
+
+    /// Output voltage at each end.
+    #[inline]
+    pub fn output(&self) -> [f64; 2] {
+        self.output
+    }
+
+    /// Voltage of `node` at `end` (0 or 1).
+    #[inline]
+    pub fn voltage(&self, end: usize, node: Node) -> f64 {
+        self.solver.voltage(&self.ends[end], node)
+    }
+
+    /// The output adjoint at a node: `-d(output)/d(I)` for a current `I`
+    /// drawn out of that node (0 for ground).
+    #[inline]
+    pub fn node_adjoint(&self, node: Node) -> f64 {
+        self.solver
+            .node_unknown(node)
+            .map(|i| self.output_adjoint[i])
+            .unwrap_or(0.0)
+    }
+
+    /// `d(output)/d(V)` for the value `V` of a voltage source (or the
+    /// inverse gain of an op-amp, times its output voltage): the adjoint
+    /// at the element's branch unknown, 0 if it has none.
+    #[inline]
+    pub fn branch_adjoint(&self, element: usize) -> f64 {
+        self.solver
+            .branch_unknown(element)
+            .map(|i| self.output_adjoint[i])
+            .unwrap_or(0.0)
+    }
+
+    /// Sensitivity of the output to a relative change `dR/R` of the
+    /// resistor `element`, at each end: `dOut/d(dR/R) = (lambda_a -
+    /// lambda_b)(V_a - V_b)/R` (the adjoint method; see the module header).
+    pub fn resistor_sensitivity(&self, netlist: &Netlist, element: usize) -> [f64; 2] {
+        let el = &netlist.elements[element];
+        let ohms = match el.kind {
+            ElementKind::Resistor { ohms } => ohms,
+            _ => return [0.0; 2],
+        };
+        let (a, b) = (el.nodes[0], el.nodes[1]);
+        let adjoint_drop = self.node_adjoint(a) - self.node_adjoint(b);
+        let mut sensitivity = [0.0; 2];
+        for (end, s) in sensitivity.iter_mut().enumerate() {
+            let voltage_drop = self.voltage(end, a) - self.voltage(end, b);
+            // d out / d G = -adjoint_drop * voltage_drop ; d out / (dR/R) = -G * d out/dG
+            *s = adjoint_drop * voltage_drop / ohms;
+        }
+        sensitivity
+    }
+
+    /// The adjoint of another node (one more solve with the same factors);
+    /// the output's own is returned without solving.
+    pub fn adjoint_of(&self, node: Node) -> Vec<f64> {
+        let mut adjoint = vec![0.0; self.solver.size()];
+        if let Some(i) = self.solver.node_unknown(node) {
+            adjoint[i] = 1.0;
+        }
+        self.solver.solve_transposed_in_place(&mut adjoint);
+        adjoint
+    }
+
+    /// The adjoint of the output node.
+    pub fn output_adjoint(&self) -> &[f64] {
+        &self.output_adjoint
+    }
+
+    /// The factored solver (for reading unknown indices).
+    pub fn solver(&self) -> &Solver {
+        &self.solver
+    }
+}
+
+/// Set the value of an element: ohms, volts, amps or an op-amp's inverse
+/// gain.
+pub fn set_element_value(netlist: &mut Netlist, element: usize, value: f64) {
+    match &mut netlist.elements[element].kind {
+        ElementKind::Resistor { ohms } => *ohms = value,
+        ElementKind::VoltageSource { volts } => *volts = value,
+        ElementKind::CurrentSource { amps } => *amps = value,
+        ElementKind::OpAmp { inverse_gain } => *inverse_gain = value,
+    }
+}
+
+/// The value of an element: ohms, volts, amps or an op-amp's inverse gain.
+pub fn element_value(netlist: &Netlist, element: usize) -> f64 {
+    match netlist.elements[element].kind {
+        ElementKind::Resistor { ohms } => ohms,
+        ElementKind::VoltageSource { volts } => volts,
+        ElementKind::CurrentSource { amps } => amps,
+        ElementKind::OpAmp { inverse_gain } => inverse_gain,
     }
 }
 
@@ -432,6 +590,33 @@ mod tests {
         assert!(
             (fd - d_dr).abs() < 1e-6 * d_dr.abs().max(1e-9),
             "{fd} vs {d_dr}"
+        );
+    }
+
+    /// The divider's tap moves `V R1 R2/(R1 + R2)^2` per unit relative
+    /// change of R2 (differentiating Ohm's-law division by hand), at each
+    /// value of the swept source; a grounded output is refused.
+    #[test]
+    fn dc_solution_sensitivity_matches_divider_formula() {
+        let mut n = Netlist::new();
+        let top = n.node("top");
+        let mid = n.node("mid");
+        let source = n.vsource("V1", top, 0, 0.0);
+        n.resistor("R1", top, mid, 1000.0);
+        let r2 = n.resistor("R2", mid, 0, 3000.0);
+        let dc = DcSolution::solve(&mut n, source, [10.0, 20.0], mid).unwrap();
+        assert_eq!(element_value(&n, source), 10.0);
+        for (end, volts) in [10.0, 20.0].into_iter().enumerate() {
+            assert!((dc.output()[end] - 0.75 * volts).abs() < 1e-12);
+            let want = volts * 1000.0 * 3000.0 / 4000.0f64.powi(2);
+            let got = dc.resistor_sensitivity(&n, r2)[end];
+            assert!((got - want).abs() < 1e-12, "{got} vs {want}");
+        }
+        // d V(mid) / d V1 = R2/(R1 + R2).
+        assert!((dc.branch_adjoint(source) - 0.75).abs() < 1e-12);
+        assert_eq!(
+            DcSolution::solve(&mut n, source, [1.0, 2.0], 0).err(),
+            Some(DcFailure::GroundedOutput)
         );
     }
 

@@ -1,0 +1,99 @@
+//! The error contributors: one variant per line of the budget, with the
+//! label reports show and whether it is systematic or random.
+//!
+//! A new error source is a new variant here (label and report position),
+//! a parameter in `params.rs` (or a term in `systematic.rs`), and a line in
+//! `docs/error-budget.md`.
+
+use serde::Serialize;
+
+/// The kinds of error contributor; each is one line of the budget.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Contributor {
+    /// Nominal gain and offset after rounding to real values.
+    NominalRounding,
+    /// Finite open-loop gain of the op-amps (at their minimum).
+    OpenLoopGain,
+    /// Resistor initial tolerance.
+    ResistorTolerance,
+    /// Resistor TCR over the temperature range.
+    ResistorTcr,
+    /// Op-amp input offset times noise gain.
+    OffsetVoltage,
+    /// Offset drift over temperature.
+    OffsetDrift,
+    /// Bias current through the network resistances.
+    BiasCurrent,
+    /// Offset current (the unbalanced part).
+    OffsetCurrent,
+    /// Common-mode rejection.
+    Cmrr,
+    /// Reference initial accuracy.
+    ReferenceInitial,
+    /// Reference tempco.
+    ReferenceTempco,
+    /// Supply tolerance (where the supply sets offset or ADC scale).
+    SupplyTolerance,
+    /// In-amp gain error.
+    InAmpGainError,
+    /// In-amp gain drift.
+    InAmpGainDrift,
+    /// In-amp output offset.
+    InAmpOutputOffset,
+    /// Noise over the bandwidth, as the peak (half of 6.6-sigma p-p).
+    Noise,
+}
+
+impl Contributor {
+    /// Every contributor in report order.
+    pub const ALL: [Contributor; 16] = [
+        Contributor::NominalRounding,
+        Contributor::OpenLoopGain,
+        Contributor::ResistorTolerance,
+        Contributor::ResistorTcr,
+        Contributor::OffsetVoltage,
+        Contributor::OffsetDrift,
+        Contributor::BiasCurrent,
+        Contributor::OffsetCurrent,
+        Contributor::Cmrr,
+        Contributor::ReferenceInitial,
+        Contributor::ReferenceTempco,
+        Contributor::SupplyTolerance,
+        Contributor::InAmpGainError,
+        Contributor::InAmpGainDrift,
+        Contributor::InAmpOutputOffset,
+        Contributor::Noise,
+    ];
+
+    /// The label shown in reports (`source` in the JSON budget).
+    pub fn label(self) -> &'static str {
+        match self {
+            Contributor::NominalRounding => "nominal rounding of gain and offset",
+            Contributor::OpenLoopGain => "finite open-loop gain",
+            Contributor::ResistorTolerance => "resistor tolerance",
+            Contributor::ResistorTcr => "resistor TCR over temperature",
+            Contributor::OffsetVoltage => "op-amp offset voltage x noise gain",
+            Contributor::OffsetDrift => "op-amp offset drift",
+            Contributor::BiasCurrent => "bias current x network resistance",
+            Contributor::OffsetCurrent => "offset current x network resistance",
+            Contributor::Cmrr => "CMRR x common-mode voltage",
+            Contributor::ReferenceInitial => "reference initial accuracy",
+            Contributor::ReferenceTempco => "reference tempco",
+            Contributor::SupplyTolerance => "supply tolerance",
+            Contributor::InAmpGainError => "in-amp gain error",
+            Contributor::InAmpGainDrift => "in-amp gain drift",
+            Contributor::InAmpOutputOffset => "in-amp output offset",
+            Contributor::Noise => "noise (peak, 3.3 sigma)",
+        }
+    }
+
+    /// Whether the contributor is a fixed (systematic) error rather than
+    /// a random spread.
+    pub fn systematic(self) -> bool {
+        matches!(
+            self,
+            Contributor::NominalRounding | Contributor::OpenLoopGain
+        )
+    }
+}

@@ -1,0 +1,185 @@
+//! Monte Carlo yield over the linear model: each build draws every
+//! parameter's initial deviation and drift uniformly inside its limits
+//! (seeded generator of [`crate::montecarlo`]), evaluates the error at both
+//! ends of the span and both ends of the temperature range, and keeps the
+//! worst of the four.
+
+use super::Model;
+use crate::montecarlo::{wilson_interval, Rng};
+use crate::need::Need;
+use serde::Serialize;
+
+/// Bins of the reported histogram.
+const HISTOGRAM_BINS: usize = 40;
+
+/// Monte Carlo result.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct YieldResult {
+    /// Builds drawn.
+    pub builds: u64,
+    /// Seed used.
+    pub seed: u64,
+    /// Fraction inside the target, in %.
+    pub yield_pct: f64,
+    /// 95 % confidence interval (Wilson), in %.
+    pub confidence_pct: [f64; 2],
+    /// Standard deviation of the error at the binding end, % FS.
+    pub sigma_pct_fs: f64,
+    /// Histogram of the signed error at the worse end of each build.
+    pub histogram: Histogram,
+}
+
+/// A histogram with equal bins.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Histogram {
+    /// Bin edges in % FS (`counts.len() + 1` of them).
+    pub bin_edges_pct_fs: Vec<f64>,
+    /// Builds in each bin.
+    pub counts: Vec<u64>,
+}
+
+/// The drift at the end of the temperature range with the smaller
+/// excursion from 25 degC, as a signed fraction of the drift at the end
+/// with the larger one (the parameters' drift limits are taken there).
+/// Drift is linear in `T - 25 degC` (TCR and tempco are specified against
+/// 25 degC; common practice), so the ratio is the smaller excursion over
+/// the larger, signs kept: negative when the range straddles 25 degC,
+/// whichever end is the farther.
+pub(crate) fn other_end_drift_ratio(need: &Need) -> f64 {
+    let cold = need.accuracy.temp_min.0 - 25.0;
+    let hot = need.accuracy.temp_max.0 - 25.0;
+    if need.max_delta_t() > 0.0 {
+        if hot.abs() >= cold.abs() {
+            cold / hot
+        } else {
+            hot / cold
+        }
+    } else {
+        0.0
+    }
+}
+
+impl Model {
+    /// Monte Carlo over the linear model: `builds` draws from `seed`; a
+    /// build passes when its error (plus the noise peak) is within
+    /// `limit_v` at every end of span and temperature.
+    pub fn monte_carlo(&self, builds: u64, seed: u64, limit_v: f64) -> YieldResult {
+        // Per parameter, its initial and drift error at each span end.
+        let initial: Vec<[f64; 2]> = self
+            .params
+            .iter()
+            .map(|parameter| [0, 1].map(|end| parameter.initial_error(self.calibration, end)))
+            .collect();
+        let drift: Vec<[f64; 2]> = self
+            .params
+            .iter()
+            .map(|parameter| [0, 1].map(|end| parameter.drift_error(end)))
+            .collect();
+        let systematic: [f64; 2] = [
+            self.systematic.iter().map(|term| term.error[0]).sum(),
+            self.systematic.iter().map(|term| term.error[1]).sum(),
+        ];
+        let other_end = self.other_end_drift_ratio;
+        let limit = limit_v - self.noise_peak;
+        let mut rng = Rng::new(seed);
+        let mut pass = 0u64;
+        let mut worst = Vec::with_capacity(builds as usize);
+        let (mut sum, mut sum_squares) = (0.0, 0.0);
+        for _ in 0..builds {
+            let mut at_25 = systematic;
+            let mut drifted = [0.0; 2];
+            for (initial, drift) in initial.iter().zip(&drift) {
+                let x = rng.symmetric();
+                let y = rng.symmetric();
+                at_25[0] += initial[0] * x;
+                at_25[1] += initial[1] * x;
+                drifted[0] += drift[0] * y;
+                drifted[1] += drift[1] * y;
+            }
+            // Both span ends at the larger excursion, then at the other end
+            // of the temperature range.
+            let conditions = [
+                at_25[0] + drifted[0],
+                at_25[1] + drifted[1],
+                at_25[0] + other_end * drifted[0],
+                at_25[1] + other_end * drifted[1],
+            ];
+            let mut m = conditions[0];
+            for v in &conditions[1..] {
+                if v.abs() > m.abs() {
+                    m = *v;
+                }
+            }
+            if m.abs() <= limit {
+                pass += 1;
+            }
+            sum += m;
+            sum_squares += m * m;
+            worst.push(m);
+        }
+        let n = builds.max(1) as f64;
+        let mean = sum / n;
+        let sigma = (sum_squares / n - mean * mean).max(0.0).sqrt();
+        let (low, high) = wilson_interval(pass, builds);
+        let pct = 100.0 / self.full_scale;
+        YieldResult {
+            builds,
+            seed,
+            yield_pct: 100.0 * pass as f64 / n,
+            confidence_pct: [100.0 * low, 100.0 * high],
+            sigma_pct_fs: sigma * pct,
+            histogram: histogram(&worst, limit_v, pct),
+        }
+    }
+}
+
+/// Equal bins over +/-(the largest error or the limit, plus 5 %).
+fn histogram(errors: &[f64], limit_v: f64, pct: f64) -> Histogram {
+    let span = errors.iter().fold(limit_v, |a, v| a.max(v.abs())) * 1.05;
+    let bins = HISTOGRAM_BINS;
+    let mut counts = vec![0u64; bins];
+    for v in errors {
+        let k = (((v + span) / (2.0 * span)) * bins as f64).floor() as isize;
+        counts[k.clamp(0, bins as isize - 1) as usize] += 1;
+    }
+    Histogram {
+        bin_edges_pct_fs: (0..=bins)
+            .map(|k| (-span + 2.0 * span * k as f64 / bins as f64) * pct)
+            .collect(),
+        counts,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn need(temp_min: f64, temp_max: f64) -> Need {
+        crate::need::parse_need(
+            format!(
+                "[sensor]\nsignal_low_v = 0\nsignal_high_v = 0.1\n\
+                 [adc]\nlow_v = 0\nhigh_v = 3\nbits = 12\n[supply]\npositive_v = 5\n\
+                 [accuracy]\nmax_error_pct_fs = 1\ntemp_min_c = {temp_min}\ntemp_max_c = {temp_max}\n"
+            )
+            .as_bytes(),
+            "ratio.toml",
+        )
+        .expect("the test need parses")
+    }
+
+    /// Drift linear in T - 25 degC: the nearer end's drift over the
+    /// farther end's is the ratio of the signed excursions.
+    #[test]
+    fn drift_ratio_is_the_ratio_of_signed_excursions() {
+        for (low, high, want) in [
+            (-40.0, 50.0, 25.0 / -65.0),
+            (-10.0, 85.0, -35.0 / 60.0),
+            (30.0, 85.0, 5.0 / 60.0),
+            (-40.0, 0.0, -25.0 / -65.0),
+            (25.0, 25.0, 0.0),
+        ] {
+            let got = other_end_drift_ratio(&need(low, high));
+            assert!((got - want).abs() < 1e-15, "{low}..{high}: {got} vs {want}");
+        }
+    }
+}

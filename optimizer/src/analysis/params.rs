@@ -1,0 +1,291 @@
+//! Parameter collection: every imperfection of the parts (resistor
+//! tolerance and TCR, op-amp offset, drift, bias and offset current, CMRR,
+//! in-amp gain error and output offset, reference accuracy and tempco,
+//! supply tolerance) becomes a [`Parameter`]: what it perturbs in the
+//! netlist, its initial range and drift range, and the output's
+//! sensitivity to it at both span ends (from the adjoint).
+
+use super::contributor::Contributor;
+use crate::mna::DcSolution;
+use crate::need::{Calibration, Need};
+use crate::netlist::Netlist;
+use crate::stock::Stock;
+use crate::topology::{AmplifierKind, Built, Section};
+
+/// What one parameter perturbs in the netlist.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) enum Target {
+    /// Relative change of these resistor elements (all together).
+    Resistors(Vec<usize>),
+    /// Absolute change of a source value.
+    Source(usize),
+    /// Absolute change of both bias sources (common bias current).
+    BiasCommon(usize, usize),
+    /// Absolute change +d/2 on the first, -d/2 on the second.
+    BiasOffset(usize, usize),
+    /// Nothing in the circuit: the ADC scale itself (ratiometric supply).
+    AdcScale,
+}
+
+/// One imperfection, linearised.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct Parameter {
+    /// The budget line its initial deviation goes to.
+    pub initial_contributor: Contributor,
+    /// The budget line its drift goes to.
+    pub drift_contributor: Contributor,
+    /// What it perturbs.
+    pub target: Target,
+    /// Half-range of the initial deviation at each end (target units).
+    pub initial: [f64; 2],
+    /// Half-range of the drift at the largest temperature excursion.
+    pub drift: f64,
+    /// d(output)/d(target) at each end.
+    pub sensitivity: [f64; 2],
+    /// Removed by calibration (the supply is not: it moves in service).
+    pub calibratable: bool,
+}
+
+impl Parameter {
+    /// Output error of the initial deviation at its limit, at `end`, after
+    /// calibration (signed, volts).
+    #[inline]
+    pub fn initial_error(&self, calibration: Calibration, end: usize) -> f64 {
+        let raw = [
+            self.sensitivity[0] * self.initial[0],
+            self.sensitivity[1] * self.initial[1],
+        ];
+        if self.calibratable {
+            calibration.apply(raw)[end]
+        } else {
+            raw[end]
+        }
+    }
+
+    /// Output error of the drift at its limit (largest excursion), at `end`
+    /// (signed, volts; calibration does not remove drift).
+    #[inline]
+    pub fn drift_error(&self, end: usize) -> f64 {
+        self.sensitivity[end] * self.drift
+    }
+}
+
+/// The parameters of a built design, in a fixed order: resistors, then per
+/// amplifier section its offset, bias, offset current, CMRR and in-amp
+/// terms, then references, then the supply.
+pub(crate) fn collect(
+    need: &Need,
+    stock: &Stock,
+    built: &Built,
+    netlist: &Netlist,
+    dc: &DcSolution,
+) -> Vec<Parameter> {
+    let delta_t = need.max_delta_t();
+    let mut params = Vec::new();
+    for placed in &built.resistors {
+        let tolerance = placed.part.tolerance_pct / 100.0;
+        params.push(Parameter {
+            initial_contributor: Contributor::ResistorTolerance,
+            drift_contributor: Contributor::ResistorTcr,
+            target: Target::Resistors(vec![placed.element]),
+            initial: [tolerance, tolerance],
+            drift: placed.part.tcr_ppm_per_c * 1e-6 * delta_t,
+            sensitivity: dc.resistor_sensitivity(netlist, placed.element),
+            calibratable: true,
+        });
+    }
+    for section in &built.sections {
+        amplifier_parameters(need, stock, netlist, dc, section, &mut params);
+    }
+    for source in &built.sources {
+        if let Some(i) = source.reference {
+            let reference = &stock.references[i];
+            let sensitivity = dc.branch_adjoint(source.element);
+            params.push(Parameter {
+                initial_contributor: Contributor::ReferenceInitial,
+                drift_contributor: Contributor::ReferenceTempco,
+                target: Target::Source(source.element),
+                initial: [reference.volts.0 * reference.initial.fraction(); 2],
+                drift: reference.volts.0 * reference.tempco.fraction_per_c() * delta_t,
+                sensitivity: [sensitivity, sensitivity],
+                calibratable: true,
+            });
+        }
+    }
+    if let Some(supply) = supply_parameter(need, built, dc) {
+        params.push(supply);
+    }
+    params
+}
+
+/// A constant parameter with the same range and sensitivity at both ends.
+fn flat(contributor: Contributor, target: Target, initial: f64, sensitivity: f64) -> Parameter {
+    Parameter {
+        initial_contributor: contributor,
+        drift_contributor: contributor,
+        target,
+        initial: [initial, initial],
+        drift: 0.0,
+        sensitivity: [sensitivity, sensitivity],
+        calibratable: true,
+    }
+}
+
+/// The limits of one amplifier section that enter the budget.
+struct AmplifierLimits {
+    offset_v: f64,
+    offset_drift_v: f64,
+    bias_a: f64,
+    offset_current_a: f64,
+    cmrr_ratio: f64,
+}
+
+fn amplifier_limits(stock: &Stock, kind: AmplifierKind, delta_t: f64) -> AmplifierLimits {
+    match kind {
+        AmplifierKind::OpAmp(i) => {
+            let part = &stock.opamps[i];
+            AmplifierLimits {
+                offset_v: part.vos_max_uv * 1e-6,
+                offset_drift_v: part.vos_drift_uv_per_c * 1e-6 * delta_t,
+                bias_a: part.ib_max_na * 1e-9,
+                offset_current_a: part.ios_max_na * 1e-9,
+                cmrr_ratio: part.cmrr_min.ratio(),
+            }
+        }
+        AmplifierKind::InAmp(i) => {
+            let part = &stock.inamps[i];
+            AmplifierLimits {
+                offset_v: part.input_offset_uv * 1e-6,
+                offset_drift_v: part.offset_drift_uv_per_c * 1e-6 * delta_t,
+                bias_a: part.ib_max_na * 1e-9,
+                offset_current_a: 0.0,
+                cmrr_ratio: part.cmrr_min.ratio(),
+            }
+        }
+    }
+}
+
+/// Offset, drift, bias and offset current, CMRR and (integrated in-amps)
+/// gain error and output offset of one section.
+fn amplifier_parameters(
+    need: &Need,
+    stock: &Stock,
+    netlist: &Netlist,
+    dc: &DcSolution,
+    section: &Section,
+    params: &mut Vec<Parameter>,
+) {
+    let delta_t = need.max_delta_t();
+    let limits = amplifier_limits(stock, section.kind, delta_t);
+    let s_offset = dc.branch_adjoint(section.vos);
+    let s_bias_plus = -dc.node_adjoint(section.plus);
+    let s_bias_minus = -dc.node_adjoint(section.minus);
+    params.push(Parameter {
+        drift_contributor: Contributor::OffsetDrift,
+        drift: limits.offset_drift_v,
+        ..flat(
+            Contributor::OffsetVoltage,
+            Target::Source(section.vos),
+            limits.offset_v,
+            s_offset,
+        )
+    });
+    params.push(flat(
+        Contributor::BiasCurrent,
+        Target::BiasCommon(section.ibp, section.ibn),
+        limits.bias_a,
+        s_bias_plus + s_bias_minus,
+    ));
+    if limits.offset_current_a > 0.0 {
+        params.push(flat(
+            Contributor::OffsetCurrent,
+            Target::BiasOffset(section.ibp, section.ibn),
+            limits.offset_current_a,
+            0.5 * (s_bias_plus - s_bias_minus),
+        ));
+    }
+    // Common mode at the inputs against the mid-supply point where offset
+    // is specified (common practice for datasheet limits).
+    let mid = 0.5 * (need.supply.positive.0 + need.supply.negative.0);
+    let common_mode_at = |end: usize| match section.kind {
+        AmplifierKind::InAmp(_) => {
+            0.5 * (dc.voltage(end, section.plus) + dc.voltage(end, section.minus))
+        }
+        AmplifierKind::OpAmp(_) => dc.voltage(end, section.plus),
+    };
+    let common_mode = [common_mode_at(0) - mid, common_mode_at(1) - mid];
+    params.push(Parameter {
+        initial: [
+            common_mode[0] / limits.cmrr_ratio,
+            common_mode[1] / limits.cmrr_ratio,
+        ],
+        ..flat(
+            Contributor::Cmrr,
+            Target::Source(section.vos),
+            0.0,
+            s_offset,
+        )
+    });
+    if let (AmplifierKind::InAmp(i), Some(internals)) = (section.kind, &section.inamp) {
+        let part = &stock.inamps[i];
+        let mut s_gain = [0.0; 2];
+        for &e in &internals.gain_resistors {
+            let sensitivity = dc.resistor_sensitivity(netlist, e);
+            s_gain[0] += sensitivity[0];
+            s_gain[1] += sensitivity[1];
+        }
+        params.push(Parameter {
+            initial_contributor: Contributor::InAmpGainError,
+            drift_contributor: Contributor::InAmpGainDrift,
+            target: Target::Resistors(internals.gain_resistors.clone()),
+            initial: [part.gain_error.fraction(); 2],
+            drift: part.gain_drift.fraction_per_c() * delta_t,
+            sensitivity: s_gain,
+            calibratable: true,
+        });
+        params.push(flat(
+            Contributor::InAmpOutputOffset,
+            Target::Source(internals.output_offset),
+            part.output_offset_uv * 1e-6,
+            dc.branch_adjoint(internals.output_offset),
+        ));
+    }
+}
+
+/// The supply: as an offset source where it feeds the circuit, and as the
+/// ADC scale when the design is ratiometric. Not removed by calibration:
+/// it moves in service.
+fn supply_parameter(need: &Need, built: &Built, dc: &DcSolution) -> Option<Parameter> {
+    let nominal = need.supply.positive.0;
+    let supply_element = built
+        .sources
+        .iter()
+        .find(|s| s.reference.is_none())
+        .map(|s| s.element);
+    if supply_element.is_none() && !need.supply.ratiometric {
+        return None;
+    }
+    let s_supply = supply_element.map(|e| dc.branch_adjoint(e)).unwrap_or(0.0);
+    let out = dc.output();
+    let sensitivity = if need.supply.ratiometric {
+        [
+            s_supply - (out[0] - need.adc.low.0) / nominal,
+            s_supply - (out[1] - need.adc.low.0) / nominal,
+        ]
+    } else {
+        [s_supply, s_supply]
+    };
+    let range = need.supply.tolerance.fraction() * nominal;
+    Some(Parameter {
+        initial_contributor: Contributor::SupplyTolerance,
+        drift_contributor: Contributor::SupplyTolerance,
+        target: match supply_element {
+            Some(e) => Target::Source(e),
+            None => Target::AdcScale,
+        },
+        initial: [range, range],
+        drift: 0.0,
+        sensitivity,
+        calibratable: false,
+    })
+}
