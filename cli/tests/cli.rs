@@ -1,6 +1,6 @@
 //! The `spanfit` binary as a user runs it: verbs, exit codes (0 with a
-//! design, 1 when none meets the need, 2 on bad input), the JSON fields of
-//! DESIGN.md section 4, and the export files.
+//! design, 1 when none meets the need, 2 on bad input), the fields of the
+//! JSON report (`docs/report.md`), and the export files.
 //!
 //! Inputs are the checked-in examples (`examples/demo-need.toml`,
 //! `examples/demo-design.json`, whose stock path points at
@@ -68,7 +68,7 @@ fn json(o: &Output) -> Value {
     })
 }
 
-/// The fields DESIGN.md section 4 promises in a design object.
+/// The fields `docs/report.md` promises in a design object.
 fn assert_contract_design(d: &Value) {
     assert!(d["topology"].is_string(), "topology: {}", d["topology"]);
     assert!(!d["stages"].as_array().expect("stages[]").is_empty());
