@@ -153,7 +153,12 @@ pub fn solve_bundle(
         }
     }
     let report = report::solve_report(&need, &stock, &outcome);
-    bundle(&need, &stock, report, outcome.best.as_ref().map(|b| &b.design))
+    bundle(
+        &need,
+        &stock,
+        report,
+        outcome.best.as_ref().map(|b| &b.design),
+    )
 }
 
 /// Analyse a design the user already has. The report has the shape of a
@@ -244,7 +249,11 @@ mod tests {
     fn analysis_status_follows_the_verdict() {
         let b = demo_analysis();
         let meets = b.report.design.as_ref().unwrap().error.meets_target;
-        let want = if meets { Status::Ok } else { Status::Infeasible };
+        let want = if meets {
+            Status::Ok
+        } else {
+            Status::Infeasible
+        };
         assert_eq!(b.report.status, want);
         assert_eq!(b.report.reason.is_none(), meets);
         assert!(b.report.search.is_none() && b.report.infeasible.is_none());
@@ -255,7 +264,15 @@ mod tests {
         let report: Vec<&String> = v["report"].as_object().unwrap().keys().collect();
         assert_eq!(
             report,
-            ["alternatives", "design", "infeasible", "need", "reason", "search", "status"]
+            [
+                "alternatives",
+                "design",
+                "infeasible",
+                "need",
+                "reason",
+                "search",
+                "status"
+            ]
         );
     }
 
@@ -264,7 +281,10 @@ mod tests {
     fn the_bom_csv_is_the_bom_table() {
         let b = demo_analysis();
         let table = b.artifacts.bom_table.as_ref().unwrap();
-        assert_eq!(b.artifacts.bom_csv.as_deref(), Some(crate::bom::table_csv(table).as_str()));
+        assert_eq!(
+            b.artifacts.bom_csv.as_deref(),
+            Some(crate::bom::table_csv(table).as_str())
+        );
         let parts = &b.report.design.as_ref().unwrap().parts;
         for p in parts {
             let id = match p {

@@ -192,7 +192,10 @@ mod tests {
 
     #[test]
     fn error_reports_split_the_message() {
-        let e = Error::input(Location::cell("resistors.csv", 5, "unit_cost"), "expected a unit cost");
+        let e = Error::input(
+            Location::cell("resistors.csv", 5, "unit_cost"),
+            "expected a unit cost",
+        );
         let r = e.report();
         assert_eq!(r.kind, crate::report::ErrorKind::Input);
         assert_eq!(r.message, e.to_string());

@@ -32,6 +32,7 @@ pub mod error;
 pub mod mna;
 pub mod montecarlo;
 pub mod need;
+pub mod need_fields;
 mod need_parse;
 pub mod netlist;
 pub mod report;

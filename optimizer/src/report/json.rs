@@ -399,10 +399,7 @@ pub fn solve_report(need: &Need, stock: &Stock, outcome: &SolveOutcome) -> Repor
                 worst_case_pct_fs: c.analysis.worst_case_pct_fs,
             })
             .collect(),
-        design: outcome
-            .best
-            .as_ref()
-            .map(|c| design_report(need, stock, c)),
+        design: outcome.best.as_ref().map(|c| design_report(need, stock, c)),
         infeasible: outcome.infeasible.as_ref().map(infeasible_report),
         need: need_figures(need),
         reason: outcome.infeasible.as_ref().map(|i| i.binding.clone()),

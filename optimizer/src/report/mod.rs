@@ -87,8 +87,7 @@ mod tests {
     /// analysis report with a histogram and in-amp parts.
     #[test]
     fn typed_reports_serialise_as_sorted_json() {
-        let need =
-            crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo.toml").unwrap();
+        let need = crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo.toml").unwrap();
         let stock = crate::stock::parse_stock(&crate::demo::stock_files()).unwrap();
         let mut progress = |_: crate::search::Progress| true;
         let clock = || 0.0;

@@ -529,7 +529,12 @@ fn write_infeasible(out: &mut String, report: &Report) {
     if !inf.largest.is_empty() {
         let _ = writeln!(out, "         largest contributors of the best design:");
         for c in &inf.largest {
-            let _ = writeln!(out, "           {} % FS  {}", num(c.pct_fs, 3), clean(&c.source));
+            let _ = writeln!(
+                out,
+                "           {} % FS  {}",
+                num(c.pct_fs, 3),
+                clean(&c.source)
+            );
         }
     }
     if inf.suggestions.is_empty() {
