@@ -42,6 +42,7 @@ pub mod series;
 pub mod spice;
 pub mod stock;
 mod stock_parse;
+pub use stock_parse::stock_table;
 pub mod topology;
 pub mod units;
 
