@@ -293,7 +293,7 @@ mod tests {
             assert!(!f.hint.contains('\n'), "{}", f.key);
             let has_choices = matches!(f.kind, FieldKind::Choice | FieldKind::Choices);
             assert_eq!(f.choices.is_some(), has_choices, "{}", f.key);
-            assert!(!(f.required && !f.default.is_null()), "{}", f.key);
+            assert!(!f.required || f.default.is_null(), "{}", f.key);
         }
     }
 

@@ -15,11 +15,11 @@
 //!
 //! The work is split in two layers:
 //! - plain Rust functions ([`check_need_value`], [`solve_value`] ...) that
-//!   take Rust closures and return `Result<T, ErrorReport>`; they build and
-//!   are tested natively;
+//!   take Rust closures and return `Result<T, spanfit::Error>`; they build
+//!   and are tested natively;
 //! - the `#[wasm_bindgen]` exports ([`check_need`], [`solve`] ...), a line
-//!   or two each, that adapt JavaScript callbacks and wrap the result in
-//!   the envelope ([`envelope`]).
+//!   or two each, that adapt JavaScript callbacks and run the plain
+//!   function inside [`guarded`], which returns the envelope.
 //!
 //! Every call runs inside [`guarded`], which turns a panic into an
 //! `internal` error where unwinding is available (native builds). On
@@ -41,12 +41,13 @@ use spanfit::{Error, Location};
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use wasm_bindgen::prelude::*;
 
-/// Run `work`, turning a panic into an `internal` error. Input problems
-/// are already `Err` values; this catches the bugs, so a malformed input
-/// never takes the module down where the target can unwind.
-pub fn guarded<T>(work: impl FnOnce() -> Result<T, ErrorReport>) -> Result<T, ErrorReport> {
-    match catch_unwind(AssertUnwindSafe(work)) {
-        Ok(result) => result,
+/// Run `work` and wrap its outcome in the envelope ([`envelope`]),
+/// turning a panic into an `internal` error. Input problems are already
+/// `Err` values; this catches the bugs, so a malformed input never takes
+/// the module down where the target can unwind.
+pub fn guarded<T: Serialize>(work: impl FnOnce() -> Result<T, Error>) -> String {
+    let result = match catch_unwind(AssertUnwindSafe(work)) {
+        Ok(result) => result.map_err(|e| e.report()),
         Err(payload) => {
             let text = payload
                 .downcast_ref::<&str>()
@@ -57,7 +58,8 @@ pub fn guarded<T>(work: impl FnOnce() -> Result<T, ErrorReport>) -> Result<T, Er
                 "internal error in spanfit (please report it): {text}"
             )))
         }
-    }
+    };
+    envelope(result)
 }
 
 /// The envelope of a result, as JSON text: `{"ok": true, "value": V}` or
@@ -71,16 +73,6 @@ pub fn envelope<T: Serialize>(result: Result<T, ErrorReport>) -> String {
         let error = ErrorReport::internal(format!("internal error: cannot write JSON: {e}"));
         json!({"ok": false, "error": error}).to_string()
     })
-}
-
-/// Run `work` guarded and wrap its result in the envelope.
-fn run<T: Serialize>(work: impl FnOnce() -> Result<T, ErrorReport>) -> String {
-    envelope(guarded(work))
-}
-
-/// A core error as the page receives it.
-fn report(e: Error) -> ErrorReport {
-    e.report()
 }
 
 /// A location naming a line and column of a text.
@@ -149,8 +141,8 @@ fn json_kind(value: &Value) -> &'static str {
 /// `{"need": <validated need>, "derived": {...}}` where `derived` holds the
 /// figures the form shows beside the inputs (ideal gain and offset, target
 /// window, LSB, volts per unit of the physical quantity).
-pub fn check_need_value(need_text: &str, need_name: &str) -> Result<Value, ErrorReport> {
-    let need = spanfit::need::parse_need(need_text.as_bytes(), need_name).map_err(report)?;
+pub fn check_need_value(need_text: &str, need_name: &str) -> Result<Value, Error> {
+    let need = spanfit::need::parse_need(need_text.as_bytes(), need_name)?;
     let (target_low, target_high) = need.target_window();
     let (gain, offset) = need.ideal_transfer();
     let derived = json!({
@@ -169,14 +161,10 @@ pub fn check_need_value(need_text: &str, need_name: &str) -> Result<Value, Error
 /// Turn need text (TOML, or JSON when it starts with `{`) into the JSON
 /// object of its raw keys, as the form holds them. Only the syntax is
 /// checked here; [`check_need_value`] validates the values.
-pub fn need_keys_value(need_text: &str, need_name: &str) -> Result<Value, ErrorReport> {
+pub fn need_keys_value(need_text: &str, need_name: &str) -> Result<Value, Error> {
     if need_text.trim_start().starts_with('{') {
-        return serde_json::from_str(need_text).map_err(|e| {
-            report(Error::input(
-                at(need_name, e.line(), e.column()),
-                e.to_string(),
-            ))
-        });
+        return serde_json::from_str(need_text)
+            .map_err(|e| Error::input(at(need_name, e.line(), e.column()), e.to_string()));
     }
     let table: toml::Table = toml::from_str(need_text).map_err(|e| {
         let message = e.message().to_string();
@@ -187,10 +175,9 @@ pub fn need_keys_value(need_text: &str, need_name: &str) -> Result<Value, ErrorR
             }
             None => Location::file(need_name),
         };
-        report(Error::input(location, message))
+        Error::input(location, message)
     })?;
-    serde_json::to_value(table)
-        .map_err(|e| report(Error::input(Location::file(need_name), e.to_string())))
+    serde_json::to_value(table).map_err(|e| Error::input(Location::file(need_name), e.to_string()))
 }
 
 /// 1-based line and column (in characters) of a byte offset.
@@ -208,14 +195,14 @@ fn line_column(text: &str, byte_offset: usize) -> (usize, usize) {
 /// Read a stock (the page's JSON object of CSV texts) and count its parts:
 /// `{"resistors": n, "opamps": n, "references": n, "inamps": n}`. The core
 /// reports the first problem with file, line and column.
-pub fn check_stock_value(stock_json: &str) -> Result<Value, ErrorReport> {
-    let files = stock_files_from_json(stock_json).map_err(report)?;
+pub fn check_stock_value(stock_json: &str) -> Result<Value, Error> {
+    let files = stock_files_from_json(stock_json)?;
     let files = if files.is_empty() {
         spanfit::demo::stock_files()
     } else {
         files
     };
-    let stock = spanfit::stock::parse_stock(&files).map_err(report)?;
+    let stock = spanfit::stock::parse_stock(&files)?;
     Ok(json!({
         "resistors": stock.resistors.len(),
         "opamps": stock.opamps.len(),
@@ -229,8 +216,8 @@ pub fn check_stock_value(stock_json: &str) -> Result<Value, ErrorReport> {
 pub fn read_stock_table_value(
     file_name: &str,
     csv_text: &str,
-) -> Result<spanfit::stock_table::StockTable, ErrorReport> {
-    spanfit::stock_table::read_stock_table(file_name, csv_text.as_bytes()).map_err(report)
+) -> Result<spanfit::stock_table::StockTable, Error> {
+    spanfit::stock_table::read_stock_table(file_name, csv_text.as_bytes())
 }
 
 /// Solve a need against a stock; the value is the core's bundle
@@ -243,11 +230,10 @@ pub fn solve_value(
     stock_json: &str,
     progress: &mut dyn FnMut(Progress) -> bool,
     now_ms: &dyn Fn() -> f64,
-) -> Result<spanfit::report::Bundle, ErrorReport> {
-    let files = stock_files_from_json(stock_json).map_err(report)?;
+) -> Result<spanfit::report::Bundle, Error> {
+    let files = stock_files_from_json(stock_json)?;
     let mut control = SolveControl { progress, now_ms };
     spanfit::api::solve_bundle(need_text.as_bytes(), need_name, &files, false, &mut control)
-        .map_err(report)
 }
 
 /// Analyse a design the user already has (a design file, or a design
@@ -258,8 +244,8 @@ pub fn analyze_value(
     stock_json: &str,
     design_text: &str,
     design_name: &str,
-) -> Result<spanfit::report::Bundle, ErrorReport> {
-    let files = stock_files_from_json(stock_json).map_err(report)?;
+) -> Result<spanfit::report::Bundle, Error> {
+    let files = stock_files_from_json(stock_json)?;
     spanfit::api::analyze_bundle(
         need_text.as_bytes(),
         need_name,
@@ -267,7 +253,6 @@ pub fn analyze_value(
         design_text.as_bytes(),
         design_name,
     )
-    .map_err(report)
 }
 
 /// The need keys described for a form, as a JSON array (see
@@ -288,28 +273,28 @@ pub fn demo_stock_text() -> String {
 /// Validate a need; see [`check_need_value`]. Returns the envelope.
 #[wasm_bindgen]
 pub fn check_need(need_text: &str, need_name: &str) -> String {
-    run(|| check_need_value(need_text, need_name))
+    guarded(|| check_need_value(need_text, need_name))
 }
 
 /// The raw keys of a need (TOML or JSON) as a JSON object; see
 /// [`need_keys_value`]. Returns the envelope.
 #[wasm_bindgen]
 pub fn need_keys(need_text: &str, need_name: &str) -> String {
-    run(|| need_keys_value(need_text, need_name))
+    guarded(|| need_keys_value(need_text, need_name))
 }
 
 /// Read a stock and count its parts; see [`check_stock_value`]. Returns
 /// the envelope.
 #[wasm_bindgen]
 pub fn check_stock(stock_json: &str) -> String {
-    run(|| check_stock_value(stock_json))
+    guarded(|| check_stock_value(stock_json))
 }
 
 /// One stock table as the core reads and validates it; see
 /// [`read_stock_table_value`]. Returns the envelope.
 #[wasm_bindgen]
 pub fn read_stock_table(file_name: &str, csv_text: &str) -> String {
-    run(|| read_stock_table_value(file_name, csv_text))
+    guarded(|| read_stock_table_value(file_name, csv_text))
 }
 
 /// Every need key described for a form: a JSON array of `{key, section,
@@ -344,7 +329,7 @@ pub fn solve(
         }
     };
     let now_ms = js_sys::Date::now;
-    run(|| solve_value(need_text, need_name, stock_json, &mut progress, &now_ms))
+    guarded(|| solve_value(need_text, need_name, stock_json, &mut progress, &now_ms))
 }
 
 /// Analyse a given design against a need and stock; see
@@ -357,7 +342,7 @@ pub fn analyze(
     design_text: &str,
     design_name: &str,
 ) -> String {
-    run(|| analyze_value(need_text, need_name, stock_json, design_text, design_name))
+    guarded(|| analyze_value(need_text, need_name, stock_json, design_text, design_name))
 }
 
 /// The demo need, as TOML text.
@@ -550,17 +535,17 @@ mod tests {
 
     #[test]
     fn guarded_turns_a_panic_into_an_internal_error() {
-        let err = guarded::<()>(|| {
+        let err = open(&guarded::<()>(|| {
             let reason = std::hint::black_box("boom");
             panic!("{reason}")
-        })
+        }))
         .unwrap_err();
-        assert_eq!(err.kind, spanfit::report::ErrorKind::Internal);
-        assert!(err.message.contains("internal error"), "{err:?}");
-        assert!(err.message.contains("boom"), "{err:?}");
-        let v = open(&envelope::<()>(Err(err))).unwrap_err();
-        assert_eq!(v["kind"], "internal");
-        assert_eq!(guarded(|| Ok::<_, ErrorReport>(7)), Ok(7));
+        assert_eq!(err["kind"], "internal");
+        let message = err["message"].as_str().unwrap();
+        assert!(message.contains("internal error"), "{err}");
+        assert!(message.contains("boom"), "{err}");
+        assert!(err["file"].is_null() && err["line"].is_null());
+        assert_eq!(open(&guarded(|| Ok::<_, Error>(7))), Ok(json!(7)));
     }
 
     #[test]
@@ -675,7 +660,7 @@ mod tests {
             now_ms: &clock,
         };
         let core = spanfit::api::solve_bundle(b"[adc]\n", "bad.toml", &[], false, &mut control);
-        assert_eq!(ours, core.unwrap_err().report());
+        assert_eq!(ours, core.unwrap_err());
     }
 
     /// `analyze` returns the bundle shape of `solve`: `{report, artifacts,
