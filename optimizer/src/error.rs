@@ -123,18 +123,7 @@ impl Error {
             message: message.into(),
         }
     }
-}
 
-impl fmt::Display for Error {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self {
-            Error::Input { at, message } => write!(f, "{at}: {message}"),
-            Error::Design { message } => write!(f, "design: {message}"),
-        }
-    }
-}
-
-impl Error {
     /// What is wrong and what to enter, without the location prefix.
     pub fn detail(&self) -> &str {
         match self {
@@ -154,6 +143,15 @@ impl Error {
     /// the location in parts.
     pub fn report(&self) -> crate::report::ErrorReport {
         crate::report::ErrorReport::from(self)
+    }
+}
+
+impl fmt::Display for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Error::Input { at, message } => write!(f, "{at}: {message}"),
+            Error::Design { message } => write!(f, "design: {message}"),
+        }
     }
 }
 
