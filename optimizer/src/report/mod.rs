@@ -113,4 +113,27 @@ mod tests {
             assert_eq!(direct, sorted);
         }
     }
+
+    /// The text of an analysis report is the text of its design: no search
+    /// line, no alternatives, no infeasibility section; and it shows the
+    /// Monte Carlo seed the JSON leaves out.
+    #[test]
+    fn analysis_text_is_the_design_text() {
+        let need =
+            crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo.toml").unwrap();
+        let stock = crate::stock::parse_stock(&crate::demo::stock_files()).unwrap();
+        let design = crate::design::parse_design(
+            include_str!("../../../examples/demo-design.json").as_bytes(),
+            "demo-design.json",
+            &stock,
+        )
+        .unwrap();
+        let c = crate::api::evaluate(&need, &stock, &design).unwrap();
+        let report = analysis_report(&need, &stock, &c);
+        let text = report_text(&need, &report);
+        assert_eq!(text, text_report(&need, &stock, &c));
+        assert!(!text.contains("Search ") && !text.contains("Alternatives"));
+        let seed = c.analysis.yield_result.as_ref().unwrap().seed;
+        assert!(text.contains(&format!("(seed {seed})")), "{text}");
+    }
 }
