@@ -119,8 +119,7 @@ mod tests {
     /// Monte Carlo seed the JSON leaves out.
     #[test]
     fn analysis_text_is_the_design_text() {
-        let need =
-            crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo.toml").unwrap();
+        let need = crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo.toml").unwrap();
         let stock = crate::stock::parse_stock(&crate::demo::stock_files()).unwrap();
         let design = crate::design::parse_design(
             include_str!("../../../examples/demo-design.json").as_bytes(),
