@@ -3,7 +3,7 @@
 //! A thin shell around [`spanfit::api`]: it parses the command line, reads
 //! the need (SPEC) and the stock folder it names, hands bytes to the core,
 //! prints the report, writes the export files, and turns the outcome into
-//! the exit status of DESIGN.md section 4: 0 with a design, 1 when no
+//! the exit status of `docs/report.md`: 0 with a design, 1 when no
 //! design meets the need, 2 on bad input or usage.
 //!
 //! Invariant: no engineering happens here; every number comes from the
@@ -11,8 +11,8 @@
 //! terminal (besides the wasm crate, which touches the page).
 
 use anyhow::{bail, Context, Result};
-use serde_json::Value;
 use spanfit::api::{Progress, SolveControl};
+use spanfit::report::{Artifacts, Bundle, Status};
 use spanfit::stock::StockFile;
 use std::ffi::OsString;
 use std::io::Write as _;
@@ -263,7 +263,7 @@ fn read_stock(spec: &Path, spec_bytes: &[u8]) -> Result<Vec<StockFile>> {
 }
 
 /// Run a search with the process clock and an optional progress line.
-fn solve(need: &[u8], need_name: &str, stock: &[StockFile], o: &Options) -> Result<Value> {
+fn solve(need: &[u8], need_name: &str, stock: &[StockFile], o: &Options) -> Result<Bundle> {
     let start = Instant::now();
     let now_ms = move || start.elapsed().as_secs_f64() * 1e3;
     let show = o.progress;
@@ -298,24 +298,23 @@ fn solve(need: &[u8], need_name: &str, stock: &[StockFile], o: &Options) -> Resu
 
 /// Write the requested export files. With no design there is nothing to
 /// write: each requested file is named on stderr as not written.
-fn write_artifacts(artifacts: &Value, o: &Options, have_design: bool) -> Result<()> {
+fn write_artifacts(artifacts: &Artifacts, o: &Options) -> Result<()> {
     let wanted = [
-        (&o.spice, "spice", "SPICE netlist"),
-        (&o.bom, "bom_csv", "BOM"),
-        (&o.svg, "svg", "schematic"),
+        (&o.spice, &artifacts.spice, "SPICE netlist"),
+        (&o.bom, &artifacts.bom_csv, "BOM"),
+        (&o.svg, &artifacts.svg, "schematic"),
     ];
-    for (path, key, what) in wanted {
+    for (path, text, what) in wanted {
         let Some(path) = path else { continue };
-        match artifacts.get(key).and_then(Value::as_str) {
+        match text {
             Some(text) => std::fs::write(path, text)
                 .with_context(|| format!("cannot write the {what} to `{}`", path.display()))?,
-            None if !have_design => {
+            None => {
                 eprintln!(
                     "spanfit: no design, so no {what} was written to `{}`",
                     path.display()
                 );
             }
-            None => bail!("this build of spanfit cannot export a {what}"),
         }
     }
     Ok(())
@@ -343,51 +342,33 @@ fn run(verb: Verb, o: &Options) -> Result<u8> {
             (bytes, spec.display().to_string(), stock)
         }
     };
-    let (report, artifacts, text) = match verb {
-        Verb::Solve | Verb::Demo => {
-            let mut bundle = solve(&need, &need_name, &stock, o)?;
-            (
-                bundle["report"].take(),
-                bundle["artifacts"].take(),
-                bundle["text"].take(),
-            )
-        }
+    let bundle = match verb {
+        Verb::Solve | Verb::Demo => solve(&need, &need_name, &stock, o)?,
         Verb::Analyze => {
             let design_path = o.design.as_deref().unwrap_or_else(|| Path::new(""));
             let design = read_input(design_path, "design file")?;
-            let mut bundle = spanfit::api::analyze_bundle(
+            spanfit::api::analyze_bundle(
                 &need,
                 &need_name,
                 &stock,
                 &design,
                 &design_path.display().to_string(),
-            )?;
-            let artifacts = bundle["artifacts"].take();
-            let text = bundle["text"].take();
-            if let Value::Object(map) = &mut bundle {
-                map.remove("artifacts");
-                map.remove("text");
-            }
-            (bundle, artifacts, text)
+            )?
         }
     };
-    let ok = report.get("status").and_then(Value::as_str) == Some("ok");
-    let have_design = report.get("design").is_some_and(|d| !d.is_null());
-    write_artifacts(&artifacts, o, have_design)?;
+    write_artifacts(&bundle.artifacts, o)?;
+    let report = &bundle.report;
     if o.json {
-        let mut s = serde_json::to_string_pretty(&report).context("cannot format the report")?;
+        let mut s = serde_json::to_string_pretty(report).context("cannot format the report")?;
         s.push('\n');
         print(&s)?;
     } else {
-        print(text.as_str().unwrap_or(""))?;
+        print(&bundle.text)?;
     }
-    if ok {
+    if report.status == Status::Ok {
         Ok(0)
     } else {
-        let reason = report
-            .get("reason")
-            .and_then(Value::as_str)
-            .unwrap_or("no reason given");
+        let reason = report.reason.as_deref().unwrap_or("no reason given");
         eprintln!("spanfit: no design meets the need: {reason}");
         Ok(1)
     }

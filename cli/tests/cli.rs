@@ -1,6 +1,6 @@
 //! The `spanfit` binary as a user runs it: verbs, exit codes (0 with a
-//! design, 1 when none meets the need, 2 on bad input), the JSON fields of
-//! the report (`docs/report.md`), and the export files.
+//! design, 1 when none meets the need, 2 on bad input), the fields of the
+//! JSON report (`docs/report.md`), and the export files.
 //!
 //! Inputs are the checked-in examples (`examples/demo-need.toml`,
 //! `examples/demo-design.json`, whose stock path points at
@@ -126,6 +126,22 @@ fn analyze_the_demo_design_as_json() {
         stderr(&o)
     );
     assert_eq!(v["status"], if meets { "ok" } else { "infeasible" });
+    // The report has the shape of a solve report with no search behind it.
+    let keys: Vec<&String> = v.as_object().unwrap().keys().collect();
+    assert_eq!(
+        keys,
+        [
+            "alternatives",
+            "design",
+            "infeasible",
+            "need",
+            "reason",
+            "search",
+            "status"
+        ]
+    );
+    assert!(v["search"].is_null() && v["infeasible"].is_null());
+    assert_eq!(v["alternatives"], serde_json::json!([]));
     // The need's own figures ride along.
     let k = v["need"]["ideal_gain"].as_f64().unwrap();
     assert!((k - v["design"]["transfer"]["ideal_gain"].as_f64().unwrap()).abs() < 1e-12);

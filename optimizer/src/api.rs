@@ -1,20 +1,21 @@
 //! The front-end surface: the few calls the CLI and the wasm crate make.
-//! They take text and bytes and return JSON values (the contract of
-//! DESIGN.md section 4), so both front ends show the same numbers from the
-//! same analysis.
+//! They take text and bytes and return the typed bundle of
+//! [`crate::report::types`] (the JSON contract of `docs/report.md`), so
+//! both front ends show the same numbers from the same analysis.
 //!
-//! Every bundle has the same three parts: the report object, the
-//! `artifacts` (`spice`, `svg`, `bom_csv` texts of the design, or nulls
-//! when there is no design) and `text`, the plain-text report.
+//! Every bundle has the same three parts, for `solve` and `analyze` alike:
+//! `report` (the report object), `artifacts` (`spice`, `svg`, `bom_csv`
+//! and `bom_table` of the design, or nulls when there is no design) and
+//! `text`, the plain-text report.
 
 use crate::analysis::analyze;
 use crate::design::{parse_design, Design};
 use crate::error::Result;
 use crate::need::{Basis, Need};
-use crate::report;
+use crate::report::{self, Artifacts, Bundle, Report};
 use crate::search::{costing, Candidate};
 use crate::stock::{Stock, StockFile};
-use serde_json::{json, Value};
+use serde_json::Value;
 
 pub use crate::search::{Progress, SolveControl};
 
@@ -86,21 +87,21 @@ pub fn read_design(bytes: &[u8], design_name: &str, stock: &Stock) -> Result<Des
     parse_design(bytes, design_name, stock)
 }
 
-/// The export texts of one design: `{"spice"` (the ngspice deck of
-/// [`crate::spice::export`]), `"svg"` (the schematic of
-/// [`crate::schematic::svg`]) and `"bom_csv"` (the bill of materials of
-/// [`crate::bom::csv`])`}`.
-pub fn artifacts(need: &Need, stock: &Stock, design: &Design) -> Result<Value> {
+/// The export texts of one design: the ngspice deck of
+/// [`crate::spice::export`], the schematic of [`crate::schematic::svg`],
+/// and the bill of materials of [`crate::bom`] as a table and as the CSV
+/// written from that table.
+pub fn artifacts(need: &Need, stock: &Stock, design: &Design) -> Result<Artifacts> {
     let built = crate::topology::build(need, stock, design)?;
     let spice = crate::spice::export(need, stock, design)?;
-    let bom_csv = crate::bom::csv(&crate::bom::rows(&built, stock), need.search.bom_line_cost);
+    let bom_table = crate::bom::table(&crate::bom::rows(&built, stock), need.search.bom_line_cost);
     let svg = crate::schematic::svg(&built, design, &need.sensor.label);
-    Ok(json!({"spice": spice, "svg": svg, "bom_csv": bom_csv}))
-}
-
-/// The artifacts object when there is no design.
-fn no_artifacts() -> Value {
-    json!({"spice": null, "svg": null, "bom_csv": null})
+    Ok(Artifacts {
+        bom_csv: Some(crate::bom::table_csv(&bom_table)),
+        bom_table: Some(bom_table),
+        spice: Some(spice),
+        svg: Some(svg),
+    })
 }
 
 /// The export texts of a design given as bytes (a design file or a
@@ -111,23 +112,37 @@ pub fn artifacts_for(
     stock: &[StockFile],
     design: &[u8],
     design_name: &str,
-) -> Result<Value> {
+) -> Result<Artifacts> {
     let (need, stock) = load(need, need_name, stock)?;
     let design = read_design(design, design_name, &stock)?;
     artifacts(&need, &stock, &design)
 }
 
-/// Solve a need: `{"report": <DESIGN.md section 4 object>, "artifacts":
-/// {"spice", "svg", "bom_csv"}, "text": <plain-text report>}`. An
-/// infeasible need is not an error: the report says `status:
-/// "infeasible"` with the binding reason, and the artifacts are null.
+/// A bundle from a report: the artifacts of its design (all null without
+/// one) and the text report.
+fn bundle(need: &Need, stock: &Stock, report: Report, design: Option<&Design>) -> Result<Bundle> {
+    let artifacts = match design {
+        Some(d) => artifacts(need, stock, d)?,
+        None => Artifacts::default(),
+    };
+    let text = report::report_text(need, &report);
+    Ok(Bundle {
+        artifacts,
+        report,
+        text,
+    })
+}
+
+/// Solve a need. An infeasible need is not an error: the report says
+/// `status: "infeasible"` with the binding reason, and the artifacts are
+/// null.
 pub fn solve_bundle(
     need: &[u8],
     need_name: &str,
     stock: &[StockFile],
     exhaustive: bool,
     control: &mut SolveControl<'_>,
-) -> Result<Value> {
+) -> Result<Bundle> {
     let (need, stock) = load(need, need_name, stock)?;
     let mut outcome = crate::search::solve(
         &need,
@@ -142,54 +157,43 @@ pub fn solve_bundle(
             *best = evaluate(&need, &stock, &best.design)?;
         }
     }
-    let artifacts = match &outcome.best {
-        Some(best) => artifacts(&need, &stock, &best.design)?,
-        None => no_artifacts(),
-    };
-    Ok(json!({
-        "report": report::solve_json(&need, &stock, &outcome),
-        "artifacts": artifacts,
-        "text": report::solve_text_report(&need, &stock, &outcome),
-    }))
+    let report = report::solve_report(&need, &stock, &outcome);
+    bundle(
+        &need,
+        &stock,
+        report,
+        outcome.best.as_ref().map(|b| &b.design),
+    )
 }
 
-/// Analyse a design the user already has: `{"status", "need", "design":
-/// <design object>, "reason", "alternatives": [], "search": null,
-/// "artifacts": {...}, "text": <plain-text report>}`, where `status` is
-/// `"ok"` when the design meets the need and `"infeasible"` otherwise, with
-/// `reason` saying why (the same top-level shape as a solve report, with no
-/// search behind it). The design may be a
-/// design file or a whole reported design object (see [`read_design`]).
+/// Analyse a design the user already has. The report has the shape of a
+/// solve report with no search behind it: `status` is `"ok"` when the
+/// design meets the need and `"infeasible"` otherwise, with `reason`
+/// saying why; `alternatives` is empty, `search` and `infeasible` null.
+/// The design may be a design file or a whole reported design object (see
+/// [`read_design`]).
 pub fn analyze_bundle(
     need: &[u8],
     need_name: &str,
     stock: &[StockFile],
     design: &[u8],
     design_name: &str,
-) -> Result<Value> {
+) -> Result<Bundle> {
     let (need, stock) = load(need, need_name, stock)?;
     let design = read_design(design, design_name, &stock)?;
     let candidate = evaluate(&need, &stock, &design)?;
-    let reason = report::shortfall(&need, &candidate.analysis);
-    Ok(json!({
-        "status": if reason.is_none() { "ok" } else { "infeasible" },
-        "need": report::need_json(&need),
-        "design": report::design_json(&need, &stock, &candidate),
-        "reason": reason,
-        "alternatives": [],
-        "search": null,
-        "artifacts": artifacts(&need, &stock, &design)?,
-        "text": report::text_report(&need, &stock, &candidate),
-    }))
+    let report = report::analysis_report(&need, &stock, &candidate);
+    bundle(&need, &stock, report, Some(&design))
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::report::Status;
 
     const DESIGN: &str = include_str!("../../examples/demo-design.json");
 
-    fn demo_analysis() -> Value {
+    fn demo_analysis() -> Bundle {
         analyze_bundle(
             crate::demo::NEED_TOML.as_bytes(),
             "demo-need.toml",
@@ -203,27 +207,27 @@ mod tests {
     #[test]
     fn analysis_of_the_demo_design_has_a_histogram() {
         let b = demo_analysis();
-        let e = &b["design"]["error"];
-        let counts = e["histogram"]["counts"].as_array().unwrap();
-        let total: u64 = counts.iter().filter_map(Value::as_u64).sum();
+        let e = &b.report.design.as_ref().unwrap().error;
+        let total: u64 = e.histogram.as_ref().unwrap().counts.iter().sum();
         assert_eq!(total, MONTE_CARLO_BUILDS);
-        assert!(e["yield_pct"].as_f64().unwrap() >= 0.0);
-        assert!(b["text"].as_str().unwrap().contains("verify on the bench"));
+        assert!(e.yield_pct.unwrap() >= 0.0);
+        assert!(b.text.contains("verify on the bench"));
     }
 
     /// A reported design object fed back gives the same report.
     #[test]
     fn a_reported_design_reads_back() {
         let first = demo_analysis();
+        let design = serde_json::to_string(&first.report.design).unwrap();
         let again = analyze_bundle(
             crate::demo::NEED_TOML.as_bytes(),
             "demo-need.toml",
             &[],
-            first["design"].to_string().as_bytes(),
+            design.as_bytes(),
             "picked",
         )
         .unwrap();
-        assert_eq!(first["design"], again["design"]);
+        assert_eq!(first.report.design, again.report.design);
     }
 
     #[test]
@@ -244,13 +248,57 @@ mod tests {
         );
     }
 
-    /// The verdict of `analyze` follows the analysis.
+    /// The verdict of `analyze` follows the analysis, and its bundle has
+    /// the shape of a solve bundle with no search behind it.
     #[test]
     fn analysis_status_follows_the_verdict() {
         let b = demo_analysis();
-        let meets = b["design"]["error"]["meets_target"].as_bool().unwrap();
-        assert_eq!(b["status"], if meets { "ok" } else { "infeasible" });
-        assert_eq!(b["reason"].is_null(), meets);
+        let meets = b.report.design.as_ref().unwrap().error.meets_target;
+        let want = if meets {
+            Status::Ok
+        } else {
+            Status::Infeasible
+        };
+        assert_eq!(b.report.status, want);
+        assert_eq!(b.report.reason.is_none(), meets);
+        assert!(b.report.search.is_none() && b.report.infeasible.is_none());
+        assert!(b.report.alternatives.is_empty());
+        let v = serde_json::to_value(&b).unwrap();
+        let keys: Vec<&String> = v.as_object().unwrap().keys().collect();
+        assert_eq!(keys, ["artifacts", "report", "text"]);
+        let report: Vec<&String> = v["report"].as_object().unwrap().keys().collect();
+        assert_eq!(
+            report,
+            [
+                "alternatives",
+                "design",
+                "infeasible",
+                "need",
+                "reason",
+                "search",
+                "status"
+            ]
+        );
+    }
+
+    /// The BOM CSV is the BOM table written out.
+    #[test]
+    fn the_bom_csv_is_the_bom_table() {
+        let b = demo_analysis();
+        let table = b.artifacts.bom_table.as_ref().unwrap();
+        assert_eq!(
+            b.artifacts.bom_csv.as_deref(),
+            Some(crate::bom::table_csv(table).as_str())
+        );
+        let parts = &b.report.design.as_ref().unwrap().parts;
+        for p in parts {
+            let id = match p {
+                crate::report::types::PartEntry::Resistor(r) => &r.part_id,
+                crate::report::types::PartEntry::Amplifier(a) => &a.part_id,
+                crate::report::types::PartEntry::Reference(r) => &r.part_id,
+            };
+            assert!(table.rows.iter().any(|row| &row[3] == id), "{id}");
+        }
     }
 
     /// The chosen design of a search is reported exactly as `analyze`
@@ -265,24 +313,25 @@ mod tests {
         };
         let need = crate::demo::NEED_TOML.as_bytes();
         let solved = solve_bundle(need, "demo-need.toml", &[], false, &mut control).unwrap();
-        let report = &solved["report"];
-        assert_eq!(report["status"], "ok");
-        for key in ["spice", "svg", "bom_csv"] {
-            assert!(solved["artifacts"][key].is_string(), "artifacts.{key}");
-        }
-        let file = report["design"]["file"].to_string();
+        let report = &solved.report;
+        assert_eq!(report.status, Status::Ok);
+        let a = &solved.artifacts;
+        assert!(a.spice.is_some() && a.svg.is_some() && a.bom_csv.is_some());
+        assert!(a.bom_table.is_some());
+        let design = report.design.as_ref().unwrap();
+        let file = design.file.to_string();
         let analysed =
             analyze_bundle(need, "demo-need.toml", &[], file.as_bytes(), "file").unwrap();
-        assert_eq!(analysed["design"], report["design"]);
-        assert_eq!(analysed["status"], "ok");
+        assert_eq!(analysed.report.design.as_ref(), Some(design));
+        assert_eq!(analysed.report.status, Status::Ok);
         let picked = artifacts_for(
             need,
             "demo-need.toml",
             &[],
-            report["design"].to_string().as_bytes(),
+            serde_json::to_string(design).unwrap().as_bytes(),
             "picked",
         )
         .unwrap();
-        assert_eq!(picked, solved["artifacts"]);
+        assert_eq!(picked, solved.artifacts);
     }
 }

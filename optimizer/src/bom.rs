@@ -206,30 +206,38 @@ pub fn money(v: f64) -> String {
     }
 }
 
-/// The BOM as CSV (header, part rows, summary rows; `\n` line ends).
+/// The bill of materials as a table of cell texts: the header (the CSV
+/// columns) and one row per part line, then the summary rows. The cells
+/// are the values as written, not escaped; [`table_csv`] escapes them.
+#[derive(Debug, Clone, PartialEq, Default, Serialize)]
+pub struct BomTable {
+    /// Column names, as in [`HEADER`].
+    pub header: Vec<String>,
+    /// Part rows, then the `bom-line fee` row (when the fee is not zero)
+    /// and the `total` row, each as many cells as the header.
+    pub rows: Vec<Vec<String>>,
+}
+
+/// The BOM as a table: header, part rows, summary rows.
 /// `bom_line_cost` is the fee per distinct part line (`search.bom_line_cost`
 /// of the need); the `total` row is the parts plus those fees.
-pub fn csv(rows: &[BomRow], bom_line_cost: f64) -> String {
-    let mut s = String::new();
-    s.push_str(HEADER);
-    s.push('\n');
+pub fn table(rows: &[BomRow], bom_line_cost: f64) -> BomTable {
+    let mut out = Vec::with_capacity(rows.len() + 2);
     let mut parts = 0.0;
     let mut quantity = 0u64;
     for r in rows {
         let line = r.line_cost();
         parts += line;
         quantity += u64::from(r.quantity);
-        let _ = writeln!(
-            s,
-            "{},{},{},{},{},{},{}",
-            csv_field(&r.refs.join(" ")),
-            csv_field(&r.kind),
-            csv_field(&r.value),
-            csv_field(&r.part_id),
-            r.quantity,
+        out.push(vec![
+            r.refs.join(" "),
+            r.kind.clone(),
+            r.value.clone(),
+            r.part_id.clone(),
+            r.quantity.to_string(),
             money(r.unit_cost),
-            money(line)
-        );
+            money(line),
+        ]);
     }
     let fee = if bom_line_cost.is_finite() && bom_line_cost > 0.0 {
         bom_line_cost
@@ -238,16 +246,46 @@ pub fn csv(rows: &[BomRow], bom_line_cost: f64) -> String {
     };
     let fees = fee * rows.len() as f64;
     if fee > 0.0 {
-        let _ = writeln!(
-            s,
-            ",bom-line fee,per distinct part line,,{},{},{}",
-            rows.len(),
+        out.push(vec![
+            String::new(),
+            "bom-line fee".into(),
+            "per distinct part line".into(),
+            String::new(),
+            rows.len().to_string(),
             money(fee),
-            money(fees)
-        );
+            money(fees),
+        ]);
     }
-    let _ = writeln!(s, ",total,,,{quantity},,{}", money(parts + fees));
+    out.push(vec![
+        String::new(),
+        "total".into(),
+        String::new(),
+        String::new(),
+        quantity.to_string(),
+        String::new(),
+        money(parts + fees),
+    ]);
+    BomTable {
+        header: HEADER.split(',').map(str::to_string).collect(),
+        rows: out,
+    }
+}
+
+/// A table as CSV text: every cell escaped by [`csv_field`], `\n` line
+/// ends.
+pub fn table_csv(table: &BomTable) -> String {
+    let mut s = String::new();
+    for cells in std::iter::once(&table.header).chain(&table.rows) {
+        let line: Vec<String> = cells.iter().map(|c| csv_field(c)).collect();
+        let _ = writeln!(s, "{}", line.join(","));
+    }
     s
+}
+
+/// The BOM as CSV (header, part rows, summary rows; `\n` line ends): the
+/// text of [`table`].
+pub fn csv(rows: &[BomRow], bom_line_cost: f64) -> String {
+    table_csv(&table(rows, bom_line_cost))
 }
 
 #[cfg(test)]
@@ -360,5 +398,25 @@ mod tests {
         let text = csv(&rows, 0.0);
         assert!(!text.contains("bom-line fee"));
         assert!(text.ends_with(",total,,,3,,0.053\n"));
+    }
+
+    /// The table holds the cells unescaped; the CSV is the same rows with
+    /// every cell escaped.
+    #[test]
+    fn table_and_csv_hold_the_same_rows() {
+        let rows = vec![row(&["R1"], "=evil", 1, 0.5), row(&["R2"], "HR,X", 2, 0.25)];
+        let t = table(&rows, 0.05);
+        assert_eq!(t.header.join(","), HEADER);
+        assert_eq!(t.rows.len(), rows.len() + 2);
+        assert!(t.rows.iter().all(|r| r.len() == t.header.len()));
+        assert_eq!(t.rows[0][3], "=evil");
+        assert_eq!(t.rows[1][3], "HR,X");
+        assert_eq!(t.rows[3][1], "total");
+        let text = csv(&rows, 0.05);
+        for (line, cells) in text.lines().skip(1).zip(&t.rows) {
+            let escaped: Vec<String> = cells.iter().map(|c| csv_field(c)).collect();
+            assert_eq!(line, escaped.join(","));
+        }
+        assert!(text.contains("'=evil") && text.contains("\"HR,X\""));
     }
 }

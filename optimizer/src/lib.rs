@@ -32,6 +32,7 @@ pub mod error;
 pub mod mna;
 pub mod montecarlo;
 pub mod need;
+pub mod need_fields;
 mod need_parse;
 pub mod netlist;
 pub mod report;
@@ -42,6 +43,7 @@ pub mod shape;
 pub mod spice;
 pub mod stock;
 mod stock_parse;
+pub use stock_parse::stock_table;
 pub mod topology;
 pub mod units;
 

@@ -18,6 +18,19 @@ pub enum SensorOutput {
     Differential,
 }
 
+impl SensorOutput {
+    /// Every value, in a fixed order.
+    pub const ALL: [SensorOutput; 2] = [SensorOutput::SingleEnded, SensorOutput::Differential];
+
+    /// The name used in need files and reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            SensorOutput::SingleEnded => "single-ended",
+            SensorOutput::Differential => "differential",
+        }
+    }
+}
+
 /// The optional physical scale of the sensor.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Quantity {
@@ -86,6 +99,20 @@ pub enum Basis {
     Yield,
 }
 
+impl Basis {
+    /// Every value, in a fixed order.
+    pub const ALL: [Basis; 3] = [Basis::WorstCase, Basis::Rss, Basis::Yield];
+
+    /// The name used in need files and reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Basis::WorstCase => "worst-case",
+            Basis::Rss => "rss",
+            Basis::Yield => "yield",
+        }
+    }
+}
+
 /// Which calibration the user will do on the finished board.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case")]
@@ -96,6 +123,24 @@ pub enum Calibration {
     Offset,
     /// Two-point trim that removes initial gain and offset.
     TwoPoint,
+}
+
+impl Calibration {
+    /// Every value, in a fixed order.
+    pub const ALL: [Calibration; 3] = [
+        Calibration::None,
+        Calibration::Offset,
+        Calibration::TwoPoint,
+    ];
+
+    /// The name used in need files and reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Calibration::None => "none",
+            Calibration::Offset => "offset",
+            Calibration::TwoPoint => "two-point",
+        }
+    }
 }
 
 /// Accuracy target and conditions.
@@ -161,6 +206,20 @@ pub enum Objective {
     Error,
     /// Part count.
     Parts,
+}
+
+impl Objective {
+    /// Every value, in a fixed order.
+    pub const ALL: [Objective; 3] = [Objective::Cost, Objective::Error, Objective::Parts];
+
+    /// The name used in need files and reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Objective::Cost => "cost",
+            Objective::Error => "error",
+            Objective::Parts => "parts",
+        }
+    }
 }
 
 /// Search limits and preferences.

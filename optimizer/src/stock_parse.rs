@@ -1104,6 +1104,11 @@ fn inamps(columns: &Columns, rows: &[Record], file: &str) -> Result<Vec<(InAmpPa
     Ok(parts)
 }
 
+/// One table read and validated on its own (declared here so it can call
+/// the reader's private steps).
+#[path = "stock_table.rs"]
+pub mod stock_table;
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -3,114 +3,149 @@
 //! The spanfit core compiled to WebAssembly for the static page. This crate
 //! holds no engineering: each exported function turns JavaScript strings
 //! into the core's inputs, calls one function of [`spanfit::api`] (or the
-//! need and stock parsers), and hands back JSON text. Errors become
-//! JavaScript `Error`s whose message is the core error's `Display` text
-//! unchanged, so the page shows the same words as the command line.
+//! need and stock readers), and hands back JSON text.
+//!
+//! Every export that reads user input returns an *envelope*:
+//! `{"ok": true, "value": ...}` or `{"ok": false, "error": {...}}`, where
+//! the error is the core's [`ErrorReport`] (kind, the full message as the
+//! command line prints it, the detail, and file, line, column, CSV column
+//! name and key where known). Bad input never throws; only a bug (a panic,
+//! which aborts the call on `wasm32-unknown-unknown`) does. `web/README.md`
+//! lists the exports and their values.
 //!
 //! The work is split in two layers:
-//! - plain Rust functions ([`check_need_text`], [`solve_text`] ...) that
-//!   take Rust closures and return `Result<String, String>`; they build and
-//!   are tested natively;
+//! - plain Rust functions ([`check_need_value`], [`solve_value`] ...) that
+//!   take Rust closures and return `Result<T, spanfit::Error>`; they build
+//!   and are tested natively;
 //! - the `#[wasm_bindgen]` exports ([`check_need`], [`solve`] ...), a line
-//!   or two each, that adapt JavaScript callbacks and errors.
+//!   or two each, that adapt JavaScript callbacks and run the plain
+//!   function inside [`guarded`], which returns the envelope.
 //!
-//! Every call runs inside [`guarded`], which turns a panic into an error
-//! message where unwinding is available (native builds). On
+//! Every call runs inside [`guarded`], which turns a panic into an
+//! `internal` error where unwinding is available (native builds). On
 //! `wasm32-unknown-unknown` a panic aborts the call instead; the panic hook
 //! installed at start-up writes the message to `console.error` first, and
 //! the page replaces the worker that hosted the module.
 //!
 //! ```
-//! let summary = spanfit_web::stock_files_from_json("{}").unwrap();
-//! assert!(summary.is_empty()); // empty object: the demo stock is used
+//! let files = spanfit_web::stock_files_from_json("{}").unwrap();
+//! assert!(files.is_empty()); // empty object: the demo stock is used
 //! ```
 
+use serde::Serialize;
+use serde_json::{json, Value};
 use spanfit::api::{Progress, SolveControl};
+use spanfit::report::ErrorReport;
 use spanfit::stock::StockFile;
+use spanfit::{Error, Location};
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use wasm_bindgen::prelude::*;
 
-/// The file name the page uses for a design handed to [`analyze`].
-pub const DESIGN_NAME: &str = "design.json";
-
-/// Run `work`, turning a panic into an error message. Input problems are
-/// already `Err` values; this catches the bugs, so a malformed input never
-/// takes the module down where the target can unwind.
-pub fn guarded<T>(work: impl FnOnce() -> Result<T, String>) -> Result<T, String> {
-    match catch_unwind(AssertUnwindSafe(work)) {
-        Ok(result) => result,
+/// Run `work` and wrap its outcome in the envelope ([`envelope`]),
+/// turning a panic into an `internal` error. Input problems are already
+/// `Err` values; this catches the bugs, so a malformed input never takes
+/// the module down where the target can unwind.
+pub fn guarded<T: Serialize>(work: impl FnOnce() -> Result<T, Error>) -> String {
+    let result = match catch_unwind(AssertUnwindSafe(work)) {
+        Ok(result) => result.map_err(|e| e.report()),
         Err(payload) => {
             let text = payload
                 .downcast_ref::<&str>()
                 .map(|s| (*s).to_string())
                 .or_else(|| payload.downcast_ref::<String>().cloned())
                 .unwrap_or_else(|| "no message".to_string());
-            Err(format!(
+            Err(ErrorReport::internal(format!(
                 "internal error in spanfit (please report it): {text}"
-            ))
+            )))
         }
-    }
+    };
+    envelope(result)
+}
+
+/// The envelope of a result, as JSON text: `{"ok": true, "value": V}` or
+/// `{"ok": false, "error": E}`.
+pub fn envelope<T: Serialize>(result: Result<T, ErrorReport>) -> String {
+    let text = match &result {
+        Ok(value) => serde_json::to_string(&json!({"ok": true, "value": value})),
+        Err(error) => serde_json::to_string(&json!({"ok": false, "error": error})),
+    };
+    text.unwrap_or_else(|e| {
+        let error = ErrorReport::internal(format!("internal error: cannot write JSON: {e}"));
+        json!({"ok": false, "error": error}).to_string()
+    })
+}
+
+/// A location naming a line and column of a text.
+fn at(file: &str, line: usize, column: usize) -> Location {
+    let mut at = Location::file(file);
+    at.line = Some(line);
+    at.column = Some(column.to_string());
+    at
 }
 
 /// Read the page's stock object `{"resistors.csv": "<csv text>", ...}` into
-/// parser input. An empty object (or empty text) gives no files, which the
+/// reader input. An empty object (or empty text) gives no files, which the
 /// core takes as "use the embedded demo stock".
-pub fn stock_files_from_json(stock_json: &str) -> Result<Vec<StockFile>, String> {
+pub fn stock_files_from_json(stock_json: &str) -> Result<Vec<StockFile>, Error> {
     if stock_json.trim().is_empty() {
         return Ok(Vec::new());
     }
-    let value: serde_json::Value = serde_json::from_str(stock_json).map_err(|e| {
-        format!(
-            "stock: expected a JSON object mapping file names to CSV text; line {}, column {}: {e}",
-            e.line(),
-            e.column()
+    let value: Value = serde_json::from_str(stock_json).map_err(|e| {
+        let full = e.to_string();
+        let message = full
+            .rsplit_once(" at line ")
+            .map_or(full.as_str(), |(head, _)| head);
+        Error::input(
+            at("stock", e.line(), e.column()),
+            format!("expected a JSON object mapping file names to CSV text: {message}"),
         )
     })?;
-    let serde_json::Value::Object(map) = value else {
-        return Err(format!(
-            "stock: expected a JSON object mapping file names (resistors.csv, opamps.csv, references.csv, inamps.csv) to CSV text, found {}",
-            json_kind(&value)
+    let Value::Object(map) = value else {
+        return Err(Error::input(
+            Location::file("stock"),
+            format!(
+                "expected a JSON object mapping file names (resistors.csv, opamps.csv, references.csv, inamps.csv) to CSV text, found {}",
+                json_kind(&value)
+            ),
         ));
     };
     map.into_iter()
         .map(|(name, text)| match text {
-            serde_json::Value::String(text) => Ok(StockFile {
+            Value::String(text) => Ok(StockFile {
                 name,
                 bytes: text.into_bytes(),
             }),
-            other => Err(format!(
-                "stock, file `{name}`: expected the CSV text as a string, found {}",
-                json_kind(&other)
+            other => Err(Error::input(
+                Location::file(&name),
+                format!(
+                    "expected the CSV text of the file as a string in the stock object, found {}",
+                    json_kind(&other)
+                ),
             )),
         })
         .collect()
 }
 
-fn json_kind(value: &serde_json::Value) -> &'static str {
+fn json_kind(value: &Value) -> &'static str {
     match value {
-        serde_json::Value::Null => "null",
-        serde_json::Value::Bool(_) => "a boolean",
-        serde_json::Value::Number(_) => "a number",
-        serde_json::Value::String(_) => "a string",
-        serde_json::Value::Array(_) => "an array",
-        serde_json::Value::Object(_) => "an object",
+        Value::Null => "null",
+        Value::Bool(_) => "a boolean",
+        Value::Number(_) => "a number",
+        Value::String(_) => "a string",
+        Value::Array(_) => "an array",
+        Value::Object(_) => "an object",
     }
 }
 
-fn to_json(value: &impl serde::Serialize) -> Result<String, String> {
-    serde_json::to_string(value).map_err(|e| format!("internal error: cannot write JSON: {e}"))
-}
-
-/// Validate a need (TOML, or JSON when it starts with `{`). Returns
+/// Validate a need (TOML, or JSON when it starts with `{`). The value is
 /// `{"need": <validated need>, "derived": {...}}` where `derived` holds the
 /// figures the form shows beside the inputs (ideal gain and offset, target
 /// window, LSB, volts per unit of the physical quantity).
-pub fn check_need_text(need_text: &str, need_name: &str) -> Result<String, String> {
-    let need =
-        spanfit::need::parse_need(need_text.as_bytes(), need_name).map_err(|e| e.to_string())?;
+pub fn check_need_value(need_text: &str, need_name: &str) -> Result<Value, Error> {
+    let need = spanfit::need::parse_need(need_text.as_bytes(), need_name)?;
     let (target_low, target_high) = need.target_window();
     let (gain, offset) = need.ideal_transfer();
-    let derived = serde_json::json!({
+    let derived = json!({
         "full_scale_v": need.full_scale(),
         "lsb_v": need.lsb(),
         "target_low_v": target_low,
@@ -120,30 +155,29 @@ pub fn check_need_text(need_text: &str, need_name: &str) -> Result<String, Strin
         "volts_per_unit": need.volts_per_unit(),
         "max_delta_t_c": need.max_delta_t(),
     });
-    to_json(&serde_json::json!({ "need": need, "derived": derived }))
+    Ok(json!({ "need": need, "derived": derived }))
 }
 
 /// Turn need text (TOML, or JSON when it starts with `{`) into the JSON
 /// object of its raw keys, as the form holds them. Only the syntax is
-/// checked here; [`check_need_text`] validates the values.
-pub fn need_keys_text(need_text: &str, need_name: &str) -> Result<String, String> {
-    let value: serde_json::Value = if need_text.trim_start().starts_with('{') {
-        serde_json::from_str(need_text)
-            .map_err(|e| format!("{need_name}, line {}, column {}: {e}", e.line(), e.column()))?
-    } else {
-        let table: toml::Table = toml::from_str(need_text).map_err(|e| {
-            let message = e.message().to_string();
-            match e.span() {
-                Some(span) => {
-                    let (line, column) = line_column(need_text, span.start);
-                    format!("{need_name}, line {line}, column {column}: {message}")
-                }
-                None => format!("{need_name}: {message}"),
+/// checked here; [`check_need_value`] validates the values.
+pub fn need_keys_value(need_text: &str, need_name: &str) -> Result<Value, Error> {
+    if need_text.trim_start().starts_with('{') {
+        return serde_json::from_str(need_text)
+            .map_err(|e| Error::input(at(need_name, e.line(), e.column()), e.to_string()));
+    }
+    let table: toml::Table = toml::from_str(need_text).map_err(|e| {
+        let message = e.message().to_string();
+        let location = match e.span() {
+            Some(span) => {
+                let (line, column) = line_column(need_text, span.start);
+                at(need_name, line, column)
             }
-        })?;
-        serde_json::to_value(table).map_err(|e| format!("{need_name}: {e}"))?
-    };
-    to_json(&value)
+            None => Location::file(need_name),
+        };
+        Error::input(location, message)
+    })?;
+    serde_json::to_value(table).map_err(|e| Error::input(Location::file(need_name), e.to_string()))
 }
 
 /// 1-based line and column (in characters) of a byte offset.
@@ -158,18 +192,18 @@ fn line_column(text: &str, byte_offset: usize) -> (usize, usize) {
     (line, column)
 }
 
-/// Parse a stock (the page's JSON object of CSV texts) and count its parts:
+/// Read a stock (the page's JSON object of CSV texts) and count its parts:
 /// `{"resistors": n, "opamps": n, "references": n, "inamps": n}`. The core
 /// reports the first problem with file, line and column.
-pub fn check_stock_text(stock_json: &str) -> Result<String, String> {
+pub fn check_stock_value(stock_json: &str) -> Result<Value, Error> {
     let files = stock_files_from_json(stock_json)?;
     let files = if files.is_empty() {
         spanfit::demo::stock_files()
     } else {
         files
     };
-    let stock = spanfit::stock::parse_stock(&files).map_err(|e| e.to_string())?;
-    to_json(&serde_json::json!({
+    let stock = spanfit::stock::parse_stock(&files)?;
+    Ok(json!({
         "resistors": stock.resistors.len(),
         "opamps": stock.opamps.len(),
         "references": stock.references.len(),
@@ -177,90 +211,111 @@ pub fn check_stock_text(stock_json: &str) -> Result<String, String> {
     }))
 }
 
-/// Solve a need against a stock; returns the core's bundle
-/// `{"report": ..., "artifacts": ...}` as JSON text. `progress` is called
-/// now and then and returns `false` to stop (the best design so far is
-/// returned); `now_ms` is the clock.
-pub fn solve_text(
+/// One stock table as the core reads it: `{"file", "kind", "header",
+/// "rows", "line_numbers"}` (see [`spanfit::stock_table::StockTable`]).
+pub fn read_stock_table_value(
+    file_name: &str,
+    csv_text: &str,
+) -> Result<spanfit::stock_table::StockTable, Error> {
+    spanfit::stock_table::read_stock_table(file_name, csv_text.as_bytes())
+}
+
+/// Solve a need against a stock; the value is the core's bundle
+/// `{"report", "artifacts", "text"}`. `progress` is called now and then
+/// and returns `false` to stop (the best design so far is returned);
+/// `now_ms` is the clock.
+pub fn solve_value(
     need_text: &str,
     need_name: &str,
     stock_json: &str,
     progress: &mut dyn FnMut(Progress) -> bool,
     now_ms: &dyn Fn() -> f64,
-) -> Result<String, String> {
+) -> Result<spanfit::report::Bundle, Error> {
     let files = stock_files_from_json(stock_json)?;
     let mut control = SolveControl { progress, now_ms };
-    let bundle =
-        spanfit::api::solve_bundle(need_text.as_bytes(), need_name, &files, false, &mut control)
-            .map_err(|e| e.to_string())?;
-    to_json(&bundle)
+    spanfit::api::solve_bundle(need_text.as_bytes(), need_name, &files, false, &mut control)
 }
 
-/// Analyse a design the user already has (a design object as in the
-/// report); returns `{"design": ..., "artifacts": ...}` as JSON text.
-pub fn analyze_text(
+/// Analyse a design the user already has (a design file, or a design
+/// object as in the report); the value is the same bundle as a solve's.
+pub fn analyze_value(
     need_text: &str,
     need_name: &str,
     stock_json: &str,
-    design_json: &str,
-) -> Result<String, String> {
+    design_text: &str,
+    design_name: &str,
+) -> Result<spanfit::report::Bundle, Error> {
     let files = stock_files_from_json(stock_json)?;
-    let bundle = spanfit::api::analyze_bundle(
+    spanfit::api::analyze_bundle(
         need_text.as_bytes(),
         need_name,
         &files,
-        design_json.as_bytes(),
-        DESIGN_NAME,
+        design_text.as_bytes(),
+        design_name,
     )
-    .map_err(|e| e.to_string())?;
-    to_json(&bundle)
+}
+
+/// The need keys described for a form, as a JSON array (see
+/// [`spanfit::need_fields::need_fields`]).
+pub fn need_fields_text() -> String {
+    serde_json::to_string(&spanfit::need_fields::need_fields()).unwrap_or_else(|_| "[]".into())
 }
 
 /// The demo stock as `{"resistors.csv": "<csv text>", ...}`.
 pub fn demo_stock_text() -> String {
-    let map: serde_json::Map<String, serde_json::Value> = spanfit::demo::STOCK
+    let map: serde_json::Map<String, Value> = spanfit::demo::STOCK
         .iter()
-        .map(|(name, text)| ((*name).to_string(), serde_json::Value::from(*text)))
+        .map(|(name, text)| ((*name).to_string(), Value::from(*text)))
         .collect();
-    serde_json::Value::Object(map).to_string()
+    Value::Object(map).to_string()
 }
 
-fn js_error(message: String) -> JsError {
-    JsError::new(&message)
-}
-
-/// Validate a need; see [`check_need_text`]. Throws an `Error` naming the
-/// file, key, line or column on bad input.
+/// Validate a need; see [`check_need_value`]. Returns the envelope.
 #[wasm_bindgen]
-pub fn check_need(need_text: &str, need_name: &str) -> Result<String, JsError> {
-    guarded(|| check_need_text(need_text, need_name)).map_err(js_error)
+pub fn check_need(need_text: &str, need_name: &str) -> String {
+    guarded(|| check_need_value(need_text, need_name))
 }
 
 /// The raw keys of a need (TOML or JSON) as a JSON object; see
-/// [`need_keys_text`].
+/// [`need_keys_value`]. Returns the envelope.
 #[wasm_bindgen]
-pub fn need_keys(need_text: &str, need_name: &str) -> Result<String, JsError> {
-    guarded(|| need_keys_text(need_text, need_name)).map_err(js_error)
+pub fn need_keys(need_text: &str, need_name: &str) -> String {
+    guarded(|| need_keys_value(need_text, need_name))
 }
 
-/// Parse a stock and count its parts; see [`check_stock_text`].
+/// Read a stock and count its parts; see [`check_stock_value`]. Returns
+/// the envelope.
 #[wasm_bindgen]
-pub fn check_stock(stock_json: &str) -> Result<String, JsError> {
-    guarded(|| check_stock_text(stock_json)).map_err(js_error)
+pub fn check_stock(stock_json: &str) -> String {
+    guarded(|| check_stock_value(stock_json))
+}
+
+/// One stock table as the core reads and validates it; see
+/// [`read_stock_table_value`]. Returns the envelope.
+#[wasm_bindgen]
+pub fn read_stock_table(file_name: &str, csv_text: &str) -> String {
+    guarded(|| read_stock_table_value(file_name, csv_text))
+}
+
+/// Every need key described for a form: a JSON array of `{key, section,
+/// label, unit, kind, choices, default, min, max, required, hint}`.
+#[wasm_bindgen]
+pub fn need_fields() -> String {
+    need_fields_text()
 }
 
 /// Solve a need. `stock_json` maps file names to CSV text (`{}` is the demo
 /// stock). `progress_callback(done, total, best_cost)` is called now and
 /// then (`best_cost` is `null` before the first design); returning `false`
 /// stops the search, which then returns the best design so far. A callback
-/// that throws stops the search too.
+/// that throws stops the search too. Returns the envelope of the bundle.
 #[wasm_bindgen]
 pub fn solve(
     need_text: &str,
     need_name: &str,
     stock_json: &str,
     progress_callback: &js_sys::Function,
-) -> Result<String, JsError> {
+) -> String {
     let mut progress = |p: Progress| -> bool {
         let best = p.best_cost.map_or(JsValue::NULL, JsValue::from_f64);
         match progress_callback.call3(
@@ -274,19 +329,20 @@ pub fn solve(
         }
     };
     let now_ms = js_sys::Date::now;
-    guarded(|| solve_text(need_text, need_name, stock_json, &mut progress, &now_ms))
-        .map_err(js_error)
+    guarded(|| solve_value(need_text, need_name, stock_json, &mut progress, &now_ms))
 }
 
-/// Analyse a given design against a need and stock; see [`analyze_text`].
+/// Analyse a given design against a need and stock; see
+/// [`analyze_value`]. Returns the envelope of the bundle.
 #[wasm_bindgen]
 pub fn analyze(
     need_text: &str,
     need_name: &str,
     stock_json: &str,
-    design_json: &str,
-) -> Result<String, JsError> {
-    guarded(|| analyze_text(need_text, need_name, stock_json, design_json)).map_err(js_error)
+    design_text: &str,
+    design_name: &str,
+) -> String {
+    guarded(|| analyze_value(need_text, need_name, stock_json, design_text, design_name))
 }
 
 /// The demo need, as TOML text.
@@ -354,6 +410,26 @@ fn start() {
 mod tests {
     use super::*;
 
+    /// An envelope's text read back: `Ok(value)` or `Err(error)`.
+    fn open(text: &str) -> Result<Value, Value> {
+        let v: Value = serde_json::from_str(text).expect("an envelope is JSON");
+        match v["ok"].as_bool() {
+            Some(true) => {
+                assert!(v.get("error").is_none(), "{text}");
+                Ok(v["value"].clone())
+            }
+            Some(false) => {
+                assert!(v.get("value").is_none(), "{text}");
+                Err(v["error"].clone())
+            }
+            None => panic!("no `ok` in {text}"),
+        }
+    }
+
+    fn never_stop(_: Progress) -> bool {
+        true
+    }
+
     #[test]
     fn empty_stock_object_means_demo_stock() {
         assert!(stock_files_from_json("{}").unwrap().is_empty());
@@ -373,17 +449,25 @@ mod tests {
     #[test]
     fn stock_that_is_not_json_names_line_and_column() {
         let err = stock_files_from_json("{\n \"resistors.csv\": nope}").unwrap_err();
-        assert!(err.starts_with("stock: "), "{err}");
-        assert!(err.contains("line 2, column"), "{err}");
+        let r = err.report();
+        assert!(
+            r.message.starts_with("stock, line 2, column "),
+            "{}",
+            r.message
+        );
+        assert_eq!((r.file.as_deref(), r.line), (Some("stock"), Some(2)));
+        assert!(r.column.is_some_and(|c| c >= 1));
+        assert!(!r.detail.contains(" at line "), "{}", r.detail);
     }
 
     #[test]
     fn stock_that_is_not_an_object_says_what_it_found() {
-        let err = stock_files_from_json("[1, 2]").unwrap_err();
+        let err = stock_files_from_json("[1, 2]").unwrap_err().to_string();
+        assert!(err.starts_with("stock: "), "{err}");
         assert!(err.contains("found an array"), "{err}");
         let err = stock_files_from_json(r#"{"opamps.csv": 3}"#).unwrap_err();
-        assert!(err.contains("file `opamps.csv`"), "{err}");
-        assert!(err.contains("found a number"), "{err}");
+        assert_eq!(err.report().file.as_deref(), Some("opamps.csv"));
+        assert!(err.to_string().contains("found a number"), "{err}");
     }
 
     #[test]
@@ -398,8 +482,7 @@ mod tests {
 
     #[test]
     fn need_keys_turn_the_demo_toml_into_its_sections() {
-        let keys: serde_json::Value =
-            serde_json::from_str(&need_keys_text(&demo_need(), "demo.toml").unwrap()).unwrap();
+        let keys = open(&need_keys(&demo_need(), "demo.toml")).unwrap();
         let demo: toml::Table = toml::from_str(spanfit::demo::NEED_TOML).unwrap();
         assert_eq!(
             keys["adc"]["bits"].as_i64(),
@@ -417,11 +500,29 @@ mod tests {
     }
 
     #[test]
-    fn need_keys_name_line_and_column_of_a_toml_mistake() {
-        let err = need_keys_text("[adc]\nlow_v = 0.0\nhigh_v = = 3\n", "mine.toml").unwrap_err();
-        assert!(err.starts_with("mine.toml, line 3, column "), "{err}");
-        let err = need_keys_text("{\"adc\": }", "mine.json").unwrap_err();
-        assert!(err.starts_with("mine.json, line 1, column "), "{err}");
+    fn need_keys_name_line_and_column_of_a_mistake() {
+        let err = open(&need_keys(
+            "[adc]\nlow_v = 0.0\nhigh_v = = 3\n",
+            "mine.toml",
+        ))
+        .unwrap_err();
+        let message = err["message"].as_str().unwrap();
+        assert!(message.starts_with("mine.toml, line 3, column "), "{err}");
+        assert_eq!(err["kind"], "input");
+        assert_eq!(
+            (err["file"].as_str(), err["line"].as_u64()),
+            (Some("mine.toml"), Some(3))
+        );
+        assert!(err["column"].as_u64().is_some_and(|c| c >= 1), "{err}");
+        assert!(message.ends_with(err["detail"].as_str().unwrap()), "{err}");
+        let err = open(&need_keys("{\"adc\": }", "mine.json")).unwrap_err();
+        assert!(
+            err["message"]
+                .as_str()
+                .unwrap()
+                .starts_with("mine.json, line 1, column "),
+            "{err}"
+        );
     }
 
     #[test]
@@ -433,45 +534,157 @@ mod tests {
     }
 
     #[test]
-    fn guarded_turns_a_panic_into_an_error() {
-        let err = guarded::<()>(|| {
+    fn guarded_turns_a_panic_into_an_internal_error() {
+        let err = open(&guarded::<()>(|| {
             let reason = std::hint::black_box("boom");
             panic!("{reason}")
-        })
+        }))
         .unwrap_err();
-        assert!(err.contains("internal error"), "{err}");
-        assert!(err.contains("boom"), "{err}");
-        assert_eq!(guarded(|| Ok::<_, String>(7)), Ok(7));
+        assert_eq!(err["kind"], "internal");
+        let message = err["message"].as_str().unwrap();
+        assert!(message.contains("internal error"), "{err}");
+        assert!(message.contains("boom"), "{err}");
+        assert!(err["file"].is_null() && err["line"].is_null());
+        assert_eq!(open(&guarded(|| Ok::<_, Error>(7))), Ok(json!(7)));
     }
 
     #[test]
-    fn check_need_errors_keep_the_core_message() {
-        let err = check_need_text("not = [valid", "need.toml").unwrap_err();
+    fn check_need_errors_are_the_core_error() {
+        let err = open(&check_need("not = [valid", "need.toml")).unwrap_err();
         let core = spanfit::need::parse_need(b"not = [valid", "need.toml").unwrap_err();
-        assert_eq!(err, core.to_string());
-        assert!(err.contains("need.toml"), "{err}");
+        assert_eq!(err, serde_json::to_value(core.report()).unwrap());
+        assert_eq!(err["message"], core.to_string());
+        assert_eq!(err["file"], "need.toml");
     }
 
     #[test]
-    fn check_stock_errors_keep_the_core_message() {
+    fn a_bad_need_value_names_the_key() {
+        let bad = demo_need().replace("bits = 16", "bits = \"sixteen\"");
+        assert_ne!(bad, demo_need());
+        let err = open(&check_need(&bad, "mine.toml")).unwrap_err();
+        assert_eq!(err["key"], "adc.bits");
+        assert_eq!(err["kind"], "input");
+        assert!(err["line"].as_u64().is_some() && err["column"].as_u64().is_some());
+    }
+
+    #[test]
+    fn check_stock_errors_are_the_core_error() {
         let stock = r#"{"resistors.csv": "part_id,value_ohms\nR1,abc\n"}"#;
-        let err = check_stock_text(stock).unwrap_err();
+        let err = open(&check_stock(stock)).unwrap_err();
         let core = spanfit::stock::parse_stock(&stock_files_from_json(stock).unwrap()).unwrap_err();
-        assert_eq!(err, core.to_string());
-        assert!(err.contains("resistors.csv"), "{err}");
+        assert_eq!(err, serde_json::to_value(core.report()).unwrap());
+        assert_eq!(err["file"], "resistors.csv");
+        let counts = open(&check_stock("{}")).unwrap();
+        assert!(counts["resistors"].as_u64().unwrap() > 0);
     }
 
     #[test]
-    fn solve_errors_keep_the_core_message() {
-        let mut progress = |_: Progress| true;
+    fn a_bad_stock_cell_names_file_line_and_column_name() {
+        let demo: Value = serde_json::from_str(&demo_stock_text()).unwrap();
+        let text = demo["resistors.csv"].as_str().unwrap();
+        let t = open(&read_stock_table("resistors.csv", text)).unwrap();
+        let cost = t["header"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .position(|h| h == "unit_cost")
+            .unwrap();
+        let line = t["line_numbers"][0].as_u64().unwrap() as usize;
+        let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
+        let mut cells: Vec<String> = lines[line - 1].split(',').map(str::to_string).collect();
+        cells[cost] = "cheap".into();
+        lines[line - 1] = cells.join(",");
+        let broken = lines.join("\n");
+        let err = open(&read_stock_table("resistors.csv", &broken)).unwrap_err();
+        assert_eq!(err["file"], "resistors.csv");
+        assert_eq!(err["line"].as_u64(), Some(line as u64));
+        assert_eq!(err["column_name"], "unit_cost");
+        assert!(err["column"].is_null());
+        // The same error as the whole stock gives.
+        let stock = json!({"resistors.csv": broken}).to_string();
+        assert_eq!(open(&check_stock(&stock)).unwrap_err(), err);
+    }
+
+    #[test]
+    fn stock_tables_read_as_the_core_reads_them() {
+        for (name, text) in spanfit::demo::STOCK {
+            let t = open(&read_stock_table(name, text)).unwrap();
+            assert_eq!(t["file"], name);
+            let rows = t["rows"].as_array().unwrap();
+            assert_eq!(rows.len(), t["line_numbers"].as_array().unwrap().len());
+            let width = t["header"].as_array().unwrap().len();
+            assert!(rows.iter().all(|r| r.as_array().unwrap().len() == width));
+        }
+        let err = open(&read_stock_table("caps.csv", "a\n")).unwrap_err();
+        assert_eq!(err["file"], "caps.csv");
+    }
+
+    #[test]
+    fn need_fields_cover_the_demo_need() {
+        let fields: Value = serde_json::from_str(&need_fields()).unwrap();
+        let fields = fields.as_array().unwrap();
+        let keys = open(&need_keys(&demo_need(), "demo.toml")).unwrap();
+        for (table, entries) in keys.as_object().unwrap() {
+            for name in entries.as_object().unwrap().keys() {
+                let key = format!("{table}.{name}");
+                let n = fields.iter().filter(|f| f["key"] == key.as_str()).count();
+                assert_eq!(n, 1, "{key}");
+            }
+        }
+        for f in fields {
+            for member in [
+                "key", "section", "label", "unit", "kind", "choices", "default",
+            ] {
+                assert!(f.get(member).is_some(), "{member} in {f}");
+            }
+            for member in ["min", "max", "required", "hint"] {
+                assert!(f.get(member).is_some(), "{member} in {f}");
+            }
+        }
+        let basis = fields
+            .iter()
+            .find(|f| f["key"] == "accuracy.basis")
+            .unwrap();
+        assert_eq!(basis["kind"], "choice");
+        assert_eq!(basis["choices"], json!(["worst-case", "rss", "yield"]));
+    }
+
+    #[test]
+    fn solve_errors_are_the_core_error() {
         let clock = || 0.0;
-        let ours = solve_text("[adc]\n", "bad.toml", "{}", &mut progress, &clock);
-        let mut progress = |_: Progress| true;
+        let mut progress = never_stop;
+        let ours = solve_value("[adc]\n", "bad.toml", "{}", &mut progress, &clock).unwrap_err();
+        let mut progress = never_stop;
         let mut control = SolveControl {
             progress: &mut progress,
             now_ms: &clock,
         };
         let core = spanfit::api::solve_bundle(b"[adc]\n", "bad.toml", &[], false, &mut control);
-        assert_eq!(ours.unwrap_err(), core.unwrap_err().to_string());
+        assert_eq!(ours, core.unwrap_err());
+    }
+
+    /// `analyze` returns the bundle shape of `solve`: `{report, artifacts,
+    /// text}`, artifacts with the BOM table.
+    #[test]
+    fn analyze_returns_the_solve_bundle_shape() {
+        let design = include_str!("../../examples/demo-design.json");
+        let text = analyze(&demo_need(), "demo.toml", "{}", design, "demo-design.json");
+        let b = open(&text).unwrap();
+        let keys: Vec<&String> = b.as_object().unwrap().keys().collect();
+        assert_eq!(keys, ["artifacts", "report", "text"]);
+        assert!(b["report"]["design"]["cost"].as_f64().unwrap() > 0.0);
+        assert!(b["report"]["search"].is_null());
+        let a = &b["artifacts"];
+        for key in ["spice", "svg", "bom_csv"] {
+            assert!(a[key].is_string(), "{key}");
+        }
+        assert_eq!(a["bom_table"]["header"][0], "refs");
+        assert!(b["text"].as_str().unwrap().contains("Error budget"));
+        let bad = design.replace("\"IA-3\"", "\"IA-404\"");
+        let err = open(&analyze(&demo_need(), "demo.toml", "{}", &bad, "mine.json")).unwrap_err();
+        assert!(
+            err["message"].as_str().unwrap().contains("mine.json"),
+            "{err}"
+        );
     }
 }

@@ -44,5 +44,7 @@ fn a_panic_reaches_console_error_and_the_caller_sees_an_exception() {
         "{logged:?}"
     );
     // Plain calls still work after the trap.
-    assert!(check_need(&demo_need(), "demo.toml").is_ok());
+    let answer: serde_json::Value =
+        serde_json::from_str(&check_need(&demo_need(), "demo.toml")).unwrap();
+    assert_eq!(answer["ok"], true, "{answer}");
 }
