@@ -24,7 +24,7 @@ pub use crate::search::{Progress, SolveControl};
 pub const MONTE_CARLO_BUILDS: u64 = 10_000;
 /// Monte Carlo builds when the need's basis is `yield` (the yield decides
 /// whether the target is met, so it gets a tighter interval).
-pub const MONTE_CARLO_BUILDS_YIELD: u64 = 20_000;
+pub const MONTE_CARLO_BUILDS_YIELD: u64 = crate::montecarlo::YIELD_BASIS_BUILDS;
 /// The seed of those runs: the same design gives the same histogram.
 pub const MONTE_CARLO_SEED: u64 = 1;
 

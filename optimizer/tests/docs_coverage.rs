@@ -247,14 +247,15 @@ fn demo_solve_bundle() -> Value {
         progress: &mut progress,
         now_ms: &clock,
     };
-    spanfit::api::solve_bundle(
+    let bundle = spanfit::api::solve_bundle(
         spanfit::demo::NEED_TOML.as_bytes(),
         "demo-need.toml",
         &[],
         false,
         &mut control,
     )
-    .unwrap_or_else(|e| panic!("the demo does not solve: {e}"))
+    .unwrap_or_else(|e| panic!("the demo does not solve: {e}"));
+    serde_json::to_value(bundle).expect("a bundle serialises")
 }
 
 /// Top-level members of the bundle and of a structured error: their rows
@@ -408,6 +409,7 @@ fn every_infeasibility_field_is_documented_and_every_documented_field_exists() {
     let bundle =
         spanfit::api::solve_bundle(need.as_bytes(), "tight.toml", &[], false, &mut control)
             .unwrap_or_else(|e| panic!("the need does not read: {e}"));
+    let bundle = serde_json::to_value(bundle).expect("a bundle serialises");
     let report = &bundle["report"];
     assert_eq!(report["status"], "infeasible", "{}", report["reason"]);
     let in_code: BTreeSet<String> = report_paths_outside_design(report)

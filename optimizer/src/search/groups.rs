@@ -4,7 +4,7 @@
 
 use super::Problem;
 use crate::design::{Shape, Source};
-use crate::need::{Basis, Calibration, Need, SensorOutput};
+use crate::need::{Calibration, Need, SensorOutput};
 use crate::shape::OffsetNetwork;
 use crate::stock::Stock;
 
@@ -539,11 +539,8 @@ fn amplifier_floor(problem: &Problem<'_>, group: &Group) -> f64 {
             squares += t * t;
         }
     }
-    match problem.need.accuracy.basis {
-        Basis::WorstCase => worst,
-        Basis::Rss => squares.sqrt(),
-        Basis::Yield => {
-            crate::analysis::yield_k_sigma(problem.need.accuracy.yield_pct) * (squares / 3.0).sqrt()
-        }
-    }
+    problem.need.accuracy.basis.random_total(
+        &super::verify::bounded_spread(worst, squares),
+        problem.need.accuracy.yield_pct,
+    )
 }

@@ -7,22 +7,13 @@
 use super::structures::Structure;
 use super::value_sets::ValueSet;
 use super::Problem;
-use crate::need::{Calibration, Objective};
+use crate::need::Objective;
 use good_lp::{variable, variables, Expression, Solution, Solver, SolverModel};
 use std::collections::BTreeMap;
 
 /// The solver the search uses: microlp, pure Rust (it builds for wasm).
 pub(super) fn default_solver() -> impl Solver {
     good_lp::solvers::microlp::microlp
-}
-
-/// An error at both span ends as a calibration leaves it.
-pub(super) fn calibrated(calibration: Calibration, v: [f64; 2]) -> [f64; 2] {
-    match calibration {
-        Calibration::None => v,
-        Calibration::Offset => [0.0, v[1] - v[0]],
-        Calibration::TwoPoint => [0.0, 0.0],
-    }
 }
 
 /// What the MILP is asked for one structure.
@@ -83,7 +74,7 @@ pub(super) fn select_value_sets<S: Solver>(
     let scale = problem.target_v.max(1e-12);
     for (stage, stage_sets) in value_sets.iter().enumerate() {
         for (index, set) in stage_sets.iter().enumerate() {
-            let e = calibrated(calibration, set.contribution);
+            let e = calibration.apply(set.contribution);
             let size = e[0].abs().max(e[1].abs()) / scale;
             // Ties in cost go to the smaller error (the weight is far below
             // any price step).
@@ -115,7 +106,7 @@ pub(super) fn select_value_sets<S: Solver>(
         let mut sum = Expression::from(constant[end]);
         for (stage, stage_sets) in value_sets.iter().enumerate() {
             for (index, set) in stage_sets.iter().enumerate() {
-                sum += calibrated(calibration, set.contribution)[end] * chosen[stage][index];
+                sum += calibration.apply(set.contribution)[end] * chosen[stage][index];
             }
         }
         model = model.with(sum.clone().leq(allowed[end]));

@@ -6,7 +6,7 @@
 
 use super::explain::Diagnosis;
 use super::groups::{enumerate_groups, Group, Rejections, SCREEN_SLACK};
-use super::milp::{calibrated, default_solver, select_value_sets, SelectionBounds};
+use super::milp::{default_solver, select_value_sets, SelectionBounds};
 use super::structures::{structures, Structure};
 use super::value_sets::{value_sets_for_structure, ValueSet, ValueSetCache};
 use super::verify::{estimate_random, verify, verify_model};
@@ -189,13 +189,10 @@ fn closed_form_error(problem: &Problem<'_>, picks: &[&ValueSet]) -> [f64; 2] {
         k_real *= set.gain;
         b_real = set.gain * b_real + set.offset;
     }
-    calibrated(
-        problem.need.accuracy.calibration,
-        [
-            k_real * problem.signal[0] + b_real - problem.ideal[0],
-            k_real * problem.signal[1] + b_real - problem.ideal[1],
-        ],
-    )
+    problem.need.accuracy.calibration.apply([
+        k_real * problem.signal[0] + b_real - problem.ideal[0],
+        k_real * problem.signal[1] + b_real - problem.ideal[1],
+    ])
 }
 
 impl Optimised {
@@ -222,13 +219,7 @@ impl Optimised {
         if !model.feasible() {
             let findings = model.findings();
             state.diagnosis.note_findings(&findings);
-            let fixed = findings.iter().any(|f| {
-                !f.ok
-                    && matches!(
-                        f.check.as_str(),
-                        "supply range" | "gain-bandwidth" | "reference headroom" | "part count"
-                    )
-            });
+            let fixed = findings.iter().any(|f| !f.ok && f.kind.fixed_by_parts());
             if fixed {
                 return None;
             }

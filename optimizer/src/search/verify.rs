@@ -53,7 +53,7 @@ pub(super) fn verify_model(
         return None;
     }
     let builds = if problem.need.accuracy.basis == Basis::Yield {
-        20_000
+        crate::montecarlo::YIELD_BASIS_BUILDS
     } else {
         0
     };
@@ -92,14 +92,22 @@ pub(super) fn estimate_random(
             squares += grade.tolerance.powi(2) * sums.tolerance_squares[end]
                 + grade.tcr.powi(2) * sums.tcr_squares[end];
         }
-        *estimate = match problem.need.accuracy.basis {
-            Basis::WorstCase => worst,
-            Basis::Rss => squares.sqrt(),
-            Basis::Yield => {
-                crate::analysis::yield_k_sigma(problem.need.accuracy.yield_pct)
-                    * (squares / 3.0).sqrt()
-            }
-        };
+        *estimate = problem.need.accuracy.basis.random_total(
+            &bounded_spread(worst, squares),
+            problem.need.accuracy.yield_pct,
+        );
     }
     out
+}
+
+/// The spread of bounded terms only (no noise), from the sum of their
+/// limits and the sum of their squares: what the search's estimates hand
+/// to [`crate::need::Basis::random_total`].
+pub(super) fn bounded_spread(limit_sum: f64, limit_squares: f64) -> crate::analysis::Spread {
+    crate::analysis::Spread {
+        limit_sum,
+        limit_squares,
+        noise_rms: 0.0,
+        noise_peak: 0.0,
+    }
 }
