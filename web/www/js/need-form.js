@@ -94,7 +94,7 @@ export function fillForm(need) {
     const [section, name] = split(f.key);
     const input = $(fieldId(f.key));
     const values = isObject(need[section]) ? need[section] : {};
-    const value = values[name] === undefined ? undefined : values[name];
+    const value = values[name];
     const shown = value === undefined ? f.default : value;
     if (f.kind === 'boolean') input.checked = shown === true;
     else if (f.kind === 'choices') {
