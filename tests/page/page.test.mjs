@@ -269,6 +269,29 @@ test('edits to the need and the shelf survive a reload', async () => {
   });
 });
 
+test('a project stored as CSV text only is read by the core; a table it cannot read is left out, said, and set aside', async () => {
+  await withPage(async ({ page }) => {
+    const demo = await page.evaluate(() => window.spanfitPage.call('demo_stock').then((t) => JSON.parse(t)));
+    const refs = demo['references.csv'].trim().split('\n');
+    const width = refs[0].split(',').length;
+    const badRefs = `${[...refs, ','.repeat(width - 1)].join('\n')}\n`;
+    const stored = JSON.stringify({
+      format: 'spanfit-project', version: 1, need: await page.evaluate(() => window.spanfitPage.state.need),
+      stock: { 'resistors.csv': demo['resistors.csv'], 'opamps.csv': demo['opamps.csv'], 'references.csv': badRefs },
+    });
+    await page.evaluate((text) => localStorage.setItem('spanfit-project-v1', text), stored);
+    await page.reload();
+    await page.waitForFunction(() => document.body.dataset.ready === 'yes');
+    const count = (file) => demo[file].trim().split('\n').filter((l) => l.trim() && !l.trim().startsWith('#')).length - 1;
+    const tabs = await page.$$eval('button.tab', (b) => b.map((x) => x.textContent));
+    assert.deepEqual(tabs, [`Resistors (${count('resistors.csv')})`, `Op-amps (${count('opamps.csv')})`, 'References (0)', 'In-amps (0)']);
+    const status = await page.textContent('[data-testid=run-status]');
+    assert.match(status, new RegExp(`references\\.csv, line ${refs.length + 1}`));
+    assert.match(status, /set aside/);
+    assert.equal(await page.evaluate(() => localStorage.getItem('spanfit-project-v1-set-aside')), stored);
+  });
+});
+
 test('a need file (TOML) opens into the form', async () => {
   await withPage(async ({ page }) => {
     const toml = await page.evaluate(() => window.spanfitPage.call('demo_need'));

@@ -22,7 +22,7 @@
 import { $, setStatus } from './dom.js';
 import { bundle, Engine } from './wasm-client.js';
 import { engines, state, updateSolveButton } from './state.js';
-import { loadStored, saveNow } from './storage.js';
+import { loadStored, saveNow, setAside } from './storage.js';
 import { buildForm, fillForm, validateNeed } from './need-form.js';
 import { buildTabs, onStockUpload, renderStockTable, stockChanged, validateStock } from './shelf.js';
 import { onCancel, runSolve } from './solve.js';
@@ -124,16 +124,18 @@ function wire() {
   });
 }
 
-// The stored shelf, read by the core when it was stored as CSV text only;
-// the demo shelf when there is none (or it cannot be read: said).
+// The stored shelf, read by the core when it was stored as CSV text only
+// (tables it cannot read are left out and said; the stored project is set
+// aside first); the demo shelf when nothing is stored.
 async function storedOrDemoStock(stored) {
   if (stored && stored.tables) return stored.tables;
   if (stored && stored.stockCsv) {
-    try {
-      return await readStockTexts(stored.stockCsv);
-    } catch (error) {
-      setStatus('run-status', `The saved shelf could not be read and the demo stock is shown: ${error.message}`, 'warn');
+    const { stock, problems } = await readStockTexts(stored.stockCsv);
+    if (problems.length) {
+      setAside();
+      setStatus('run-status', `Part of the saved shelf could not be read and was left out (the saved project was set aside): ${problems.join(' · ')}`, 'warn');
     }
+    return stock;
   }
   return demoStock();
 }

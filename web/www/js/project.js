@@ -25,11 +25,22 @@ export function needFromFragment() {
   }
 }
 
-/** CSV texts by file name, each read by the core into a shelf table. */
+/**
+ * CSV texts by file name, each read by the core into a shelf table:
+ * `{stock, problems}`, where `problems` holds the core's message for each
+ * text it could not read (that table is left out of `stock`).
+ */
 export async function readStockTexts(texts) {
   const stock = {};
-  for (const [file, text] of Object.entries(texts)) stock[file] = await readTable(file, text);
-  return stock;
+  const problems = [];
+  for (const [file, text] of Object.entries(texts)) {
+    try {
+      stock[file] = await readTable(file, text);
+    } catch (error) {
+      problems.push(error.message);
+    }
+  }
+  return { stock, problems };
 }
 
 /**
@@ -45,11 +56,9 @@ export async function readProject(value, name) {
   for (const [file, text] of Object.entries(value.stock)) {
     if (typeof text !== 'string') throw new Error(`${name}, key \`stock.${file}\`: expected CSV text`);
   }
-  try {
-    return { need: value.need, stock: await readStockTexts(value.stock) };
-  } catch (error) {
-    throw new Error(`${name}: ${error.message}`);
-  }
+  const { stock, problems } = await readStockTexts(value.stock);
+  if (problems.length) throw new Error(`${name}: ${problems.join(' · ')}`);
+  return { need: value.need, stock };
 }
 
 /** A project file's need and shelf, or a thrown message. */
@@ -74,5 +83,7 @@ export async function demoNeed() {
 
 /** The demo shelf, each table read by the core. */
 export async function demoStock() {
-  return readStockTexts(JSON.parse(await engines.checker.call('demo_stock')));
+  const { stock, problems } = await readStockTexts(JSON.parse(await engines.checker.call('demo_stock')));
+  if (problems.length) throw new Error(`the demo stock: ${problems.join(' · ')}`);
+  return stock;
 }

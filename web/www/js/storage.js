@@ -43,6 +43,17 @@ export function saveNow() {
   }
 }
 
+/**
+ * Keep the stored project under a second key before the page writes over
+ * it (when it could not be read in full), so nothing is lost for good.
+ */
+export function setAside() {
+  try {
+    const text = localStorage.getItem(STORAGE_KEY);
+    if (text) localStorage.setItem(`${STORAGE_KEY}-set-aside`, text);
+  } catch (_) { /* storage is off: nothing was stored either */ }
+}
+
 const isText = (x) => typeof x === 'string';
 
 /** A stored table `{header, rows}` of strings, rows as wide as the header; or null. */
@@ -77,6 +88,7 @@ export function loadStored() {
     if (!isObject(value.stock) || !Object.values(value.stock).every(isText)) throw new Error('the stored shelf is damaged');
     return { need: value.need, stockCsv: value.stock };
   } catch (error) {
+    setAside();
     setStatus('run-status', `The saved project could not be read and was set aside: ${error.message}`, 'warn');
     return null;
   }
