@@ -1,8 +1,9 @@
 #!/usr/bin/env bash
 # Build the page: the wasm crate (release), wasm-bindgen glue (no-modules
 # for the page and its workers, ES module for reuse), wasm-opt from npm
-# binaryen@132, then web/bundle.mjs writes web/dist/ and the single file
-# web/dist/spanfit.html.
+# binaryen@132, then web/bundle.mjs writes web/dist/ (the page's ES modules
+# from web/www/js as they are) and the single file web/dist/spanfit.html
+# (those modules joined into one inline script; plain Node, no bundler).
 #   WASM_OPT_LEVEL   wasm-opt level (default -O3; -Oz for the smallest file)
 #   SKIP_WASM_OPT=1  leave the wasm unoptimised (faster builds while editing)
 set -euo pipefail

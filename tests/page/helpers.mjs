@@ -33,7 +33,7 @@ const MIME = {
 };
 
 export function assertBuilt() {
-  for (const name of ['index.html', 'app.js', 'worker.js', 'style.css', 'spanfit.html', 'pkg/spanfit_web_bg.wasm']) {
+  for (const name of ['index.html', 'js/main.js', 'worker.js', 'style.css', 'spanfit.html', 'pkg/spanfit_web_bg.wasm']) {
     if (!existsSync(join(DIST, name))) {
       throw new Error(`web/dist/${name} is missing: run scripts/build-web.sh first`);
     }
@@ -113,7 +113,7 @@ export async function shot(page, name) {
   return path;
 }
 
-// The CLI's answer for the demo need: the report object of docs/report.md.
+// The CLI's answer for the demo need: the JSON report (docs/report.md).
 let cliDemo = null;
 export function cliDemoJson() {
   if (cliDemo) return cliDemo;
@@ -162,7 +162,8 @@ export async function downloadText(page, selector) {
   return { name: download.suggestedFilename(), text: Buffer.concat(chunks).toString('utf8') };
 }
 
-// The page's own number formatting (app.js `fmt`), for comparing shown text.
+// The page's own number formatting (web/www/js/format.js `fmt`), for
+// comparing shown text.
 export function fmt(value, digits = 4) {
   if (typeof value !== 'number' || !Number.isFinite(value)) return '—';
   if (value === 0) return '0';

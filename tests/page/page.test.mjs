@@ -7,7 +7,7 @@ import { launch, openPage, serveDist, shot, unexpected } from './helpers.mjs';
 
 const CAUTION = 'This designs low-voltage signal conditioning only; it does not design isolation, protection against mains or high-voltage faults, or intrinsic safety; follow the applicable standards, local codes and licensed practice, and verify on the bench before use.';
 
-// Every key of the need file (docs/need.md), by table.
+// Every key of a need file (docs/need.md), by table.
 const NEED_KEYS = {
   sensor: ['label', 'signal_low_v', 'signal_high_v', 'quantity_low', 'quantity_high', 'quantity_unit', 'output', 'common_mode_v', 'source_ohms'],
   adc: ['low_v', 'high_v', 'bits', 'margin_pct'],
@@ -77,19 +77,33 @@ test('the page loads with every need key, the cautions, a strict CSP and no remo
   });
 });
 
+async function needFields(page) {
+  return page.evaluate(() => window.spanfitPage.call('need_fields').then((t) => JSON.parse(t)));
+}
+
+async function labelOf(page, key) {
+  const field = (await needFields(page)).find((f) => f.key === key);
+  assert.ok(field, `need_fields lists ${key}`);
+  return field.label;
+}
+
 test('inline validation marks the field: a local number check, then the core names the key', async () => {
   await withPage(async ({ page, problems }) => {
+    const label = await labelOf(page, 'adc.high_v');
     await setField(page, 'adc.high_v', 'three');
     await page.waitForSelector('.field.invalid[data-key="adc.high_v"]');
     assert.match(await page.textContent('#f-adc-high_v-error'), /"three" is not a number/);
-    assert.match(await page.textContent('[data-testid=need-status]'), /adc\.high_v/);
+    assert.equal((await page.textContent('[data-testid=need-status]')).includes(`${label}: "three" is not a number`), true);
     assert.equal(await page.isDisabled('[data-testid=solve]'), true);
     // A number the core refuses: the window above the positive rail.
     await setField(page, 'adc.high_v', '9');
     await page.waitForFunction(() => /positive rail/.test(document.querySelector('[data-testid=need-status]').textContent));
     const status = await page.textContent('[data-testid=need-status]');
-    assert.match(status, /key `adc\.high_v`/);
+    // Shown with the field's label, not the internal key.
+    assert.equal(status.startsWith(`${label}: `), true, status);
+    assert.doesNotMatch(status, /key `/);
     assert.equal(await page.locator('.field.invalid[data-key="adc.high_v"]').count(), 1);
+    assert.match(await page.textContent('#f-adc-high_v-error'), /positive rail/);
     await shot(page, 'page-invalid-field');
     await setField(page, 'adc.high_v', '3');
     await page.waitForFunction(() => document.querySelector('[data-testid=need-status]').textContent === 'The need is complete and consistent.');
@@ -98,17 +112,60 @@ test('inline validation marks the field: a local number check, then the core nam
   });
 });
 
-test('a malformed CSV upload gets an error naming the line', async () => {
+test('the form has one field per need key of need_fields, with its label, unit and choices', async () => {
+  await withPage(async ({ page }) => {
+    const fields = await needFields(page);
+    assert.equal(fields.length, Object.values(NEED_KEYS).flat().length, 'need_fields lists every need key once');
+    for (const f of fields) {
+      const wrap = page.locator(`.field[data-key="${f.key}"]`);
+      assert.equal(await wrap.count(), 1, f.key);
+      assert.equal(await wrap.locator('label').first().textContent(), f.label, f.key);
+      if (f.unit) assert.equal(await wrap.locator('.unit').textContent(), f.unit, f.key);
+      if (f.kind === 'choice') {
+        const options = await wrap.locator('select option').evaluateAll((o) => o.map((x) => x.value));
+        for (const c of f.choices) assert.equal(options.includes(c), true, `${f.key} offers ${c}`);
+      }
+      if (f.kind === 'choices') {
+        const boxes = await wrap.locator('input[type=checkbox]').evaluateAll((b) => b.map((x) => x.value));
+        assert.deepEqual(boxes, f.choices, f.key);
+      }
+    }
+  });
+});
+
+test('an error the core finds in a need field marks that field, found by the error key, shown with its label', async () => {
+  await withPage(async ({ page, problems }) => {
+    // Ask the core directly what it says about a temperature below absolute zero.
+    const info = await page.evaluate(() => {
+      const need = JSON.parse(JSON.stringify(window.spanfitPage.state.need));
+      need.accuracy.temp_min_c = -300;
+      return window.spanfitPage.call('check_need', JSON.stringify(need), 'need').then(() => null, (e) => e.info);
+    });
+    assert.ok(info, 'the core refuses the need');
+    assert.equal(typeof info.key, 'string');
+    assert.equal(typeof info.detail, 'string');
+    const label = await labelOf(page, info.key);
+    await setField(page, 'accuracy.temp_min_c', '-300');
+    await page.waitForSelector(`.field.invalid[data-key="${info.key}"]`);
+    assert.equal(await page.locator('.field.invalid').count(), 1);
+    assert.equal(await page.textContent('[data-testid=need-status]'), `${label}: ${info.detail}`);
+    assert.equal(await page.isDisabled('[data-testid=solve]'), true);
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('a malformed CSV upload gets an error naming the line; a bad cell on the shelf is marked', async () => {
   await withPage(async ({ page }) => {
     const demo = await demoCsv(page, 'resistors.csv');
     const lines = demo.trim().split('\n');
-    // Structure (the page's CSV reader): a row with a missing field on line 3.
+    const before = await page.$$eval('[data-testid=stock-table] input', (i) => i.length);
+    // Structure: a row with a missing field on line 3.
     const short = [...lines];
     short[2] = short[2].split(',').slice(0, -2).join(',');
     await uploadStock(page, 'resistors.csv', `${short.join('\n')}\n`);
     await page.waitForFunction(() => document.querySelector('[data-testid=stock-status]').dataset.tone === 'bad');
-    assert.match(await page.textContent('[data-testid=stock-status]'), /resistors\.csv, line 3: \d+ fields, but the header has \d+/);
-    // A value (the core's reader): an unreadable tolerance on line 2.
+    assert.match(await page.textContent('[data-testid=stock-status]'), /resistors\.csv, line 3: .*\d+ fields.*header.* \d+ columns/);
+    // A value: an unreadable tolerance on line 2.
     const header = lines[0].split(',');
     const cells = lines[1].split(',');
     cells[header.indexOf('tolerance_pct')] = 'tight';
@@ -119,10 +176,33 @@ test('a malformed CSV upload gets an error naming the line', async () => {
     assert.match(status, /resistors\.csv/);
     assert.match(status, /tolerance_pct/);
     assert.equal(await page.isDisabled('[data-testid=solve]'), true);
-    // The named cell is marked in the table.
+    // A refused file leaves the shelf as it was.
+    assert.equal(await page.$$eval('[data-testid=stock-table] input', (i) => i.length), before);
+    // The same bad value typed into the shelf: the named cell is marked.
     const col = header.indexOf('tolerance_pct');
+    const cell = page.locator(`[data-testid=stock-table] input[data-row="0"][data-col="${col}"]`);
+    await cell.fill('tight');
+    await cell.press('Tab');
+    await page.waitForSelector('[data-testid=stock-table] input.bad-cell');
+    assert.match(await page.textContent('[data-testid=stock-status]'), /resistors\.csv, line 2, column tolerance_pct/);
     assert.deepEqual(await page.$$eval('[data-testid=stock-table] input.bad-cell', (i) => i.map((x) => [x.dataset.row, x.dataset.col, x.value])), [['0', String(col), 'tight']]);
     await shot(page, 'page-bad-csv');
+  });
+});
+
+test('a CSV with # comment lines and blank lines loads into the shelf as the core reads it', async () => {
+  await withPage(async ({ page, problems }) => {
+    const demo = (await demoCsv(page, 'opamps.csv')).trim().split('\n');
+    const text = ['# invented shelf, counted on a Monday', demo[0], '', '# first part', demo[1], '   # indented comment', ...demo.slice(2), ''].join('\n');
+    await uploadStock(page, 'my-opamps.csv', text);
+    await page.waitForFunction(() => document.querySelector('[data-testid=stock-status]').dataset.tone === 'good'
+      && document.querySelector('[data-testid=stock-table] caption').textContent === 'opamps.csv');
+    const rows = await page.$$eval('[data-testid=stock-table] tbody tr', (trs) => trs.map((tr) => [...tr.querySelectorAll('input')].map((i) => i.value).join(',')));
+    assert.deepEqual(rows, demo.slice(1));
+    const tabs = await page.$$eval('button.tab', (b) => b.map((x) => x.textContent));
+    assert.equal(tabs.includes(`Op-amps (${demo.length - 1})`), true, tabs.join(' | '));
+    assert.equal(await page.isEnabled('[data-testid=solve]'), true);
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
   });
 });
 
@@ -189,6 +269,29 @@ test('edits to the need and the shelf survive a reload', async () => {
   });
 });
 
+test('a project stored as CSV text only is read by the core; a table it cannot read is left out, said, and set aside', async () => {
+  await withPage(async ({ page }) => {
+    const demo = await page.evaluate(() => window.spanfitPage.call('demo_stock').then((t) => JSON.parse(t)));
+    const refs = demo['references.csv'].trim().split('\n');
+    const width = refs[0].split(',').length;
+    const badRefs = `${[...refs, ','.repeat(width - 1)].join('\n')}\n`;
+    const stored = JSON.stringify({
+      format: 'spanfit-project', version: 1, need: await page.evaluate(() => window.spanfitPage.state.need),
+      stock: { 'resistors.csv': demo['resistors.csv'], 'opamps.csv': demo['opamps.csv'], 'references.csv': badRefs },
+    });
+    await page.evaluate((text) => localStorage.setItem('spanfit-project-v1', text), stored);
+    await page.reload();
+    await page.waitForFunction(() => document.body.dataset.ready === 'yes');
+    const count = (file) => demo[file].trim().split('\n').filter((l) => l.trim() && !l.trim().startsWith('#')).length - 1;
+    const tabs = await page.$$eval('button.tab', (b) => b.map((x) => x.textContent));
+    assert.deepEqual(tabs, [`Resistors (${count('resistors.csv')})`, `Op-amps (${count('opamps.csv')})`, 'References (0)', 'In-amps (0)']);
+    const status = await page.textContent('[data-testid=run-status]');
+    assert.match(status, new RegExp(`references\\.csv, line ${refs.length + 1}`));
+    assert.match(status, /set aside/);
+    assert.equal(await page.evaluate(() => localStorage.getItem('spanfit-project-v1-set-aside')), stored);
+  });
+});
+
 test('a need file (TOML) opens into the form', async () => {
   await withPage(async ({ page }) => {
     const toml = await page.evaluate(() => window.spanfitPage.call('demo_need'));
@@ -250,7 +353,7 @@ test('a panic in the module is reported on the console and the page recovers', a
     assert.match(outcome, /^fatal: /);
     await page.waitForFunction(() => document.querySelector('[data-testid=engine-state]').dataset.state === 'ready');
     const checked = await page.evaluate(() => window.spanfitPage.call('demo_need').then((t) => window.spanfitPage.call('check_need', t, 'demo.toml')));
-    assert.equal(typeof JSON.parse(checked).derived.ideal_gain, 'number');
+    assert.equal(typeof checked.derived.ideal_gain, 'number');
     assert.equal(problems.consoleErrors.some((m) => m.includes('spanfit panic: ') && m.includes('diagnostic panic requested')), true, problems.consoleErrors.join('\n'));
     assert.deepEqual(unexpected(problems, [/spanfit panic: /]), { consoleErrors: [], pageErrors: [], remote: [] });
   });

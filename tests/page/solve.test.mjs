@@ -111,6 +111,24 @@ test('hostile part names from the shelf reach the results as text', async () => 
   });
 });
 
+test('on a 390 px wide screen the page and its result fit without sideways scrolling', async () => {
+  await withPage(async ({ page, problems }) => {
+    await page.setViewportSize({ width: 390, height: 844 });
+    await solveAndWait(page);
+    await page.waitForSelector('[data-testid=schematic-img]');
+    const widths = await page.evaluate(() => ({ page: document.documentElement.scrollWidth, screen: window.innerWidth }));
+    assert.equal(widths.page <= widths.screen, true, `page ${widths.page} px wide on a ${widths.screen} px screen`);
+    // Each field's input stays inside its group.
+    const outside = await page.$$eval('.need-group', (sets) => sets.flatMap((set) => {
+      const box = set.getBoundingClientRect();
+      return [...set.querySelectorAll('input, select')].filter((i) => i.getBoundingClientRect().right > box.right + 0.5).map((i) => i.id);
+    }));
+    assert.deepEqual(outside, []);
+    await shot(page, 'solve-narrow');
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
 test('changing the ADC window and solving again changes the result to fit', async () => {
   await withPage(async ({ page, problems }) => {
     await solveAndWait(page);

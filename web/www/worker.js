@@ -3,14 +3,22 @@
 //
 // Protocol (page -> worker):
 //   {type: 'init', wasm: ArrayBuffer}
-//   {type: 'call', id, fn, args}           fn: check_need | need_keys | check_stock |
-//                                           analyze | demo_need | demo_stock | version |
-//                                           diagnostic_panic
+//   {type: 'call', id, fn, args}           fn: one of ENVELOPED or PLAIN below
 //   {type: 'solve', id, need, needName, stock, cancelToken, debugPauseMs, debugPauseOnBest}
 // (worker -> page):
 //   {type: 'ready', version} | {type: 'init-failed', message}
 //   {type: 'progress', id, done, total, best, cancellable}
-//   {type: 'reply', id, ok, value | message, fatal, elapsedMs, cancelled, cancellable}
+//   {type: 'reply', id, ok: true, value, elapsedMs, cancelled, cancellable}
+//   {type: 'reply', id, ok: false, error, message, fatal, cancelled, cancellable}
+//
+// The exports that read user input answer with an envelope, JSON text
+// `{"ok": true, "value": V}` or `{"ok": false, "error": E}`; the worker
+// unwraps it, so `value` is V itself and `error` is E, the core's error
+// `{kind, message, detail, file, line, column, column_name, key}`. Bad
+// input never throws: a throw is a panic or a trap, reported as an error of
+// kind "internal" with `fatal` set when the module trapped (the page then
+// replaces this worker). The other exports return plain strings, passed on
+// as they are.
 //
 // Stopping a search: the page cannot post into a worker that is busy inside
 // a synchronous wasm call, so before each solve it creates a blob URL (the
@@ -27,10 +35,8 @@ if (typeof wasm_bindgen === 'undefined') {
   importScripts('pkg/spanfit_web.js');
 }
 
-const CALLS = new Set([
-  'check_need', 'need_keys', 'check_stock', 'analyze', 'demo_need', 'demo_stock',
-  'version', 'diagnostic_panic',
-]);
+const ENVELOPED = new Set(['check_need', 'need_keys', 'check_stock', 'analyze', 'read_stock_table']);
+const PLAIN = new Set(['demo_need', 'demo_stock', 'version', 'need_fields', 'diagnostic_panic']);
 const PROGRESS_EVERY_MS = 40;
 const CANCEL_CHECK_EVERY_MS = 10;
 
@@ -47,10 +53,27 @@ function tokenAlive(url) {
   }
 }
 
+function internalError(message) {
+  return { kind: 'internal', message, detail: message, file: null, line: null, column: null, column_name: null, key: null };
+}
+
+// A throw from the module: a panic (a trap, fatal) or a bug in the glue.
 function errorReply(id, error) {
   const fatal = error instanceof WebAssembly.RuntimeError;
   const message = error && error.message ? error.message : String(error);
-  return { type: 'reply', id, ok: false, message, fatal };
+  return { type: 'reply', id, ok: false, error: internalError(message), message, fatal };
+}
+
+// The reply for an envelope's text.
+function unwrap(id, text) {
+  let envelope = null;
+  try { envelope = JSON.parse(text); } catch (_) { /* reported below */ }
+  if (envelope && envelope.ok === true && 'value' in envelope) return { type: 'reply', id, ok: true, value: envelope.value };
+  if (envelope && envelope.ok === false && envelope.error && typeof envelope.error.message === 'string') {
+    return { type: 'reply', id, ok: false, error: envelope.error, message: envelope.error.message, fatal: false };
+  }
+  const message = `internal error: the module answered without an envelope (${String(text).slice(0, 80)})`;
+  return { type: 'reply', id, ok: false, error: internalError(message), message, fatal: false };
 }
 
 function runSolve(job) {
@@ -85,9 +108,9 @@ function runSolve(job) {
   };
   const start = performance.now();
   try {
-    const value = wasm_bindgen.solve(job.need, job.needName, job.stock, progress);
+    const text = wasm_bindgen.solve(job.need, job.needName, job.stock, progress);
     const elapsedMs = performance.now() - start;
-    postMessage({ type: 'reply', id: job.id, ok: true, value, elapsedMs, cancelled, cancellable });
+    postMessage({ ...unwrap(job.id, text), elapsedMs, cancelled, cancellable });
   } catch (error) {
     const reply = errorReply(job.id, error);
     reply.cancelled = cancelled;
@@ -109,21 +132,23 @@ self.onmessage = (event) => {
     return;
   }
   if (!ready) {
-    postMessage({ type: 'reply', id: message.id, ok: false, message: 'the solver is not loaded yet', fatal: false });
+    const text = 'the solver is not loaded yet';
+    postMessage({ type: 'reply', id: message.id, ok: false, error: internalError(text), message: text, fatal: false });
     return;
   }
   if (message.type === 'solve') {
     runSolve(message);
     return;
   }
-  if (message.type === 'call' && CALLS.has(message.fn)) {
+  if (message.type === 'call' && (ENVELOPED.has(message.fn) || PLAIN.has(message.fn))) {
     try {
       const value = wasm_bindgen[message.fn](...(message.args || []));
-      postMessage({ type: 'reply', id: message.id, ok: true, value });
+      postMessage(ENVELOPED.has(message.fn) ? unwrap(message.id, value) : { type: 'reply', id: message.id, ok: true, value });
     } catch (error) {
       postMessage(errorReply(message.id, error));
     }
     return;
   }
-  postMessage({ type: 'reply', id: message.id, ok: false, message: 'unknown request', fatal: false });
+  const text = `unknown request ${String(message.type)} ${String(message.fn || '')}`.trim();
+  postMessage({ type: 'reply', id: message.id, ok: false, error: internalError(text), message: text, fatal: false });
 };

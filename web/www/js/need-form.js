@@ -1,0 +1,236 @@
+// The need form. Its fields come from the core (`need_fields`): every need
+// key with its label, unit, kind, choices, default and hint, so the page
+// holds no list of its own. The core is also the judge of a need: its
+// structured error names the key, which marks the field, and the message
+// uses the field's label.
+import { $, clear, el, isObject, num, setStatus } from './dom.js';
+import { eng, fmt } from './format.js';
+import { saveSoon } from './storage.js';
+import { engines, state, updateSolveButton } from './state.js';
+
+// Headings of the form's groups (the need's sections); a section the page
+// does not know is shown under its own name.
+const SECTION_TITLES = {
+  sensor: 'Sensor', adc: 'ADC', supply: 'Supply', accuracy: 'Accuracy', search: 'Search', stock: 'Stock use',
+};
+
+const NUMBER_TEXT = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/;
+
+/** The id of a field's input: `f-adc-high_v` for `adc.high_v`. */
+export function fieldId(key) {
+  return `f-${key.replace('.', '-')}`;
+}
+
+/** The description of a need key, or undefined. */
+export function fieldFor(key) {
+  return state.fields.find((f) => f.key === key);
+}
+
+function split(key) {
+  const at = key.indexOf('.');
+  return [key.slice(0, at), key.slice(at + 1)];
+}
+
+function defaultText(f) {
+  if (f.default === null || f.default === undefined) return '';
+  return Array.isArray(f.default) ? f.default.join(', ') : String(f.default);
+}
+
+function inputFor(f, id) {
+  const choices = Array.isArray(f.choices) ? f.choices.map(String) : [];
+  if (f.kind === 'choice') {
+    const select = el('select', { id, 'data-key': f.key });
+    for (const option of choices) select.append(el('option', { value: option, text: option }));
+    return select;
+  }
+  if (f.kind === 'boolean') return el('input', { id, type: 'checkbox', 'data-key': f.key });
+  if (f.kind === 'choices') {
+    const group = el('div', { id, className: 'checks', role: 'group', 'aria-label': f.label, 'data-key': f.key });
+    for (const option of choices) {
+      const box = el('input', { type: 'checkbox', value: option, id: `${id}-${option}` });
+      group.append(el('label', { className: 'check', for: `${id}-${option}` }, box, document.createTextNode(option)));
+    }
+    return group;
+  }
+  return el('input', {
+    id, type: 'text', 'data-key': f.key, spellcheck: 'false',
+    placeholder: f.required ? undefined : defaultText(f) || undefined,
+    inputmode: f.kind === 'number' ? 'decimal' : (f.kind === 'integer' ? 'numeric' : undefined),
+  });
+}
+
+/** Build the form from the core's field descriptions. */
+export function buildForm(fields) {
+  state.fields = fields.filter((f) => isObject(f) && typeof f.key === 'string' && f.key.includes('.'));
+  const form = $('need-form');
+  clear(form);
+  const groups = new Map();
+  for (const f of state.fields) {
+    const section = typeof f.section === 'string' ? f.section : split(f.key)[0];
+    if (!groups.has(section)) {
+      const set = el('fieldset', { className: 'need-group' }, el('legend', { text: SECTION_TITLES[section] || section }));
+      groups.set(section, set);
+      form.append(set);
+    }
+    const id = fieldId(f.key);
+    const wrap = el('div', { className: `field kind-${f.kind}`, 'data-key': f.key });
+    wrap.append(el('label', { for: id, text: String(f.label || f.key) }));
+    wrap.append(inputFor(f, id));
+    if (f.unit) wrap.append(el('span', { className: 'unit', text: String(f.unit) }));
+    const optional = !f.required && (f.default === null || f.default === undefined);
+    const note = [optional ? 'optional' : '', typeof f.hint === 'string' ? f.hint : ''].filter(Boolean).join('; ');
+    if (note) wrap.append(el('span', { className: 'hint', text: note }));
+    wrap.append(el('span', { className: 'field-error', id: `${id}-error`, 'aria-live': 'polite' }));
+    groups.get(section).append(wrap);
+  }
+  form.addEventListener('input', onFormInput);
+  form.addEventListener('change', onFormInput);
+  form.addEventListener('submit', (e) => e.preventDefault());
+}
+
+/** Show a need object in the form; a key it lacks shows the default. */
+export function fillForm(need) {
+  for (const f of state.fields) {
+    const [section, name] = split(f.key);
+    const input = $(fieldId(f.key));
+    const values = isObject(need[section]) ? need[section] : {};
+    const value = values[name];
+    const shown = value === undefined ? f.default : value;
+    if (f.kind === 'boolean') input.checked = shown === true;
+    else if (f.kind === 'choices') {
+      const chosen = Array.isArray(shown) ? shown.map(String) : [];
+      for (const box of input.querySelectorAll('input')) box.checked = chosen.includes(box.value);
+    } else if (f.kind === 'choice') {
+      const options = [...input.options].map((o) => o.value);
+      if (shown !== undefined && shown !== null && !options.includes(String(shown))) {
+        input.append(el('option', { value: String(shown), text: String(shown) }));
+      }
+      input.value = shown === undefined || shown === null ? (options[0] || '') : String(shown);
+    } else {
+      input.value = value === undefined || value === null ? '' : String(value);
+    }
+  }
+}
+
+/**
+ * The form as a need object, keeping keys the form does not show (the core
+ * reports unknown ones). Returns {need, problems}; a problem is {key,
+ * detail} for a value the page can already tell is not a number.
+ */
+function readForm() {
+  const need = JSON.parse(JSON.stringify(state.need || {}));
+  const problems = [];
+  for (const f of state.fields) {
+    const [section, name] = split(f.key);
+    const values = isObject(need[section]) ? need[section] : {};
+    need[section] = values;
+    const input = $(fieldId(f.key));
+    if (f.kind === 'boolean') values[name] = input.checked;
+    else if (f.kind === 'choices') values[name] = [...input.querySelectorAll('input:checked')].map((b) => b.value);
+    else if (f.kind === 'choice') values[name] = input.value;
+    else {
+      const text = input.value.trim();
+      if (text === '') {
+        delete values[name];
+        if (f.required) problems.push({ key: f.key, detail: 'a value is needed' });
+      } else if (f.kind === 'text') {
+        values[name] = input.value;
+      } else if (!NUMBER_TEXT.test(text) || !Number.isFinite(Number(text))) {
+        values[name] = text;
+        problems.push({ key: f.key, detail: `"${text}" is not a number` });
+      } else if (f.kind === 'integer' && !Number.isInteger(Number(text))) {
+        values[name] = Number(text);
+        problems.push({ key: f.key, detail: 'expected a whole number' });
+      } else {
+        values[name] = Number(text);
+      }
+    }
+  }
+  return { need, problems };
+}
+
+/** The label a message uses for a key: the field's label, or the key. */
+export function labelOf(key) {
+  const f = fieldFor(key);
+  return f && f.label ? String(f.label) : key;
+}
+
+function markFields(problems) {
+  for (const node of document.querySelectorAll('.field.invalid')) node.classList.remove('invalid');
+  for (const node of document.querySelectorAll('.field-error')) node.textContent = '';
+  for (const p of problems) {
+    const input = fieldFor(p.key) && $(fieldId(p.key));
+    if (!input) continue;
+    input.closest('.field').classList.add('invalid');
+    $(`${fieldId(p.key)}-error`).textContent = p.detail;
+  }
+}
+
+let needTimer = null;
+let needCheckSeq = 0;
+
+function onFormInput() {
+  const { need, problems } = readForm();
+  state.need = need;
+  saveSoon();
+  clearTimeout(needTimer);
+  needTimer = setTimeout(() => validateNeed(problems), 150);
+}
+
+/**
+ * The message for a need error from the core: with the field's label when
+ * the error names a key the form shows, else the core's whole message.
+ */
+function needMessage(info) {
+  const key = typeof info.key === 'string' ? info.key : null;
+  if (key && fieldFor(key) && typeof info.detail === 'string') return `${labelOf(key)}: ${info.detail}`;
+  return String(info.message);
+}
+
+/** Ask the core whether the need is complete and consistent. */
+export async function validateNeed(localProblems) {
+  const seq = ++needCheckSeq;
+  const problems = localProblems || readForm().problems;
+  if (problems.length) {
+    markFields(problems);
+    state.needValid = false;
+    const list = problems.map((p) => `${labelOf(p.key)}: ${p.detail}`).join('; ');
+    setStatus('need-status', `${problems.length === 1 ? 'One value needs' : `${problems.length} values need`} attention: ${list}`, 'bad');
+    updateSolveButton();
+    return;
+  }
+  try {
+    const needText = JSON.stringify(state.need);
+    const checked = await engines.checker.call('check_need', needText, 'need');
+    if (seq !== needCheckSeq) return;
+    state.derived = isObject(checked) && isObject(checked.derived) ? checked.derived : null;
+    state.needValid = true;
+    state.checkedNeed = needText;
+    markFields([]);
+    setStatus('need-status', 'The need is complete and consistent.', 'good');
+    showDerived();
+  } catch (error) {
+    if (seq !== needCheckSeq) return;
+    state.needValid = false;
+    const info = error.info || {};
+    markFields(typeof info.key === 'string' ? [{ key: info.key, detail: String(info.detail ?? info.message) }] : []);
+    setStatus('need-status', needMessage(info.message ? info : { message: error.message }), 'bad');
+    $('derived').textContent = '';
+  }
+  updateSolveButton();
+}
+
+/** The figures the core derives from the need, beside the form. */
+export function showDerived() {
+  const d = state.derived;
+  if (!d) { $('derived').textContent = ''; return; }
+  const unit = state.need.sensor && state.need.sensor.quantity_unit;
+  const parts = [
+    `gain K = ${fmt(d.ideal_gain)}`,
+    `offset B = ${eng(d.ideal_offset_v, 'V')}`,
+    `output window ${eng(d.target_low_v, 'V')} to ${eng(d.target_high_v, 'V')}`,
+    `1 LSB = ${eng(d.lsb_v, 'V')}`,
+  ];
+  if (num(d.volts_per_unit) !== null && unit) parts.push(`${eng(d.volts_per_unit, 'V')} per ${unit}`);
+  $('derived').textContent = `Ideal: ${parts.join(' · ')}`;
+}
