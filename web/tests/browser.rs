@@ -6,6 +6,8 @@
 //! structured error, never a thrown exception for bad input, and a module
 //! that keeps working afterwards.
 #![cfg(target_arch = "wasm32")]
+// wasm-bindgen-test functions are tests, though clippy does not know them as such.
+#![allow(clippy::unwrap_used)]
 
 use serde_json::Value;
 use spanfit_web::{

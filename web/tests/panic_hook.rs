@@ -2,6 +2,8 @@
 //! `wasm32-unknown-unknown` aborts the call and leaves the module's panic
 //! state set, so it must not share a module instance with other tests.
 #![cfg(target_arch = "wasm32")]
+// wasm-bindgen-test functions are tests, though clippy does not know them as such.
+#![allow(clippy::unwrap_used)]
 
 use spanfit_web::{check_need, demo_need};
 use wasm_bindgen::prelude::*;

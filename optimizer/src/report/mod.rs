@@ -95,7 +95,13 @@ mod tests {
             progress: &mut progress,
             now_ms: &clock,
         };
-        let outcome = crate::search::solve(&need, &stock, crate::search::SearchMode::Optimised, &mut control).unwrap();
+        let outcome = crate::search::solve(
+            &need,
+            &stock,
+            crate::search::SearchMode::Optimised,
+            &mut control,
+        )
+        .unwrap();
         assert!(!outcome.alternatives.is_empty());
         let design = crate::design::parse_design(
             include_str!("../../../examples/demo-design.json").as_bytes(),
