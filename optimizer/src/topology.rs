@@ -34,8 +34,8 @@ pub struct PlacedResistor {
     pub designator: String,
     /// Stage index (0-based).
     pub stage: usize,
-    /// Role in the stage (`rf`, `o.top`, ...).
-    pub role: String,
+    /// Role in the stage (named `rf`, `o.top`, ... in files).
+    pub role: Role,
     /// The part.
     pub part: Resistor,
 }
@@ -219,7 +219,7 @@ impl<'a> Builder<'a> {
             element: e,
             designator,
             stage,
-            role: role.name().to_string(),
+            role,
             part: part.clone(),
         });
         e

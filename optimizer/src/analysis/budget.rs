@@ -220,8 +220,7 @@ impl Model {
                 .iter()
                 .find(|placed| placed.element == element)
                 .map(|placed| {
-                    let divider =
-                        placed.role.starts_with("offset.") || placed.role.starts_with("bias.");
+                    let divider = placed.role.is_divider();
                     (
                         2 * placed.stage + usize::from(divider),
                         placed.part.tolerance_pct / 100.0,

@@ -58,7 +58,7 @@ pub fn parts(stock: &Stock, built: &Built) -> Vec<PartEntry> {
             kind: "resistor",
             part_id: r.part.part_id.clone(),
             reference: r.designator.clone(),
-            role: r.role.clone(),
+            role: r.role.name().to_string(),
             stage: r.stage,
             tcr_ppm_per_c: r.part.tcr_ppm_per_c,
             tolerance_pct: r.part.tolerance_pct,
@@ -143,7 +143,7 @@ fn injection(built: &Built, stage: usize, what: &str, inj: &Injection) -> Inject
         built
             .resistors
             .iter()
-            .find(|r| r.stage == stage && r.role == role)
+            .find(|r| r.stage == stage && r.role.name() == role)
             .map(|r| r.designator.clone())
     };
     match inj {
@@ -192,7 +192,7 @@ fn stages(candidate: &Candidate) -> Vec<StageEntry> {
                     .resistors
                     .iter()
                     .filter(|r| r.stage == st.index)
-                    .map(|r| (r.role.clone(), r.designator.clone()))
+                    .map(|r| (r.role.name().to_string(), r.designator.clone()))
                     .collect(),
                 sections: built
                     .sections

@@ -138,7 +138,7 @@ impl<'a> Sheet<'a> {
         self.built
             .resistors
             .iter()
-            .find(|r| r.stage == stage && r.role == role.name())
+            .find(|r| r.stage == stage && r.role == role)
     }
 
     pub(crate) fn nodes_of(&self, element: usize) -> [Node; 3] {

@@ -146,6 +146,13 @@ impl std::fmt::Display for Role {
     }
 }
 
+/// A role equals its name as files write it (`Role::Rf == "rf"`).
+impl PartialEq<String> for Role {
+    fn eq(&self, other: &String) -> bool {
+        self.name() == other
+    }
+}
+
 impl std::str::FromStr for Role {
     type Err = String;
     fn from_str(s: &str) -> std::result::Result<Role, String> {
