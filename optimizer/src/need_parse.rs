@@ -34,6 +34,188 @@ const MAX_PARTS_LIMIT: i128 = 10_000;
 /// Longest search time that may be asked for, in milliseconds (one hour).
 const MAX_TIME_LIMIT_MS: i128 = 3_600_000;
 
+/// Largest voltage magnitude any need key may hold, in volts. spanfit
+/// designs low-voltage signal conditioning; this bound only keeps every
+/// later product finite.
+const MAX_ABS_VOLTS: f64 = 1000.0;
+
+/// Smallest sensor span `|signal_high_v - signal_low_v|`, in volts (1 uV).
+pub(crate) const MIN_SENSOR_SPAN_V: f64 = 1e-6;
+
+/// Smallest ADC window `adc.high_v - adc.low_v`, in volts (1 mV).
+pub(crate) const MIN_ADC_SPAN_V: f64 = 1e-3;
+
+/// Largest magnitude of `sensor.quantity_low` and `quantity_high`.
+const MAX_ABS_QUANTITY: f64 = 1e12;
+
+/// Smallest `|quantity_high - quantity_low|`.
+const MIN_QUANTITY_SPAN: f64 = 1e-9;
+
+/// The allowed range of one number of a need, both ends included.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct NumberRange {
+    /// Key path (`adc.high_v`).
+    pub key: &'static str,
+    /// Smallest value allowed.
+    pub min: f64,
+    /// Largest value allowed.
+    pub max: f64,
+    /// The unit, as messages name it.
+    pub unit: &'static str,
+}
+
+/// Every number a need may hold with its range (both ends included; a few
+/// keys also refuse an end, as their own messages say: a margin under 50 %,
+/// a supply tolerance and a yield under 100 %, an error bound and a
+/// bandwidth above 0). Whole-number keys hold whole numbers only. A value
+/// outside is refused with the key, its line and column and this range.
+pub(crate) const NUMBER_RANGES: &[NumberRange] = &[
+    NumberRange {
+        key: "sensor.signal_low_v",
+        min: -MAX_ABS_VOLTS,
+        max: MAX_ABS_VOLTS,
+        unit: "volts",
+    },
+    NumberRange {
+        key: "sensor.signal_high_v",
+        min: -MAX_ABS_VOLTS,
+        max: MAX_ABS_VOLTS,
+        unit: "volts",
+    },
+    NumberRange {
+        key: "sensor.quantity_low",
+        min: -MAX_ABS_QUANTITY,
+        max: MAX_ABS_QUANTITY,
+        unit: "the physical value at signal_low_v",
+    },
+    NumberRange {
+        key: "sensor.quantity_high",
+        min: -MAX_ABS_QUANTITY,
+        max: MAX_ABS_QUANTITY,
+        unit: "the physical value at signal_high_v",
+    },
+    NumberRange {
+        key: "sensor.common_mode_v",
+        min: -MAX_ABS_VOLTS,
+        max: MAX_ABS_VOLTS,
+        unit: "volts",
+    },
+    NumberRange {
+        key: "sensor.source_ohms",
+        min: 0.0,
+        max: 1e9,
+        unit: "ohms",
+    },
+    NumberRange {
+        key: "adc.low_v",
+        min: -MAX_ABS_VOLTS,
+        max: MAX_ABS_VOLTS,
+        unit: "volts",
+    },
+    NumberRange {
+        key: "adc.high_v",
+        min: -MAX_ABS_VOLTS,
+        max: MAX_ABS_VOLTS,
+        unit: "volts",
+    },
+    NumberRange {
+        key: "adc.bits",
+        min: 1.0,
+        max: 32.0,
+        unit: "bits of resolution",
+    },
+    NumberRange {
+        key: "adc.margin_pct",
+        min: 0.0,
+        max: 50.0,
+        unit: "percent",
+    },
+    NumberRange {
+        key: "supply.positive_v",
+        min: -MAX_ABS_VOLTS,
+        max: MAX_ABS_VOLTS,
+        unit: "volts",
+    },
+    NumberRange {
+        key: "supply.negative_v",
+        min: -MAX_ABS_VOLTS,
+        max: MAX_ABS_VOLTS,
+        unit: "volts",
+    },
+    NumberRange {
+        key: "supply.tolerance_pct",
+        min: 0.0,
+        max: 100.0,
+        unit: "percent",
+    },
+    NumberRange {
+        key: "accuracy.max_error_pct_fs",
+        min: 1e-6,
+        max: 100.0,
+        unit: "percent of full scale",
+    },
+    NumberRange {
+        key: "accuracy.yield_pct",
+        min: 0.0,
+        max: 100.0,
+        unit: "percent",
+    },
+    NumberRange {
+        key: "accuracy.temp_min_c",
+        min: ABSOLUTE_ZERO_C,
+        max: 1000.0,
+        unit: "degrees Celsius",
+    },
+    NumberRange {
+        key: "accuracy.temp_max_c",
+        min: ABSOLUTE_ZERO_C,
+        max: 1000.0,
+        unit: "degrees Celsius",
+    },
+    NumberRange {
+        key: "accuracy.bandwidth_hz",
+        min: 1e-6,
+        max: 1e9,
+        unit: "hertz",
+    },
+    NumberRange {
+        key: "search.max_stages",
+        min: 1.0,
+        max: 3.0,
+        unit: "stages",
+    },
+    NumberRange {
+        key: "search.bom_line_cost",
+        min: 0.0,
+        max: 1e6,
+        unit: "cost per distinct BOM line",
+    },
+    NumberRange {
+        key: "search.max_parts",
+        min: 1.0,
+        max: MAX_PARTS_LIMIT as f64,
+        unit: "parts",
+    },
+    NumberRange {
+        key: "search.time_limit_ms",
+        min: 1.0,
+        max: MAX_TIME_LIMIT_MS as f64,
+        unit: "milliseconds",
+    },
+];
+
+/// The range of a key path, if it holds a number.
+pub(crate) fn number_range(key: &str) -> Option<&'static NumberRange> {
+    NUMBER_RANGES.iter().find(|r| r.key == key)
+}
+
+impl NumberRange {
+    /// "volts from -1000 to 1000", for messages.
+    pub(crate) fn describe(&self) -> String {
+        format!("{} from {} to {}", self.unit, self.min, self.max)
+    }
+}
+
 /// Default values of the optional keys (see [`parse_need`]).
 mod defaults {
     pub const LABEL: &str = "sensor";
@@ -114,6 +296,14 @@ pub(crate) fn parse_need(bytes: &[u8], file: &str) -> Result<Need> {
             Ok(raw) => validate(&raw, &ctx),
             Err(e) => Err(json_error(&e, &ctx)),
         }
+    } else if let Some(kind) = json_non_object(text) {
+        Err(Error::input(
+            Location::file(file),
+            format!(
+                "the need is JSON but {kind}; expected a JSON object `{{\"sensor\": {{..}}, \
+                 \"adc\": {{..}}, ..}}` (or TOML)"
+            ),
+        ))
     } else {
         match toml::from_str::<RawNeed<toml::Spanned<Loose>>>(text) {
             Ok(raw) => validate(&raw, &ctx),
@@ -164,15 +354,41 @@ pub(crate) fn line_col(text: &str, offset: usize) -> (usize, usize) {
     (line, column)
 }
 
+/// Most characters of user text echoed in a message; longer text is cut
+/// and ends in `…`.
+pub(crate) const MAX_ECHO_CHARS: usize = 80;
+
+/// Most names (keys, columns) listed in one message; the rest are counted
+/// ("and 12 more").
+pub(crate) const MAX_LISTED_NAMES: usize = 8;
+
 /// A short, printable rendering of user text for messages: control
-/// characters escaped, long text cut.
+/// characters escaped, text over [`MAX_ECHO_CHARS`] characters cut and
+/// ended with `…`.
 pub(crate) fn shown(text: &str) -> String {
-    const MAX: usize = 40;
-    let mut out: String = text.chars().take(MAX).collect::<String>();
-    if text.chars().count() > MAX {
-        out.push_str("...");
+    let mut out = String::new();
+    for (i, c) in text.chars().enumerate() {
+        if i == MAX_ECHO_CHARS {
+            out.push('…');
+            break;
+        }
+        out.extend(c.escape_debug());
     }
-    out.escape_debug().to_string()
+    out
+}
+
+/// User-supplied names joined with `, `: at most [`MAX_LISTED_NAMES`],
+/// each cut by [`shown`] and put in backquotes, then "and N more".
+pub(crate) fn listed<S: AsRef<str>>(names: &[S]) -> String {
+    let mut out: Vec<String> = names
+        .iter()
+        .take(MAX_LISTED_NAMES)
+        .map(|n| format!("`{}`", shown(n.as_ref())))
+        .collect();
+    if names.len() > MAX_LISTED_NAMES {
+        out.push(format!("and {} more", names.len() - MAX_LISTED_NAMES));
+    }
+    out.join(", ")
 }
 
 // ---------------------------------------------------------------------------
@@ -492,12 +708,12 @@ fn unknown_key(message: &str) -> Option<(String, String)> {
     let list = allowed.join(", ");
     Some(if table.is_empty() {
         (
-            key.to_string(),
+            shown(key),
             format!("unknown table `{}`; the tables are: {list}", shown(key)),
         )
     } else {
         (
-            format!("{table}.{key}"),
+            format!("{table}.{}", shown(key)),
             format!(
                 "unknown key `{}` in [{table}]; the keys of [{table}] are: {list}",
                 shown(key)
@@ -506,7 +722,43 @@ fn unknown_key(message: &str) -> Option<(String, String)> {
     })
 }
 
-/// A toml error as an input error with line and column.
+/// The key path (`search.time_limit_ms`) of the `key = value` line that
+/// holds byte `offset` of a TOML text, its table taken from the nearest
+/// `[table]` header above; `None` where that line has no plain `key =`.
+fn toml_key_at(text: &str, offset: usize) -> Option<String> {
+    let mut offset = offset.min(text.len());
+    while !text.is_char_boundary(offset) {
+        offset -= 1;
+    }
+    let line_start = text[..offset].rfind('\n').map_or(0, |i| i + 1);
+    let line = text[line_start..].lines().next().unwrap_or("");
+    let (name, _) = line.split_once('=')?;
+    let name = name.trim();
+    let bare = |s: &str| {
+        !s.is_empty()
+            && s.chars()
+                .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
+    };
+    if !bare(name) {
+        return None;
+    }
+    let table = text[..line_start]
+        .lines()
+        .rev()
+        .map(str::trim)
+        .find(|l| l.starts_with('['))
+        .and_then(|l| l.strip_prefix('['))
+        .and_then(|l| l.split_once(']'))
+        .map(|(t, _)| t.trim())
+        .filter(|t| bare(t));
+    Some(match table {
+        Some(t) => format!("{t}.{name}"),
+        None => name.to_string(),
+    })
+}
+
+/// A toml error as an input error with line and column (and the key,
+/// where the failing line is a plain `key = value`).
 fn toml_error(e: &toml::de::Error, ctx: &Ctx<'_>) -> Error {
     let message = e
         .message()
@@ -515,23 +767,56 @@ fn toml_error(e: &toml::de::Error, ctx: &Ctx<'_>) -> Error {
         .filter(|l| !l.is_empty())
         .collect::<Vec<_>>()
         .join("; ");
-    let message = message.as_str();
     let mut at = Location::file(ctx.file);
     if let Some(span) = e.span() {
         let (line, column) = line_col(ctx.text, span.start);
         at.line = Some(line);
         at.column = Some(column.to_string());
+        at.key = toml_key_at(ctx.text, span.start).map(|k| shown(&k));
     }
-    match unknown_key(message) {
-        Some((key, text)) => {
-            at.key = Some(key);
-            Error::input(at, text)
-        }
-        None => Error::input(at, format!("could not read the need as TOML: {message}")),
+    if let Some((key, text)) = unknown_key(&message) {
+        at.key = Some(key);
+        return Error::input(at, text);
+    }
+    if message.contains("too large") || message.contains("too small") {
+        let range = at.key.as_deref().and_then(number_range);
+        let expected = range.map_or_else(
+            || "a smaller number".to_string(),
+            |r| format!("a number ({})", r.describe()),
+        );
+        return Error::input(
+            at,
+            format!(
+                "the number does not fit a TOML whole number (at most {}); expected {expected}",
+                i64::MAX
+            ),
+        );
+    }
+    if message.is_empty() {
+        return Error::input(
+            at,
+            "the text is not valid TOML here; expected `key = value` lines under [table] \
+             headers, or a JSON object starting with `{`",
+        );
+    }
+    Error::input(
+        at,
+        format!("could not read the need as TOML: {}", shown_long(&message)),
+    )
+}
+
+/// Like [`shown`] for a parser's own message, which may quote input: cut
+/// at four times [`MAX_ECHO_CHARS`].
+fn shown_long(text: &str) -> String {
+    let cut: String = text.chars().take(4 * MAX_ECHO_CHARS).collect();
+    if cut.len() < text.len() {
+        format!("{cut}…")
+    } else {
+        cut
     }
 }
 
-/// A serde_json error as an input error with line and column.
+/// A serde_json error as an input error with line and column (from 1).
 fn json_error(e: &serde_json::Error, ctx: &Ctx<'_>) -> Error {
     let full = e.to_string();
     let message = match full.rsplit_once(" at line ") {
@@ -541,7 +826,7 @@ fn json_error(e: &serde_json::Error, ctx: &Ctx<'_>) -> Error {
     let mut at = Location::file(ctx.file);
     if e.line() > 0 {
         at.line = Some(e.line());
-        at.column = Some(e.column().to_string());
+        at.column = Some(e.column().max(1).to_string());
     }
     match unknown_key(&message) {
         Some((key, text)) => {
@@ -549,9 +834,26 @@ fn json_error(e: &serde_json::Error, ctx: &Ctx<'_>) -> Error {
             Error::input(at, text)
         }
         None if e.is_syntax() || e.is_eof() => {
-            Error::input(at, format!("not valid JSON: {message}"))
+            Error::input(at, format!("not valid JSON: {}", shown_long(&message)))
         }
-        None => Error::input(at, format!("could not read the need as JSON: {message}")),
+        None => Error::input(
+            at,
+            format!("could not read the need as JSON: {}", shown_long(&message)),
+        ),
+    }
+}
+
+/// The JSON kind of a text that is a whole JSON value but not an object
+/// (`"a list"`), so a JSON need that does not start with `{` is answered
+/// in JSON's terms.
+fn json_non_object(text: &str) -> Option<&'static str> {
+    match serde_json::from_str::<serde_json::Value>(text).ok()? {
+        serde_json::Value::Object(_) => None,
+        serde_json::Value::Array(_) => Some("a list"),
+        serde_json::Value::String(_) => Some("a string"),
+        serde_json::Value::Number(_) => Some("a number"),
+        serde_json::Value::Bool(_) => Some("a boolean"),
+        serde_json::Value::Null => Some("null"),
     }
 }
 
@@ -600,61 +902,75 @@ impl<W: Field> Key<'_, W> {
         ))
     }
 
-    /// A finite number, if present.
+    /// The allowed range of this key, as a sentence to end a message
+    /// ("; allowed: volts from -1000 to 1000"), from [`NUMBER_RANGES`].
+    fn allowed(&self) -> String {
+        number_range(&self.path).map_or(String::new(), |r| format!("; allowed: {}", r.describe()))
+    }
+
+    /// A finite number, if present (its range is checked by
+    /// [`Key::ranged`], after the key's own checks).
     fn number(&self, unit: &str) -> Result<Option<f64>> {
         match self.value() {
             None => Ok(None),
             Some(Loose::Int(i)) => Ok(Some(*i as f64)),
             Some(Loose::Float(x)) if x.is_finite() => Ok(Some(*x)),
             Some(v @ Loose::Float(_)) => Err(self.err(format!(
-                "expected a finite number ({unit}), found {}",
-                v.describe()
+                "expected a finite number ({unit}), found {}{}",
+                v.describe(),
+                self.allowed()
             ))),
             Some(v) => Err(self.err(format!(
-                "expected a number ({unit}), found {}",
-                v.describe()
+                "expected a number ({unit}), found {}{}",
+                v.describe(),
+                self.allowed()
             ))),
+        }
+    }
+
+    /// `value` if it lies inside the key's range of [`NUMBER_RANGES`]; an
+    /// error naming the range otherwise.
+    fn ranged(&self, value: f64) -> Result<f64> {
+        match number_range(&self.path) {
+            Some(r) if !(r.min..=r.max).contains(&value) => Err(self.err(format!(
+                "expected a number ({}), found {}",
+                r.describe(),
+                short_number(value)
+            ))),
+            _ => Ok(value),
         }
     }
 
     fn required_number(&self, unit: &str) -> Result<f64> {
         self.number(unit)?
-            .ok_or_else(|| self.missing(&format!("a number ({unit})")))
+            .ok_or_else(|| self.missing(&format!("a number ({unit}){}", self.allowed())))
     }
 
-    /// A whole number, if present (a float with no fraction counts).
-    fn integer(&self, what: &str) -> Result<Option<i128>> {
+    /// A whole number, if present (a float with no fraction counts);
+    /// `expected` says what was wanted, range included.
+    fn integer(&self, expected: &str) -> Result<Option<i128>> {
         match self.value() {
             None => Ok(None),
             Some(Loose::Int(i)) => Ok(Some(*i)),
             Some(Loose::Float(x)) if x.is_finite() && x.fract() == 0.0 && x.abs() < 1e18 => {
                 Ok(Some(*x as i128))
             }
-            Some(v) => Err(self.err(format!(
-                "expected a whole number ({what}), found {}",
-                v.describe()
-            ))),
+            Some(v) => Err(self.err(format!("expected {expected}, found {}", v.describe()))),
         }
     }
 
-    /// A whole number inside `range`, or the default.
-    fn integer_in(
-        &self,
-        what: &str,
-        range: std::ops::RangeInclusive<i128>,
-        default: Option<i128>,
-    ) -> Result<i128> {
-        let expected = format!(
-            "a whole number ({what}) from {} to {}",
-            range.start(),
-            range.end()
-        );
-        let value = match (self.integer(what)?, default) {
+    /// A whole number inside the key's range of [`NUMBER_RANGES`], or the
+    /// default.
+    fn integer_in(&self, what: &str, default: Option<i128>) -> Result<i128> {
+        let (min, max) = number_range(&self.path)
+            .map_or((i128::MIN, i128::MAX), |r| (r.min as i128, r.max as i128));
+        let expected = format!("a whole number ({what}) from {min} to {max}");
+        let value = match (self.integer(&expected)?, default) {
             (Some(v), _) => v,
             (None, Some(d)) => d,
             (None, None) => return Err(self.missing(&expected)),
         };
-        if range.contains(&value) {
+        if (min..=max).contains(&value) {
             Ok(value)
         } else {
             Err(self.err(format!("expected {expected}, found {value}")))
@@ -777,11 +1093,27 @@ impl<W: Field> Key<'_, W> {
 }
 
 /// Checks on a number that has been read.
+/// The key's own rule comes first, then its range of [`NUMBER_RANGES`].
 fn check(key: &Key<'_, impl Field>, value: f64, ok: bool, expected: &str) -> Result<f64> {
     if ok {
-        Ok(value)
+        key.ranged(value)
     } else {
-        Err(key.err(format!("expected {expected}, found {value}")))
+        Err(key.err(format!(
+            "expected {expected}, found {}{}",
+            short_number(value),
+            key.allowed()
+        )))
+    }
+}
+
+/// A number as messages show it: plain when short, in exponent form when
+/// it would take many digits (`1e308`, not 309 digits).
+pub(crate) fn short_number(x: f64) -> String {
+    let plain = format!("{x}");
+    if plain.len() > 16 {
+        format!("{x:e}")
+    } else {
+        plain
     }
 }
 
@@ -847,12 +1179,19 @@ fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor>
 
     let low_key = key!(ctx, sensor, raw, signal_low_v);
     let high_key = key!(ctx, sensor, raw, signal_high_v);
-    let low = low_key.required_number("volts")?;
-    let high = high_key.required_number("volts")?;
+    let low = low_key.ranged(low_key.required_number("volts")?)?;
+    let high = high_key.ranged(high_key.required_number("volts")?)?;
     if low == high {
         return Err(high_key.err(format!(
             "sensor.signal_high_v equals sensor.signal_low_v ({low} V); the sensor must have a \
              span, so expected a different value"
+        )));
+    }
+    if (high - low).abs() < MIN_SENSOR_SPAN_V {
+        return Err(high_key.err(format!(
+            "the sensor span |signal_high_v - signal_low_v| is {} V; expected at least \
+             {MIN_SENSOR_SPAN_V} V",
+            (high - low).abs()
         )));
     }
 
@@ -864,13 +1203,20 @@ fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor>
         let ql = q_low.number("the physical value at signal_low_v")?;
         let qh = q_high.number("the physical value at signal_high_v")?;
         let unit = q_unit.text()?;
-        let ql = ql.ok_or_else(|| q_low.missing(&format!("a number ({needs})")))?;
-        let qh = qh.ok_or_else(|| q_high.missing(&format!("a number ({needs})")))?;
+        let ql = q_low.ranged(ql.ok_or_else(|| q_low.missing(&format!("a number ({needs})")))?)?;
+        let qh =
+            q_high.ranged(qh.ok_or_else(|| q_high.missing(&format!("a number ({needs})")))?)?;
         let unit =
             unit.ok_or_else(|| q_unit.missing(&format!("text such as \"bar\" ({needs})")))?;
         if ql == qh {
             return Err(q_high.err(format!(
                 "sensor.quantity_high equals sensor.quantity_low ({ql}); expected a different value"
+            )));
+        }
+        if (qh - ql).abs() < MIN_QUANTITY_SPAN {
+            return Err(q_high.err(format!(
+                "|quantity_high - quantity_low| is {}; expected at least {MIN_QUANTITY_SPAN}",
+                (qh - ql).abs()
             )));
         }
         Some(Quantity {
@@ -894,7 +1240,7 @@ fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor>
     let cm = cm_key.number("volts")?;
     let common_mode =
         match (output, cm) {
-            (SensorOutput::Differential, Some(v)) => v,
+            (SensorOutput::Differential, Some(v)) => cm_key.ranged(v)?,
             (SensorOutput::Differential, None) => return Err(cm_key.err(
                 "a differential sensor needs `sensor.common_mode_v`, the common-mode voltage of \
                  its outputs, in volts",
@@ -931,8 +1277,8 @@ fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor>
 fn supply<W: Field>(raw: Option<&RawSupply<W>>, ctx: &Ctx<'_>) -> Result<Supply> {
     let pos_key = key!(ctx, supply, raw, positive_v);
     let neg_key = key!(ctx, supply, raw, negative_v);
-    let positive = pos_key.required_number("volts")?;
-    let negative = neg_key.number("volts")?.unwrap_or(defaults::NEGATIVE_V);
+    let positive = pos_key.ranged(pos_key.required_number("volts")?)?;
+    let negative = neg_key.ranged(neg_key.number("volts")?.unwrap_or(defaults::NEGATIVE_V))?;
     if positive <= negative {
         return Err(pos_key.err(format!(
             "supply.positive_v ({positive} V) must be above supply.negative_v ({negative} V)"
@@ -960,11 +1306,17 @@ fn supply<W: Field>(raw: Option<&RawSupply<W>>, ctx: &Ctx<'_>) -> Result<Supply>
 fn adc<W: Field>(raw: Option<&RawAdc<W>>, supply: &Supply, ctx: &Ctx<'_>) -> Result<Adc> {
     let low_key = key!(ctx, adc, raw, low_v);
     let high_key = key!(ctx, adc, raw, high_v);
-    let low = low_key.required_number("volts")?;
-    let high = high_key.required_number("volts")?;
+    let low = low_key.ranged(low_key.required_number("volts")?)?;
+    let high = high_key.ranged(high_key.required_number("volts")?)?;
     if low >= high {
         return Err(high_key.err(format!(
             "adc.high_v ({high} V) must be above adc.low_v ({low} V)"
+        )));
+    }
+    if high - low < MIN_ADC_SPAN_V {
+        return Err(high_key.err(format!(
+            "the ADC window adc.high_v - adc.low_v is {} V; expected at least {MIN_ADC_SPAN_V} V",
+            high - low
         )));
     }
     if low < supply.negative.0 {
@@ -981,7 +1333,7 @@ fn adc<W: Field>(raw: Option<&RawAdc<W>>, supply: &Supply, ctx: &Ctx<'_>) -> Res
             supply.positive.0
         )));
     }
-    let bits = key!(ctx, adc, raw, bits).integer_in("bits of resolution", 1..=32, None)?;
+    let bits = key!(ctx, adc, raw, bits).integer_in("bits of resolution", None)?;
     let margin_key = key!(ctx, adc, raw, margin_pct);
     let margin = margin_key
         .number("percent")?
@@ -1078,11 +1430,8 @@ fn accuracy<W: Field>(raw: Option<&RawAccuracy<W>>, ctx: &Ctx<'_>) -> Result<Acc
 }
 
 fn search<W: Field>(raw: Option<&RawSearch<W>>, ctx: &Ctx<'_>) -> Result<SearchOptions> {
-    let max_stages = key!(ctx, search, raw, max_stages).integer_in(
-        "stages",
-        1..=3,
-        Some(defaults::MAX_STAGES),
-    )?;
+    let max_stages =
+        key!(ctx, search, raw, max_stages).integer_in("stages", Some(defaults::MAX_STAGES))?;
     let topology_names: Vec<(&str, Topology)> =
         Topology::ALL.iter().map(|&t| (t.name(), t)).collect();
     let topologies =
@@ -1108,16 +1457,10 @@ fn search<W: Field>(raw: Option<&RawSearch<W>>, ctx: &Ctx<'_>) -> Result<SearchO
         bom_line_cost >= 0.0,
         "a cost of zero or more",
     )?;
-    let max_parts = key!(ctx, search, raw, max_parts).integer_in(
-        "parts",
-        1..=MAX_PARTS_LIMIT,
-        Some(defaults::MAX_PARTS),
-    )?;
-    let time_limit_ms = key!(ctx, search, raw, time_limit_ms).integer_in(
-        "milliseconds",
-        1..=MAX_TIME_LIMIT_MS,
-        Some(defaults::TIME_LIMIT_MS),
-    )?;
+    let max_parts =
+        key!(ctx, search, raw, max_parts).integer_in("parts", Some(defaults::MAX_PARTS))?;
+    let time_limit_ms = key!(ctx, search, raw, time_limit_ms)
+        .integer_in("milliseconds", Some(defaults::TIME_LIMIT_MS))?;
     Ok(SearchOptions {
         max_stages: max_stages as usize,
         topologies,
@@ -1254,6 +1597,130 @@ mod tests {
             let m = message(&MINIMAL.replace("high_v = 3.3", &format!("high_v = {literal}")));
             assert!(m.contains("adc.high_v"), "{m}");
             assert!(m.contains("expected a finite number"), "{m}");
+        }
+    }
+
+    /// The need text with `key` (a path of [`NUMBER_RANGES`]) set to
+    /// `value`, added to its table.
+    fn with_key(key: &str, value: &str) -> String {
+        let (table, name) = key.split_once('.').unwrap();
+        let mut lines: Vec<String> = MINIMAL.lines().map(str::to_string).collect();
+        let header = format!("[{table}]");
+        let start = match lines.iter().position(|l| *l == header) {
+            Some(i) => i,
+            None => {
+                lines.push(header);
+                lines.len() - 1
+            }
+        };
+        let end = (start + 1..lines.len())
+            .find(|&i| lines[i].starts_with('['))
+            .unwrap_or(lines.len());
+        let line = format!("{name} = {value}");
+        match (start + 1..end).find(|&i| lines[i].starts_with(&format!("{name} = "))) {
+            Some(i) => lines[i] = line,
+            None => lines.insert(start + 1, line),
+        }
+        let mut text = lines.join("\n") + "\n";
+        if key == "sensor.common_mode_v" {
+            text = text.replace("[sensor]\n", "[sensor]\noutput = \"differential\"\n");
+        }
+        if key.starts_with("sensor.quantity_") {
+            text = text.replace("[sensor]\n", "[sensor]\nquantity_unit = \"bar\"\n");
+            for other in ["quantity_low", "quantity_high"] {
+                if !key.ends_with(other) {
+                    text = text.replace("[sensor]\n", &format!("[sensor]\n{other} = 0.5\n"));
+                }
+            }
+        }
+        text
+    }
+
+    /// Every number of a need has a finite range: values far outside it
+    /// (and the tiniest and largest doubles) are refused with the key, its
+    /// line and the range.
+    #[test]
+    fn every_number_key_has_a_range_that_is_enforced() {
+        for r in NUMBER_RANGES {
+            for value in ["1e308", "-1e308", "-1.7976931348623157e308"] {
+                let m = message(&with_key(r.key, value));
+                assert!(m.contains(r.key), "{}: {m}", r.key);
+                assert!(m.contains("line "), "{}: {m}", r.key);
+                assert!(m.contains(&format!("{}", r.max)), "{}: {m}", r.key);
+            }
+            // The ends themselves are inside, unless a key's own rule
+            // refuses them (then with its own message, still keyed).
+            for end in [r.min, r.max] {
+                if let Err(e) = parse_need(with_key(r.key, &format!("{end:?}")).as_bytes(), "t") {
+                    assert!(
+                        e.to_string().contains(r.key) || e.to_string().contains("line"),
+                        "{e}"
+                    );
+                }
+            }
+        }
+        let m = message(&MINIMAL.replace("signal_high_v = 0.01", "signal_high_v = 5e-324"));
+        assert!(m.contains("sensor span") && m.contains("at least"), "{m}");
+        let m = message(&MINIMAL.replace("high_v = 3.3", "high_v = 0.0000001"));
+        assert!(m.contains("adc.high_v"), "{m}");
+    }
+
+    /// A number too large for TOML names its key and range.
+    #[test]
+    fn a_huge_whole_number_names_key_and_range() {
+        let m = message(&format!(
+            "{MINIMAL}[search]\ntime_limit_ms = 1180591620717411303424\n"
+        ));
+        assert!(m.contains("search.time_limit_ms"), "{m}");
+        assert!(m.contains("from 1 to 3600000"), "{m}");
+        let json = "{\"search\": {\"time_limit_ms\": 1180591620717411303424}}";
+        let need = MINIMAL_JSON.replace(
+            "}}",
+            "}, \"search\": {\"time_limit_ms\": 1180591620717411303424}}",
+        );
+        let m = parse_need(need.as_bytes(), "t.json")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            m.contains("search.time_limit_ms") && m.contains("from 1 to 3600000"),
+            "{json} {m}"
+        );
+    }
+
+    const MINIMAL_JSON: &str = "{\"sensor\": {\"signal_low_v\": 0, \"signal_high_v\": 0.01}, \
+        \"adc\": {\"low_v\": 0, \"high_v\": 3.3, \"bits\": 12}, \"supply\": {\"positive_v\": 5}, \
+        \"accuracy\": {\"max_error_pct_fs\": 1}}";
+
+    /// Messages: never an empty TOML message, columns from 1, JSON that is
+    /// not an object answered as JSON, echoed text cut.
+    #[test]
+    fn messages_speak_the_format_and_stay_short() {
+        assert!(parse_need(MINIMAL_JSON.as_bytes(), "t.json").is_ok());
+        let m = parse_need(b"{\n\"sensor\": {\n", "t.json")
+            .unwrap_err()
+            .to_string();
+        assert!(m.contains("column 1") && !m.contains("column 0"), "{m}");
+        for (text, kind) in [
+            ("[1, 2]", "a list"),
+            ("\"abc\"", "a string"),
+            ("42", "a number"),
+        ] {
+            let m = parse_need(text.as_bytes(), "t").unwrap_err().to_string();
+            assert!(
+                m.contains("JSON") && m.contains(kind) && !m.contains("TOML:"),
+                "{m}"
+            );
+        }
+        let long = "k".repeat(200_000);
+        let m = message(&MINIMAL.replace("bits = 12", &format!("bits = 12\n{long} = 1")));
+        assert!(m.len() < 600, "{} chars: {}", m.len(), &m[..300]);
+        assert!(m.contains('…'), "{m}");
+        let m = message(&MINIMAL.replace("bits = 12", &format!("bits = \"{long}\"")));
+        assert!(m.len() < 600, "{} chars", m.len());
+        for bad in ["= 1", "[adc", "x = ", "a = 1\na = 2", "x = 1979-05-27T"] {
+            let m = message(bad);
+            assert!(!m.trim_end().ends_with(':'), "{m}");
+            assert!(m.contains("line 1") || m.contains("line 2"), "{m}");
         }
     }
 
