@@ -493,6 +493,8 @@ fn split_header<'r>(
     };
     let mut index = HashMap::new();
     let mut unknown = Vec::new();
+    // 1-based position of the first unknown column.
+    let mut first_unknown = 0;
     for (i, raw) in header.fields.iter().enumerate() {
         let name = raw.trim();
         if name.is_empty() {
@@ -506,6 +508,9 @@ fn split_header<'r>(
             ));
         }
         if !all.contains(&name) {
+            if unknown.is_empty() {
+                first_unknown = i + 1;
+            }
             unknown.push(name);
             continue;
         }
@@ -518,7 +523,15 @@ fn split_header<'r>(
     }
     if !unknown.is_empty() {
         let mut at = at_line(file, header.line);
-        at.column = unknown.first().map(|u| shown(u));
+        // The column is named, unless its name reads as a number (`0`),
+        // which would pass for a position: then its 1-based position.
+        at.column = unknown.first().map(|u| {
+            if u.bytes().all(|b| b.is_ascii_digit() || b == b'.' || b == b'-') {
+                first_unknown.to_string()
+            } else {
+                shown(u)
+            }
+        });
         return Err(Error::input(
             at,
             format!(
