@@ -271,6 +271,18 @@ mod defaults {
 ///
 /// The tables `[search]` and `[stock]` may be left out; `[sensor]`,
 /// `[adc]`, `[supply]` and `[accuracy]` may not.
+///
+/// Every number has a finite range, both ends included (see
+/// [`NUMBER_RANGES`]): volts from -1000 to 1000; `quantity_low` and
+/// `quantity_high` from -1e12 to 1e12, at least 1e-9 apart;
+/// `source_ohms` 0 to 1e9; `bits` 1 to 32; `margin_pct` 0 to under 50;
+/// `tolerance_pct` 0 to under 100; `max_error_pct_fs` 1e-6 to 100;
+/// `yield_pct` above 0 and under 100; temperatures -273.15 to 1000 degC;
+/// `bandwidth_hz` 1e-6 to 1e9; `max_stages` 1 to 3; `bom_line_cost` 0 to
+/// 1e6; `max_parts` 1 to 10,000; `time_limit_ms` 1 to 3,600,000. The
+/// sensor span `|signal_high_v - signal_low_v|` is at least 1 uV and the
+/// ADC window `high_v - low_v` at least 1 mV. A value outside is refused
+/// with the key, its line and column, and the range.
 pub(crate) fn parse_need(bytes: &[u8], file: &str) -> Result<Need> {
     if bytes.len() > MAX_NEED_BYTES {
         return Err(Error::input(

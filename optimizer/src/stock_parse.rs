@@ -526,7 +526,9 @@ fn split_header<'r>(
         // The column is named, unless its name reads as a number (`0`),
         // which would pass for a position: then its 1-based position.
         at.column = unknown.first().map(|u| {
-            if u.bytes().all(|b| b.is_ascii_digit() || b == b'.' || b == b'-') {
+            if u.bytes()
+                .all(|b| b.is_ascii_digit() || b == b'.' || b == b'-')
+            {
                 first_unknown.to_string()
             } else {
                 shown(u)
@@ -666,15 +668,6 @@ impl<'a> Row<'a> {
                 format!("expected {what}, found {}", self.found(column)),
             )
         })?;
-        if !value.is_finite() {
-            return Err(self.err(
-                column,
-                format!(
-                    "expected {what} (a finite one), found {}",
-                    self.found(column)
-                ),
-            ));
-        }
         let (ok, rule) = match bound {
             Bound::AboveZero => (
                 value > 0.0 && value <= MAX_NUMBER,
@@ -695,12 +688,20 @@ impl<'a> Row<'a> {
                 format!("from {} to {:e}", OHMS_RANGE.0, OHMS_RANGE.1),
             ),
         };
-        if ok {
+        if ok && value.is_finite() {
             Ok(value)
         } else {
+            let finite = if value.is_finite() {
+                ""
+            } else {
+                " (a finite one)"
+            };
             Err(self.err(
                 column,
-                format!("expected {what} {rule}, found {}", self.found(column)),
+                format!(
+                    "expected {what}{finite} {rule}, found {}",
+                    self.found(column)
+                ),
             ))
         }
     }

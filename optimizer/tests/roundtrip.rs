@@ -338,3 +338,86 @@ fn inline_ids_read_back_and_collisions_are_refused() {
     let d = parse_design(same.as_bytes(), "d.json", &stock).unwrap();
     assert_eq!(d.stages[0].resistors["rg"], Resistor::from(p));
 }
+
+/// Design-file messages: they say what a resistor entry may be, count
+/// columns from 1, name the key and the allowed range of an inline number,
+/// and cut echoed text.
+#[test]
+fn design_file_messages_name_the_key_and_what_was_expected() {
+    let (_, stock) = demo();
+    let with_rg = |rg: &str| {
+        format!(
+            "{{\"stages\": [{{\"shape\": \"instrumentation-integrated\", \"amplifier\": \"IA-3\", \
+             \"resistors\": {{\"rg\": {rg}}}}}]}}"
+        )
+    };
+    let message = |text: &str| {
+        parse_design(text.as_bytes(), "mine.json", &stock)
+            .unwrap_err()
+            .to_string()
+    };
+    let m = message(&with_rg("5"));
+    assert!(m.contains("stages[0].resistors.rg"), "{m}");
+    assert!(m.contains("stock part id") && m.contains("inline"), "{m}");
+    assert!(!m.contains("untagged"), "{m}");
+    for (field, value, range) in [
+        ("ohms", "1e-308", "0.001"),
+        ("ohms", "1e100", "1000000000000"),
+        ("tolerance_pct", "1.7e308", "less than 100"),
+        ("tcr_ppm_per_c", "1.7e308", "100000"),
+        ("unit_cost", "-1", "1000000"),
+    ] {
+        let mut fields = vec![
+            ("ohms", "1000"),
+            ("tolerance_pct", "1"),
+            ("tcr_ppm_per_c", "50"),
+        ];
+        match fields.iter_mut().find(|(k, _)| *k == field) {
+            Some(f) => f.1 = value,
+            None => fields.push((field, value)),
+        }
+        let inline = format!(
+            "{{{}}}",
+            fields
+                .iter()
+                .map(|(k, v)| format!("\"{k}\": {v}"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        );
+        let m = message(&with_rg(&inline));
+        assert!(
+            m.contains("mine.json") && m.contains(&format!("stages[0].resistors.rg.{field}")),
+            "{m}"
+        );
+        assert!(m.contains(range), "{field} = {value}: {m}");
+    }
+    let m = message(&with_rg("{\"ohms\": 1000, \"tolerance_pct\": 1}"));
+    assert!(m.contains("tcr_ppm_per_c"), "{m}");
+    let m = message(&with_rg(
+        "{\"ohms\": 1000, \"tolerance_pct\": 1, \"tcr_ppm_per_c\": 5, \"colour\": 1}",
+    ));
+    assert!(
+        m.contains("unknown key `colour`") && m.contains("ohms, tolerance_pct"),
+        "{m}"
+    );
+    // A number beyond any f64 is a JSON error, still located.
+    let m = message(&with_rg(
+        "{\"ohms\": 1.8e308, \"tolerance_pct\": 1, \"tcr_ppm_per_c\": 5}",
+    ));
+    assert!(m.contains("line 1, column"), "{m}");
+    let m = message("{\n\"stages\": [\n");
+    assert!(
+        m.contains("line 3, column 1") || m.contains("column 1"),
+        "{m}"
+    );
+    assert!(!m.contains("column 0"), "{m}");
+    let long = "x".repeat(200_000);
+    let m = message(&with_rg(&format!("\"{long}\"")));
+    assert!(
+        m.chars().count() < 1000 && m.contains('…'),
+        "{} chars",
+        m.len()
+    );
+    let m = message(&with_rg("\"HR-NOPE\"").replace("\"rg\"", &format!("\"{long}\"")));
+    assert!(m.chars().count() < 1000, "{} chars", m.len());
+}
