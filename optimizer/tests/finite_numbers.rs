@@ -18,7 +18,7 @@ use std::time::Instant;
 /// documents (and not a NaN or infinity that serde_json wrote as null).
 /// Each rule checks the fact that makes the field absent.
 fn null_allowed(key: &str, parent: &serde_json::Map<String, Value>, report: &Value) -> bool {
-    let is_null = |k: &str| parent.get(k).map_or(true, Value::is_null);
+    let is_null = |k: &str| parent.get(k).is_none_or(Value::is_null);
     match key {
         // Whole parts that are absent: no design, no search behind an
         // analysis, no shortfall, no exports.
