@@ -1195,15 +1195,16 @@ fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor>
     let high = high_key.ranged(high_key.required_number("volts")?)?;
     if low == high {
         return Err(high_key.err(format!(
-            "sensor.signal_high_v equals sensor.signal_low_v ({low} V); the sensor must have a \
-             span, so expected a different value"
+            "sensor.signal_high_v equals sensor.signal_low_v ({} V); the sensor must have a \
+             span, so expected a different value",
+            short_number(low)
         )));
     }
     if (high - low).abs() < MIN_SENSOR_SPAN_V {
         return Err(high_key.err(format!(
             "the sensor span |signal_high_v - signal_low_v| is {} V; expected at least \
              {MIN_SENSOR_SPAN_V} V",
-            (high - low).abs()
+            short_number((high - low).abs())
         )));
     }
 
@@ -1222,13 +1223,14 @@ fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor>
             unit.ok_or_else(|| q_unit.missing(&format!("text such as \"bar\" ({needs})")))?;
         if ql == qh {
             return Err(q_high.err(format!(
-                "sensor.quantity_high equals sensor.quantity_low ({ql}); expected a different value"
+                "sensor.quantity_high equals sensor.quantity_low ({}); expected a different value",
+                short_number(ql)
             )));
         }
         if (qh - ql).abs() < MIN_QUANTITY_SPAN {
             return Err(q_high.err(format!(
                 "|quantity_high - quantity_low| is {}; expected at least {MIN_QUANTITY_SPAN}",
-                (qh - ql).abs()
+                short_number((qh - ql).abs())
             )));
         }
         Some(Quantity {
@@ -1293,7 +1295,9 @@ fn supply<W: Field>(raw: Option<&RawSupply<W>>, ctx: &Ctx<'_>) -> Result<Supply>
     let negative = neg_key.ranged(neg_key.number("volts")?.unwrap_or(defaults::NEGATIVE_V))?;
     if positive <= negative {
         return Err(pos_key.err(format!(
-            "supply.positive_v ({positive} V) must be above supply.negative_v ({negative} V)"
+            "supply.positive_v ({} V) must be above supply.negative_v ({} V)",
+            short_number(positive),
+            short_number(negative)
         )));
     }
     let tol_key = key!(ctx, supply, raw, tolerance_pct);
@@ -1322,27 +1326,31 @@ fn adc<W: Field>(raw: Option<&RawAdc<W>>, supply: &Supply, ctx: &Ctx<'_>) -> Res
     let high = high_key.ranged(high_key.required_number("volts")?)?;
     if low >= high {
         return Err(high_key.err(format!(
-            "adc.high_v ({high} V) must be above adc.low_v ({low} V)"
+            "adc.high_v ({} V) must be above adc.low_v ({} V)",
+            short_number(high),
+            short_number(low)
         )));
     }
     if high - low < MIN_ADC_SPAN_V {
         return Err(high_key.err(format!(
             "the ADC window adc.high_v - adc.low_v is {} V; expected at least {MIN_ADC_SPAN_V} V",
-            high - low
+            short_number(high - low)
         )));
     }
     if low < supply.negative.0 {
         return Err(low_key.err(format!(
-            "the ADC window starts at {low} V, below the negative rail (supply.negative_v = {} V); \
+            "the ADC window starts at {} V, below the negative rail (supply.negative_v = {} V); \
              expected adc.low_v inside the supply rails",
-            supply.negative.0
+            short_number(low),
+            short_number(supply.negative.0)
         )));
     }
     if high > supply.positive.0 {
         return Err(high_key.err(format!(
-            "the ADC window ends at {high} V, above the positive rail (supply.positive_v = {} V); \
+            "the ADC window ends at {} V, above the positive rail (supply.positive_v = {} V); \
              expected adc.high_v inside the supply rails",
-            supply.positive.0
+            short_number(high),
+            short_number(supply.positive.0)
         )));
     }
     let bits = key!(ctx, adc, raw, bits).integer_in("bits of resolution", None)?;
