@@ -319,9 +319,8 @@ fn fuzz_analyze() {
         match spanfit::api::analyze_bundle(need, "demo-need.toml", &[], input, "fuzz.json") {
             Ok(v) if v["status"].is_string() => Ok(()),
             Ok(v) => Err(format!("analysis without a status: {}", v["status"])),
-            // Errors of the analysis itself (a design that cannot be
-            // built) carry no file; input errors name the design file.
-            Err(e @ Error::Input { .. }) => check_error(&e, ""),
+            // Input errors name the design (or need) file; errors of the
+            // analysis itself (a design that cannot be built) carry none.
             Err(e) => check_error(&e, ""),
         }
     });
