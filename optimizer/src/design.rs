@@ -8,7 +8,9 @@
 //! inline as `{"ohms": .., "tolerance_pct": .., "tcr_ppm_per_c": ..}`.
 
 use crate::error::{Error, Location, Result};
-use crate::stock::{ResistorPart, Stock};
+use crate::need_parse::{decode_utf8, listed, short_number, shown};
+use crate::stock::{generic_resistor_by_id, ResistorPart, Stock};
+use crate::stock_parse::{MAX_ID_CHARS, MAX_TCR_PPM_PER_C, MAX_UNIT_COST, OHMS_RANGE};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
@@ -140,6 +142,23 @@ pub struct Design {
 // ---------------------------------------------------------------------
 // The design file.
 
+/// Largest design file accepted, in bytes (1 MiB).
+const MAX_DESIGN_BYTES: usize = 1 << 20;
+
+/// The keys an inline resistor object may hold.
+const INLINE_KEYS: [&str; 5] = [
+    "ohms",
+    "tolerance_pct",
+    "tcr_ppm_per_c",
+    "unit_cost",
+    "part_id",
+];
+
+/// What a resistor entry may be, for messages.
+const RESISTOR_FORMS: &str = "a stock part id in quotes (\"HR-F1-10K0\"), or an inline \
+     resistor {\"ohms\": .., \"tolerance_pct\": .., \"tcr_ppm_per_c\": .., and optionally \
+     \"unit_cost\": .. and \"part_id\": ..}";
+
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawDesign {
@@ -153,7 +172,7 @@ struct RawStage {
     shape: Shape,
     amplifier: String,
     #[serde(default)]
-    resistors: BTreeMap<String, RawResistor>,
+    resistors: BTreeMap<String, serde_json::Value>,
     #[serde(default)]
     offset: Option<RawInjection>,
     #[serde(default)]
@@ -163,30 +182,15 @@ struct RawStage {
 }
 
 #[derive(Deserialize)]
-#[serde(untagged)]
-enum RawResistor {
-    Part(String),
-    Inline {
-        ohms: f64,
-        tolerance_pct: f64,
-        tcr_ppm_per_c: f64,
-        #[serde(default)]
-        unit_cost: f64,
-        #[serde(default)]
-        part_id: Option<String>,
-    },
-}
-
-#[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawInjection {
     kind: String,
     #[serde(default)]
     source: Option<String>,
     #[serde(default)]
-    top: Option<RawResistor>,
+    top: Option<serde_json::Value>,
     #[serde(default)]
-    bottom: Option<RawResistor>,
+    bottom: Option<serde_json::Value>,
     #[serde(default)]
     buffered: bool,
 }
@@ -201,48 +205,196 @@ fn parse_source(text: &str, stock: &Stock, at: &Location) -> Result<Source> {
     }
     Err(Error::input(
         at.clone(),
-        format!("expected `supply` or a reference part id from stock, found `{text}`"),
+        format!(
+            "expected `supply` or a reference part id from stock, found `{}`",
+            shown(text)
+        ),
     ))
 }
 
-fn resolve_resistor(raw: &RawResistor, stock: &Stock, at: &Location) -> Result<Resistor> {
-    match raw {
-        RawResistor::Part(id) => stock.resistor(id).map(Resistor::from).ok_or_else(|| {
-            Error::input(at.clone(), format!("resistor part `{id}` is not in stock"))
-        }),
-        RawResistor::Inline {
-            ohms,
-            tolerance_pct,
-            tcr_ppm_per_c,
-            unit_cost,
-            part_id,
-        } => {
-            let bad = |what: &str, v: f64| {
+/// A stock resistor by id: a row of the stock, or a generic series part
+/// (`GEN-E96-4K99`, what a search with `stock.only = false` places).
+fn stock_resistor(id: &str, stock: &Stock) -> Option<Resistor> {
+    match stock.resistor(id) {
+        Some(p) => Some(Resistor::from(p)),
+        None => generic_resistor_by_id(id).map(|p| Resistor::from(&p)),
+    }
+}
+
+/// The JSON kind of a value, for "found ..." in messages.
+fn json_kind(v: &serde_json::Value) -> String {
+    use serde_json::Value;
+    match v {
+        Value::Null => "null".into(),
+        Value::Bool(b) => format!("the boolean `{b}`"),
+        Value::Number(n) => format!("the number `{n}`"),
+        Value::String(s) => format!("the text `{}`", shown(s)),
+        Value::Array(_) => "a list".into(),
+        Value::Object(_) => "an object".into(),
+    }
+}
+
+/// One number of an inline resistor, inside `[min, max]` (`max_open`:
+/// below `max`).
+fn inline_number(
+    map: &serde_json::Map<String, serde_json::Value>,
+    name: &str,
+    range: (f64, f64, bool),
+    default: Option<f64>,
+    at: &Location,
+) -> Result<f64> {
+    let (min, max, max_open) = range;
+    let rule = format!(
+        "a number from {} to {}{}",
+        short_number(min),
+        if max_open { "less than " } else { "" },
+        short_number(max)
+    );
+    let mut at = at.clone();
+    at.key = at.key.map(|k| format!("{k}.{name}"));
+    let value = match (map.get(name), default) {
+        (Some(serde_json::Value::Number(n)), _) => n.as_f64(),
+        (Some(other), _) => {
+            return Err(Error::input(
+                at,
+                format!("expected {rule}, found {}", json_kind(other)),
+            ))
+        }
+        (None, Some(d)) => Some(d),
+        (None, None) => {
+            return Err(Error::input(
+                at,
+                format!("an inline resistor needs `{name}`: {rule}"),
+            ))
+        }
+    };
+    match value {
+        Some(v) if v >= min && (v < max || (!max_open && v == max)) => Ok(v),
+        _ => Err(Error::input(
+            at,
+            format!(
+                "expected {rule}, found {}",
+                value.map_or_else(|| "a number out of range".to_string(), short_number)
+            ),
+        )),
+    }
+}
+
+/// A resistor entry of a design file: a stock (or generic) part id, or an
+/// inline object (see [`RESISTOR_FORMS`]). An inline `part_id` that is also
+/// a stock id must carry that part's values.
+fn resolve_resistor(raw: &serde_json::Value, stock: &Stock, at: &Location) -> Result<Resistor> {
+    let map = match raw {
+        serde_json::Value::String(id) => {
+            return stock_resistor(id, stock).ok_or_else(|| {
                 Error::input(
                     at.clone(),
-                    format!("expected a finite positive {what}, found {v}"),
+                    format!(
+                        "resistor part `{}` is not in stock; expected {RESISTOR_FORMS}",
+                        shown(id)
+                    ),
                 )
-            };
-            if !(ohms.is_finite() && *ohms > 0.0) {
-                return Err(bad("resistance in ohms", *ohms));
-            }
-            if !(tolerance_pct.is_finite() && *tolerance_pct >= 0.0) {
-                return Err(bad("tolerance_pct", *tolerance_pct));
-            }
-            if !(tcr_ppm_per_c.is_finite() && *tcr_ppm_per_c >= 0.0) {
-                return Err(bad("tcr_ppm_per_c", *tcr_ppm_per_c));
-            }
-            if !(unit_cost.is_finite() && *unit_cost >= 0.0) {
-                return Err(bad("unit_cost", *unit_cost));
-            }
-            Ok(Resistor {
-                part_id: part_id.clone().unwrap_or_else(|| "custom".to_string()),
-                ohms: *ohms,
-                tolerance_pct: *tolerance_pct,
-                tcr_ppm_per_c: *tcr_ppm_per_c,
-                unit_cost: *unit_cost,
             })
         }
+        serde_json::Value::Object(map) => map,
+        other => {
+            return Err(Error::input(
+                at.clone(),
+                format!("expected {RESISTOR_FORMS}; found {}", json_kind(other)),
+            ))
+        }
+    };
+    let unknown: Vec<&String> = map
+        .keys()
+        .filter(|k| !INLINE_KEYS.contains(&k.as_str()))
+        .collect();
+    if !unknown.is_empty() {
+        return Err(Error::input(
+            at.clone(),
+            format!(
+                "unknown key{} {} in an inline resistor; its keys are: {}",
+                if unknown.len() > 1 { "s" } else { "" },
+                listed(&unknown),
+                INLINE_KEYS.join(", ")
+            ),
+        ));
+    }
+    let ohms = inline_number(map, "ohms", (OHMS_RANGE.0, OHMS_RANGE.1, false), None, at)?;
+    let tolerance_pct = inline_number(map, "tolerance_pct", (0.0, 100.0, true), None, at)?;
+    let tcr_ppm_per_c = inline_number(
+        map,
+        "tcr_ppm_per_c",
+        (0.0, MAX_TCR_PPM_PER_C, false),
+        None,
+        at,
+    )?;
+    let unit_cost = inline_number(map, "unit_cost", (0.0, MAX_UNIT_COST, false), Some(0.0), at)?;
+    let part_id = match map.get("part_id") {
+        None => "custom".to_string(),
+        Some(serde_json::Value::String(id)) => {
+            let count = id.chars().count();
+            if id.trim().is_empty() || count > MAX_ID_CHARS || id.chars().any(char::is_control) {
+                let mut at = at.clone();
+                at.key = at.key.map(|k| format!("{k}.part_id"));
+                return Err(Error::input(
+                    at,
+                    format!(
+                        "expected a part id of 1 to {MAX_ID_CHARS} characters with no control \
+                         characters, found `{}` ({count} characters)",
+                        shown(id)
+                    ),
+                ));
+            }
+            id.clone()
+        }
+        Some(other) => {
+            let mut at = at.clone();
+            at.key = at.key.map(|k| format!("{k}.part_id"));
+            return Err(Error::input(
+                at,
+                format!("expected a part id in quotes, found {}", json_kind(other)),
+            ));
+        }
+    };
+    let inline = Resistor {
+        part_id,
+        ohms,
+        tolerance_pct,
+        tcr_ppm_per_c,
+        unit_cost,
+    };
+    let cost_given = map.contains_key("unit_cost");
+    match stock_resistor(&inline.part_id, stock) {
+        // Without a cost of its own, a stock id with the stock's values
+        // is that stock part.
+        Some(part)
+            if !cost_given
+                && part
+                    == Resistor {
+                        unit_cost: part.unit_cost,
+                        ..inline.clone()
+                    } =>
+        {
+            Ok(part)
+        }
+        Some(part) if part != inline => Err(Error::input(
+            at.clone(),
+            format!(
+                "inline part_id `{}` is also a stock part with other values (stock: {} ohm, \
+                 {} %, {} ppm/degC, cost {}; here: {} ohm, {} %, {} ppm/degC, cost {}); expected \
+                 the stock id alone, or another part_id for an inline part",
+                shown(&inline.part_id),
+                part.ohms,
+                part.tolerance_pct,
+                part.tcr_ppm_per_c,
+                part.unit_cost,
+                inline.ohms,
+                inline.tolerance_pct,
+                inline.tcr_ppm_per_c,
+                inline.unit_cost
+            ),
+        )),
+        _ => Ok(inline),
     }
 }
 
@@ -271,7 +423,7 @@ fn resolve_injection(
             source: source(raw)?,
         }),
         "divider" => {
-            let need = |r: &Option<RawResistor>, which: &str| -> Result<Resistor> {
+            let need = |r: &Option<serde_json::Value>, which: &str| -> Result<Resistor> {
                 let k = format!("{key}.{which}");
                 match r {
                     Some(r) => resolve_resistor(r, stock, &Location::key(file, &k)),
@@ -290,7 +442,10 @@ fn resolve_injection(
         }
         other => Err(Error::input(
             at,
-            format!("expected kind `ground`, `direct` or `divider`, found `{other}`"),
+            format!(
+                "expected kind `ground`, `direct` or `divider`, found `{}`",
+                shown(other)
+            ),
         )),
     }
 }
@@ -298,43 +453,43 @@ fn resolve_injection(
 /// Read a design file (JSON) against a stock. Messages name the key
 /// (`stages[1].resistors.rf`) and what was expected.
 pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
-    if bytes.len() > 1 << 20 {
+    if bytes.len() > MAX_DESIGN_BYTES {
         return Err(Error::input(
             Location::file(file),
-            format!("design file is {} bytes; the limit is 1 MiB", bytes.len()),
+            format!(
+                "design file is {} bytes; the limit is 1 MiB ({MAX_DESIGN_BYTES} bytes)",
+                bytes.len()
+            ),
         ));
     }
-    let text = std::str::from_utf8(bytes).map_err(|e| {
-        let line = bytes[..e.valid_up_to()]
-            .iter()
-            .filter(|b| **b == b'\n')
-            .count()
-            + 1;
-        Error::input(
-            Location {
-                file: file.to_string(),
-                line: Some(line),
-                ..Default::default()
-            },
-            format!("not UTF-8 text (bad byte at offset {})", e.valid_up_to()),
-        )
-    })?;
+    let text = decode_utf8(bytes, file)?;
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let raw: RawDesign = serde_json::from_str(text).map_err(|e| {
+        let full = e.to_string();
+        let message = match full.rsplit_once(" at line ") {
+            Some((head, _)) if e.line() > 0 => head.to_string(),
+            _ => full.clone(),
+        };
+        let mut at = Location::file(file);
+        if e.line() > 0 {
+            at.line = Some(e.line());
+            at.column = Some(e.column().max(1).to_string());
+        }
+        let cut: String = message.chars().take(320).collect();
+        let ellipsis = if cut.len() < message.len() { "…" } else { "" };
         Error::input(
-            Location {
-                file: file.to_string(),
-                line: Some(e.line()),
-                column: Some(e.column().to_string()),
-                key: None,
-            },
-            format!("not a valid design file: {e}"),
+            at,
+            format!(
+                "not a valid design file: {cut}{ellipsis}; expected a JSON object \
+                 {{\"format\": \"spanfit-design-1\", \"stages\": [..]}}"
+            ),
         )
     })?;
     if let Some(f) = &raw.format {
         if f != "spanfit-design-1" {
             return Err(Error::input(
                 Location::key(file, "format"),
-                format!("expected `spanfit-design-1`, found `{f}`"),
+                format!("expected `spanfit-design-1`, found `{}`", shown(f)),
             ));
         }
     }
@@ -362,13 +517,13 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
                     } else {
                         "op-amp"
                     },
-                    s.amplifier
+                    shown(&s.amplifier)
                 ),
             ));
         }
         let mut resistors = BTreeMap::new();
         for (role, r) in &s.resistors {
-            let k = format!("{key}.resistors.{role}");
+            let k = format!("{key}.resistors.{}", shown(role));
             let known = Role::from_name(role).filter(|r| {
                 s.shape.required_roles().contains(r) || s.shape.optional_roles().contains(r)
             });
@@ -378,8 +533,9 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
                 return Err(Error::input(
                     Location::key(file, &k),
                     format!(
-                        "a {} stage has no resistor `{role}`; expected {}",
+                        "a {} stage has no resistor `{}`; expected {}",
                         s.shape.name(),
+                        shown(role),
                         expected.join(", ")
                     ),
                 ));
@@ -408,7 +564,7 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
             if stock.opamp(b).is_none() {
                 return Err(Error::input(
                     Location::key(file, &format!("{key}.buffer")),
-                    format!("op-amp part `{b}` is not in stock"),
+                    format!("op-amp part `{}` is not in stock", shown(b)),
                 ));
             }
         }
@@ -416,15 +572,27 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
     Ok(Design { stages })
 }
 
-/// Write a design in the file format [`parse_design`] reads (resistors as
-/// part ids where they come from stock, inline otherwise).
-pub fn design_to_json(design: &Design) -> serde_json::Value {
+/// Write a design in the file format [`parse_design`] reads, so that it
+/// reads back against `stock` as the same design: a resistor that is the
+/// stock (or generic) part of its id is written as the bare id, any other
+/// inline, with its `part_id` unless that is `custom`.
+pub fn design_file_json(design: &Design, stock: &Stock) -> serde_json::Value {
+    write_design_file(design, &|r: &Resistor| {
+        stock_resistor(&r.part_id, stock).as_ref() == Some(r)
+    })
+}
+
+/// The writer behind [`design_file_json`];
+/// `by_id(r)` says a resistor may be written as its bare part id.
+fn write_design_file(design: &Design, by_id: &dyn Fn(&Resistor) -> bool) -> serde_json::Value {
     use serde_json::json;
     let res = |r: &Resistor| {
         if r.part_id == "custom" {
             json!({"ohms": r.ohms, "tolerance_pct": r.tolerance_pct, "tcr_ppm_per_c": r.tcr_ppm_per_c, "unit_cost": r.unit_cost})
-        } else {
+        } else if by_id(r) {
             json!(r.part_id)
+        } else {
+            json!({"part_id": r.part_id, "ohms": r.ohms, "tolerance_pct": r.tolerance_pct, "tcr_ppm_per_c": r.tcr_ppm_per_c, "unit_cost": r.unit_cost})
         }
     };
     let src = |s: &Source| match s {

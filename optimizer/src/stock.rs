@@ -5,6 +5,7 @@
 //! concrete values.
 
 use crate::error::Result;
+use crate::series::{value_code, Series};
 use crate::units::{Decibels, Ohms, Percent, PpmPerC, Volts};
 use serde::{Deserialize, Serialize};
 
@@ -166,6 +167,52 @@ pub struct StockFile {
 /// amplifiers at all is an error.
 pub fn parse_stock(files: &[StockFile]) -> Result<Stock> {
     crate::stock_parse::parse_stock(files)
+}
+
+/// Range of the generic series parts that stand in for the stock when a
+/// need says `stock.only = false`, in ohms.
+pub const GENERIC_RANGE_OHMS: (f64, f64) = (10.0, 1e6);
+
+/// Grade of the generic parts of a series: tolerance in %, TCR in
+/// ppm/degC and unit cost (1 % and 100 ppm/degC for E48 and E96, 0.5 % and
+/// 50 ppm/degC for E192, 5 % and 200 ppm/degC below; common practice).
+pub fn generic_grade(series: Series) -> (f64, f64, f64) {
+    match series {
+        Series::E6 | Series::E12 | Series::E24 => (5.0, 200.0, 0.003),
+        Series::E192 => (0.5, 50.0, 0.02),
+        Series::E48 | Series::E96 => (1.0, 100.0, 0.005),
+    }
+}
+
+/// The generic part of one series value: id `GEN-<series>-<value code>`
+/// (`GEN-E96-4K99`), family `GEN-<series>`, package `generic`, unlimited.
+pub fn generic_resistor(series: Series, ohms: f64) -> ResistorPart {
+    let (tolerance, tcr, unit_cost) = generic_grade(series);
+    ResistorPart {
+        part_id: format!("GEN-{}-{}", series.name(), value_code(ohms)),
+        value: Ohms(ohms),
+        tolerance: Percent(tolerance),
+        tcr: PpmPerC(tcr),
+        package: "generic".into(),
+        unit_cost,
+        stock_qty: None,
+        family: Some(format!("GEN-{}", series.name())),
+    }
+}
+
+/// The generic part a `GEN-<series>-<value code>` id names, if it names
+/// one (a value of that series inside [`GENERIC_RANGE_OHMS`]); so a design
+/// solved with `stock.only = false` reads back without the need.
+pub fn generic_resistor_by_id(id: &str) -> Option<ResistorPart> {
+    let rest = id.strip_prefix("GEN-")?;
+    let (series, code) = rest.split_once('-')?;
+    let series = Series::from_name(series)?;
+    let (min, max) = GENERIC_RANGE_OHMS;
+    series
+        .values_in(min, max)
+        .into_iter()
+        .find(|&v| value_code(v) == code)
+        .map(|v| generic_resistor(series, v))
 }
 
 impl Stock {

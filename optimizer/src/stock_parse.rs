@@ -16,7 +16,7 @@
 //! values.
 
 use crate::error::{Error, Location, Result};
-use crate::need_parse::{decode_utf8, shown};
+use crate::need_parse::{decode_utf8, listed, shown};
 use crate::series::{value_code, Series};
 use crate::stock::{InAmpPart, OpAmpPart, ReferencePart, ResistorPart, Stock, StockFile};
 use crate::units::{Decibels, Ohms, Percent, PpmPerC, Volts};
@@ -29,14 +29,26 @@ const MAX_FILE_BYTES: usize = 8 << 20;
 const MAX_LINE_BYTES: usize = 64 << 10;
 
 /// Longest part id or package text, in characters.
-const MAX_ID_CHARS: usize = 64;
+pub(crate) const MAX_ID_CHARS: usize = 64;
 
 /// Most resistor values a stock may expand to (single rows plus every
 /// value of every family).
 const MAX_RESISTOR_VALUES: usize = 100_000;
 
-/// Smallest and largest resistance accepted, in ohms.
-const OHMS_RANGE: (f64, f64) = (1e-3, 1e12);
+/// Smallest and largest resistance accepted, in ohms (stock and inline
+/// design resistors alike).
+pub(crate) const OHMS_RANGE: (f64, f64) = (1e-3, 1e12);
+
+/// Largest resistor TCR accepted, in ppm/degC (stock and inline design
+/// resistors alike).
+pub(crate) const MAX_TCR_PPM_PER_C: f64 = 1e5;
+
+/// Largest unit cost accepted (any currency).
+pub(crate) const MAX_UNIT_COST: f64 = 1e6;
+
+/// Largest value of any other number column: every column is bounded so
+/// that nothing later overflows.
+const MAX_NUMBER: f64 = 1e9;
 
 /// Sections an op-amp package may hold.
 const CHANNELS: [u32; 3] = [1, 2, 4];
@@ -481,6 +493,8 @@ fn split_header<'r>(
     };
     let mut index = HashMap::new();
     let mut unknown = Vec::new();
+    // 1-based position of the first unknown column.
+    let mut first_unknown = 0;
     for (i, raw) in header.fields.iter().enumerate() {
         let name = raw.trim();
         if name.is_empty() {
@@ -494,7 +508,10 @@ fn split_header<'r>(
             ));
         }
         if !all.contains(&name) {
-            unknown.push(format!("`{}`", shown(name)));
+            if unknown.is_empty() {
+                first_unknown = i + 1;
+            }
+            unknown.push(name);
             continue;
         }
         if index.insert(name.to_string(), i).is_some() {
@@ -506,13 +523,23 @@ fn split_header<'r>(
     }
     if !unknown.is_empty() {
         let mut at = at_line(file, header.line);
-        at.column = unknown.first().map(|u| u.trim_matches('`').to_string());
+        // The column is named, unless its name reads as a number (`0`),
+        // which would pass for a position: then its 1-based position.
+        at.column = unknown.first().map(|u| {
+            if u.bytes()
+                .all(|b| b.is_ascii_digit() || b == b'.' || b == b'-')
+            {
+                first_unknown.to_string()
+            } else {
+                shown(u)
+            }
+        });
         return Err(Error::input(
             at,
             format!(
                 "unknown column{} {} in the header; the columns of {} are: {}",
                 if unknown.len() > 1 { "s" } else { "" },
-                unknown.join(", "),
+                listed(&unknown),
                 table.file_name(),
                 all.join(", ")
             ),
@@ -576,6 +603,8 @@ enum Bound {
     Percent,
     /// Inside [`OHMS_RANGE`].
     Resistance,
+    /// From zero to this.
+    UpTo(f64),
 }
 
 /// One data row of a table.
@@ -639,18 +668,16 @@ impl<'a> Row<'a> {
                 format!("expected {what}, found {}", self.found(column)),
             )
         })?;
-        if !value.is_finite() {
-            return Err(self.err(
-                column,
-                format!(
-                    "expected {what} (a finite one), found {}",
-                    self.found(column)
-                ),
-            ));
-        }
         let (ok, rule) = match bound {
-            Bound::AboveZero => (value > 0.0, "above zero".to_string()),
-            Bound::ZeroOrMore => (value >= 0.0, "of zero or more".to_string()),
+            Bound::AboveZero => (
+                value > 0.0 && value <= MAX_NUMBER,
+                format!("above zero and at most {MAX_NUMBER:e}"),
+            ),
+            Bound::ZeroOrMore => (
+                (0.0..=MAX_NUMBER).contains(&value),
+                format!("from 0 to {MAX_NUMBER:e}"),
+            ),
+            Bound::UpTo(max) => ((0.0..=max).contains(&value), format!("from 0 to {max:e}")),
             Bound::Percent => (
                 (0.0..100.0).contains(&value),
                 "from 0 to less than 100".to_string(),
@@ -661,12 +688,20 @@ impl<'a> Row<'a> {
                 format!("from {} to {:e}", OHMS_RANGE.0, OHMS_RANGE.1),
             ),
         };
-        if ok {
+        if ok && value.is_finite() {
             Ok(value)
         } else {
+            let finite = if value.is_finite() {
+                ""
+            } else {
+                " (a finite one)"
+            };
             Err(self.err(
                 column,
-                format!("expected {what} {rule}, found {}", self.found(column)),
+                format!(
+                    "expected {what}{finite} {rule}, found {}",
+                    self.found(column)
+                ),
             ))
         }
     }
@@ -788,10 +823,10 @@ fn resistors(columns: &Columns, rows: &[Record], file: &str) -> Result<Vec<(Resi
         let tcr = row.number(
             "tcr_ppm_per_c",
             "a temperature coefficient in ppm/degC",
-            Bound::ZeroOrMore,
+            Bound::UpTo(MAX_TCR_PPM_PER_C),
         )?;
         let package = row.text("package", false)?;
-        let unit_cost = row.number("unit_cost", "a unit cost", Bound::ZeroOrMore)?;
+        let unit_cost = row.number("unit_cost", "a unit cost", Bound::UpTo(MAX_UNIT_COST))?;
         let stock_qty = row.quantity("stock_qty")?;
         let base = ResistorPart {
             part_id: part_id.clone(),

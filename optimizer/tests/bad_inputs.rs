@@ -601,6 +601,40 @@ fn catalogue() -> Vec<Case> {
                 "64 KiB".into(),
             ],
         },
+        resistor_case(
+            "resistor TCR of 1.8e308",
+            "R-X,1000,,,,1.0,1.8e308,0603,0.01,",
+            &["line 2", "tcr_ppm_per_c", "from 0 to 1e5"],
+        ),
+        resistor_case(
+            "resistor unit cost of 1e300",
+            "R-X,1000,,,,1.0,100,0603,1e300,",
+            &["line 2", "unit_cost", "from 0 to 1e6"],
+        ),
+        stock_case(
+            "op-amp GBW of 1e300",
+            "opamps.csv",
+            &opamp_row(13, "1e300"),
+            &["line 2", "gbw_mhz", "at most 1e9"],
+        ),
+        Case {
+            what: "9,000 unknown columns: the message lists a few and counts the rest",
+            input: Input::Stock(stock_with(
+                "references.csv",
+                Some(
+                    format!(
+                        "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty,{}\n",
+                        (0..9000).map(|i| format!("x{i}")).collect::<Vec<_>>().join(",")
+                    )
+                    .into_bytes(),
+                ),
+            )),
+            expect: vec![
+                "references.csv".into(),
+                "line 1, column x0".into(),
+                "`x7`, and 8992 more".into(),
+            ],
+        },
         Case {
             what: "non-UTF-8 stock",
             input: Input::Stock(stock_with("references.csv", Some(bad_utf8_refs))),
@@ -642,6 +676,17 @@ fn every_bad_input_is_refused_with_its_place_named() {
         }
     }
     assert!(failures.is_empty(), "{}", failures.join("\n"));
+}
+
+/// No message grows with the input: each is at most 2,000 characters.
+#[test]
+fn every_message_is_short() {
+    for case in catalogue() {
+        if let Some(message) = error_of(&case.input) {
+            let n = message.chars().count();
+            assert!(n <= 2000, "{}: {n} characters", case.what);
+        }
+    }
 }
 
 fn demo_need() -> Need {

@@ -279,7 +279,7 @@ pub fn design_report(need: &Need, stock: &Stock, candidate: &Candidate) -> Desig
         cost: c.total,
         error: error_figures(need, a),
         feasible: a.feasible,
-        file: crate::design::design_to_json(&candidate.design),
+        file: crate::design::design_file_json(&candidate.design, stock),
         findings: a.findings.iter().map(finding).collect(),
         part_count: c.part_count,
         parts: parts(stock, &candidate.built),
