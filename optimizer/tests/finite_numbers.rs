@@ -29,7 +29,8 @@ fn null_allowed(key: &str, parent: &serde_json::Map<String, Value>, report: &Val
     match key {
         // Whole parts that are absent: no design, no search behind an
         // analysis, no shortfall, no exports.
-        "design" | "reason" | "search" | "infeasible" | "spice" | "svg" | "bom_csv" => true,
+        "design" | "reason" | "search" | "infeasible" | "spice" | "svg" | "bom_csv"
+        | "bom_table" => true,
         // A grounded offset or bias node has no source.
         "source" => parent.get("kind").is_some_and(|k| k == "ground"),
         // The sensor-unit column exists only with a physical scale.
