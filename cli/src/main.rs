@@ -365,12 +365,17 @@ fn run(verb: Verb, o: &Options) -> Result<u8> {
     } else {
         print(&bundle.text)?;
     }
-    if report.status == Status::Ok {
-        Ok(0)
-    } else {
-        let reason = report.reason.as_deref().unwrap_or("no reason given");
-        eprintln!("spanfit: no design meets the need: {reason}");
-        Ok(1)
+    let reason = report.reason.as_deref().unwrap_or("no reason given");
+    match report.status {
+        Status::Ok => Ok(0),
+        Status::Infeasible => {
+            eprintln!("spanfit: no design meets the need: {reason}");
+            Ok(1)
+        }
+        Status::Unfinished => {
+            eprintln!("spanfit: the search did not finish: {reason}");
+            Ok(3)
+        }
     }
 }
 

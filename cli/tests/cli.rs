@@ -544,3 +544,40 @@ fn an_infeasible_need_exits_1_with_the_reason() {
     );
     let _ = std::fs::remove_dir_all(dir);
 }
+
+/// A search cut short by its time limit before it found a design proves
+/// nothing: it exits 3 with `status: "unfinished"`, never "infeasible".
+#[test]
+fn a_search_cut_short_exits_3_unfinished() {
+    let dir = scratch("unfinished");
+    let need = dir.join("short.toml");
+    // A target this stock misses by little (no amplifier floor rules it
+    // out before the walk), so no design can be found before the limit;
+    // with 1 ms the walk stops at its first clock check.
+    std::fs::write(
+        &need,
+        demo_need_embedded_stock()
+            .replacen("max_error_pct_fs = 0.5", "max_error_pct_fs = 0.1", 1)
+            .replacen("time_limit_ms = 2000", "time_limit_ms = 1", 1),
+    )
+    .expect("the need is written");
+    let o = spanfit(&["solve", need.to_str().expect("a UTF-8 path"), "--json"]);
+    assert_eq!(code(&o), 3, "stderr:\n{}", stderr(&o));
+    let v = json(&o);
+    assert_eq!(v["status"], "unfinished");
+    assert!(v["design"].is_null());
+    assert!(v["infeasible"].is_null(), "{}", v["infeasible"]);
+    assert!(
+        v["reason"]
+            .as_str()
+            .is_some_and(|r| r.contains("search.time_limit_ms")),
+        "{}",
+        v["reason"]
+    );
+    assert_eq!(v["search"]["proven_optimal"], false);
+    assert!(stderr(&o).contains("did not finish"), "{}", stderr(&o));
+    let o = spanfit(&["solve", need.to_str().expect("a UTF-8 path")]);
+    assert_eq!(code(&o), 3);
+    assert!(stdout(&o).contains("Not finished"), "{}", stdout(&o));
+    let _ = std::fs::remove_dir_all(dir);
+}

@@ -402,10 +402,16 @@ pub fn solve_report(need: &Need, stock: &Stock, outcome: &SolveOutcome) -> Repor
         design: outcome.best.as_ref().map(|c| design_report(need, stock, c)),
         infeasible: outcome.infeasible.as_ref().map(infeasible_report),
         need: need_figures(need),
-        reason: outcome.infeasible.as_ref().map(|i| i.binding.clone()),
+        reason: match (&outcome.infeasible, outcome.stopped) {
+            (Some(i), _) => Some(i.binding.clone()),
+            (None, Some(stop)) if outcome.best.is_none() => Some(stop.reason()),
+            _ => None,
+        },
         search: Some(search_report(&outcome.stats)),
         status: if outcome.best.is_some() {
             Status::Ok
+        } else if outcome.unfinished() {
+            Status::Unfinished
         } else {
             Status::Infeasible
         },

@@ -3,7 +3,7 @@
 //! computes nothing the report does not hold.
 
 use super::json::enum_name;
-use super::types::{DesignReport, PartEntry, Report};
+use super::types::{DesignReport, PartEntry, Report, Status};
 use super::CAUTIONS;
 use crate::need::Need;
 use crate::schematic::{format_ohms, format_quantity};
@@ -501,6 +501,16 @@ pub fn report_text(need: &Need, report: &Report) -> String {
     }
     match &report.design {
         Some(d) => write_design(&mut out, need, d),
+        None if report.status == Status::Unfinished => {
+            let _ = writeln!(out);
+            let _ = writeln!(
+                out,
+                "Not finished: no design found yet, and none shown impossible."
+            );
+            if let Some(reason) = &report.reason {
+                let _ = writeln!(out, "         {}", clean(reason));
+            }
+        }
         None => {
             let _ = writeln!(out);
             let _ = writeln!(out, "No design meets the need.");

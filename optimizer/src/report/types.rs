@@ -17,7 +17,9 @@ use crate::bom::BomTable;
 use serde::Serialize;
 use std::collections::BTreeMap;
 
-/// Whether a design meets the need (`"ok"`) or not (`"infeasible"`).
+/// Whether a design meets the need (`"ok"`), none does (`"infeasible"`),
+/// or the search stopped before it found one or proved that none exists
+/// (`"unfinished"`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Status {
@@ -25,6 +27,9 @@ pub enum Status {
     Ok,
     /// No design (or not the given one) meets the need.
     Infeasible,
+    /// The time limit or a cancel stopped the search before it found a
+    /// design or proved that none exists.
+    Unfinished,
 }
 
 /// The report object: what `spanfit solve --json` and `spanfit analyze

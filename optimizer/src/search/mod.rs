@@ -198,6 +198,34 @@ pub struct Infeasibility {
     pub suggestions: Vec<Suggestion>,
 }
 
+/// What stopped a search before it finished its walk or proved its
+/// optimum.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Stop {
+    /// `search.time_limit_ms` ran out.
+    TimeLimit {
+        /// The limit, ms.
+        limit_ms: u64,
+    },
+    /// The caller's progress callback asked to stop.
+    Cancelled,
+}
+
+impl Stop {
+    /// Why a search that found no design did not finish, and what to do.
+    pub fn reason(self) -> String {
+        match self {
+            Stop::TimeLimit { limit_ms } => format!(
+                "the time limit of {limit_ms} ms ran out before any design was found or shown \
+                 impossible; raise search.time_limit_ms (at most 3600000)"
+            ),
+            Stop::Cancelled => "the search was stopped before any design was found or shown \
+                                impossible"
+                .to_string(),
+        }
+    }
+}
+
 /// The outcome of a search.
 #[derive(Debug, Clone)]
 pub struct SolveOutcome {
@@ -207,8 +235,20 @@ pub struct SolveOutcome {
     pub alternatives: Vec<Candidate>,
     /// Counters.
     pub stats: SearchStats,
-    /// Why not, when no design meets the need.
+    /// Why not, when the search finished and no design meets the need.
     pub infeasible: Option<Infeasibility>,
+    /// What stopped the search early, if anything. With no design found,
+    /// the outcome is unfinished: neither a design nor a proof that none
+    /// exists.
+    pub stopped: Option<Stop>,
+}
+
+impl SolveOutcome {
+    /// The search stopped before it found a design or proved that none
+    /// meets the need.
+    pub fn unfinished(&self) -> bool {
+        self.best.is_none() && self.stopped.is_some()
+    }
 }
 
 /// Whether an infeasible need is explained with verified suggestions (each
@@ -304,15 +344,9 @@ fn solve_with(
         });
         alternatives.insert(0, best.clone());
     }
-    let infeasible = if run.best.is_none() && run.cancelled {
-        Some(Infeasibility {
-            binding: "stopped before any design was found".into(),
-            best_error_pct_fs: None,
-            target_pct_fs: need.accuracy.max_error_pct_fs,
-            largest: Vec::new(),
-            suggestions: Vec::new(),
-        })
-    } else if run.best.is_none() {
+    // A walk cut short without a design proves nothing: unfinished, not
+    // infeasible.
+    let infeasible = if run.best.is_none() && run.stopped.is_none() {
         Some(explain::explain(
             need,
             &stock,
@@ -328,5 +362,6 @@ fn solve_with(
         alternatives,
         stats: run.stats,
         infeasible,
+        stopped: run.stopped,
     })
 }

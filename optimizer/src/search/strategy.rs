@@ -10,7 +10,7 @@ use super::milp::{default_solver, select_value_sets, SelectionBounds};
 use super::structures::{structures, Structure};
 use super::value_sets::{value_sets_for_structure, ValueSet, ValueSetCache};
 use super::verify::{estimate_random, verify, verify_model};
-use super::{costing, Candidate, Problem, Progress, SearchMode, SearchStats, SolveControl};
+use super::{costing, Candidate, Problem, Progress, SearchMode, SearchStats, SolveControl, Stop};
 use crate::analysis::{Model, RandomSplit};
 use crate::need::{Basis, Objective};
 use std::collections::BTreeMap;
@@ -373,8 +373,8 @@ impl StructureSearch for Optimised {
 
 /// What a run hands back.
 pub(super) struct RunResult {
-    /// The caller stopped it.
-    pub(super) cancelled: bool,
+    /// What stopped the walk before it finished or proved its optimum.
+    pub(super) stopped: Option<Stop>,
     /// The best design meeting the target.
     pub(super) best: Option<Candidate>,
     /// Every verified design meeting the target.
@@ -426,7 +426,7 @@ pub(super) fn run(
     };
     let mut cache = ValueSetCache::new();
     let mut proof = Proof::default();
-    let mut cancelled = false;
+    let mut stopped = None;
     let limit = problem.need.search.time_limit_ms as f64;
     for (done, structure) in list.iter().enumerate() {
         let bound_key = match objective {
@@ -454,10 +454,14 @@ pub(super) fn run(
             total,
             best_cost: state.best.as_ref().map(|b| b.costing.total),
         });
-        if !keep_going {
-            cancelled = true;
-        }
         if !keep_going || elapsed > limit {
+            stopped = Some(if keep_going {
+                Stop::TimeLimit {
+                    limit_ms: problem.need.search.time_limit_ms,
+                }
+            } else {
+                Stop::Cancelled
+            });
             if !proof.reached {
                 proof.unproven = true;
                 if let (Some(bound), Some(best)) = (bound_key, state.best.as_ref()) {
@@ -478,7 +482,7 @@ pub(super) fn run(
     }
     let elapsed_ms = (control.now_ms)() - start;
     RunResult {
-        cancelled,
+        stopped,
         best: state.best,
         found: state.found,
         diagnosis: state.diagnosis,

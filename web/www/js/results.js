@@ -23,6 +23,10 @@ export function showReport() {
   } else if (state.result.cancelled) {
     banner.textContent = 'Stopped before any design was found. Run it again and let the search go on longer.';
     banner.dataset.tone = 'warn';
+  } else if (report.status === 'unfinished') {
+    const why = typeof report.reason === 'string' ? ` ${report.reason}.` : '';
+    banner.textContent = `Not finished: no design found yet, and none shown impossible.${why}`;
+    banner.dataset.tone = 'warn';
   } else {
     const why = typeof report.reason === 'string' ? report.reason
       : (isObject(report.infeasible) && typeof report.infeasible.binding === 'string' ? report.infeasible.binding : '');
