@@ -1,6 +1,6 @@
 //! The need: what the user asks for (sensor, ADC, supplies, accuracy,
 //! search limits, stock location). Raw serde structs mirror the TOML/JSON
-//! keys of DESIGN.md section 3 exactly; [`parse_need`] validates them into
+//! keys of `docs/need.md` exactly; [`parse_need`] validates them into
 //! [`Need`], whose fields carry unit types.
 
 use crate::error::Result;
@@ -281,7 +281,7 @@ impl Need {
         (self.adc.low.0 + m, self.adc.high.0 - m)
     }
 
-    /// Ideal gain `K` and offset `B` (DESIGN.md section 2).
+    /// Ideal gain `K` and offset `B` (`docs/need.md`, "What the reader derives").
     pub fn ideal_transfer(&self) -> (f64, f64) {
         let (vlo, vhi) = self.target_window();
         let k = (vhi - vlo) / (self.sensor.signal_high.0 - self.sensor.signal_low.0);

@@ -1,6 +1,6 @@
 //! Reading a need from TOML or JSON and validating it into [`Need`].
 //!
-//! The raw structs below mirror the keys of DESIGN.md section 3 exactly and
+//! The raw structs below mirror the keys of `docs/need.md` exactly and
 //! refuse unknown keys (`deny_unknown_fields`). Each value is first read as
 //! a loosely typed [`Loose`] (with its byte span, for TOML), so that a value
 //! of the wrong type is reported by *this* code, naming the key path
@@ -147,7 +147,7 @@ pub(crate) fn parse_need(bytes: &[u8], file: &str) -> Result<Need> {
 }
 
 // ---------------------------------------------------------------------------
-// Raw structs: the keys of DESIGN.md section 3, exactly.
+// Raw structs: the keys of `docs/need.md`, exactly.
 
 /// The whole file.
 #[derive(Deserialize)]

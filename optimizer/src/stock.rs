@@ -1,5 +1,5 @@
 //! The stock: parts the user can buy or has on the shelf, parsed from the
-//! CSV files of DESIGN.md section 3 (`resistors.csv`, `opamps.csv`,
+//! CSV files of `docs/stock.md` (`resistors.csv`, `opamps.csv`,
 //! `references.csv`, `inamps.csv`). Resistor families expand here into one
 //! [`ResistorPart`] per series value, so the rest of the core sees only
 //! concrete values.
