@@ -72,6 +72,8 @@ fn push(rows: &mut Vec<BomRow>, same: impl Fn(&BomRow) -> bool, designator: &str
 /// The rows of a built design: resistors, then amplifier packages, then
 /// references, each group in designator order. A dual or quad op-amp
 /// package serving several sections is one part.
+// Long because it builds the three groups of rows (resistors, amplifier
+// packages, references) in one pass over the built design.
 pub fn rows(built: &Built, stock: &Stock) -> Vec<BomRow> {
     let mut resistors: Vec<(BomRow, [u64; 3])> = Vec::new();
     for r in &built.resistors {

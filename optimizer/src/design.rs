@@ -283,6 +283,8 @@ fn inline_number(
 /// A resistor entry of a design file: a stock (or generic) part id, or an
 /// inline object (see [`RESISTOR_FORMS`]). An inline `part_id` that is also
 /// a stock id must carry that part's values.
+// Long because each form of a resistor entry (stock id, generic id, inline
+// object with or without an id of its own) has its own checks and message.
 fn resolve_resistor(raw: &serde_json::Value, stock: &Stock, at: &Location) -> Result<Resistor> {
     let map = match raw {
         serde_json::Value::String(id) => {
@@ -452,6 +454,8 @@ fn resolve_injection(
 
 /// Read a design file (JSON) against a stock. Messages name the key
 /// (`stages[1].resistors.rf`) and what was expected.
+// Long because every key of a stage is checked here in file order, so each
+// message can name the key; the resistor entries go to `resolve_resistor`.
 pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
     if bytes.len() > MAX_DESIGN_BYTES {
         return Err(Error::input(

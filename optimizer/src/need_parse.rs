@@ -503,6 +503,8 @@ fn validate<W: Field>(raw: &RawNeed<W>, ctx: &Ctx<'_>) -> Result<Need> {
     })
 }
 
+// Long because it reads every key of `[sensor]` in order, with the
+// cross-key checks (span, differential common mode) beside them.
 fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor> {
     let label = key!(ctx, sensor, raw, label)
         .text()?

@@ -103,6 +103,8 @@ pub fn export(need: &Need, stock: &Stock, design: &Design) -> Result<String> {
 
 /// Header lines naming each explicit error source of a built design and
 /// its limit from the stock row, plus the resistors with their grade.
+// Long because it is one note per kind of error source, in netlist order;
+// each arm is a few lines and splitting would scatter the header's order.
 pub fn limit_notes(need: &Need, stock: &Stock, built: &Built) -> Vec<String> {
     let mut notes = Vec::new();
     notes.push(

@@ -183,6 +183,8 @@ impl Table {
 const FAMILY_COLUMNS: [&str; 3] = ["series", "min_ohms", "max_ohms"];
 
 /// Parse and validate the stock tables (see [`crate::stock::parse_stock`]).
+// Long because it runs the tables in their fixed order and checks ids
+// across them in one pass; each step is a call.
 pub(crate) fn parse_stock(files: &[StockFile]) -> Result<Stock> {
     if files.is_empty() {
         return Err(Error::input(
@@ -354,6 +356,8 @@ struct Columns {
 
 /// Check the header against the table's columns; the header and the data
 /// records.
+// Long because each header defect (unknown, repeated, missing, family
+// and single columns mixed) gets its own located message.
 fn split_header<'r>(
     records: &'r [Record],
     table: Table,

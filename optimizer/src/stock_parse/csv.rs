@@ -14,6 +14,8 @@ pub(super) struct Record {
 
 /// Split `text` into records (RFC 4180, with the extensions listed in the
 /// module header). Fields are returned as written, not trimmed.
+// Long because it is one byte-level state machine (quotes, line ends,
+// comments); split, its state would have to travel between functions.
 pub(super) fn read_csv(text: &str, file: &str) -> Result<Vec<Record>> {
     let b = text.as_bytes();
     let len = b.len();

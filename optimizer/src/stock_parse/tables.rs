@@ -3,6 +3,8 @@
 
 use super::*;
 
+// Long because a row is either a single part or a whole series family, and
+// each column of both forms is read and checked here with its location.
 pub(super) fn resistors(
     columns: &Columns,
     rows: &[Record],
