@@ -3,7 +3,8 @@
 //! words, and changes to the need or stock verified by solving again.
 
 use super::{
-    solve_with, Candidate, Infeasibility, SearchMode, SolveControl, Suggestion, Suggestions,
+    solve_with, Candidate, Infeasibility, Progress, SearchMode, SolveControl, Suggestion,
+    Suggestions,
 };
 use crate::analysis::Finding;
 use crate::need::{Basis, Calibration, Need, Objective};
@@ -52,16 +53,68 @@ impl Diagnosis {
     }
 }
 
+/// What the explanation may spend: the caller's control, the deadline of
+/// the whole call (its `time_limit_ms` from the call's start) and the
+/// progress total of the main search, which the re-solves report against
+/// so the caller sees one total per call.
+pub(super) struct Budget<'c, 'a> {
+    /// The caller's clock and progress callback.
+    pub(super) control: &'c mut SolveControl<'a>,
+    /// When the whole call must end, on the caller's clock, ms.
+    pub(super) deadline_ms: f64,
+    /// The main search's structure count.
+    pub(super) total: u64,
+}
+
+impl Budget<'_, '_> {
+    /// Solve a changed need with what is left of the call's time (at
+    /// most `cap_ms`), reporting progress as the main search's end; `None`
+    /// when no time is left or the caller cancelled.
+    fn solve(&mut self, need: &Need, stock: &Stock, cap_ms: u64) -> Option<super::SolveOutcome> {
+        let left = self.deadline_ms - (self.control.now_ms)();
+        if left < 1.0 {
+            return None;
+        }
+        let mut limited = need.clone();
+        limited.search.time_limit_ms = (left.floor() as u64).min(cap_ms).max(1);
+        let total = self.total;
+        let outer = &mut *self.control.progress;
+        let mut forward = |_: Progress| {
+            outer(Progress {
+                done: total,
+                total,
+                best_cost: None,
+            })
+        };
+        let mut sub = SolveControl {
+            progress: &mut forward,
+            now_ms: self.control.now_ms,
+        };
+        let outcome = solve_with(
+            &limited,
+            stock,
+            SearchMode::Optimised,
+            &mut sub,
+            Suggestions::Skip,
+        )
+        .ok()?;
+        // A cancel stops the rest of the explanation too.
+        if outcome.stopped == Some(super::Stop::Cancelled) {
+            self.deadline_ms = f64::NEG_INFINITY;
+        }
+        Some(outcome)
+    }
+}
+
 /// The best error this stock can reach: a search for the most accurate
 /// design, whatever its cost (the cost search screens out the accurate but
 /// dear structures before analysing them). It is searched over the best
 /// resistor grade on the shelf only, which keeps it to a fraction of the
 /// cost search's structures.
-fn most_accurate(need: &Need, stock: &Stock, control: &mut SolveControl<'_>) -> Option<Candidate> {
+fn most_accurate(need: &Need, stock: &Stock, budget: &mut Budget<'_, '_>) -> Option<Candidate> {
     let mut loose = need.clone();
     loose.search.objective = Objective::Error;
     loose.accuracy.max_error_pct_fs = 100.0;
-    loose.search.time_limit_ms = need.search.time_limit_ms.min(1000);
     let best_grade = stock
         .resistors
         .iter()
@@ -73,15 +126,7 @@ fn most_accurate(need: &Need, stock: &Stock, control: &mut SolveControl<'_>) -> 
             .resistors
             .retain(|r| r.tolerance.0 == tol && r.tcr.0 == tcr);
     }
-    solve_with(
-        &loose,
-        &precise,
-        SearchMode::Optimised,
-        control,
-        Suggestions::Skip,
-    )
-    .ok()
-    .and_then(|o| o.best)
+    budget.solve(&loose, &precise, 1000).and_then(|o| o.best)
 }
 
 /// The binding limit in words, the best error (% FS) and the largest
@@ -105,7 +150,7 @@ fn binding_limit(
             lines.truncate(4);
             (
                 format!(
-                    "accuracy: the best design this stock allows reaches {e:.4} % FS on the {} basis against a target of {target:.4} % FS ({:.4} % FS over)",
+                    "accuracy: the most accurate design found reaches {e:.4} % FS on the {} basis against a target of {target:.4} % FS ({:.4} % FS over)",
                     basis_name(need.accuracy.basis),
                     e - target
                 ),
@@ -132,11 +177,11 @@ pub(super) fn explain(
     need: &Need,
     stock: &Stock,
     diagnosis: &Diagnosis,
-    control: &mut SolveControl<'_>,
+    budget: &mut Budget<'_, '_>,
     suggestions: Suggestions,
 ) -> Infeasibility {
     let most_accurate = match suggestions {
-        Suggestions::Try => most_accurate(need, stock, control),
+        Suggestions::Try => most_accurate(need, stock, budget),
         Suggestions::Skip => None,
     };
     let best_known = match (&diagnosis.best, most_accurate) {
@@ -146,7 +191,7 @@ pub(super) fn explain(
     };
     let (binding, best_error, largest) = binding_limit(need, diagnosis, best_known.as_ref());
     let verified = match suggestions {
-        Suggestions::Try => verified_suggestions(need, stock, best_error, control),
+        Suggestions::Try => verified_suggestions(need, stock, best_error, budget),
         Suggestions::Skip => Vec::new(),
     };
     Infeasibility {
@@ -228,16 +273,9 @@ fn try_change(
     change: String,
     need: &Need,
     stock: &Stock,
-    control: &mut SolveControl<'_>,
+    budget: &mut Budget<'_, '_>,
 ) -> Option<Suggestion> {
-    let outcome = solve_with(
-        need,
-        stock,
-        SearchMode::Optimised,
-        control,
-        Suggestions::Skip,
-    )
-    .ok()?;
+    let outcome = budget.solve(need, stock, need.search.time_limit_ms)?;
     outcome.best.map(|b| Suggestion {
         change,
         cost: b.costing.total,
@@ -250,7 +288,7 @@ fn verified_suggestions(
     need: &Need,
     stock: &Stock,
     best_error: Option<f64>,
-    control: &mut SolveControl<'_>,
+    budget: &mut Budget<'_, '_>,
 ) -> Vec<Suggestion> {
     let tries = need_changes(need, best_error);
     let mut out = Vec::new();
@@ -277,11 +315,11 @@ fn verified_suggestions(
             let change = format!(
                 "stock every resistor value of the design in the best grade on the shelf ({tol} %, {tcr} ppm/degC)"
             );
-            out.extend(try_change(change, need, &tighter, control));
+            out.extend(try_change(change, need, &tighter, budget));
         }
     }
     for (change, changed) in tries {
-        out.extend(try_change(change, &changed, stock, control));
+        out.extend(try_change(change, &changed, stock, budget));
     }
     out
 }

@@ -323,6 +323,9 @@ fn solve_with(
     control: &mut SolveControl<'_>,
     suggestions: Suggestions,
 ) -> Result<SolveOutcome> {
+    // The whole call, explanation and suggestions included, shares the
+    // need's time limit.
+    let deadline_ms = (control.now_ms)() + need.search.time_limit_ms as f64;
     let stock = augment_stock(need, stock);
     let (k, b) = need.ideal_transfer();
     let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
@@ -351,7 +354,11 @@ fn solve_with(
             need,
             &stock,
             &run.diagnosis,
-            control,
+            &mut explain::Budget {
+                control,
+                deadline_ms,
+                total: run.stats.structures,
+            },
             suggestions,
         ))
     } else {
