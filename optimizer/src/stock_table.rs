@@ -12,7 +12,7 @@
 
 use super::{
     checked_text, expected_file_names, inamps, opamps, read_csv, references, resistors, shown,
-    split_header, Table,
+    split_header, Row, Table,
 };
 use crate::error::{Error, Location, Result};
 use serde::Serialize;
@@ -30,6 +30,12 @@ pub struct StockTable {
     pub rows: Vec<Vec<String>>,
     /// The 1-based line each data row starts on.
     pub line_numbers: Vec<usize>,
+    /// The first row check that failed (a value out of range, a repeated
+    /// id, ...), located by line and column, or null: the rows come back
+    /// all the same so an editor can show them and point at the cell.
+    /// Errors of the text, of the header or of a row's field count still
+    /// refuse the table.
+    pub problem: Option<crate::report::ErrorReport>,
 }
 
 /// Read and validate one stock file on its own. `file_name` picks the
@@ -49,12 +55,17 @@ pub fn read_stock_table(file_name: &str, bytes: &[u8]) -> Result<StockTable> {
     let text = checked_text(bytes, file_name)?;
     let records = read_csv(text, file_name)?;
     let (columns, rows) = split_header(&records, table, file_name)?;
-    match table {
-        Table::Resistors => drop(resistors(&columns, rows, file_name)?),
-        Table::OpAmps => drop(opamps(&columns, rows, file_name)?),
-        Table::References => drop(references(&columns, rows, file_name)?),
-        Table::InAmps => drop(inamps(&columns, rows, file_name)?),
+    // A row with another number of fields than the header is a defect of
+    // the text: the table is refused, as a ragged row cannot be shown.
+    for record in rows {
+        Row::new(file_name, &columns, record)?;
     }
+    let checked = match table {
+        Table::Resistors => resistors(&columns, rows, file_name).map(drop),
+        Table::OpAmps => opamps(&columns, rows, file_name).map(drop),
+        Table::References => references(&columns, rows, file_name).map(drop),
+        Table::InAmps => inamps(&columns, rows, file_name).map(drop),
+    };
     let trimmed = |fields: &[String]| fields.iter().map(|f| f.trim().to_string()).collect();
     let file = table.file_name();
     Ok(StockTable {
@@ -66,6 +77,7 @@ pub fn read_stock_table(file_name: &str, bytes: &[u8]) -> Result<StockTable> {
             .unwrap_or_default(),
         rows: rows.iter().map(|r| trimmed(&r.fields)).collect(),
         line_numbers: rows.iter().map(|r| r.line).collect(),
+        problem: checked.err().map(|e| e.report()),
     })
 }
 
@@ -119,18 +131,37 @@ mod tests {
     }
 
     /// A bad cell is the same error, at the same place, as the whole-stock
-    /// reader gives.
+    /// reader gives; the rows come back with it, for an editor to show.
     #[test]
     fn errors_are_the_stock_readers() {
         let bad = "part_id,value_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
                    R-A,1000,1,100,0603,cheap,5\n";
-        let ours = read_stock_table("resistors.csv", bad.as_bytes()).unwrap_err();
+        let table = read_stock_table("resistors.csv", bad.as_bytes()).unwrap();
         let whole = parse_stock(&[file("resistors.csv", bad)]).unwrap_err();
-        assert_eq!(ours, whole);
-        let r = ours.report();
+        let r = table.problem.expect("the bad cell is named");
+        assert_eq!(r, whole.report());
         assert_eq!(
             (r.line, r.column_name.as_deref()),
             (Some(2), Some("unit_cost"))
+        );
+        assert_eq!(
+            table.rows,
+            [["R-A", "1000", "1", "100", "0603", "cheap", "5"]]
+        );
+        assert!(
+            read_stock_table("resistors.csv", crate::demo::STOCK[0].1.as_bytes())
+                .unwrap()
+                .problem
+                .is_none()
+        );
+        // A ragged row is a defect of the text: refused, as the whole
+        // stock reader refuses it.
+        let ragged = "part_id,value_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+                      R-A,1000,1,100\n";
+        let ours = read_stock_table("resistors.csv", ragged.as_bytes()).unwrap_err();
+        assert_eq!(
+            ours,
+            parse_stock(&[file("resistors.csv", ragged)]).unwrap_err()
         );
         let unknown = read_stock_table("capacitors.csv", b"x\n").unwrap_err();
         let whole = parse_stock(&[file("capacitors.csv", "x\n")]).unwrap_err();

@@ -154,7 +154,7 @@ test('an error the core finds in a need field marks that field, found by the err
   });
 });
 
-test('a malformed CSV upload gets an error naming the line; a bad cell on the shelf is marked', async () => {
+test('a malformed CSV upload gets an error naming the line; a bad cell, uploaded or typed, is marked', async () => {
   await withPage(async ({ page }) => {
     const demo = await demoCsv(page, 'resistors.csv');
     const lines = demo.trim().split('\n');
@@ -176,10 +176,12 @@ test('a malformed CSV upload gets an error naming the line; a bad cell on the sh
     assert.match(status, /resistors\.csv/);
     assert.match(status, /tolerance_pct/);
     assert.equal(await page.isDisabled('[data-testid=solve]'), true);
-    // A refused file leaves the shelf as it was.
+    // The file loads as written, and the named cell is marked for fixing.
     assert.equal(await page.$$eval('[data-testid=stock-table] input', (i) => i.length), before);
-    // The same bad value typed into the shelf: the named cell is marked.
     const col = header.indexOf('tolerance_pct');
+    await page.waitForSelector('[data-testid=stock-table] input.bad-cell');
+    assert.deepEqual(await page.$$eval('[data-testid=stock-table] input.bad-cell', (i) => i.map((x) => [x.dataset.row, x.dataset.col, x.value])), [['0', String(col), 'tight']]);
+    // The same bad value typed into the shelf: the named cell is marked.
     const cell = page.locator(`[data-testid=stock-table] input[data-row="0"][data-col="${col}"]`);
     await cell.fill('tight');
     await cell.press('Tab');
@@ -274,7 +276,9 @@ test('a project stored as CSV text only is read by the core; a table it cannot r
     const demo = await page.evaluate(() => window.spanfitPage.call('demo_stock').then((t) => JSON.parse(t)));
     const refs = demo['references.csv'].trim().split('\n');
     const width = refs[0].split(',').length;
-    const badRefs = `${[...refs, ','.repeat(width - 1)].join('\n')}\n`;
+    // A row with too few fields: the text itself is broken (a bad value
+    // would load, with its cell marked).
+    const badRefs = `${[...refs, ','.repeat(Math.max(0, width - 3))].join('\n')}\n`;
     const stored = JSON.stringify({
       format: 'spanfit-project', version: 1, need: await page.evaluate(() => window.spanfitPage.state.need),
       stock: { 'resistors.csv': demo['resistors.csv'], 'opamps.csv': demo['opamps.csv'], 'references.csv': badRefs },

@@ -212,7 +212,8 @@ pub fn check_stock_value(stock_json: &str) -> Result<Value, Error> {
 }
 
 /// One stock table as the core reads it: `{"file", "kind", "header",
-/// "rows", "line_numbers"}` (see [`spanfit::stock_table::StockTable`]).
+/// "rows", "line_numbers", "problem"}`, where `problem` is the first row
+/// check that failed (or null) (see [`spanfit::stock_table::StockTable`]).
 pub fn read_stock_table_value(
     file_name: &str,
     csv_text: &str,
@@ -595,7 +596,10 @@ mod tests {
         cells[cost] = "cheap".into();
         lines[line - 1] = cells.join(",");
         let broken = lines.join("\n");
-        let err = open(&read_stock_table("resistors.csv", &broken)).unwrap_err();
+        // The rows come back, with the first bad cell as `problem`.
+        let t = open(&read_stock_table("resistors.csv", &broken)).unwrap();
+        assert_eq!(t["rows"][0][cost], "cheap");
+        let err = t["problem"].clone();
         assert_eq!(err["file"], "resistors.csv");
         assert_eq!(err["line"].as_u64(), Some(line as u64));
         assert_eq!(err["column_name"], "unit_cost");

@@ -131,7 +131,9 @@ function markBadCell(info) {
 
 /**
  * Read one CSV text as the shelf table `file` through the core. Resolves
- * with `{header, rows}`; rejects with the core's error.
+ * with `{header, rows}` (rows that fail a check still load: the shelf
+ * check then points at the cell); rejects with the core's error when the
+ * text or its header cannot be read.
  */
 export async function readTable(file, text) {
   const value = await engines.checker.call('read_stock_table', file, text);
