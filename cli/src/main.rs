@@ -1,7 +1,7 @@
 //! The `spanfit` command-line program.
 //!
 //! A thin shell around [`spanfit::api`]: it parses the command line, reads
-//! the need (SPEC) and the stock folder it names, hands bytes to the core,
+//! the need file (NEED) and the stock folder it names, hands bytes to the core,
 //! prints the report, writes the export files, and turns the outcome into
 //! the exit status of `docs/report.md`: 0 with a design, 1 when no
 //! design meets the need, 2 on bad input or usage.
@@ -28,18 +28,18 @@ const USAGE: &str = "\
 spanfit: op-amp interfaces between small-span transducers and ADCs
 
 usage:
-  spanfit solve SPEC [--json] [--exhaustive] [--progress] [--spice FILE] [--bom FILE] [--svg FILE]
-  spanfit analyze SPEC --design DESIGN.json [--json] [--spice FILE] [--bom FILE] [--svg FILE]
+  spanfit solve NEED [--json] [--exhaustive] [--progress] [--spice FILE] [--bom FILE] [--svg FILE]
+  spanfit analyze NEED --design DESIGN.json [--json] [--spice FILE] [--bom FILE] [--svg FILE]
   spanfit demo [--json] [--progress] [--spice FILE] [--bom FILE] [--svg FILE]
   spanfit help
 
 verbs:
-  solve     find the cheapest design that meets the need in SPEC
+  solve     find the cheapest design that meets the need in NEED
   analyze   report the error budget of a design you already have
   demo      solve the embedded demo need against the embedded demo stock
 
-SPEC is a need file, TOML (or JSON starting with `{`). Its `[stock] path`
-names a folder of stock CSV files, relative to the folder SPEC is in; every
+NEED is a need file, TOML (or JSON starting with `{`). Its `[stock] path`
+names a folder of stock CSV files, relative to the folder NEED is in; every
 *.csv file in it is read. Without `path` the embedded demo stock is used.
 
 options:
@@ -80,7 +80,7 @@ impl Verb {
 /// A parsed command line.
 #[derive(Debug, Default)]
 struct Options {
-    spec: Option<PathBuf>,
+    need_path: Option<PathBuf>,
     design: Option<PathBuf>,
     json: bool,
     exhaustive: bool,
@@ -170,22 +170,22 @@ fn parse_args(args: &[OsString]) -> std::result::Result<Command, UsageError> {
             }
             (_, Verb::Demo) => {
                 return Err(UsageError(format!(
-                    "`spanfit demo` takes no SPEC (found `{text}`); it uses the embedded demo need"
+                    "`spanfit demo` takes no NEED (found `{text}`); it uses the embedded demo need"
                 )))
             }
             (_, _) => {
-                if o.spec.is_some() {
+                if o.need_path.is_some() {
                     return Err(UsageError(format!(
-                        "one SPEC only (found a second: `{text}`)"
+                        "one NEED only (found a second: `{text}`)"
                     )));
                 }
-                o.spec = Some(PathBuf::from(arg));
+                o.need_path = Some(PathBuf::from(arg));
             }
         }
     }
-    if verb != Verb::Demo && o.spec.is_none() {
+    if verb != Verb::Demo && o.need_path.is_none() {
         return Err(UsageError(format!(
-            "`spanfit {}` needs a SPEC file",
+            "`spanfit {}` needs a need file (NEED)",
             verb.name()
         )));
     }
@@ -217,14 +217,14 @@ fn read_input(path: &Path, what: &str) -> Result<Vec<u8>> {
 /// The stock files of a need: every `*.csv` in the folder its `[stock]
 /// path` names (relative to the need file's folder), or none (the
 /// embedded demo stock) when it names no folder.
-fn read_stock(spec: &Path, spec_bytes: &[u8]) -> Result<Vec<StockFile>> {
-    let need = spanfit::need::parse_need(spec_bytes, &spec.display().to_string())?;
+fn read_stock(need_path: &Path, need_bytes: &[u8]) -> Result<Vec<StockFile>> {
+    let need = spanfit::need::parse_need(need_bytes, &need_path.display().to_string())?;
     let Some(rel) = need.stock.path else {
         return Ok(Vec::new());
     };
-    let base = spec.parent().unwrap_or_else(|| Path::new(""));
+    let base = need_path.parent().unwrap_or_else(|| Path::new(""));
     let folder = base.join(&rel);
-    let at = format!("{}, key `stock.path`", spec.display());
+    let at = format!("{}, key `stock.path`", need_path.display());
     let entries = std::fs::read_dir(&folder)
         .with_context(|| format!("{at}: cannot read the stock folder `{}`", folder.display()))?;
     let mut paths = Vec::new();
@@ -336,10 +336,10 @@ fn run(verb: Verb, o: &Options) -> Result<u8> {
             Vec::new(),
         ),
         Verb::Solve | Verb::Analyze => {
-            let spec = o.spec.as_deref().unwrap_or_else(|| Path::new(""));
-            let bytes = read_input(spec, "SPEC")?;
-            let stock = read_stock(spec, &bytes)?;
-            (bytes, spec.display().to_string(), stock)
+            let need_path = o.need_path.as_deref().unwrap_or_else(|| Path::new(""));
+            let bytes = read_input(need_path, "NEED")?;
+            let stock = read_stock(need_path, &bytes)?;
+            (bytes, need_path.display().to_string(), stock)
         }
     };
     let bundle = match verb {
@@ -425,7 +425,7 @@ mod tests {
         ])) else {
             panic!("did not parse");
         };
-        assert_eq!(o.spec.as_deref(), Some(Path::new("need.toml")));
+        assert_eq!(o.need_path.as_deref(), Some(Path::new("need.toml")));
         assert!(o.json && o.exhaustive && !o.progress);
         assert_eq!(o.spice.as_deref(), Some(Path::new("out.cir")));
         assert_eq!(o.bom.as_deref(), Some(Path::new("bom.csv")));
@@ -439,7 +439,7 @@ mod tests {
         let e = parse_args(&args(&["analyze", "need.toml"])).unwrap_err();
         assert!(e.0.contains("--design"), "{e:?}");
         let e = parse_args(&args(&["solve"])).unwrap_err();
-        assert!(e.0.contains("SPEC"), "{e:?}");
+        assert!(e.0.contains("NEED"), "{e:?}");
         let e = parse_args(&args(&["solve", "a.toml", "b.toml"])).unwrap_err();
         assert!(e.0.contains("b.toml"), "{e:?}");
         let e = parse_args(&args(&["solve", "a.toml", "--svg"])).unwrap_err();

@@ -455,8 +455,8 @@ fn help_lists_the_verbs() {
         assert_eq!(code(&o), 0);
         let text = stdout(&o);
         for verb in [
-            "spanfit solve SPEC",
-            "spanfit analyze SPEC --design",
+            "spanfit solve NEED",
+            "spanfit analyze NEED --design",
             "spanfit demo",
         ] {
             assert!(text.contains(verb), "{text}");
