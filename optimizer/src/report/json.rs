@@ -402,10 +402,10 @@ pub fn solve_report(need: &Need, stock: &Stock, outcome: &SolveOutcome) -> Repor
         design: outcome.best.as_ref().map(|c| design_report(need, stock, c)),
         infeasible: outcome.infeasible.as_ref().map(infeasible_report),
         need: need_figures(need),
-        reason: match (&outcome.infeasible, outcome.stopped) {
-            (Some(i), _) => Some(i.binding.clone()),
-            (None, Some(stop)) if outcome.best.is_none() => Some(stop.reason()),
-            _ => None,
+        reason: match &outcome.infeasible {
+            Some(i) => Some(i.binding.clone()),
+            None if outcome.unfinished() => outcome.stopped.map(|stop| stop.reason()),
+            None => None,
         },
         search: Some(search_report(&outcome.stats)),
         status: if outcome.best.is_some() {
