@@ -8,8 +8,9 @@
 //!    the gain split; each group is checked for swing and common mode with
 //!    the ideal closed forms before anything costly;
 //! 2. *structures* (`structures`): a group with a resistor grade per
-//!    stage; each has a cost lower bound, and structures are taken cheapest
-//!    bound first, so the search stops (proven) when the next bound is no
+//!    stage; each has a cost lower bound, and structures are generated
+//!    lazily, cheapest bound first (a best-first walk over each group's
+//!    grade lattice, so memory stays flat as the stock grows), so the search stops (proven) when the next bound is no
 //!    better than the best design found;
 //! 3. for each structure, a reference design is analysed once; its budget,
 //!    split by stage and rescaled per grade, screens the structure; per

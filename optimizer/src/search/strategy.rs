@@ -419,7 +419,7 @@ pub(super) fn run(
     // An accuracy floor is the nearer miss when some group had the swing.
     state.diagnosis.closest_rejection = rejections.floor_miss.or(rejections.closest);
     let list = structures(problem, &groups);
-    let total = list.len() as u64;
+    let total = list.total();
     let mut strategy: Box<dyn StructureSearch> = match mode {
         SearchMode::Optimised => Box::new(Optimised::default()),
         SearchMode::Exhaustive => Box::new(Exhaustive),
@@ -428,7 +428,8 @@ pub(super) fn run(
     let mut proof = Proof::default();
     let mut stopped = None;
     let limit = problem.need.search.time_limit_ms as f64;
-    for (done, structure) in list.iter().enumerate() {
+    for (done, structure) in list.enumerate() {
+        let structure = &structure;
         let bound_key = match objective {
             Objective::Cost => Some(structure.bound),
             Objective::Parts => Some(structure.parts as f64),
