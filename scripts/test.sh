@@ -1,5 +1,6 @@
 #!/usr/bin/env bash
 # Everything CI checks, in order: setup, formatting, clippy, native tests,
+# a minute of fuzzing per target,
 # the wasm crate's tests in headless Chromium, the web build (and the CLI
 # the page tests compare against), then the page tests. Every check runs
 # even when an earlier one failed (except that a failed setup or build stops
@@ -42,6 +43,9 @@ step setup bash scripts/setup.sh </dev/null || finish
 step fmt cargo fmt --all -- --check
 step clippy cargo clippy --workspace --all-targets -- -D warnings
 step native-tests cargo test --workspace --no-fail-fast
+# A minute of mutation fuzzing per target (need, stock, design, solve,
+# analyze; the targets run side by side), release build, fixed seed.
+step fuzz env SPANFIT_FUZZ_SECONDS=60 cargo test -p spanfit-optimizer --release --test fuzz
 step wasm-browser-tests cargo test -p spanfit-web --target wasm32-unknown-unknown --no-fail-fast
 if step build bash -c 'bash scripts/build-web.sh && cargo build --release -p spanfit-cli'; then
   step page-tests node --test tests/page/
