@@ -517,22 +517,93 @@ pub(super) struct WalkBudget {
     pub(super) report_as: Option<u64>,
 }
 
-/// Designs in the whole walk (saturating): per sequence, the product over
-/// stages of the sum over options of (resistor choices)^(slots).
-pub(super) fn space_size(problem: &Problem<'_>) -> u64 {
-    let walk = Walk::new(problem);
-    let choices = walk.resistors.len() as u64;
-    walk.sequences
+/// Designs in the whole walk, counted without building it, or `None` as
+/// soon as the count passes `limit` (the demo's space is astronomically
+/// large, and the count must cost next to nothing there).
+pub(super) fn space_size(problem: &Problem<'_>, limit: u64) -> Option<u64> {
+    let need = problem.need;
+    let stock = problem.stock;
+    let span = need.supply.positive.0 - need.supply.negative.0;
+    let opamps = stock
+        .opamps
         .iter()
-        .map(|(_, options, _)| {
-            options.iter().fold(1u64, |n, stage| {
-                let designs = stage.iter().fold(0u64, |sum, o| {
-                    sum.saturating_add(choices.saturating_pow(o.slots.len() as u32))
-                });
-                n.saturating_mul(designs)
-            })
-        })
-        .fold(0u64, u64::saturating_add)
+        .filter(|p| p.stock_qty != Some(0) && span >= p.supply_min.0 && span <= p.supply_max.0)
+        .count() as u64;
+    let inamps = stock
+        .inamps
+        .iter()
+        .filter(|p| p.stock_qty != Some(0) && span >= p.supply_min.0 && span <= p.supply_max.0)
+        .count() as u64;
+    let sources = u64::from(need.supply.positive.0 > 0.0)
+        + stock
+            .references
+            .iter()
+            .filter(|r| r.stock_qty != Some(0))
+            .count() as u64;
+    let choices = stock
+        .resistors
+        .iter()
+        .filter(|r| r.stock_qty != Some(0))
+        .count() as u64;
+    let (k, _) = need.ideal_transfer();
+    // Drives of a node: (how many, extra resistors, buffered).
+    let drives = [
+        (1, 0, false),
+        (sources, 0, false),
+        (sources, 2, false),
+        (sources, 2, true),
+    ];
+    let mut total = 0u64;
+    for shapes in shape_sequences(need, stock) {
+        let sign: f64 = shapes.iter().map(|s| s.sign()).product();
+        if sign * k <= 0.0 && wrong_sign_ruled_out(problem) {
+            continue;
+        }
+        let mut sequence = 1u64;
+        for &shape in &shapes {
+            let bias_drives: &[(u64, usize, bool)] = if uses_bias(shape) {
+                &drives
+            } else {
+                &drives[..1]
+            };
+            let optional = shape.optional_roles().len();
+            let mut stage = 0u64;
+            for &(offsets, offset_extra, offset_buffered) in &drives {
+                for &(biases, bias_extra, bias_buffered) in bias_drives {
+                    let buffered = usize::from(offset_buffered) + usize::from(bias_buffered);
+                    let (amps, buffers) = if shape.integrated() {
+                        (inamps, if buffered > 0 { opamps } else { 1 })
+                    } else {
+                        (opamps, 1)
+                    };
+                    for present in 0..=optional {
+                        let slots = shape.resistor_count() + present + offset_extra + bias_extra;
+                        let amplifier_parts = usize::from(shape.integrated())
+                            + usize::from(!shape.integrated() || buffered > 0);
+                        if slots + amplifier_parts > need.search.max_parts {
+                            continue;
+                        }
+                        let subsets = binomial(optional, present);
+                        let designs = choices
+                            .saturating_pow(slots as u32)
+                            .saturating_mul(amps * buffers * offsets * biases * subsets);
+                        stage = stage.saturating_add(designs);
+                    }
+                }
+            }
+            sequence = sequence.saturating_mul(stage);
+        }
+        total = total.saturating_add(sequence);
+        if total > limit {
+            return None;
+        }
+    }
+    Some(total)
+}
+
+/// `n` choose `k`, for the few optional roles of a shape.
+fn binomial(n: usize, k: usize) -> u64 {
+    (0..k).fold(1u64, |acc, i| acc * (n - i) as u64 / (i + 1) as u64)
 }
 
 /// Walk the space from `state` (which may hold an incumbent best design,

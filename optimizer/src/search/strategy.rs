@@ -472,7 +472,7 @@ pub(super) fn run(
     if stopped.is_none()
         && !proven_optimal
         && !proven_infeasible
-        && exhaustive::space_size(problem) <= COMPLETION_DESIGNS
+        && exhaustive::space_size(problem, COMPLETION_DESIGNS).is_some()
     {
         let end = exhaustive::walk(
             problem,
