@@ -24,7 +24,7 @@ use std::time::Instant;
 /// Whether a `null` at `key` of the object `parent` is one the report
 /// documents (and not a NaN or infinity that serde_json wrote as null).
 /// Each rule checks the fact that makes the field absent.
-fn null_allowed(key: &str, parent: &serde_json::Map<String, Value>, report: &Value) -> bool {
+fn null_allowed(key: &str, parent: &serde_json::Map<String, Value>, _report: &Value) -> bool {
     let is_null = |k: &str| parent.get(k).is_none_or(Value::is_null);
     match key {
         // Whole parts that are absent: no design, no search behind an
