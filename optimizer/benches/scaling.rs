@@ -17,7 +17,8 @@
 //!
 //! Run: `cargo bench -p spanfit-optimizer --bench scaling`.
 //! `SPANFIT_BENCH_RUNS=<n>` sets the runs per optimised cell (default 7);
-//! exhaustive cells run 3 times.
+//! exhaustive cells run 3 times. `SPANFIT_BENCH_ONLY=small` prints the
+//! third table alone.
 
 // A benchmark binary: it reads the clock and the environment and prints
 // its tables.
@@ -156,6 +157,24 @@ fn main() {
         .max(1);
     let exhaustive_runs = 3;
 
+    // `SPANFIT_BENCH_ONLY=small` prints the third table alone.
+    let only_small = std::env::var("SPANFIT_BENCH_ONLY").is_ok_and(|v| v == "small");
+    if !only_small {
+        demo_and_scaling(runs);
+    }
+    small_spaces(runs, exhaustive_runs);
+    println!();
+    println!(
+        "Machine: {} logical cores; `cargo bench -p spanfit-optimizer --bench scaling` (release \
+         profile, opt-level 3).",
+        std::thread::available_parallelism()
+            .map(|n| n.get())
+            .unwrap_or(0)
+    );
+}
+
+/// Tables 1 and 2: the demo as shipped, then series against stages.
+fn demo_and_scaling(runs: usize) {
     // 1. The demo as shipped.
     let (need, stock) = common::demo();
     let (ms, o) = time(&need, &stock, false, runs);
@@ -174,8 +193,11 @@ fn main() {
     // 2. Scaling: series x max_stages, at the demo target and at 1 % FS.
     scaling_table(need.accuracy.max_error_pct_fs, runs);
     scaling_table(1.0, runs);
+}
 
-    // 3. Exhaustive against optimised on small spaces the walk finishes.
+/// Table 3: exhaustive against optimised on small spaces the walk
+/// finishes.
+fn small_spaces(runs: usize, exhaustive_runs: usize) {
     println!(
         "### Exhaustive against optimised search on small invented spaces \
          (`common::small_space`; optimised median of {runs} runs, exhaustive median of \
@@ -211,12 +233,4 @@ fn main() {
             full.stats.proven_optimal || full.infeasible.as_ref().is_some_and(|i| i.proven),
         );
     }
-    println!();
-    println!(
-        "Machine: {} logical cores; `cargo bench -p spanfit-optimizer --bench scaling` (release \
-         profile, opt-level 3).",
-        std::thread::available_parallelism()
-            .map(|n| n.get())
-            .unwrap_or(0)
-    );
 }
