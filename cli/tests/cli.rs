@@ -509,19 +509,19 @@ fn demo_solves_with_a_design() {
     let _ = std::fs::remove_dir_all(dir);
 }
 
+/// A need no design can meet, by proof (rails of 40 V, beyond every
+/// stocked amplifier's supply range), exits 1 with the reason.
 #[test]
-fn an_infeasible_need_exits_1_with_the_reason() {
+fn a_need_proven_infeasible_exits_1_with_the_reason() {
     let dir = scratch("infeasible");
-    let need = dir.join("tight.toml");
-    std::fs::write(
-        &need,
-        demo_need_embedded_stock().replacen(
-            "max_error_pct_fs = 0.5",
-            "max_error_pct_fs = 0.001",
-            1,
-        ),
-    )
-    .unwrap();
+    let need = dir.join("rails.toml");
+    let text = demo_need_embedded_stock().replacen("positive_v = 5.0", "positive_v = 40.0", 1);
+    assert_ne!(
+        text,
+        demo_need_embedded_stock(),
+        "the demo need changed shape"
+    );
+    std::fs::write(&need, text).unwrap();
     let o = spanfit(&["solve", need.to_str().unwrap(), "--json"]);
     assert_eq!(
         code(&o),
@@ -539,6 +539,35 @@ fn an_infeasible_need_exits_1_with_the_reason() {
     assert_eq!(code(&o), 1);
     assert!(
         stdout(&o).contains("No design meets the need"),
+        "{}",
+        stdout(&o)
+    );
+    let _ = std::fs::remove_dir_all(dir);
+}
+
+/// A need the optimised search finds no design for, without a proof that
+/// none exists (a target far below what it reaches, on a space too large
+/// to finish), exits 3 `unfinished` and never says that no design meets
+/// the need.
+#[test]
+fn no_design_found_without_a_proof_exits_3_not_1() {
+    let dir = scratch("unproven");
+    let need = dir.join("tight.toml");
+    let text = demo_need_embedded_stock().replacen(
+        "max_error_pct_fs = 0.5",
+        "max_error_pct_fs = 0.001",
+        1,
+    );
+    std::fs::write(&need, text).unwrap();
+    let o = spanfit(&["solve", need.to_str().unwrap(), "--json"]);
+    assert_eq!(code(&o), 3, "stderr:\n{}", stderr(&o));
+    let v = json(&o);
+    assert_eq!(v["status"], "unfinished");
+    assert_eq!(v["infeasible"]["proven"], false);
+    let o = spanfit(&["solve", need.to_str().unwrap()]);
+    assert_eq!(code(&o), 3);
+    assert!(
+        !stdout(&o).contains("No design meets the need"),
         "{}",
         stdout(&o)
     );

@@ -61,7 +61,11 @@ fn solved_text(need: &[u8], name: &str) -> String {
     let bundle = solve_bundle(need, name, &[], false, &mut control)
         .unwrap_or_else(|e| panic!("{name}: {e}"));
     let mut v = serde_json::to_value(bundle).expect("a bundle serialises");
-    assert_ne!(v["report"]["status"], "unfinished", "{name}");
+    // The clock stands still, so nothing is stopped: an unfinished status
+    // here can only be a search that found no design without a proof.
+    if v["report"]["status"] == "unfinished" {
+        assert_eq!(v["report"]["infeasible"]["proven"], false, "{name}");
+    }
     without_elapsed(&mut v);
     serde_json::to_string_pretty(&v).unwrap()
 }

@@ -411,7 +411,9 @@ fn every_infeasibility_field_is_documented_and_every_documented_field_exists() {
             .unwrap_or_else(|e| panic!("the need does not read: {e}"));
     let bundle = serde_json::to_value(bundle).expect("a bundle serialises");
     let report = &bundle["report"];
-    assert_eq!(report["status"], "infeasible", "{}", report["reason"]);
+    // Not proven (the space is too large to finish), so `unfinished`; the
+    // explanation is there all the same.
+    assert!(report["infeasible"].is_object(), "{}", report["reason"]);
     let in_code: BTreeSet<String> = report_paths_outside_design(report)
         .into_iter()
         .filter(|p| p.starts_with("infeasible"))

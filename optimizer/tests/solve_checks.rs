@@ -555,8 +555,12 @@ fn loop_with_inverting_stages_only_has_two_stages_and_positive_gain() {
     }
 }
 
+/// The demo solves within its default time limit, and claims a proven
+/// optimum only with a proof: its space is far too large for the
+/// exhaustive walk, so it says `gap` (to the bound over the whole space)
+/// unless its best reaches that bound.
 #[test]
-fn demo_optimum_is_proven_within_the_default_time_limit() {
+fn demo_solves_within_the_default_time_limit_and_claims_no_unproven_optimum() {
     let n = need(spanfit::demo::NEED_TOML, "demo-need.toml");
     assert_eq!(n.search.time_limit_ms, 2000, "the demo keeps the default");
     let o = solve_timed(&n, &demo_stock(), false);
@@ -565,12 +569,11 @@ fn demo_optimum_is_proven_within_the_default_time_limit() {
         o.stats.proven_optimal, o.stats.elapsed_ms, o.stats.evaluated, o.stats.structures
     );
     assert!(o.best.is_some(), "no demo design: {:?}", o.infeasible);
-    assert!(
-        o.stats.proven_optimal,
-        "the demo optimum is not proven within {} ms (search took {:.1} ms)",
-        n.search.time_limit_ms, o.stats.elapsed_ms
-    );
-    assert_eq!(o.stats.gap, None);
+    assert!(o.stopped.is_none(), "the demo search was cut short");
+    assert_eq!(o.stats.proven_optimal, o.stats.gap.is_none());
+    if let (Some(gap), Some(best)) = (o.stats.gap, &o.best) {
+        assert!(gap > 0.0 && gap < best.costing.total, "gap {gap}");
+    }
 }
 
 #[test]
@@ -595,7 +598,7 @@ fn cancelled_search_is_not_proven_and_keeps_its_best() {
     let Some(optimum) = full.best.as_ref().map(|b| b.costing.total) else {
         panic!("no demo design: {:?}", full.infeasible);
     };
-    assert!(full.stats.proven_optimal);
+    assert!(full.stopped.is_none());
     // Cut-off points: at the very start, and at the first call that
     // already has a best so far (the run then holds a design).
     let first_with_best = seen.iter().position(|p| p.best_cost.is_some());
@@ -649,7 +652,7 @@ fn cancelled_search_is_not_proven_and_keeps_its_best() {
             assert!(b.analysis.meets_target, "cut {cut}: best so far misses");
             assert!(
                 b.costing.total >= optimum - 1e-9,
-                "cut {cut}: best so far {} is cheaper than the proven optimum {optimum}",
+                "cut {cut}: best so far {} is cheaper than the full run's best {optimum}",
                 b.costing.total
             );
             assert_eq!(

@@ -77,5 +77,46 @@ fn a_search_with_time_enough_is_ok_and_not_stopped() {
     let outcome = solve(&need, &stock, SearchMode::Optimised, &mut control).expect("solves");
     assert!(outcome.best.is_some());
     assert!(!outcome.unfinished());
-    assert!(outcome.stats.proven_optimal);
+    assert!(outcome.stopped.is_none());
+    // The demo's space is too large to finish: no proof, a valid gap.
+    assert_eq!(outcome.stats.proven_optimal, outcome.stats.gap.is_none());
+}
+
+/// The optimised search finishing its walk without a design on a space
+/// too large to finish exhaustively proves nothing: `unfinished` (exit 3),
+/// with the explanation marked unproven and a reason that says so.
+#[test]
+fn no_design_found_without_a_proof_is_unfinished_not_infeasible() {
+    let text =
+        spanfit::demo::NEED_TOML.replacen("max_error_pct_fs = 0.5", "max_error_pct_fs = 0.01", 1);
+    assert_ne!(
+        text,
+        spanfit::demo::NEED_TOML,
+        "the demo need changed shape"
+    );
+    let (need, stock) = spanfit::api::load(text.as_bytes(), "tight.toml", &[]).expect("loads");
+    let clock = || 0.0;
+    let mut progress = |_: Progress| true;
+    let mut control = SolveControl {
+        progress: &mut progress,
+        now_ms: &clock,
+    };
+    let outcome = solve(&need, &stock, SearchMode::Optimised, &mut control).expect("solves");
+    assert!(outcome.best.is_none());
+    assert!(outcome.stopped.is_none());
+    let why = outcome.infeasible.as_ref().expect("explained");
+    assert!(!why.proven);
+    assert!(outcome.unfinished());
+    let report = spanfit::report::solve_report(&need, &stock, &outcome);
+    assert_eq!(report.status, Status::Unfinished);
+    let json = serde_json::to_value(&report).expect("serialises");
+    assert_eq!(json["infeasible"]["proven"], false);
+    let reason = report.reason.as_deref().unwrap_or_default();
+    assert!(
+        reason.contains("does not show that none exists"),
+        "{reason}"
+    );
+    let text = spanfit::report::report_text(&need, &report);
+    assert!(!text.contains("No design meets the need"), "{text}");
+    assert!(text.contains("not a proof that none exists"), "{text}");
 }

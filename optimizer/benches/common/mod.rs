@@ -97,3 +97,47 @@ pub fn run(need: &Need, stock: &Stock, exhaustive: bool) -> SolveOutcome {
     )
     .unwrap_or_else(|e| panic!("solve failed: {e}"))
 }
+
+/// A small invented space the exhaustive walk finishes: a single-ended
+/// sensor over 0.1..0.3 V into a 0..3 V ADC (negative ideal offset), one
+/// stage, at most `max_parts` parts, against `grades` E6 families (1 % and
+/// 0.1 %) over 1 to 6.8 kohm, one op-amp and one 2.5 V reference.
+pub fn small_space(grades: usize, max_parts: usize, calibration: &str) -> (Need, Stock) {
+    let text = format!(
+        "[sensor]\nsignal_low_v = 0.1\nsignal_high_v = 0.3\noutput = \"single-ended\"\nsource_ohms = 10.0\n\
+         [adc]\nlow_v = 0.0\nhigh_v = 3.0\nbits = 12\nmargin_pct = 0.0\n\
+         [supply]\npositive_v = 5.0\nnegative_v = 0.0\n\
+         [accuracy]\nmax_error_pct_fs = 1.0\ncalibration = \"{calibration}\"\ntemp_min_c = 0.0\ntemp_max_c = 50.0\n\
+         [search]\nmax_stages = 1\nmax_parts = {max_parts}\nbom_line_cost = 0.02\ntime_limit_ms = {TIME_LIMIT_MS}\n"
+    );
+    let need = parse_need(text.as_bytes(), "small.toml")
+        .unwrap_or_else(|e| panic!("the small need does not parse: {e}"));
+    let mut resistors = String::from(
+        "part_id,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+         S-E6-1,E6,1000,6900,1.0,100,0603,0.003,\n",
+    );
+    if grades > 1 {
+        resistors.push_str("S-E6-01,E6,1000,6900,0.1,25,0603,0.02,\n");
+    }
+    let file = |name: &str, text: String| StockFile {
+        name: name.into(),
+        bytes: text.into_bytes(),
+    };
+    let stock = parse_stock(&[
+        file("resistors.csv", resistors),
+        file(
+            "opamps.csv",
+            "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
+             S-OA1,1,2.7,12,0,0,0.02,0.02,300,2,0.1,0.1,110,2,20,0.1,100,0.40,\n"
+                .into(),
+        ),
+        file(
+            "references.csv",
+            "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty\n\
+             S-REF,2.5,0.1,20,0.2,10,0.30,\n"
+                .into(),
+        ),
+    ])
+    .unwrap_or_else(|e| panic!("the small stock does not parse: {e}"));
+    (need, stock)
+}

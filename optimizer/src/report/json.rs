@@ -372,6 +372,7 @@ fn infeasible_report(i: &Infeasibility) -> InfeasibleReport {
                 source: source.clone(),
             })
             .collect(),
+        proven: i.proven,
         suggestions: i
             .suggestions
             .iter()
@@ -402,10 +403,10 @@ pub fn solve_report(need: &Need, stock: &Stock, outcome: &SolveOutcome) -> Repor
         design: outcome.best.as_ref().map(|c| design_report(need, stock, c)),
         infeasible: outcome.infeasible.as_ref().map(infeasible_report),
         need: need_figures(need),
-        reason: match &outcome.infeasible {
-            Some(i) => Some(i.binding.clone()),
-            None if outcome.unfinished() => outcome.stopped.map(|stop| stop.reason()),
-            None => None,
+        reason: match (&outcome.infeasible, outcome.unfinished_reason()) {
+            (_, Some(why)) => Some(why),
+            (Some(i), None) => Some(i.binding.clone()),
+            (None, None) => None,
         },
         search: Some(search_report(&outcome.stats)),
         status: if outcome.best.is_some() {

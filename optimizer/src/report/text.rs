@@ -533,9 +533,15 @@ fn write_infeasible(out: &mut String, report: &Report) {
         .unwrap_or_else(|| "none buildable".to_string());
     let _ = writeln!(
         out,
-        "         best error with this stock {best}; target {} % FS",
+        "         most accurate design found {best}; target {} % FS",
         num(inf.target_pct_fs, 3)
     );
+    if !inf.proven {
+        let _ = writeln!(
+            out,
+            "         no design was found among those searched; that is not a proof that none exists"
+        );
+    }
     if !inf.largest.is_empty() {
         let _ = writeln!(out, "         largest contributors of the best design:");
         for c in &inf.largest {

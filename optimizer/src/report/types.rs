@@ -51,7 +51,7 @@ pub struct Report {
     pub reason: Option<String>,
     /// The search counters, or null for `analyze`.
     pub search: Option<SearchReport>,
-    /// `ok` or `infeasible`.
+    /// `ok`, `infeasible` (proven) or `unfinished`.
     pub status: Status,
 }
 
@@ -416,15 +416,20 @@ pub struct SearchReport {
     pub structures: u64,
 }
 
-/// Why no design meets the need.
+/// Why no design meets the need (proven) or why none was found.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct InfeasibleReport {
-    /// Best error reached with this stock, % FS.
+    /// Error of the most accurate design the search analysed, % FS (not
+    /// a bound on what the stock allows).
     pub best_error_pct_fs: Option<f64>,
     /// The binding limit in words.
     pub binding: String,
     /// Largest contributors of the best design.
     pub largest: Vec<Contributor>,
+    /// Whether it is proven that no design in the space meets the need
+    /// (`status` `infeasible`); `false` when none was found among the
+    /// designs searched (`status` `unfinished`).
+    pub proven: bool,
     /// Verified changes that would make the need feasible.
     pub suggestions: Vec<SuggestionEntry>,
     /// The target, % FS.

@@ -195,6 +195,8 @@ pub(super) fn explain(
         Suggestions::Skip => Vec::new(),
     };
     Infeasibility {
+        // The caller knows whether its walk proves it.
+        proven: false,
         binding,
         best_error_pct_fs: best_error,
         target_pct_fs: need.accuracy.max_error_pct_fs,

@@ -130,7 +130,7 @@ fn gain_splits(k: f64, n: usize, signs: &[f64]) -> Vec<Vec<f64>> {
 }
 
 /// Every sequence of one to `max_stages` shapes.
-fn shape_sequences(need: &Need, stock: &Stock) -> Vec<Vec<Shape>> {
+pub(super) fn shape_sequences(need: &Need, stock: &Stock) -> Vec<Vec<Shape>> {
     let mut sequences: Vec<Vec<Shape>> = Vec::new();
     let firsts = shapes_for(need, stock, true);
     let laters = shapes_for(need, stock, false);

@@ -1,17 +1,18 @@
-//! The optimiser: from a need and a stock, the cheapest design that meets
-//! the accuracy target by the engine's own numbers.
+//! The optimiser: from a need and a stock, the best design (the cheapest
+//! by default) that meets the accuracy target by the engine's own numbers.
+//! docs/search.md describes the search space, both modes and every proof.
 //!
-//! The shape of the search (docs/error-budget.md gives the budget it
-//! judges by):
+//! The optimised mode walks part of the space by rules of thumb:
 //! 1. *groups* (`groups`): stage shapes in sequence, the op-amp (and
 //!    in-amp) part, the stage that carries the offset and its source, and
-//!    the gain split; each group is checked for swing and common mode with
-//!    the ideal closed forms before anything costly;
+//!    a few gain splits; each group is checked for swing and common mode
+//!    with the ideal closed forms before anything costly;
 //! 2. *structures* (`structures`): a group with a resistor grade per
-//!    stage; each has a cost lower bound, and structures are generated
-//!    lazily, cheapest bound first (a best-first walk over each group's
-//!    grade lattice, so memory stays flat as the stock grows), so the search stops (proven) when the next bound is no
-//!    better than the best design found;
+//!    stage, with a cost bound; structures are generated lazily, cheapest
+//!    bound first (a best-first walk over each group's grade lattice, so
+//!    memory stays flat as the stock grows), and the walk stops a few
+//!    structures after the next bound cannot beat the best design (a
+//!    stopping rule, not a proof);
 //! 3. for each structure, a reference design is analysed once; its budget,
 //!    split by stage and rescaled per grade, screens the structure; per
 //!    stage the best few value sets for the target ratios come from a ratio
@@ -21,11 +22,14 @@
 //!    the error bound at both span ends; the pick is re-verified by the
 //!    full analysis and cut off if it fails.
 //!
-//! [`SearchMode::Exhaustive`] enumerates the same structures and value sets
-//! with no bound, screen or MILP, analysing every combination in full
-//! (`strategy`, `verify`). The Pareto front of verified designs is kept
-//! (`pareto`), and an infeasible need is explained (`explain`).
+//! Its claims rest only on the lower bounds over the whole space
+//! (`bounds`). [`SearchMode::Exhaustive`] walks the whole space
+//! (`exhaustive`), pruning only by written proofs, so a walk that ends
+//! proves its verdict. The Pareto front of verified designs is kept
+//! (`pareto`), and a need without a design is explained (`explain`).
 
+mod bounds;
+mod exhaustive;
 mod explain;
 mod groups;
 mod milp;
@@ -69,14 +73,15 @@ pub struct SolveControl<'a> {
     pub now_ms: &'a dyn Fn() -> f64,
 }
 
-/// How the search walks the structures.
+/// How the search walks the space.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum SearchMode {
-    /// Cheapest bound first, screened, one MILP per structure; stops when
-    /// the next bound cannot beat the best design (proven optimum).
+    /// Part of the space, by rules of thumb: cheapest bound first,
+    /// screened, one MILP per structure, within `time_limit_ms`. Proven
+    /// only where the bound over the whole space proves it.
     Optimised,
-    /// Every structure and every combination of its value sets analysed
-    /// in full: no bound, screen or MILP.
+    /// Every design of the space, pruned only by written proofs, with no
+    /// time limit; a walk that ends proves its verdict.
     Exhaustive,
 }
 
@@ -165,10 +170,14 @@ pub struct SearchStats {
     pub milp_solves: u64,
     /// Wall time from the caller's clock.
     pub elapsed_ms: f64,
-    /// The optimum over the search space is proven.
+    /// No design in the whole space ranks before the best found, by a
+    /// proof (docs/search.md): a complete exhaustive walk, or a best that
+    /// reaches the lower bound over the whole space. Never for the error
+    /// objective in the optimised mode, which has no such bound.
     pub proven_optimal: bool,
-    /// Proven gap between the best cost found and the lowest cost still
-    /// possible, when cut short.
+    /// When not proven: the best's objective (cost, or parts) less a valid
+    /// lower bound over every design not ruled out, in the objective's
+    /// unit; `None` when there is no design or no valid bound.
     pub gap: Option<f64>,
 }
 
@@ -184,9 +193,12 @@ pub struct Suggestion {
     pub error_pct_fs: f64,
 }
 
-/// Why no design meets the need.
+/// Why no design meets the need, or why none was found.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Infeasibility {
+    /// Whether it is proven that no design in the space meets the need;
+    /// `false` when the search found none among those it tried.
+    pub proven: bool,
     /// The limit that binds, in words, with by how much.
     pub binding: String,
     /// Best error reached with this stock on the need's basis, % FS.
@@ -236,7 +248,8 @@ pub struct SolveOutcome {
     pub alternatives: Vec<Candidate>,
     /// Counters.
     pub stats: SearchStats,
-    /// Why not, when the search finished and no design meets the need.
+    /// Why not, when the search finished without a design: proven
+    /// (`Infeasibility::proven`) or only not found.
     pub infeasible: Option<Infeasibility>,
     /// What stopped the search early, if anything. With no design found,
     /// the outcome is unfinished: neither a design nor a proof that none
@@ -245,10 +258,31 @@ pub struct SolveOutcome {
 }
 
 impl SolveOutcome {
-    /// The search stopped before it found a design or proved that none
-    /// meets the need.
+    /// The search ended without a design and without a proof that none
+    /// meets the need: stopped early, or finished its walk without finding
+    /// one where its walk proves nothing.
     pub fn unfinished(&self) -> bool {
-        self.best.is_none() && self.stopped.is_some()
+        self.best.is_none()
+            && (self.stopped.is_some() || self.infeasible.as_ref().is_some_and(|i| !i.proven))
+    }
+
+    /// Why the outcome is unfinished, in words (`None` when it is not).
+    pub fn unfinished_reason(&self) -> Option<String> {
+        if !self.unfinished() {
+            return None;
+        }
+        if let Some(stop) = self.stopped {
+            return Some(stop.reason());
+        }
+        let binding = self
+            .infeasible
+            .as_ref()
+            .map(|i| format!("; {}", i.binding))
+            .unwrap_or_default();
+        Some(format!(
+            "no design was found among those the optimised search tried, which does not \
+             show that none exists; solve with --exhaustive to search every design{binding}"
+        ))
     }
 }
 
@@ -325,8 +359,12 @@ fn solve_with(
     suggestions: Suggestions,
 ) -> Result<SolveOutcome> {
     // The whole call, explanation and suggestions included, shares the
-    // need's time limit.
-    let deadline_ms = (control.now_ms)() + need.search.time_limit_ms as f64;
+    // need's time limit; the exhaustive mode has none (only a cancel stops
+    // it), and its explanation's re-solves keep their own caps.
+    let deadline_ms = match mode {
+        SearchMode::Optimised => (control.now_ms)() + need.search.time_limit_ms as f64,
+        SearchMode::Exhaustive => f64::INFINITY,
+    };
     let stock = augment_stock(need, stock);
     let (k, b) = need.ideal_transfer();
     let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
@@ -349,9 +387,10 @@ fn solve_with(
         alternatives.insert(0, best.clone());
     }
     // A walk cut short without a design proves nothing: unfinished, not
-    // infeasible.
+    // infeasible. A finished walk without one is explained, and marked
+    // proven only where a proof holds.
     let infeasible = if run.best.is_none() && run.stopped.is_none() {
-        Some(explain::explain(
+        let mut why = explain::explain(
             need,
             &stock,
             &run.diagnosis,
@@ -361,7 +400,9 @@ fn solve_with(
                 total: run.stats.structures,
             },
             suggestions,
-        ))
+        );
+        why.proven = run.proven_infeasible;
+        Some(why)
     } else {
         None
     };

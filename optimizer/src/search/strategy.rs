@@ -4,12 +4,14 @@
 //! sets analysed). Both hand their verified designs to one
 //! [`SearchState::offer`], which keeps the best and the Pareto candidates.
 
+use super::bounds::{space_bound, SpaceBound};
+use super::exhaustive;
 use super::explain::Diagnosis;
 use super::groups::{enumerate_groups, Group, Rejections, SCREEN_SLACK};
 use super::milp::{default_solver, select_value_sets, SelectionBounds};
 use super::structures::{structures, Structure};
 use super::value_sets::{value_sets_for_structure, ValueSet, ValueSetCache};
-use super::verify::{estimate_random, verify, verify_model};
+use super::verify::{estimate_random, verify_model};
 use super::{costing, Candidate, Problem, Progress, SearchMode, SearchStats, SolveControl, Stop};
 use crate::analysis::{Model, RandomSplit};
 use crate::need::{Basis, Objective};
@@ -26,9 +28,12 @@ const MAX_CUTS: usize = 60;
 const MAX_ANALYSED: usize = 16;
 /// Structures searched past the proof, for the Pareto front.
 const PARETO_EXTRA_STRUCTURES: usize = 6;
+/// Largest space (in designs, [`exhaustive::space_size`]) the optimised
+/// mode finishes with the exhaustive walk in the time it has left.
+const COMPLETION_DESIGNS: u64 = 200_000;
 
 /// Objective key of a verified design (lower is better).
-fn objective_key(objective: Objective, c: &Candidate) -> (f64, f64, f64) {
+pub(super) fn objective_key(objective: Objective, c: &Candidate) -> (f64, f64, f64) {
     let e = c.analysis.basis_pct_fs;
     let cost = (c.costing.total * 1e9).round() / 1e9;
     let parts = c.costing.part_count as f64;
@@ -59,15 +64,27 @@ pub(super) struct SearchState {
     /// Failures and the most accurate design, for an infeasible need.
     pub(super) diagnosis: Diagnosis,
     /// Designs analysed.
-    evaluated: u64,
+    pub(super) evaluated: u64,
     /// MILP problems solved.
     milp_solves: u64,
 }
 
 impl SearchState {
+    /// An empty state for an objective.
+    pub(super) fn new(objective: Objective) -> SearchState {
+        SearchState {
+            objective,
+            best: None,
+            found: Vec::new(),
+            diagnosis: Diagnosis::default(),
+            evaluated: 0,
+            milp_solves: 0,
+        }
+    }
+
     /// A verified design: learnt from, and kept when it meets the target
     /// (as the best when it ranks first). Returns whether it met the target.
-    fn offer(&mut self, candidate: Candidate) -> bool {
+    pub(super) fn offer(&mut self, candidate: Candidate) -> bool {
         self.diagnosis.note(&candidate);
         if !candidate.analysis.meets_target {
             return false;
@@ -102,59 +119,6 @@ trait StructureSearch {
         value_sets: &[Vec<ValueSet>],
         state: &mut SearchState,
     );
-}
-
-/// Every combination of value sets analysed in full.
-struct Exhaustive;
-
-impl StructureSearch for Exhaustive {
-    fn mode(&self) -> SearchMode {
-        SearchMode::Exhaustive
-    }
-
-    fn stops_at_proof(&self) -> bool {
-        false
-    }
-
-    fn screens_out(&self, _: &Problem<'_>, _: &Structure) -> bool {
-        false
-    }
-
-    fn search(
-        &mut self,
-        problem: &Problem<'_>,
-        group: &Group,
-        structure: &Structure,
-        value_sets: &[Vec<ValueSet>],
-        state: &mut SearchState,
-    ) {
-        let stages = value_sets.len();
-        let mut index = vec![0usize; stages];
-        loop {
-            let picks: Vec<&ValueSet> = index
-                .iter()
-                .enumerate()
-                .map(|(stage, &i)| &value_sets[stage][i])
-                .collect();
-            if let Some(c) = verify(problem, problem.design(group, &structure.grades, &picks)) {
-                state.evaluated += 1;
-                state.offer(c);
-            }
-            // The next combination, first stage fastest.
-            let mut stage = 0;
-            while stage < stages {
-                index[stage] += 1;
-                if index[stage] < value_sets[stage].len() {
-                    break;
-                }
-                index[stage] = 0;
-                stage += 1;
-            }
-            if stage == stages {
-                break;
-            }
-        }
-    }
 }
 
 /// Screened by a budget split shared across a group, a reference design
@@ -381,21 +345,53 @@ pub(super) struct RunResult {
     pub(super) found: Vec<Candidate>,
     /// What it learnt of failures.
     pub(super) diagnosis: Diagnosis,
+    /// No design in the whole space can meet the need (a proof, not a
+    /// failure to find one).
+    pub(super) proven_infeasible: bool,
     /// Counters.
     pub(super) stats: SearchStats,
 }
 
-/// Where the walk stands against the structures' bounds.
+/// Where the walk stands against the structures' bounds. The optimised
+/// walk stops here by rule, not by proof: it searches each structure
+/// heuristically, so its claim of optimality rests on the space bound
+/// ([`super::bounds`]) alone.
 #[derive(Default)]
-struct Proof {
-    /// The next bound could not beat the best design.
+struct StopRule {
+    /// The next structure bound could not beat the best design.
     reached: bool,
     /// Structures searched since.
     extra: usize,
-    /// The run ended without the proof.
-    unproven: bool,
-    /// Gap between the best and the lowest bound left, when unproven.
-    gap: Option<f64>,
+}
+
+/// The objective's lower bound over the whole space (`None` for the error
+/// objective, which has none, and for a space proven empty).
+fn space_floor(objective: Objective, space: &SpaceBound) -> Option<f64> {
+    match objective {
+        Objective::Cost => space.cost,
+        Objective::Parts => space.parts.map(|p| p as f64),
+        Objective::Error => None,
+    }
+}
+
+/// Whether the best design is proven optimal by the space bound, and
+/// otherwise the proven gap to it (the objective's own unit).
+fn proof_from_space(
+    objective: Objective,
+    space: &SpaceBound,
+    best: Option<&Candidate>,
+) -> (bool, Option<f64>) {
+    match (space_floor(objective, space), best) {
+        (Some(floor), Some(best)) => {
+            let key = objective_key(objective, best).0;
+            if key <= floor + 1e-9 {
+                (true, None)
+            } else {
+                (false, Some(key - floor))
+            }
+        }
+        _ => (false, None),
+    }
 }
 
 /// Walk the structures in bound order and search each.
@@ -404,28 +400,22 @@ pub(super) fn run(
     mode: SearchMode,
     control: &mut SolveControl<'_>,
 ) -> RunResult {
+    if mode == SearchMode::Exhaustive {
+        return super::exhaustive::run(problem, control);
+    }
     let start = (control.now_ms)();
     let objective = problem.need.search.objective;
-    let mut state = SearchState {
-        objective,
-        best: None,
-        found: Vec::new(),
-        diagnosis: Diagnosis::default(),
-        evaluated: 0,
-        milp_solves: 0,
-    };
+    let space = space_bound(problem);
+    let mut state = SearchState::new(objective);
     let mut rejections = Rejections::default();
     let groups = enumerate_groups(problem, &mut rejections);
     // An accuracy floor is the nearer miss when some group had the swing.
     state.diagnosis.closest_rejection = rejections.floor_miss.or(rejections.closest);
     let list = structures(problem, &groups);
     let total = list.total();
-    let mut strategy: Box<dyn StructureSearch> = match mode {
-        SearchMode::Optimised => Box::new(Optimised::default()),
-        SearchMode::Exhaustive => Box::new(Exhaustive),
-    };
+    let mut strategy: Box<dyn StructureSearch> = Box::new(Optimised::default());
     let mut cache = ValueSetCache::new();
-    let mut proof = Proof::default();
+    let mut rule = StopRule::default();
     let mut stopped = None;
     let limit = problem.need.search.time_limit_ms as f64;
     for (done, structure) in list.enumerate() {
@@ -438,13 +428,13 @@ pub(super) fn run(
         if strategy.stops_at_proof() {
             if let (Some(bound), Some(best)) = (bound_key, state.best.as_ref()) {
                 if bound >= objective_key(objective, best).0 - 1e-12 {
-                    proof.reached = true;
+                    rule.reached = true;
                 }
             }
-            if proof.reached {
+            if rule.reached {
                 // A few more structures for the Pareto front, then stop.
-                proof.extra += 1;
-                if proof.extra > PARETO_EXTRA_STRUCTURES {
+                rule.extra += 1;
+                if rule.extra > PARETO_EXTRA_STRUCTURES {
                     break;
                 }
             }
@@ -463,12 +453,6 @@ pub(super) fn run(
             } else {
                 Stop::Cancelled
             });
-            if !proof.reached {
-                proof.unproven = true;
-                if let (Some(bound), Some(best)) = (bound_key, state.best.as_ref()) {
-                    proof.gap = Some((objective_key(objective, best).0 - bound).max(0.0));
-                }
-            }
             break;
         }
         if strategy.screens_out(problem, structure) {
@@ -481,20 +465,52 @@ pub(super) fn run(
         };
         strategy.search(problem, group, structure, &value_sets, &mut state);
     }
+    let (mut proven_optimal, mut gap) = proof_from_space(objective, &space, state.best.as_ref());
+    let mut proven_infeasible = space.proven_empty();
+    // A small space is finished by the exhaustive walk in the time left,
+    // from the best design found as its incumbent: a walk that ends
+    // proves the verdict.
+    if stopped.is_none()
+        && !proven_optimal
+        && !proven_infeasible
+        && exhaustive::space_size(problem, COMPLETION_DESIGNS).is_some()
+    {
+        let end = exhaustive::walk(
+            problem,
+            control,
+            state,
+            &exhaustive::WalkBudget {
+                deadline_ms: start + limit,
+                report_as: Some(total),
+            },
+        );
+        state = end.state;
+        if end.cancelled {
+            stopped = Some(Stop::Cancelled);
+        }
+        if end.finished {
+            proven_optimal = state.best.is_some();
+            proven_infeasible = state.best.is_none();
+            gap = None;
+        } else {
+            (proven_optimal, gap) = proof_from_space(objective, &space, state.best.as_ref());
+        }
+    }
     let elapsed_ms = (control.now_ms)() - start;
     RunResult {
         stopped,
         best: state.best,
         found: state.found,
         diagnosis: state.diagnosis,
+        proven_infeasible,
         stats: SearchStats {
             mode: strategy.mode().name().into(),
             evaluated: state.evaluated,
             structures: total,
             milp_solves: state.milp_solves,
             elapsed_ms,
-            proven_optimal: !proof.unproven,
-            gap: proof.gap,
+            proven_optimal,
+            gap,
         },
     }
 }

@@ -36,13 +36,6 @@ fn within_stock(stock: &Stock, built: &Built) -> bool {
     })
 }
 
-/// The full report of a design, or `None` when it cannot be built from
-/// the stock.
-pub(super) fn verify(problem: &Problem<'_>, design: Design) -> Option<Candidate> {
-    let model = Model::new(problem.need, problem.stock, &design).ok()?;
-    verify_model(problem, design, model)
-}
-
 /// The full report of a design whose model is built already.
 pub(super) fn verify_model(
     problem: &Problem<'_>,

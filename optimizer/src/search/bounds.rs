@@ -1,0 +1,146 @@
+//! Lower bounds over the whole design space, valid whatever the search
+//! tried: the least cost and the fewest parts any design the analysis
+//! could accept may have, and the proof that no design exists when every
+//! stage sequence fails a check that no value choice can change.
+//!
+//! The space (docs/search.md): every sequence of one to `max_stages`
+//! shapes of the need's topologies that may take each stage, any stocked
+//! amplifier per stage, any offset network or none, the optional roles
+//! present or absent, any stocked resistor in any role. The bounds below
+//! take for each sequence the least it must place; each exclusion is a
+//! proof written beside it. The optimised search walks only part of the
+//! space heuristically, so its `proven_optimal` rests on these bounds
+//! alone; the exhaustive walk (`exhaustive`) proves by walking.
+
+use super::groups::shape_sequences;
+use super::Problem;
+use crate::design::Shape;
+use crate::need::{Basis, Calibration};
+
+/// What can be proven of the whole space before any search.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) struct SpaceBound {
+    /// Least total cost of any design in the space; `None` when the space
+    /// holds no design that can meet the need (proven).
+    pub(super) cost: Option<f64>,
+    /// Fewest parts of any design in the space.
+    pub(super) parts: Option<usize>,
+}
+
+impl SpaceBound {
+    /// Whether the space is proven empty: no design can meet the need.
+    pub(super) fn proven_empty(&self) -> bool {
+        self.cost.is_none()
+    }
+}
+
+/// Whether a sequence whose gain has the wrong sign is ruled out.
+///
+/// Proof: with a stage gain product of the other sign (or zero), the
+/// output moves the other way from the ideal over the span, so the errors
+/// at the two span ends differ by at least the ideal output span `S`:
+/// `|e1 - e0| = |(y1 - y0) - (i1 - i0)| >= |i1 - i0|`. Without calibration
+/// one end is then off by at least `S / 2`; an offset trim leaves
+/// `e1 - e0` itself. On the worst-case and RSS bases the total at an end
+/// is the sum of the calibrated systematic lines' magnitudes (at least the
+/// nominal error) plus a non-negative random part, so no such design
+/// meets a target below `S / 2`. A two-point trim rescales by the measured
+/// slope and undoes the sign, and the yield basis judges by Monte Carlo
+/// builds against a yield, so nothing is ruled out on those.
+pub(super) fn wrong_sign_ruled_out(problem: &Problem<'_>) -> bool {
+    let span = (problem.ideal[1] - problem.ideal[0]).abs();
+    let accuracy = &problem.need.accuracy;
+    accuracy.calibration != Calibration::TwoPoint
+        && accuracy.basis != Basis::Yield
+        && problem.target_v < span / 2.0
+}
+
+/// The least the amplifiers of a sequence cost, their BOM lines and
+/// packages, or `None` when no stocked amplifier can serve (proof: the
+/// supply-range check compares the rails with the part's own range, which
+/// no resistor changes, and a part with none on the shelf cannot be
+/// placed).
+fn amplifier_floor(problem: &Problem<'_>, shapes: &[Shape]) -> Option<(f64, usize, usize)> {
+    let stock = problem.stock;
+    let span = problem.need.supply.positive.0 - problem.need.supply.negative.0;
+    let sections: usize = shapes.iter().map(|s| s.sections()).sum();
+    let inamp_stages = shapes.iter().filter(|s| s.integrated()).count();
+    let (mut cost, mut lines, mut packages) = (0.0, 0, 0);
+    if sections > 0 {
+        let usable: Vec<_> = stock
+            .opamps
+            .iter()
+            .filter(|p| p.stock_qty != Some(0) && span >= p.supply_min.0 && span <= p.supply_max.0)
+            .collect();
+        // Sections may come from several parts: the cost is at least the
+        // cheapest price per section times the sections, and at least one
+        // whole package; packages at least the sections over the widest
+        // package.
+        let per_section = usable
+            .iter()
+            .map(|p| p.unit_cost / f64::from(p.channels.max(1)))
+            .reduce(f64::min)?;
+        let package = usable.iter().map(|p| p.unit_cost).reduce(f64::min)?;
+        let widest = usable.iter().map(|p| p.channels.max(1)).max()? as usize;
+        cost += (per_section * sections as f64).max(package);
+        lines += 1;
+        packages += sections.div_ceil(widest);
+    }
+    if inamp_stages > 0 {
+        let least = stock
+            .inamps
+            .iter()
+            .filter(|p| p.stock_qty != Some(0) && span >= p.supply_min.0 && span <= p.supply_max.0)
+            .map(|p| p.unit_cost)
+            .reduce(f64::min)?;
+        cost += least * inamp_stages as f64;
+        lines += 1;
+        packages += inamp_stages;
+    }
+    Some((cost, lines, packages))
+}
+
+/// The bounds over the whole space.
+pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
+    let need = problem.need;
+    let (k, _) = need.ideal_transfer();
+    let least_resistor = problem
+        .stock
+        .resistors
+        .iter()
+        .filter(|r| r.stock_qty != Some(0))
+        .map(|r| r.unit_cost)
+        .reduce(f64::min);
+    let line = need.search.bom_line_cost;
+    let mut best = SpaceBound {
+        cost: None,
+        parts: None,
+    };
+    for shapes in shape_sequences(need, problem.stock) {
+        let sign: f64 = shapes.iter().map(|s| s.sign()).product();
+        if sign * k <= 0.0 && wrong_sign_ruled_out(problem) {
+            continue;
+        }
+        let Some((amp_cost, amp_lines, packages)) = amplifier_floor(problem, &shapes) else {
+            continue;
+        };
+        // Every required role holds a resistor; offset networks and
+        // optional roles only add parts.
+        let resistors: usize = shapes.iter().map(|s| s.resistor_count()).sum();
+        let resistor_cost = match (resistors, least_resistor) {
+            (0, _) => 0.0,
+            (n, Some(least)) => n as f64 * least,
+            (_, None) => continue,
+        };
+        let parts = resistors + packages;
+        // The analysis's part-count check holds `max_parts`.
+        if parts > need.search.max_parts {
+            continue;
+        }
+        let lines = amp_lines + usize::from(resistors > 0);
+        let cost = amp_cost + resistor_cost + line * lines as f64;
+        best.cost = Some(best.cost.map_or(cost, |c: f64| c.min(cost)));
+        best.parts = Some(best.parts.map_or(parts, |p: usize| p.min(parts)));
+    }
+    best
+}

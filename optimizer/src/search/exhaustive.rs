@@ -1,0 +1,745 @@
+//! The exhaustive walk: every design of the space (docs/search.md), with
+//! pruning only where a written proof says a design cannot win.
+//!
+//! The space: every sequence of one to `max_stages` shapes that may take
+//! each stage ([`super::groups::shape_sequences`]); per stage any stocked
+//! amplifier that can run on the rails, its offset node (and an inverting
+//! stage's bias node) grounded, driven straight from the supply or a
+//! stocked reference, or through a divider from one, buffered or not (a
+//! buffered divider on an in-amp stage with any stocked op-amp as its
+//! follower); every optional role present or absent; any stocked resistor
+//! in any role, divider resistors included, each role on its own.
+//!
+//! A *structure* fixes everything but the resistors. Structures come out
+//! of a heap in the order of an additive lower bound on the objective
+//! (the sorted-product walk: a node's successors raise one stage's choice
+//! at or after the last one raised, so each index vector is made once and
+//! memory holds only the frontier). Inside a structure every resistor
+//! assignment is taken in turn (an odometer, no list).
+//!
+//! Proofs used to prune (each beside its code below):
+//! - the walk stops when the next structure's bound is no better than the
+//!   best design: every structure left has a bound at least as high;
+//! - a resistor assignment whose exact cost is no lower than the best is
+//!   skipped (cost objective): its cost is computed, not estimated;
+//! - an amplifier whose supply range excludes the rails is never placed
+//!   (the supply-range check fails whatever the resistors), nor a part
+//!   with none on the shelf; sequences of the wrong sign are skipped where
+//!   [`wrong_sign_ruled_out`] holds; structures with more parts than
+//!   `max_parts` (the part-count check) are skipped;
+//! - a design failing a feasibility check of its model, or whose
+//!   first-order worst case (worst-case basis, a lower bound on the
+//!   reported total, which is its maximum with the corner check) or RSS
+//!   (RSS basis, the reported total itself) exceeds the target, cannot
+//!   meet the need and is not reported in full.
+
+use super::bounds::wrong_sign_ruled_out;
+use super::groups::shape_sequences;
+use super::strategy::{objective_key, RunResult, SearchState};
+use super::verify::verify_model;
+use super::{costing, Problem, Progress, SearchMode, SearchStats, SolveControl, Stop};
+use crate::analysis::Model;
+use crate::design::{Design, Injection, Resistor, Shape, Source, Stage};
+use crate::need::{Basis, Objective};
+use crate::shape::{OffsetNetwork, Role};
+use std::cmp::Ordering;
+use std::collections::{BTreeMap, BinaryHeap};
+
+/// How an offset or bias node is driven, before resistors are chosen.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Drive {
+    Ground,
+    /// Straight from source `i` of [`Walk::sources`].
+    Direct(usize),
+    /// A divider from source `i`, buffered or not.
+    Divider(usize, bool),
+}
+
+/// One stage's choice of everything but its resistors.
+#[derive(Debug, Clone)]
+struct StageOption {
+    /// Op-amp (or, integrated, in-amp) stock index.
+    amplifier: usize,
+    offset: Drive,
+    bias: Drive,
+    /// Follower op-amp of a buffered divider on an in-amp stage.
+    buffer: Option<usize>,
+    /// Resistor slots: stage roles, then divider roles.
+    slots: Vec<Role>,
+    /// Additive lower bound of the stage on the objective.
+    bound: f64,
+    /// Parts the stage places at least (resistors, in-amp), without the
+    /// op-amp packages, which stages may share.
+    parts: usize,
+    /// Op-amp sections the stage uses (followers included).
+    sections: usize,
+}
+
+/// A heap entry: a structure as one option index per stage.
+struct Node {
+    key: f64,
+    sequence: usize,
+    index: Vec<usize>,
+    /// The stage raised last (successors raise it or a later one).
+    last: usize,
+}
+
+impl PartialEq for Node {
+    fn eq(&self, other: &Self) -> bool {
+        self.cmp(other) == Ordering::Equal
+    }
+}
+impl Eq for Node {}
+impl PartialOrd for Node {
+    fn partial_cmp(&self, other: &Self) -> Option<Ordering> {
+        Some(self.cmp(other))
+    }
+}
+impl Ord for Node {
+    /// Reversed, so the max-heap pops the lowest key; ties by sequence and
+    /// index, so the walk order is fixed.
+    fn cmp(&self, other: &Self) -> Ordering {
+        other
+            .key
+            .total_cmp(&self.key)
+            .then_with(|| other.sequence.cmp(&self.sequence))
+            .then_with(|| other.index.cmp(&self.index))
+    }
+}
+
+/// What the walk reads: the sources, the sequences and their options.
+struct Walk {
+    sources: Vec<Source>,
+    /// Per sequence: its shapes, the options of each stage (sorted by
+    /// bound) and the bound the whole sequence adds (BOM lines).
+    sequences: Vec<(Vec<Shape>, Vec<Vec<StageOption>>, f64)>,
+    /// Stock indices of the resistors that may be placed.
+    resistors: Vec<usize>,
+}
+
+/// Whether a shape's template drives a bias node (the + input of an
+/// inverting stage): asked of the networks the shape makes.
+fn uses_bias(shape: Shape) -> bool {
+    [-1.0, 1.0]
+        .iter()
+        .any(|&c| shape.offset_network(c) == Some(OffsetNetwork::InvertingBias))
+}
+
+/// The drives a node may take.
+fn drives(sources: usize) -> Vec<Drive> {
+    let mut out = vec![Drive::Ground];
+    for s in 0..sources {
+        out.push(Drive::Direct(s));
+        out.push(Drive::Divider(s, false));
+        out.push(Drive::Divider(s, true));
+    }
+    out
+}
+
+/// Every subset of the optional roles.
+fn optional_subsets(roles: &[Role]) -> Vec<Vec<Role>> {
+    (0..1usize << roles.len())
+        .map(|mask| {
+            roles
+                .iter()
+                .enumerate()
+                .filter(|(i, _)| mask >> i & 1 == 1)
+                .map(|(_, r)| *r)
+                .collect()
+        })
+        .collect()
+}
+
+impl Walk {
+    fn new(problem: &Problem<'_>) -> Walk {
+        let need = problem.need;
+        let stock = problem.stock;
+        let mut sources = Vec::new();
+        if need.supply.positive.0 > 0.0 {
+            sources.push(Source::Supply);
+        }
+        for r in stock.references.iter().filter(|r| r.stock_qty != Some(0)) {
+            sources.push(Source::Reference(r.part_id.clone()));
+        }
+        let resistors: Vec<usize> = (0..stock.resistors.len())
+            .filter(|&i| stock.resistors[i].stock_qty != Some(0))
+            .collect();
+        let least_resistor = resistors
+            .iter()
+            .map(|&i| stock.resistors[i].unit_cost)
+            .reduce(f64::min)
+            .unwrap_or(0.0);
+        let span = need.supply.positive.0 - need.supply.negative.0;
+        // Proof: the supply-range check compares the rails with the part's
+        // own range, which no resistor changes.
+        let fits =
+            |min: f64, max: f64, qty: Option<u32>| qty != Some(0) && span >= min && span <= max;
+        let opamps: Vec<usize> = (0..stock.opamps.len())
+            .filter(|&i| {
+                let p = &stock.opamps[i];
+                fits(p.supply_min.0, p.supply_max.0, p.stock_qty)
+            })
+            .collect();
+        let inamps: Vec<usize> = (0..stock.inamps.len())
+            .filter(|&i| {
+                let p = &stock.inamps[i];
+                fits(p.supply_min.0, p.supply_max.0, p.stock_qty)
+            })
+            .collect();
+        let objective = need.search.objective;
+        let (k, _) = need.ideal_transfer();
+        let line = need.search.bom_line_cost;
+        let mut sequences = Vec::new();
+        for shapes in shape_sequences(need, stock) {
+            let sign: f64 = shapes.iter().map(|s| s.sign()).product();
+            if sign * k <= 0.0 && wrong_sign_ruled_out(problem) {
+                continue;
+            }
+            let mut per_stage = Vec::new();
+            for &shape in &shapes {
+                let mut options = Vec::new();
+                let amplifiers = if shape.integrated() { &inamps } else { &opamps };
+                let bias_drives = if uses_bias(shape) {
+                    drives(sources.len())
+                } else {
+                    vec![Drive::Ground]
+                };
+                for &amplifier in amplifiers {
+                    for offset in drives(sources.len()) {
+                        for &bias in &bias_drives {
+                            let buffered = [offset, bias]
+                                .iter()
+                                .filter(|d| matches!(d, Drive::Divider(_, true)))
+                                .count();
+                            let buffers: Vec<Option<usize>> = if shape.integrated() && buffered > 0
+                            {
+                                opamps.iter().map(|&o| Some(o)).collect()
+                            } else {
+                                vec![None]
+                            };
+                            for optional in optional_subsets(shape.optional_roles()) {
+                                for &buffer in &buffers {
+                                    let mut slots: Vec<Role> = shape.required_roles().to_vec();
+                                    slots.extend(&optional);
+                                    if matches!(offset, Drive::Divider(..)) {
+                                        slots.extend([Role::OffsetTop, Role::OffsetBottom]);
+                                    }
+                                    if matches!(bias, Drive::Divider(..)) {
+                                        slots.extend([Role::BiasTop, Role::BiasBottom]);
+                                    }
+                                    let (own, sections) = if shape.integrated() {
+                                        (stock.inamps[amplifier].unit_cost, 0)
+                                    } else {
+                                        (0.0, shape.sections() + buffered)
+                                    };
+                                    let per_section = |o: usize| {
+                                        stock.opamps[o].unit_cost
+                                            / f64::from(stock.opamps[o].channels.max(1))
+                                    };
+                                    // Op-amp packages may be shared across
+                                    // stages: each section bears its share.
+                                    let section_cost = if shape.integrated() {
+                                        buffer.map(per_section).unwrap_or(0.0)
+                                    } else {
+                                        sections as f64 * per_section(amplifier)
+                                    };
+                                    let section_parts = if shape.integrated() {
+                                        buffer
+                                            .map(|o| {
+                                                1.0 / f64::from(stock.opamps[o].channels.max(1))
+                                            })
+                                            .unwrap_or(0.0)
+                                    } else {
+                                        sections as f64
+                                            / f64::from(stock.opamps[amplifier].channels.max(1))
+                                    };
+                                    let parts = slots.len() + usize::from(shape.integrated());
+                                    // Proof: the part-count check fails
+                                    // a design with more parts than
+                                    // `max_parts` (the stage alone, with
+                                    // its amplifier, is too many).
+                                    if parts + usize::from(sections > 0) > need.search.max_parts {
+                                        continue;
+                                    }
+                                    let bound = match objective {
+                                        Objective::Parts => parts as f64 + section_parts,
+                                        _ => {
+                                            own + section_cost + slots.len() as f64 * least_resistor
+                                        }
+                                    };
+                                    options.push(StageOption {
+                                        amplifier,
+                                        offset,
+                                        bias,
+                                        buffer,
+                                        slots,
+                                        bound,
+                                        parts,
+                                        sections,
+                                    });
+                                }
+                            }
+                        }
+                    }
+                }
+                options.sort_by(|a, b| a.bound.total_cmp(&b.bound));
+                per_stage.push(options);
+            }
+            if per_stage.iter().any(|o| o.is_empty()) {
+                continue;
+            }
+            // At least one BOM line for the op-amps, one for the in-amps
+            // and one for the resistors (every shape places one).
+            let lines = usize::from(shapes.iter().any(|s| !s.integrated()))
+                + usize::from(shapes.iter().any(|s| s.integrated()))
+                + 1;
+            let fixed = match objective {
+                Objective::Parts => 0.0,
+                _ => line * lines as f64,
+            };
+            sequences.push((shapes, per_stage, fixed));
+        }
+        Walk {
+            sources,
+            sequences,
+            resistors,
+        }
+    }
+
+    /// Structures in the whole walk (saturating).
+    fn total(&self) -> u64 {
+        self.sequences
+            .iter()
+            .map(|(_, options, _)| {
+                options
+                    .iter()
+                    .fold(1u64, |n, o| n.saturating_mul(o.len() as u64))
+            })
+            .fold(0u64, u64::saturating_add)
+    }
+
+    fn key(&self, sequence: usize, index: &[usize]) -> f64 {
+        let (_, options, fixed) = &self.sequences[sequence];
+        fixed
+            + index
+                .iter()
+                .enumerate()
+                .map(|(stage, &i)| options[stage][i].bound)
+                .sum::<f64>()
+    }
+
+    /// The design of a structure with one stock resistor per slot.
+    fn design(
+        &self,
+        problem: &Problem<'_>,
+        shapes: &[Shape],
+        options: &[&StageOption],
+        picks: &[&[usize]],
+    ) -> Design {
+        let stock = problem.stock;
+        let resistor = |i: usize| Resistor::from(&stock.resistors[self.resistors[i]]);
+        let mut stages = Vec::new();
+        for ((&shape, option), pick) in shapes.iter().zip(options).zip(picks) {
+            let mut resistors = BTreeMap::new();
+            let mut dividers: BTreeMap<Role, Resistor> = BTreeMap::new();
+            for (&role, &i) in option.slots.iter().zip(pick.iter()) {
+                if role.is_divider() {
+                    dividers.insert(role, resistor(i));
+                } else {
+                    resistors.insert(role, resistor(i));
+                }
+            }
+            let injection = |drive: Drive, top: Role, bottom: Role| match drive {
+                Drive::Ground => Injection::Ground,
+                Drive::Direct(s) => Injection::Direct {
+                    source: self.sources[s].clone(),
+                },
+                Drive::Divider(s, buffered) => Injection::Divider {
+                    source: self.sources[s].clone(),
+                    top: dividers.get(&top).cloned().unwrap_or_else(|| resistor(0)),
+                    bottom: dividers
+                        .get(&bottom)
+                        .cloned()
+                        .unwrap_or_else(|| resistor(0)),
+                    buffered,
+                },
+            };
+            let amplifier = if shape.integrated() {
+                stock.inamps[option.amplifier].part_id.clone()
+            } else {
+                stock.opamps[option.amplifier].part_id.clone()
+            };
+            stages.push(Stage {
+                shape,
+                amplifier,
+                resistors,
+                offset: injection(option.offset, Role::OffsetTop, Role::OffsetBottom),
+                bias: injection(option.bias, Role::BiasTop, Role::BiasBottom),
+                buffer: option.buffer.map(|o| stock.opamps[o].part_id.clone()),
+            });
+        }
+        Design { stages }
+    }
+}
+
+/// Whether a model's cheap totals prove that it cannot meet the target
+/// (see the module notes); the yield basis proves nothing here.
+fn cannot_meet(problem: &Problem<'_>, model: &Model) -> bool {
+    if !model.feasible() {
+        return true;
+    }
+    let total = match problem.need.accuracy.basis {
+        Basis::WorstCase => model.worst_at_ends(),
+        Basis::Rss => model.rss_at_ends(),
+        Basis::Yield => return false,
+    };
+    total[0].max(total[1]) > problem.target_v
+}
+
+/// Every resistor assignment of one structure, offered to `state`;
+/// `false` when the deadline came first (the structure is not done).
+fn search_structure(
+    problem: &Problem<'_>,
+    walk: &Walk,
+    shapes: &[Shape],
+    options: &[&StageOption],
+    state: &mut SearchState,
+    deadline: (&dyn Fn() -> f64, f64),
+) -> bool {
+    let stock = problem.stock;
+    let objective = problem.need.search.objective;
+    let line = problem.need.search.bom_line_cost;
+    let choices = walk.resistors.len();
+    let slots: Vec<usize> = options.iter().map(|o| o.slots.len()).collect();
+    let count: usize = slots.iter().sum();
+    if choices == 0 && count > 0 {
+        return true;
+    }
+    let mut flat = vec![0usize; count];
+    // Cost of everything but the resistors, exact, from the first build.
+    let mut fixed: Option<f64> = None;
+    let mut visited = 0u64;
+    loop {
+        visited += 1;
+        if visited.is_multiple_of(256) && (deadline.0)() > deadline.1 {
+            return false;
+        }
+        let mut picks: Vec<&[usize]> = Vec::with_capacity(options.len());
+        let mut at = 0;
+        for &n in &slots {
+            picks.push(&flat[at..at + n]);
+            at += n;
+        }
+        // Proof: the exact cost of the assignment (fixed part plus its
+        // resistors and their distinct BOM lines) is no lower than the
+        // best design's, so it cannot rank first on cost.
+        let skip = match (objective, fixed, state.best.as_ref()) {
+            (Objective::Cost, Some(fixed), Some(best)) => {
+                let mut ids: Vec<&str> = Vec::with_capacity(count);
+                let mut cost = fixed;
+                for &i in &flat {
+                    let part = &stock.resistors[walk.resistors[i]];
+                    cost += part.unit_cost;
+                    if !ids.contains(&part.part_id.as_str()) {
+                        ids.push(&part.part_id);
+                    }
+                }
+                cost += line * ids.len() as f64;
+                cost >= objective_key(objective, best).0 - 1e-12
+            }
+            _ => false,
+        };
+        if !skip {
+            let design = walk.design(problem, shapes, options, &picks);
+            if let Ok(model) = Model::new(problem.need, stock, &design) {
+                if fixed.is_none() {
+                    let c = costing(model.built(), line);
+                    let resistor_lines = model
+                        .built()
+                        .resistors
+                        .iter()
+                        .map(|r| r.part.part_id.as_str())
+                        .collect::<std::collections::BTreeSet<_>>()
+                        .len();
+                    let resistor_cost: f64 = model
+                        .built()
+                        .resistors
+                        .iter()
+                        .map(|r| r.part.unit_cost)
+                        .sum();
+                    fixed = Some(c.total - resistor_cost - line * resistor_lines as f64);
+                }
+                if cannot_meet(problem, &model) {
+                    state.diagnosis.note_findings(&model.findings());
+                } else if let Some(c) = verify_model(problem, design, model) {
+                    state.evaluated += 1;
+                    state.offer(c);
+                }
+            }
+        }
+        // The next assignment, first slot fastest.
+        let mut slot = 0;
+        while slot < count {
+            flat[slot] += 1;
+            if flat[slot] < choices {
+                break;
+            }
+            flat[slot] = 0;
+            slot += 1;
+        }
+        if slot == count {
+            return true;
+        }
+    }
+}
+
+/// How a walk ended.
+pub(super) struct WalkEnd {
+    /// What the walk found.
+    pub(super) state: SearchState,
+    /// The walk visited or ruled out every structure: its verdict is
+    /// proven.
+    pub(super) finished: bool,
+    /// A cancel stopped it.
+    pub(super) cancelled: bool,
+    /// The bound of the first structure not searched, when cut short.
+    pub(super) bound_left: Option<f64>,
+    /// Structures in the walk.
+    pub(super) total: u64,
+}
+
+/// What a walk may spend and how it reports progress.
+pub(super) struct WalkBudget {
+    /// When to give up, on the caller's clock (infinite: never).
+    pub(super) deadline_ms: f64,
+    /// Report progress as this fixed total (the main search's) instead of
+    /// the walk's own, so a call shows one total.
+    pub(super) report_as: Option<u64>,
+}
+
+/// Designs in the whole walk, counted without building it, or `None` as
+/// soon as the count passes `limit` (the demo's space is astronomically
+/// large, and the count must cost next to nothing there).
+pub(super) fn space_size(problem: &Problem<'_>, limit: u64) -> Option<u64> {
+    let need = problem.need;
+    let stock = problem.stock;
+    let span = need.supply.positive.0 - need.supply.negative.0;
+    let opamps = stock
+        .opamps
+        .iter()
+        .filter(|p| p.stock_qty != Some(0) && span >= p.supply_min.0 && span <= p.supply_max.0)
+        .count() as u64;
+    let inamps = stock
+        .inamps
+        .iter()
+        .filter(|p| p.stock_qty != Some(0) && span >= p.supply_min.0 && span <= p.supply_max.0)
+        .count() as u64;
+    let sources = u64::from(need.supply.positive.0 > 0.0)
+        + stock
+            .references
+            .iter()
+            .filter(|r| r.stock_qty != Some(0))
+            .count() as u64;
+    let choices = stock
+        .resistors
+        .iter()
+        .filter(|r| r.stock_qty != Some(0))
+        .count() as u64;
+    let (k, _) = need.ideal_transfer();
+    // Drives of a node: (how many, extra resistors, buffered).
+    let drives = [
+        (1, 0, false),
+        (sources, 0, false),
+        (sources, 2, false),
+        (sources, 2, true),
+    ];
+    let mut total = 0u64;
+    for shapes in shape_sequences(need, stock) {
+        let sign: f64 = shapes.iter().map(|s| s.sign()).product();
+        if sign * k <= 0.0 && wrong_sign_ruled_out(problem) {
+            continue;
+        }
+        let mut sequence = 1u64;
+        for &shape in &shapes {
+            let bias_drives: &[(u64, usize, bool)] = if uses_bias(shape) {
+                &drives
+            } else {
+                &drives[..1]
+            };
+            let optional = shape.optional_roles().len();
+            let mut stage = 0u64;
+            for &(offsets, offset_extra, offset_buffered) in &drives {
+                for &(biases, bias_extra, bias_buffered) in bias_drives {
+                    let buffered = usize::from(offset_buffered) + usize::from(bias_buffered);
+                    let (amps, buffers) = if shape.integrated() {
+                        (inamps, if buffered > 0 { opamps } else { 1 })
+                    } else {
+                        (opamps, 1)
+                    };
+                    for present in 0..=optional {
+                        let slots = shape.resistor_count() + present + offset_extra + bias_extra;
+                        let amplifier_parts = usize::from(shape.integrated())
+                            + usize::from(!shape.integrated() || buffered > 0);
+                        if slots + amplifier_parts > need.search.max_parts {
+                            continue;
+                        }
+                        let subsets = binomial(optional, present);
+                        let designs = choices
+                            .saturating_pow(slots as u32)
+                            .saturating_mul(amps * buffers * offsets * biases * subsets);
+                        stage = stage.saturating_add(designs);
+                    }
+                }
+            }
+            sequence = sequence.saturating_mul(stage);
+        }
+        total = total.saturating_add(sequence);
+        if total > limit {
+            return None;
+        }
+    }
+    Some(total)
+}
+
+/// `n` choose `k`, for the few optional roles of a shape.
+fn binomial(n: usize, k: usize) -> u64 {
+    (0..k).fold(1u64, |acc, i| acc * (n - i) as u64 / (i + 1) as u64)
+}
+
+/// Walk the space from `state` (which may hold an incumbent best design,
+/// so the walk prunes against it from the start).
+pub(super) fn walk(
+    problem: &Problem<'_>,
+    control: &mut SolveControl<'_>,
+    mut state: SearchState,
+    budget: &WalkBudget,
+) -> WalkEnd {
+    let objective = problem.need.search.objective;
+    let walk = Walk::new(problem);
+    let total = walk.total();
+    let mut heap = BinaryHeap::new();
+    for (sequence, (shapes, _, _)) in walk.sequences.iter().enumerate() {
+        let index = vec![0; shapes.len()];
+        heap.push(Node {
+            key: walk.key(sequence, &index),
+            sequence,
+            index,
+            last: 0,
+        });
+    }
+    let mut done = 0u64;
+    let mut cancelled = false;
+    let mut bound_left: Option<f64> = None;
+    while let Some(node) = heap.pop() {
+        // Proof: structures leave the heap in bound order, so when this
+        // bound cannot beat the best, no structure left can.
+        if let Some(best) = state.best.as_ref() {
+            if objective != Objective::Error && node.key >= objective_key(objective, best).0 - 1e-12
+            {
+                heap.clear();
+                break;
+            }
+        }
+        let keep_going = (control.progress)(Progress {
+            done: budget.report_as.unwrap_or(done),
+            total: budget.report_as.unwrap_or(total),
+            best_cost: state.best.as_ref().map(|b| b.costing.total),
+        });
+        if !keep_going || (control.now_ms)() > budget.deadline_ms {
+            cancelled = !keep_going;
+            bound_left = Some(node.key);
+            break;
+        }
+        done += 1;
+        let (shapes, options, _) = &walk.sequences[node.sequence];
+        for stage in node.last..shapes.len() {
+            if node.index[stage] + 1 < options[stage].len() {
+                let mut index = node.index.clone();
+                index[stage] += 1;
+                heap.push(Node {
+                    key: walk.key(node.sequence, &index),
+                    sequence: node.sequence,
+                    index,
+                    last: stage,
+                });
+            }
+        }
+        let chosen: Vec<&StageOption> = node
+            .index
+            .iter()
+            .enumerate()
+            .map(|(stage, &i)| &options[stage][i])
+            .collect();
+        // Proof: the part-count check fails a design with more parts than
+        // `max_parts`, whatever its values.
+        let parts: usize = chosen.iter().map(|o| o.parts).sum::<usize>()
+            + chosen
+                .iter()
+                .filter(|o| o.sections > 0)
+                .map(|o| o.sections)
+                .sum::<usize>()
+                .min(1);
+        if parts > problem.need.search.max_parts {
+            continue;
+        }
+        let clock = control.now_ms;
+        if !search_structure(
+            problem,
+            &walk,
+            shapes,
+            &chosen,
+            &mut state,
+            (clock, budget.deadline_ms),
+        ) {
+            bound_left = Some(node.key);
+            break;
+        }
+    }
+    WalkEnd {
+        finished: bound_left.is_none(),
+        state,
+        cancelled,
+        bound_left,
+        total,
+    }
+}
+
+/// The exhaustive mode. It has no time limit of its own (only a cancel
+/// stops it, and then it is unfinished); a walk that ends proves its
+/// verdict: the best design is optimal over the space, or none exists.
+pub(super) fn run(problem: &Problem<'_>, control: &mut SolveControl<'_>) -> RunResult {
+    let start = (control.now_ms)();
+    let objective = problem.need.search.objective;
+    let end = walk(
+        problem,
+        control,
+        SearchState::new(objective),
+        &WalkBudget {
+            deadline_ms: f64::INFINITY,
+            report_as: None,
+        },
+    );
+    let elapsed_ms = (control.now_ms)() - start;
+    let state = end.state;
+    let gap = match (objective, state.best.as_ref(), end.bound_left) {
+        (Objective::Error, _, _) | (_, None, _) => None,
+        (_, Some(best), Some(bound)) => Some((objective_key(objective, best).0 - bound).max(0.0)),
+        _ => None,
+    };
+    RunResult {
+        stopped: (!end.finished).then_some(Stop::Cancelled),
+        proven_infeasible: end.finished && state.best.is_none(),
+        stats: SearchStats {
+            mode: SearchMode::Exhaustive.name().into(),
+            evaluated: state.evaluated,
+            structures: end.total,
+            milp_solves: 0,
+            elapsed_ms,
+            proven_optimal: end.finished && state.best.is_some(),
+            gap,
+        },
+        best: state.best,
+        found: state.found,
+        diagnosis: state.diagnosis,
+    }
+}
