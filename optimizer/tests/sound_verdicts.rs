@@ -1,0 +1,153 @@
+//! "Meets the need" must hold at every extreme, untrimmed.
+//!
+//! The cases here are invented scenarios (no real sensor or part): a
+//! high-impedance glass-type electrode, +/-400 mV through 100 Mohm, on a
+//! split +/-5 V supply, read by an invented bipolar +/-1.5 V ADC with a
+//! two-point calibration. An op-amp whose bias current is 100 nA puts
+//! `100 nA x 100 Mohm = 10 V` (Ohm's law) on its + input: the circuit
+//! saturates, and no trim can undo that. The same design with a 1 pA part
+//! works. The op-amp rows are invented test parts (`TV-*`).
+
+#![allow(clippy::disallowed_methods, clippy::disallowed_types)]
+
+use spanfit::analysis::{analyze, Analysis, Check, Contributor};
+use spanfit::design::parse_design;
+use spanfit::need::{parse_need, Need};
+use spanfit::search::{solve, Progress, SearchMode, SolveControl};
+use spanfit::stock::{parse_stock, Stock, StockFile};
+use std::time::Instant;
+
+const RESISTORS: &str =
+    "part_id,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+TV-R1,E96,10,1000000,0.1,25,0603,0.01,\n";
+
+/// `TV-BIG`: 100 nA bias current. `TV-FET`: 1 pA. Otherwise alike: rail
+/// to rail in and out, 20 V supply span.
+const OPAMPS: &str = "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
+TV-BIG,1,2.7,20,0.1,0.1,0.1,0.1,100,1,100,10,110,1,20,0.1,100,0.5,100\n\
+TV-FET,1,2.7,20,0.1,0.1,0.1,0.1,100,1,0.001,0.001,110,1,20,0.0001,100,0.5,100\n";
+
+const REFERENCES: &str =
+    "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty\n";
+
+fn stock(opamps: &str) -> Stock {
+    let file = |name: &str, text: &str| StockFile {
+        name: name.to_string(),
+        bytes: text.as_bytes().to_vec(),
+    };
+    parse_stock(&[
+        file("resistors.csv", RESISTORS),
+        file("opamps.csv", opamps),
+        file("references.csv", REFERENCES),
+    ])
+    .unwrap_or_else(|e| panic!("the test stock does not parse: {e}"))
+}
+
+/// The electrode need (invented scenario).
+fn electrode_need() -> Need {
+    let toml = "[sensor]\nlabel = \"invented glass-type electrode\"\n\
+        signal_low_v = -0.4\nsignal_high_v = 0.4\nsource_ohms = 100000000\n\
+        [adc]\nlow_v = -1.5\nhigh_v = 1.5\nbits = 12\nmargin_pct = 2\n\
+        [supply]\npositive_v = 5\nnegative_v = -5\ntolerance_pct = 5\n\
+        [accuracy]\nmax_error_pct_fs = 1\ncalibration = \"two-point\"\n\
+        temp_min_c = 0\ntemp_max_c = 50\nbandwidth_hz = 1\n\
+        [search]\nmax_stages = 1\ntopologies = [\"non-inverting\"]\n\
+        resistor_series = [\"E96\"]\ntime_limit_ms = 4000\n";
+    parse_need(toml.as_bytes(), "electrode.toml")
+        .unwrap_or_else(|e| panic!("the electrode need does not parse: {e}"))
+}
+
+/// A non-inverting stage of gain 1 + 2.6k/1k = 3.6 (96 % of 3 V over 0.8 V).
+fn electrode_design(stock: &Stock, amplifier: &str) -> spanfit::design::Design {
+    let json = serde_json::json!({"stages": [{
+        "shape": "non-inverting", "amplifier": amplifier,
+        "resistors": {
+            "rf": {"ohms": 2600.0, "tolerance_pct": 0.1, "tcr_ppm_per_c": 25},
+            "rg": {"ohms": 1000.0, "tolerance_pct": 0.1, "tcr_ppm_per_c": 25}
+        },
+    }]})
+    .to_string();
+    parse_design(json.as_bytes(), "electrode.json", stock)
+        .unwrap_or_else(|e| panic!("the electrode design does not parse: {e}"))
+}
+
+fn analyse(amplifier: &str) -> Analysis {
+    let need = electrode_need();
+    let stock = stock(OPAMPS);
+    let design = electrode_design(&stock, amplifier);
+    analyze(&need, &stock, &design, 0, 1)
+        .unwrap_or_else(|e| panic!("the electrode design does not analyse: {e}"))
+        .1
+}
+
+fn finding_ok(a: &Analysis, check: Check) -> bool {
+    a.findings.iter().filter(|f| f.kind == check).all(|f| f.ok)
+}
+
+/// 100 nA through 100 Mohm is 10 V at the + input (Ohm's law): beyond
+/// the +/-5 V rails, so the common-mode check fails before any trim and
+/// the design is not met, whatever its calibrated error.
+#[test]
+fn saturated_electrode_front_end_is_not_met() {
+    let a = analyse("TV-BIG");
+    assert!(
+        !finding_ok(&a, Check::CommonMode),
+        "the + input reaches 10 V but the common-mode check passed: {:?}",
+        a.findings
+    );
+    assert!(!finding_ok(&a, Check::OutputSwing));
+    assert!(!finding_ok(&a, Check::AdcWindow));
+    assert!(!a.feasible && !a.meets_target);
+    // The bias current still drifts after the two-point trim: its line is
+    // not zero (100 nA x 100 Mohm x gain 3.6 is far beyond 1 % of 3 V).
+    let bias = a
+        .budget
+        .iter()
+        .find(|b| b.line == Contributor::BiasCurrent)
+        .map(|b| b.at_ends_pct_fs[0].abs().max(b.at_ends_pct_fs[1].abs()))
+        .unwrap_or(0.0);
+    assert!(bias > 100.0, "bias current line {bias} % FS");
+}
+
+/// The same stage with a 1 pA part passes every check (the checks above
+/// do not fail for every design of this need).
+#[test]
+fn electrode_front_end_with_low_bias_part_is_met() {
+    let a = analyse("TV-FET");
+    assert!(
+        a.feasible,
+        "{:?}",
+        a.findings.iter().filter(|f| !f.ok).collect::<Vec<_>>()
+    );
+    assert!(a.meets_target, "worst case {} % FS", a.worst_case_pct_fs);
+}
+
+/// The search, given only the 100 nA part, returns no design that it calls
+/// met.
+#[test]
+fn search_with_only_the_high_bias_part_meets_nothing() {
+    let need = electrode_need();
+    let only_big = OPAMPS
+        .lines()
+        .filter(|l| !l.starts_with("TV-FET"))
+        .collect::<Vec<_>>()
+        .join("\n")
+        + "\n";
+    let stock = stock(&only_big);
+    let t0 = Instant::now();
+    let clock = move || t0.elapsed().as_secs_f64() * 1000.0;
+    let mut progress = |_p: Progress| true;
+    let mut control = SolveControl {
+        progress: &mut progress,
+        now_ms: &clock,
+    };
+    let outcome = solve(&need, &stock, SearchMode::Optimised, &mut control)
+        .unwrap_or_else(|e| panic!("solve failed: {e}"));
+    for c in outcome.best.iter().chain(outcome.alternatives.iter()) {
+        assert!(
+            !c.analysis.meets_target,
+            "a design on the 100 nA part is called met: worst case {} % FS",
+            c.analysis.worst_case_pct_fs
+        );
+    }
+}
