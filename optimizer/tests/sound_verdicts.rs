@@ -151,3 +151,135 @@ fn search_with_only_the_high_bias_part_meets_nothing() {
         );
     }
 }
+
+// ---------------------------------------------------------------------
+// The worst case is a maximum over corners.
+
+/// Invented test op-amp with offset, bias and offset current.
+const CORNER_OPAMPS: &str = "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
+TV-C,1,2.7,20,0,0,0,0,500,5,20,5,100,1,20,0.1,90,0.5,100\n";
+
+/// A small seeded generator for drawing cases and vertices (splitmix64,
+/// from its published description).
+struct Draw(u64);
+
+impl Draw {
+    fn next(&mut self) -> f64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
+    }
+    fn between(&mut self, low: f64, high: f64) -> f64 {
+        low + (high - low) * self.next()
+    }
+    fn sign(&mut self) -> f64 {
+        if self.next() < 0.5 {
+            -1.0
+        } else {
+            1.0
+        }
+    }
+}
+
+/// The largest exact error (volts, noise peak added) over the corners a
+/// search of its own finds: greedy single flips from all-high, all-low
+/// and random starts, and random vertices.
+fn searched_worst(model: &spanfit::analysis::Model, draw: &mut Draw) -> f64 {
+    let p = model.parameter_count();
+    let eval = |x: &[f64], y: &[f64]| -> f64 {
+        let e = model
+            .error_at(x, y)
+            .unwrap_or_else(|e| panic!("corner does not solve: {e}"));
+        e[0].abs().max(e[1].abs())
+    };
+    let mut worst = 0.0f64;
+    let mut starts: Vec<(Vec<f64>, Vec<f64>)> = vec![(vec![1.0; p], vec![1.0; p])];
+    starts.push((vec![-1.0; p], vec![-1.0; p]));
+    for _ in 0..3 {
+        let x = (0..p).map(|_| draw.sign()).collect();
+        let y = (0..p).map(|_| draw.sign()).collect();
+        starts.push((x, y));
+    }
+    for (mut x, mut y) in starts {
+        let mut best = eval(&x, &y);
+        for _pass in 0..4 {
+            let mut improved = false;
+            for k in 0..2 * p {
+                let (v, i) = if k < p { (&mut x, k) } else { (&mut y, k - p) };
+                v[i] = -v[i];
+                let e = eval(&x, &y);
+                let v = if k < p { &mut x } else { &mut y };
+                if e > best {
+                    best = e;
+                    improved = true;
+                } else {
+                    v[i] = -v[i];
+                }
+            }
+            if !improved {
+                break;
+            }
+        }
+        worst = worst.max(best);
+    }
+    for _ in 0..40 {
+        let x: Vec<f64> = (0..p).map(|_| draw.sign()).collect();
+        let y: Vec<f64> = (0..p).map(|_| draw.sign()).collect();
+        worst = worst.max(eval(&x, &y));
+    }
+    worst + model.noise_peak_v()
+}
+
+/// Random one-stage designs with the offset taken from the supply through
+/// a divider, each calibration: no corner found by an independent search
+/// (greedy sign flips from several starts plus random vertices, every
+/// corner solved on the full netlist) exceeds the reported worst case.
+#[test]
+fn no_corner_found_exceeds_the_reported_worst_case() {
+    let stock = stock(CORNER_OPAMPS);
+    let mut draw = Draw(0x5EED_C0DE);
+    for case in 0..12 {
+        let calibration = ["none", "offset", "two-point"][case % 3];
+        let ratiometric = case % 2 == 0;
+        let toml = format!(
+            "[sensor]\nsignal_low_v = 0.1\nsignal_high_v = 0.5\nsource_ohms = 1000\n\
+             [adc]\nlow_v = 0\nhigh_v = 3\nbits = 12\nmargin_pct = 2\n\
+             [supply]\npositive_v = 5\ntolerance_pct = 5\nratiometric = {ratiometric}\n\
+             [accuracy]\nmax_error_pct_fs = 1\ncalibration = \"{calibration}\"\n\
+             temp_min_c = -30\ntemp_max_c = 60\nbandwidth_hz = 1\n"
+        );
+        let need = parse_need(toml.as_bytes(), "corner.toml")
+            .unwrap_or_else(|e| panic!("the corner need does not parse: {e}"));
+        let resistor = |draw: &mut Draw, ohms: f64| {
+            serde_json::json!({
+                "ohms": ohms,
+                "tolerance_pct": draw.between(0.05, 2.0),
+                "tcr_ppm_per_c": draw.between(5.0, 200.0),
+            })
+        };
+        let rg = draw.between(1e3, 2e4);
+        let rf = rg * draw.between(2.0, 12.0);
+        let top = draw.between(1e4, 1e5);
+        let bottom = top * draw.between(0.01, 0.2);
+        let json = serde_json::json!({"stages": [{
+            "shape": "non-inverting", "amplifier": "TV-C",
+            "resistors": {"rf": resistor(&mut draw, rf), "rg": resistor(&mut draw, rg)},
+            "offset": {"kind": "divider", "source": "supply",
+                       "top": resistor(&mut draw, top), "bottom": resistor(&mut draw, bottom)},
+        }]})
+        .to_string();
+        let design = parse_design(json.as_bytes(), "corner.json", &stock)
+            .unwrap_or_else(|e| panic!("the corner design does not parse: {e}"));
+        let (model, analysis) = analyze(&need, &stock, &design, 0, 1)
+            .unwrap_or_else(|e| panic!("the corner design does not analyse: {e}"));
+        let found = searched_worst(&model, &mut draw);
+        let reported = analysis.worst_case_pct_fs * need.full_scale() / 100.0;
+        assert!(
+            found <= reported * (1.0 + 1e-9) + 1e-12,
+            "case {case} ({calibration}, ratiometric {ratiometric}): a corner gives {found:e} V, \
+             the reported worst case is {reported:e} V"
+        );
+    }
+}

@@ -15,10 +15,11 @@
 //! output in `mna::DcSolution`.
 
 use super::params::{Parameter, Target};
-use crate::mna::DcSolution;
+use crate::mna::{element_value, DcSolution, Solver};
 use crate::netlist::{ElementKind, Netlist, Node};
 
-/// `d(V_node)/d(target)` at `end`, from the node's adjoint `adjoint`.
+/// `d(V_node)/d(target)` at `end` of the nominal solution, from the
+/// node's adjoint `adjoint`.
 pub(crate) fn sensitivity(
     netlist: &Netlist,
     dc: &DcSolution,
@@ -26,7 +27,22 @@ pub(crate) fn sensitivity(
     target: &Target,
     end: usize,
 ) -> f64 {
-    let solver = dc.solver();
+    let voltage = |n: Node| dc.voltage(end, n);
+    sensitivity_with(netlist, dc.solver(), adjoint, target, &voltage, None)
+}
+
+/// `d(V)/d(target)` for the node whose adjoint is `adjoint`, on `netlist`
+/// factored in `solver`, whose node voltages are `voltage`. A resistor's
+/// deviation is relative to its value in `nominal` (its present value
+/// when `None`).
+pub(crate) fn sensitivity_with(
+    netlist: &Netlist,
+    solver: &Solver,
+    adjoint: &[f64],
+    target: &Target,
+    voltage: &dyn Fn(Node) -> f64,
+    nominal: Option<&Netlist>,
+) -> f64 {
     let at_node = |n: Node| solver.node_unknown(n).map(|i| adjoint[i]).unwrap_or(0.0);
     // A source's value enters the right-hand side: a voltage source at its
     // branch row, a current source out of its first node and into its
@@ -51,10 +67,13 @@ pub(crate) fn sensitivity(
                 let ElementKind::Resistor { ohms } = element.kind else {
                     return 0.0;
                 };
+                let base = nominal.map(|n| element_value(n, e)).unwrap_or(ohms);
                 let (a, b) = (element.nodes[0], element.nodes[1]);
                 let adjoint_drop = at_node(a) - at_node(b);
-                let voltage_drop = dc.voltage(end, a) - dc.voltage(end, b);
-                adjoint_drop * voltage_drop / ohms
+                let voltage_drop = voltage(a) - voltage(b);
+                // d V / d R = adjoint_drop * voltage_drop / R^2, and the
+                // deviation moves R by `base` per unit.
+                adjoint_drop * voltage_drop * base / (ohms * ohms)
             })
             .sum(),
         Target::Source(e) => source(*e),

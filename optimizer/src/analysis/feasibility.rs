@@ -88,10 +88,10 @@ impl Check {
                 format!("rails span {a:.3} V; the part runs from {b:.3} V to {c:.3} V")
             }
             Check::CommonMode => format!(
-                "inputs reach {a:.4} V to {b:.4} V with every part at its limits, untrimmed; the part accepts {c:.4} V to {d:.4} V"
+                "inputs reach {a:.4} V to {b:.4} V untrimmed; the part accepts {c:.4} V to {d:.4} V"
             ),
             Check::OutputSwing => format!(
-                "output reaches {a:.4} V to {b:.4} V with every part at its limits, untrimmed; the part swings {c:.4} V to {d:.4} V"
+                "output reaches {a:.4} V to {b:.4} V untrimmed; the part swings {c:.4} V to {d:.4} V"
             ),
             Check::GainBandwidth => format!(
                 "noise gain {a:.1} leaves {b:.0} Hz closed-loop bandwidth; the need asks 10 x {c:.1} Hz"
@@ -101,7 +101,7 @@ impl Check {
             ),
             Check::PartCount => format!("{a:.0} parts; the need allows {b:.0}"),
             Check::AdcWindow => format!(
-                "output reaches {a:.4} V to {b:.4} V (every part at its limits untrimmed, or the worst-case error, whichever is wider); the ADC takes {c:.4} V to {d:.4} V"
+                "output reaches {a:.4} V to {b:.4} V untrimmed; the ADC takes {c:.4} V to {d:.4} V"
             ),
         }
     }
