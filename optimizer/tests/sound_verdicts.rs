@@ -283,3 +283,54 @@ fn no_corner_found_exceeds_the_reported_worst_case() {
         );
     }
 }
+
+// ---------------------------------------------------------------------
+// The sensor's own resistance.
+
+/// An inverting stage fed through the sensor's resistance `Rs`:
+/// `Vout = -Rf Vs / (Ri + Rs)` (inverting amplifier, common practice), so
+/// a relative change `d` of `Rs` moves the output by
+/// `Rf Rs Vs / (Ri + Rs)^2 * d`. With `source_tolerance_pct = 10` and a
+/// 100 ppm/degC tempco over 25..75 degC (no calibration), the line is
+/// that sensitivity times 0.10 plus times 100e-6 x 50.
+#[test]
+fn sensor_resistance_line_matches_closed_form() {
+    let (rs, ri, rf) = (1_000.0, 9_000.0, 30_000.0);
+    let toml = format!(
+        "[sensor]\nsignal_low_v = -0.2\nsignal_high_v = 0.0\nsource_ohms = {rs}\n\
+         source_tolerance_pct = 10\nsource_tempco_ppm_per_c = 100\n\
+         [adc]\nlow_v = 0\nhigh_v = 3\nbits = 12\nmargin_pct = 0\n\
+         [supply]\npositive_v = 5\nnegative_v = -5\n\
+         [accuracy]\nmax_error_pct_fs = 5\ntemp_min_c = 25\ntemp_max_c = 75\nbandwidth_hz = 1\n"
+    );
+    let need = parse_need(toml.as_bytes(), "source.toml")
+        .unwrap_or_else(|e| panic!("the need does not parse: {e}"));
+    let stock = stock(OPAMPS);
+    let exact =
+        |ohms: f64| serde_json::json!({"ohms": ohms, "tolerance_pct": 0, "tcr_ppm_per_c": 0});
+    let json = serde_json::json!({"stages": [{
+        "shape": "inverting", "amplifier": "TV-FET",
+        "resistors": {"ri": exact(ri), "rf": exact(rf)},
+    }]})
+    .to_string();
+    let design = parse_design(json.as_bytes(), "source.json", &stock)
+        .unwrap_or_else(|e| panic!("the design does not parse: {e}"));
+    let (_, a) = analyze(&need, &stock, &design, 0, 1)
+        .unwrap_or_else(|e| panic!("the design does not analyse: {e}"));
+    let line = a
+        .budget
+        .iter()
+        .find(|b| b.line == Contributor::SourceResistance)
+        .unwrap_or_else(|| panic!("no sensor resistance line: {:?}", a.budget));
+    for (end, vs) in [-0.2f64, 0.0].into_iter().enumerate() {
+        let s = rf * rs * vs.abs() / (ri + rs).powi(2);
+        let want = 100.0 * s * (0.10 + 100e-6 * 50.0) / 3.0;
+        let got = line.at_ends_pct_fs[end].abs();
+        assert!(
+            // 1e-4: the part's 110 dB open-loop gain moves the closed form
+            // by about noise gain / A_OL = 4 / 3e5.
+            (got - want).abs() <= 1e-4 * want.max(1e-12) + 1e-12,
+            "end {end}: line {got} % FS, closed form {want} % FS"
+        );
+    }
+}

@@ -112,6 +112,27 @@ pub(crate) fn collect(
             });
         }
     }
+    // The sensor's own resistance, all legs together (one resistor, split
+    // between the legs of a differential sensor).
+    let source_tolerance = need.sensor.source_tolerance.fraction();
+    let source_drift = need.sensor.source_tempco.fraction_per_c() * delta_t;
+    if !built.source_resistors.is_empty() && (source_tolerance > 0.0 || source_drift != 0.0) {
+        let mut sensitivity = [0.0; 2];
+        for &e in &built.source_resistors {
+            let s = dc.resistor_sensitivity(netlist, e);
+            sensitivity[0] += s[0];
+            sensitivity[1] += s[1];
+        }
+        params.push(Parameter {
+            initial_contributor: Contributor::SourceResistance,
+            drift_contributor: Contributor::SourceResistance,
+            target: Target::Resistors(built.source_resistors.clone()),
+            initial: [source_tolerance; 2],
+            drift: source_drift.abs(),
+            sensitivity,
+            calibratable: true,
+        });
+    }
     if let Some(supply) = supply_parameter(need, built, dc) {
         params.push(supply);
     }
