@@ -255,8 +255,8 @@ impl Model {
                 for (i, parameter) in self.params.iter().enumerate() {
                     let mut g = scale
                         * sensitivity_with(
-                            &netlist,
-                            &solver,
+                            netlist,
+                            solver,
                             &adjoint,
                             &parameter.target,
                             &voltage,
