@@ -5,7 +5,7 @@
 
 use crate::error::Result;
 use crate::series::Series;
-use crate::units::{Celsius, Hertz, Ohms, Percent, Volts};
+use crate::units::{Celsius, Hertz, Ohms, Percent, PpmPerC, Volts};
 use serde::{Deserialize, Serialize};
 
 /// How the sensor presents its signal.
@@ -59,6 +59,12 @@ pub struct Sensor {
     pub common_mode: Volts,
     /// Output resistance of the sensor (each leg, for a differential one).
     pub source: Ohms,
+    /// Tolerance of that resistance (0: exact).
+    #[serde(default)]
+    pub source_tolerance: Percent,
+    /// Temperature coefficient of that resistance (0: none).
+    #[serde(default)]
+    pub source_tempco: PpmPerC,
 }
 
 /// The converter the front end drives.

@@ -156,6 +156,14 @@ pub fn need_fields() -> Vec<NeedField> {
             "Output resistance of the sensor (each leg when differential); 0 or more.")
             .default(json!(0.0))
             .range(Some((0.0, CLOSED)), None),
+        field("sensor.source_tolerance_pct", "Sensor resistance tolerance", pct, Number,
+            "Tolerance of the sensor's output resistance; 0 (exact) to below 100 %.")
+            .default(json!(0.0))
+            .range(Some((0.0, CLOSED)), Some((100.0, OPEN))),
+        field("sensor.source_tempco_ppm_per_c", "Sensor resistance tempco", Some("ppm/degC"), Number,
+            "Temperature coefficient of the sensor's output resistance; 0 for none.")
+            .default(json!(0.0))
+            .range(Some((-100_000.0, CLOSED)), Some((100_000.0, CLOSED))),
         field("adc.low_v", "ADC window bottom", v, Number,
             "Lowest input voltage the ADC converts; inside the supply rails.")
             .required(),

@@ -14,7 +14,7 @@ use crate::need::{
     SensorOutput, StockSource, Supply, Topology,
 };
 use crate::series::Series;
-use crate::units::{Celsius, Hertz, Ohms, Percent, Volts};
+use crate::units::{Celsius, Hertz, Ohms, Percent, PpmPerC, Volts};
 use serde::Deserialize;
 use std::ops::Range;
 
@@ -72,6 +72,8 @@ mod defaults {
 /// | `sensor.output` | `"single-ended"` |
 /// | `sensor.common_mode_v` | required when differential; not allowed otherwise |
 /// | `sensor.source_ohms` | 0 |
+/// | `sensor.source_tolerance_pct` | 0 |
+/// | `sensor.source_tempco_ppm_per_c` | 0 |
 /// | `adc.margin_pct` | 0 |
 /// | `supply.negative_v` | 0 (single supply) |
 /// | `supply.tolerance_pct` | 5 |
@@ -182,6 +184,8 @@ struct RawSensor<W> {
     output: Option<W>,
     common_mode_v: Option<W>,
     source_ohms: Option<W>,
+    source_tolerance_pct: Option<W>,
+    source_tempco_ppm_per_c: Option<W>,
 }
 
 /// `[adc]`.
@@ -598,6 +602,23 @@ fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor>
         "a source resistance of zero ohms or more",
     )?;
 
+    let tolerance_key = key!(ctx, sensor, raw, source_tolerance_pct);
+    let source_tolerance = tolerance_key.number("percent")?.unwrap_or(0.0);
+    check(
+        &tolerance_key,
+        source_tolerance,
+        (0.0..100.0).contains(&source_tolerance),
+        "a tolerance from 0 to less than 100 %",
+    )?;
+    let tempco_key = key!(ctx, sensor, raw, source_tempco_ppm_per_c);
+    let source_tempco = tempco_key.number("ppm/degC")?.unwrap_or(0.0);
+    check(
+        &tempco_key,
+        source_tempco,
+        source_tempco.abs() <= 100_000.0,
+        "a tempco from -100000 to 100000 ppm/degC",
+    )?;
+
     Ok(Sensor {
         label,
         signal_low: Volts(low),
@@ -606,6 +627,8 @@ fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor>
         output,
         common_mode: Volts(common_mode),
         source: Ohms(source),
+        source_tolerance: Percent(source_tolerance),
+        source_tempco: PpmPerC(source_tempco),
     })
 }
 

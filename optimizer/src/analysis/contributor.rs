@@ -41,13 +41,15 @@ pub enum Contributor {
     InAmpGainDrift,
     /// In-amp output offset.
     InAmpOutputOffset,
+    /// The sensor's own resistance: its tolerance and tempco.
+    SourceResistance,
     /// Noise over the bandwidth, as the peak (half of 6.6-sigma p-p).
     Noise,
 }
 
 impl Contributor {
     /// Every contributor in report order.
-    pub const ALL: [Contributor; 16] = [
+    pub const ALL: [Contributor; 17] = [
         Contributor::NominalRounding,
         Contributor::OpenLoopGain,
         Contributor::ResistorTolerance,
@@ -63,6 +65,7 @@ impl Contributor {
         Contributor::InAmpGainError,
         Contributor::InAmpGainDrift,
         Contributor::InAmpOutputOffset,
+        Contributor::SourceResistance,
         Contributor::Noise,
     ];
 
@@ -84,6 +87,7 @@ impl Contributor {
             Contributor::InAmpGainError => "in-amp gain error",
             Contributor::InAmpGainDrift => "in-amp gain drift",
             Contributor::InAmpOutputOffset => "in-amp output offset",
+            Contributor::SourceResistance => "sensor resistance tolerance and tempco",
             Contributor::Noise => "noise (peak, 3.3 sigma)",
         }
     }

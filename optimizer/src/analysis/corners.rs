@@ -1,12 +1,46 @@
 //! Corners: the full netlist solved with every parameter at a chosen point
-//! of its range, and the worst-case corner the linear model predicts,
-//! solved exactly to confirm the first-order worst case.
+//! of its range, and the worst-case corner searched on the full netlist.
+//!
+//! The search starts from the corner the linear model says is worst and
+//! from its mirror. At each corner the exact calibrated error and its
+//! gradient with respect to every deviation come from one factorisation
+//! per board state (in service, and as calibrated) and one adjoint solve;
+//! every deviation is then put on the side its exact gradient says adds
+//! to the error, and the new corner is kept while the error grows. This
+//! catches the cross terms a first-order sign misses (a divider tolerance
+//! whose own effect a trim removes, against the supply that moves after
+//! the trim).
 
 use super::contributor::Contributor;
+use super::extremes::sensitivity_with;
 use super::params::{Parameter, Target};
 use super::Model;
 use crate::error::{Error, Result};
 use crate::mna::{element_value, set_element_value, Solver};
+use crate::need::Calibration;
+use crate::netlist::Netlist;
+
+/// Most gradient steps of the corner search from each start (each step
+/// costs two factorisations; the search stops as soon as a step does not
+/// raise the error).
+const CLIMB_STEPS: usize = 4;
+
+/// A working copy of the netlist and its solver, made once per corner
+/// search and reset from the nominal values at each corner (a fresh copy
+/// per corner costs more than the solve).
+struct Scratch {
+    netlist: Netlist,
+    solver: Solver,
+}
+
+/// The board solved at one corner: the reading at both span ends and,
+/// when asked, its gradient with respect to every deviation (in units of
+/// its range), per end.
+struct State {
+    reading: [f64; 2],
+    d_initial: [Vec<f64>; 2],
+    d_drift: [Vec<f64>; 2],
+}
 
 /// Sign with zero kept as zero.
 #[inline]
@@ -36,19 +70,87 @@ impl Model {
     /// `drift` (each in units of its range), and return the calibrated
     /// error at each end in volts.
     pub(crate) fn exact_error(&self, initial: &[f64], drift: &[f64]) -> Result<[f64; 2]> {
-        let in_service = self.outputs_at(initial, drift, true)?;
+        let mut scratch = self.scratch();
+        let in_service = self
+            .state_at(&mut scratch, initial, drift, true, [false; 2])?
+            .reading;
         self.calibration.apply_exact(self.ideal, in_service, || {
-            self.outputs_at(initial, drift, false)
+            Ok(self
+                .state_at(&mut scratch, initial, drift, false, [false; 2])?
+                .reading)
         })
     }
 
-    /// The output at both span ends with the parameters at `initial` (and
-    /// at `drift` when `with_drift`: in service; without, the board as
-    /// calibrated, where a deviation that calibration cannot remove, the
-    /// supply moving in service, is absent).
-    fn outputs_at(&self, initial: &[f64], drift: &[f64], with_drift: bool) -> Result<[f64; 2]> {
+    /// A working copy of the nominal netlist with its solver.
+    fn scratch(&self) -> Scratch {
+        let netlist = self.built.netlist.clone();
+        let solver = Solver::new(&netlist);
+        Scratch { netlist, solver }
+    }
+
+    /// The calibrated error at `end` with the parameters at `initial` and
+    /// `drift`, and its gradient with respect to each initial and each
+    /// drift deviation (the chain rule through [`Calibration::apply_exact`]).
+    fn error_and_gradient(
+        &self,
+        scratch: &mut Scratch,
+        initial: &[f64],
+        drift: &[f64],
+        end: usize,
+    ) -> Result<(f64, Vec<f64>, Vec<f64>)> {
+        let mut wanted = [false; 2];
+        wanted[end] = true;
+        let service = self.state_at(scratch, initial, drift, true, wanted)?;
+        let ideal = self.ideal;
+        let e_raw = service.reading[end] - ideal[end];
+        let mut gx = service.d_initial[end].clone();
+        let mut gy = service.d_drift[end].clone();
+        let error = match self.calibration {
+            Calibration::None => e_raw,
+            Calibration::Offset => {
+                let trimmed = self.state_at(scratch, initial, drift, false, [true, false])?;
+                for (g, d) in gx.iter_mut().zip(&trimmed.d_initial[0]) {
+                    *g -= d;
+                }
+                e_raw - (trimmed.reading[0] - ideal[0])
+            }
+            Calibration::TwoPoint => {
+                let trimmed = self.state_at(scratch, initial, drift, false, [true; 2])?;
+                let span_ideal = ideal[1] - ideal[0];
+                let span = trimmed.reading[1] - trimmed.reading[0];
+                let slope = span_ideal / span;
+                let above = service.reading[end] - trimmed.reading[0];
+                // e = ideal0 + (r - t0) * D / (t1 - t0) - ideal_end
+                let k = above * span_ideal / (span * span);
+                for (i, g) in gx.iter_mut().enumerate() {
+                    let d0 = trimmed.d_initial[0][i];
+                    let d1 = trimmed.d_initial[1][i];
+                    *g = (*g - d0) * slope - k * (d1 - d0);
+                }
+                for g in gy.iter_mut() {
+                    *g *= slope;
+                }
+                ideal[0] + above * slope - ideal[end]
+            }
+        };
+        Ok((error, gx, gy))
+    }
+
+    /// The board at `initial` and `drift` (in service with `with_drift`;
+    /// without, as calibrated: a deviation that calibration cannot remove,
+    /// the supply moving in service, is absent), with the gradient of its
+    /// reading at the ends marked in `gradients`.
+    fn state_at(
+        &self,
+        scratch: &mut Scratch,
+        initial: &[f64],
+        drift: &[f64],
+        with_drift: bool,
+        gradients: [bool; 2],
+    ) -> Result<State> {
+        let applies = |parameter: &Parameter| parameter.calibratable || with_drift;
         let deviation = |i: usize, parameter: &Parameter, end: usize| {
-            let initial_part = if parameter.calibratable || with_drift {
+            let initial_part = if applies(parameter) {
                 initial[i] * parameter.initial[end]
             } else {
                 0.0
@@ -63,45 +165,58 @@ impl Model {
         // Resistors set the matrix (the same at both ends); sources set the
         // right-hand side, end by end.
         let nominal = &self.built.netlist;
-        let mut netlist = nominal.clone();
+        let Scratch { netlist, solver } = scratch;
         for (i, parameter) in self.params.iter().enumerate() {
             if let Target::Resistors(elements) = &parameter.target {
                 let relative = deviation(i, parameter, 0);
                 for &e in elements {
-                    let ohms = element_value(&netlist, e);
-                    set_element_value(&mut netlist, e, ohms * (1.0 + relative));
+                    let ohms = element_value(nominal, e);
+                    set_element_value(netlist, e, ohms * (1.0 + relative));
                 }
             }
         }
-        let mut solver = Solver::new(&netlist);
         solver
-            .factor(&netlist)
+            .factor(netlist)
             .map_err(|e| Error::design(format!("corner has no DC solution ({})", e.unknown)))?;
+        let n = self.params.len();
+        let mut d_initial = [Vec::new(), Vec::new()];
+        let mut d_drift = [Vec::new(), Vec::new()];
+        // The output's adjoint: the same matrix at both ends.
+        let adjoint = if gradients[0] || gradients[1] {
+            let mut adjoint = vec![0.0; solver.size()];
+            if let Some(k) = solver.node_unknown(self.built.out) {
+                adjoint[k] = 1.0;
+            }
+            solver.solve_transposed_in_place(&mut adjoint);
+            adjoint
+        } else {
+            Vec::new()
+        };
         let mut result = [0.0; 2];
         let mut unknowns = vec![0.0; solver.size()];
         for (end, reading) in result.iter_mut().enumerate() {
             // Sources back to nominal, then every deviation added.
             let mut supply_deviation = 0.0;
+            let mut supply_index = None;
             for (i, parameter) in self.params.iter().enumerate() {
                 match &parameter.target {
                     Target::Resistors(_) | Target::AdcScale => {}
-                    Target::Source(e) => {
-                        set_element_value(&mut netlist, *e, element_value(nominal, *e))
-                    }
+                    Target::Source(e) => set_element_value(netlist, *e, element_value(nominal, *e)),
                     Target::BiasCommon(a, b) | Target::BiasOffset(a, b) => {
-                        set_element_value(&mut netlist, *a, element_value(nominal, *a));
-                        set_element_value(&mut netlist, *b, element_value(nominal, *b));
+                        set_element_value(netlist, *a, element_value(nominal, *a));
+                        set_element_value(netlist, *b, element_value(nominal, *b));
                     }
                 }
                 if parameter.initial_contributor == Contributor::SupplyTolerance {
                     supply_deviation = deviation(i, parameter, end);
+                    supply_index = Some(i);
                 }
             }
             for (i, parameter) in self.params.iter().enumerate() {
                 let delta = deviation(i, parameter, end);
                 let mut add = |e: usize, delta: f64| {
-                    let value = element_value(&netlist, e);
-                    set_element_value(&mut netlist, e, value + delta);
+                    let value = element_value(netlist, e);
+                    set_element_value(netlist, e, value + delta);
                 };
                 match &parameter.target {
                     Target::Resistors(_) | Target::AdcScale => {}
@@ -116,43 +231,124 @@ impl Model {
                     }
                 }
             }
-            set_element_value(&mut netlist, self.built.vsense, self.signal[end]);
-            solver.rhs(&netlist, &mut unknowns);
+            set_element_value(netlist, self.built.vsense, self.signal[end]);
+            solver.rhs(netlist, &mut unknowns);
             solver.solve_in_place(&mut unknowns);
             let mut output = solver.voltage(&unknowns, self.built.out);
+            // d(reading)/d(output), and d(reading)/d(supply deviation)
+            // beyond what passes through the output.
+            let (mut scale, mut supply_term) = (1.0, 0.0);
             if self.ratiometric {
                 // The ADC window scales with the supply: refer the reading
                 // back to the nominal window.
                 let low = self.adc_low;
-                output = low
-                    + (output - low) * self.supply_nominal
-                        / (self.supply_nominal + supply_deviation);
+                let supply = self.supply_nominal + supply_deviation;
+                scale = self.supply_nominal / supply;
+                supply_term = -(output - low) * self.supply_nominal / (supply * supply);
+                output = low + (output - low) * scale;
             }
             *reading = output;
+            if gradients[end] {
+                let voltage = |node| solver.voltage(&unknowns, node);
+                let mut gx = vec![0.0; n];
+                let mut gy = vec![0.0; n];
+                for (i, parameter) in self.params.iter().enumerate() {
+                    let mut g = scale
+                        * sensitivity_with(
+                            netlist,
+                            solver,
+                            &adjoint,
+                            &parameter.target,
+                            &voltage,
+                            Some(nominal),
+                        );
+                    if supply_index == Some(i) {
+                        g += supply_term;
+                    }
+                    if applies(parameter) {
+                        gx[i] = g * parameter.initial[end];
+                    }
+                    if with_drift {
+                        gy[i] = g * parameter.drift;
+                    }
+                }
+                d_initial[end] = gx;
+                d_drift[end] = gy;
+            }
         }
-        Ok(result)
+        Ok(State {
+            reading: result,
+            d_initial,
+            d_drift,
+        })
     }
 
-    /// The corner that the linear model says is worst at `end`, solved
-    /// exactly: error in volts (noise peak added).
+    /// The worst corner found at `end`, solved exactly: error in volts
+    /// (noise peak added). From the first-order corner and from its
+    /// mirror, every deviation goes to the side its exact gradient at the
+    /// current corner says adds to the error; a step is kept while the
+    /// error grows (at most [`CLIMB_STEPS`] steps).
     pub(crate) fn corner_check(&self, end: usize) -> Result<f64> {
-        // Each contribution is linear in its deviation, so x = +/-sign(u)
-        // puts every one the same way; both mirror corners are solved, as
-        // second-order terms may favour either.
+        let side = |v: f64, sign: f64| {
+            let s = signum0(v);
+            sign * if s == 0.0 { 1.0 } else { s }
+        };
+        let mut scratch = self.scratch();
         let mut worst = 0.0f64;
         for sign in [1.0, -1.0] {
-            let initial: Vec<f64> = self
+            let x: Vec<f64> = self
                 .params
                 .iter()
-                .map(|parameter| sign * signum0(parameter.initial_error(self.calibration, end)))
+                .map(|p| side(p.initial_error(self.calibration, end), sign))
                 .collect();
-            let drift: Vec<f64> = self
+            let y: Vec<f64> = self
                 .params
                 .iter()
-                .map(|parameter| sign * signum0(parameter.drift_error(end)))
+                .map(|p| side(p.drift_error(end), sign))
                 .collect();
-            worst = worst.max(self.exact_error(&initial, &drift)?[end].abs());
+            let start = self.error_and_gradient(&mut scratch, &x, &y, end)?;
+            worst = worst.max(self.climb(&mut scratch, x, y, start, end)?);
         }
         Ok(worst + self.noise_peak)
+    }
+
+    /// The greedy climb from one corner (see [`Model::corner_check`]):
+    /// the largest exact error reached, volts.
+    fn climb(
+        &self,
+        scratch: &mut Scratch,
+        mut x: Vec<f64>,
+        mut y: Vec<f64>,
+        start: (f64, Vec<f64>, Vec<f64>),
+        end: usize,
+    ) -> Result<f64> {
+        let (mut error, mut gx, mut gy) = start;
+        for _ in 0..CLIMB_STEPS {
+            let toward = if error < 0.0 { -1.0 } else { 1.0 };
+            let step = |point: &[f64], gradient: &[f64]| -> Vec<f64> {
+                point
+                    .iter()
+                    .zip(gradient)
+                    .map(|(&p, &g)| {
+                        let s = signum0(g * toward);
+                        if s == 0.0 {
+                            p
+                        } else {
+                            s
+                        }
+                    })
+                    .collect()
+            };
+            let (nx, ny) = (step(&x, &gx), step(&y, &gy));
+            if nx == x && ny == y {
+                break;
+            }
+            let (e, ngx, ngy) = self.error_and_gradient(scratch, &nx, &ny, end)?;
+            if e.abs() <= error.abs() {
+                break;
+            }
+            (x, y, error, gx, gy) = (nx, ny, e, ngx, ngy);
+        }
+        Ok(error.abs())
     }
 }

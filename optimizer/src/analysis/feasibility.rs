@@ -3,9 +3,16 @@
 //! headroom, part count, and, once the worst case is known, the ADC
 //! window). Each check is a [`Check`]; its label and its detail text come
 //! from the variant, so the text reports show is written in one place.
+//!
+//! The common-mode, swing and ADC-window checks take each node at its raw
+//! extremes (`extremes`): both span ends, every part at its limits, before
+//! any calibration; the positive rail at the low end of its tolerance.
 
+use super::extremes;
+use super::params::Parameter;
 use crate::mna::DcSolution;
 use crate::need::Need;
+use crate::netlist::Netlist;
 use crate::stock::Stock;
 use crate::topology::{AmplifierKind, Built, Section};
 use serde::Serialize;
@@ -81,10 +88,10 @@ impl Check {
                 format!("rails span {a:.3} V; the part runs from {b:.3} V to {c:.3} V")
             }
             Check::CommonMode => format!(
-                "inputs sit at {a:.4} V to {b:.4} V; the part accepts {c:.4} V to {d:.4} V"
+                "inputs reach {a:.4} V to {b:.4} V untrimmed; the part accepts {c:.4} V to {d:.4} V"
             ),
             Check::OutputSwing => format!(
-                "output moves {a:.4} V to {b:.4} V; the part swings {c:.4} V to {d:.4} V"
+                "output reaches {a:.4} V to {b:.4} V untrimmed; the part swings {c:.4} V to {d:.4} V"
             ),
             Check::GainBandwidth => format!(
                 "noise gain {a:.1} leaves {b:.0} Hz closed-loop bandwidth; the need asks 10 x {c:.1} Hz"
@@ -94,7 +101,7 @@ impl Check {
             ),
             Check::PartCount => format!("{a:.0} parts; the need allows {b:.0}"),
             Check::AdcWindow => format!(
-                "output with worst-case error spans {a:.4} V to {b:.4} V; the ADC takes {c:.4} V to {d:.4} V"
+                "output reaches {a:.4} V to {b:.4} V untrimmed; the ADC takes {c:.4} V to {d:.4} V"
             ),
         }
     }
@@ -149,11 +156,18 @@ impl RawFinding {
     }
 }
 
-/// The ADC-window check: the output at both ends, widened by the worst-case
-/// error `worst_v`, inside the ADC's input range.
-pub(crate) fn adc_window(need: &Need, output: [f64; 2], worst_v: f64) -> RawFinding {
-    let low = output[0].min(output[1]) - worst_v;
-    let high = output[0].max(output[1]) + worst_v;
+/// The ADC-window check: the output at both ends, widened by the larger of
+/// the worst-case error `worst_v` and the raw (untrimmed) half-range at
+/// that end, `raw_half_v`, inside the ADC's input range.
+pub(crate) fn adc_window(
+    need: &Need,
+    output: [f64; 2],
+    worst_v: f64,
+    raw_half_v: [f64; 2],
+) -> RawFinding {
+    let widen = |end: usize| worst_v.max(raw_half_v[end]);
+    let low = (output[0] - widen(0)).min(output[1] - widen(1));
+    let high = (output[0] + widen(0)).max(output[1] + widen(1));
     let (adc_low, adc_high) = (need.adc.low.0, need.adc.high.0);
     RawFinding {
         check: Check::AdcWindow,
@@ -168,11 +182,14 @@ pub(crate) fn findings(
     need: &Need,
     stock: &Stock,
     built: &Built,
+    netlist: &Netlist,
     dc: &DcSolution,
+    params: &[Parameter],
 ) -> Vec<RawFinding> {
     let mut out = Vec::new();
-    let positive = need.supply.positive.0;
-    let rails = positive - need.supply.negative.0;
+    // The reference hangs from the positive rail at its lowest.
+    let positive = need.supply.positive.0 * (1.0 - need.supply.tolerance.fraction());
+    let rails = need.supply.positive.0 - need.supply.negative.0;
     for package in &built.packages {
         let (low, high) = match package.kind {
             AmplifierKind::OpAmp(i) => (stock.opamps[i].supply_min.0, stock.opamps[i].supply_max.0),
@@ -189,7 +206,12 @@ pub(crate) fn findings(
     let mut adjoints: BTreeMap<usize, Vec<f64>> = BTreeMap::new();
     adjoints.insert(built.out, dc.output_adjoint().to_vec());
     for section in &built.sections {
-        section_findings(need, stock, dc, section, &mut adjoints, &mut out);
+        let raw = RawRanges {
+            netlist,
+            dc,
+            params,
+        };
+        section_findings(need, stock, &raw, section, &mut adjoints, &mut out);
     }
     for source in &built.sources {
         if let Some(i) = source.reference {
@@ -241,26 +263,31 @@ fn section_limits(stock: &Stock, kind: AmplifierKind) -> SectionLimits {
     }
 }
 
+/// What the raw ranges of nodes are computed from.
+struct RawRanges<'a> {
+    netlist: &'a Netlist,
+    dc: &'a DcSolution,
+    params: &'a [Parameter],
+}
+
 /// Common mode, swing and gain-bandwidth of one section.
 fn section_findings(
     need: &Need,
     stock: &Stock,
-    dc: &DcSolution,
+    raw: &RawRanges<'_>,
     section: &Section,
     adjoints: &mut BTreeMap<usize, Vec<f64>>,
     out: &mut Vec<RawFinding>,
 ) {
-    let positive = need.supply.positive.0;
+    let dc = raw.dc;
+    // The positive rail at the low end of its tolerance (the limits that
+    // hang from it are the tightest there).
+    let positive = need.supply.positive.0 * (1.0 - need.supply.tolerance.fraction());
     let negative = need.supply.negative.0;
     let limits = section_limits(stock, section.kind);
-    // Lowest and highest voltage of these nodes at both span ends.
-    let range_of = |nodes: &[usize]| {
-        (0..2)
-            .flat_map(|end| nodes.iter().map(move |&n| dc.voltage(end, n)))
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
-                (lo.min(v), hi.max(v))
-            })
-    };
+    // Lowest and highest raw voltage of these nodes at both span ends,
+    // every part at its limits.
+    let range_of = |nodes: &[usize]| extremes::nodes_range(raw.netlist, dc, raw.params, nodes);
     let (common_low, common_high) = (
         negative + limits.input_headroom[0],
         positive - limits.input_headroom[1],

@@ -31,6 +31,7 @@ mod accuracy;
 mod budget;
 mod contributor;
 mod corners;
+mod extremes;
 mod feasibility;
 mod monte_carlo;
 mod noise;
@@ -129,6 +130,9 @@ pub struct Model {
     noise: NoiseSummary,
     /// Output with nominal values, each end.
     nominal_output: [f64; 2],
+    /// Half-width of the output's raw range (every part at its limits,
+    /// untrimmed, noise peak included), each end, volts.
+    raw_output_half: [f64; 2],
     /// Ideal output at each end.
     ideal: [f64; 2],
     /// Sensor signal at each end.
@@ -169,7 +173,9 @@ impl Model {
         let systematic = systematic::terms(need, &built, &netlist, &dc, ideal, signal)?;
         let noise = noise::output_noise(need, stock, &built, &netlist, &dc);
         let stages = ranges::stage_reports(design, &built, &dc);
-        let findings = feasibility::findings(need, stock, &built, &dc);
+        let findings = feasibility::findings(need, stock, &built, &netlist, &dc, &params);
+        let raw = extremes::output_half_range(&params);
+        let raw_output_half = [raw[0] + noise.peak_v(), raw[1] + noise.peak_v()];
         Ok(Model {
             full_scale: need.full_scale(),
             params,
@@ -177,6 +183,7 @@ impl Model {
             noise_peak: noise.peak_v(),
             noise,
             nominal_output: dc.output(),
+            raw_output_half,
             ideal,
             signal,
             calibration: need.accuracy.calibration,
@@ -246,7 +253,8 @@ impl Model {
         };
         let gain =
             (self.nominal_output[1] - self.nominal_output[0]) / (self.signal[1] - self.signal[0]);
-        let window = feasibility::adc_window(need, self.nominal_output, worst);
+        let window =
+            feasibility::adc_window(need, self.nominal_output, worst, self.raw_output_half);
         let feasible = self.feasible() && window.ok();
         let mut findings = self.findings();
         findings.push(window.finding());

@@ -112,6 +112,27 @@ pub(crate) fn collect(
             });
         }
     }
+    // The sensor's own resistance, all legs together (one resistor, split
+    // between the legs of a differential sensor).
+    let source_tolerance = need.sensor.source_tolerance.fraction();
+    let source_drift = need.sensor.source_tempco.fraction_per_c() * delta_t;
+    if !built.source_resistors.is_empty() && (source_tolerance > 0.0 || source_drift != 0.0) {
+        let mut sensitivity = [0.0; 2];
+        for &e in &built.source_resistors {
+            let s = dc.resistor_sensitivity(netlist, e);
+            sensitivity[0] += s[0];
+            sensitivity[1] += s[1];
+        }
+        params.push(Parameter {
+            initial_contributor: Contributor::SourceResistance,
+            drift_contributor: Contributor::SourceResistance,
+            target: Target::Resistors(built.source_resistors.clone()),
+            initial: [source_tolerance; 2],
+            drift: source_drift.abs(),
+            sensitivity,
+            calibratable: true,
+        });
+    }
     if let Some(supply) = supply_parameter(need, built, dc) {
         params.push(supply);
     }
@@ -190,19 +211,37 @@ fn amplifier_parameters(
             s_offset,
         )
     });
-    params.push(flat(
-        Contributor::BiasCurrent,
-        Target::BiasCommon(section.ibp, section.ibn),
-        limits.bias_a,
-        s_bias_plus + s_bias_minus,
-    ));
+    // Bias and offset current are real errors through the network
+    // resistance. The stock gives one limit, taken to hold over the whole
+    // temperature range. Untrimmed, the initial range covers it at every
+    // temperature; once a calibration has trimmed the value on the day,
+    // the current may still move inside its limit as the temperature
+    // moves, so the drift range is the limit itself (a conservative
+    // assumption of this tool).
+    let moves = if delta_t > 0.0 && need.accuracy.calibration != Calibration::None {
+        1.0
+    } else {
+        0.0
+    };
+    params.push(Parameter {
+        drift: moves * limits.bias_a,
+        ..flat(
+            Contributor::BiasCurrent,
+            Target::BiasCommon(section.ibp, section.ibn),
+            limits.bias_a,
+            s_bias_plus + s_bias_minus,
+        )
+    });
     if limits.offset_current_a > 0.0 {
-        params.push(flat(
-            Contributor::OffsetCurrent,
-            Target::BiasOffset(section.ibp, section.ibn),
-            limits.offset_current_a,
-            0.5 * (s_bias_plus - s_bias_minus),
-        ));
+        params.push(Parameter {
+            drift: moves * limits.offset_current_a,
+            ..flat(
+                Contributor::OffsetCurrent,
+                Target::BiasOffset(section.ibp, section.ibn),
+                limits.offset_current_a,
+                0.5 * (s_bias_plus - s_bias_minus),
+            )
+        });
     }
     // Common mode at the inputs against the mid-supply point where offset
     // is specified (common practice for datasheet limits).

@@ -85,6 +85,18 @@ pub(crate) const NUMBER_RANGES: &[NumberRange] = &[
         unit: "ohms",
     },
     NumberRange {
+        key: "sensor.source_tolerance_pct",
+        min: 0.0,
+        max: 100.0,
+        unit: "percent",
+    },
+    NumberRange {
+        key: "sensor.source_tempco_ppm_per_c",
+        min: -100_000.0,
+        max: 100_000.0,
+        unit: "ppm/degC",
+    },
+    NumberRange {
         key: "adc.low_v",
         min: -MAX_ABS_VOLTS,
         max: MAX_ABS_VOLTS,
