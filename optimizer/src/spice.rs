@@ -240,6 +240,7 @@ fn letter(kind: &ElementKind) -> char {
         ElementKind::VoltageSource { .. } => 'V',
         ElementKind::CurrentSource { .. } => 'I',
         ElementKind::OpAmp { .. } => 'E',
+        ElementKind::Capacitor { .. } => 'C',
     }
 }
 
@@ -278,6 +279,7 @@ fn element_line(n: &Netlist, e: &Element, name: &str) -> String {
             format!("{name} {a} {b} DC {}", spice_number(volts))
         }
         ElementKind::CurrentSource { amps } => format!("{name} {a} {b} DC {}", spice_number(amps)),
+        ElementKind::Capacitor { farads } => format!("{name} {a} {b} {}", spice_number(farads)),
         ElementKind::OpAmp { inverse_gain } => {
             let aol = if inverse_gain > 0.0 && inverse_gain.is_finite() {
                 1.0 / inverse_gain
