@@ -29,6 +29,7 @@ pub mod bom;
 pub mod demo;
 pub mod design;
 pub mod error;
+pub mod filter;
 pub mod mna;
 pub mod mna_ac;
 pub mod montecarlo;
