@@ -261,9 +261,10 @@ impl AcSolver {
             }
             if best_val <= tiny || !best_val.is_finite() {
                 return Err(Singular {
-                    unknown: format!("unknown {col} of the AC matrix of {} nodes", {
+                    unknown: format!(
+                        "unknown {col} of the AC matrix ({} nodes)",
                         netlist.node_names.len()
-                    }),
+                    ),
                 });
             }
             self.pivot[col] = best;
