@@ -28,6 +28,15 @@ pub const MONTE_CARLO_BUILDS_YIELD: u64 = crate::montecarlo::YIELD_BASIS_BUILDS;
 /// The seed of those runs: the same design gives the same histogram.
 pub const MONTE_CARLO_SEED: u64 = 1;
 
+/// Give a searched design its filter at the ADC input (the search
+/// analyses designs without one) and cost it with the pair.
+fn with_filter(need: &Need, stock: &Stock, candidate: &mut Candidate) {
+    if candidate.built.filter.is_none() {
+        candidate.built = crate::filter::attach(need, stock, &candidate.built).0;
+        candidate.costing = costing(&candidate.built, need.search.bom_line_cost);
+    }
+}
+
 /// Parse a need and a stock together. With no stock files the embedded
 /// demo stock is used.
 pub fn load(need: &[u8], need_name: &str, stock: &[StockFile]) -> Result<(Need, Stock)> {
@@ -57,7 +66,7 @@ pub fn evaluate(need: &Need, stock: &Stock, design: &Design) -> Result<Candidate
         monte_carlo_builds(need),
         MONTE_CARLO_SEED,
     )?;
-    let built = model.built().clone();
+    let (built, _) = crate::filter::attach(need, stock, model.built());
     let costing = costing(&built, need.search.bom_line_cost);
     Ok(Candidate {
         design: design.clone(),
@@ -92,7 +101,8 @@ pub fn read_design(bytes: &[u8], design_name: &str, stock: &Stock) -> Result<Des
 /// and the bill of materials of [`crate::bom`] as a table and as the CSV
 /// written from that table.
 pub fn artifacts(need: &Need, stock: &Stock, design: &Design) -> Result<Artifacts> {
-    let built = crate::topology::build(need, stock, design)?;
+    let (built, _) =
+        crate::filter::attach(need, stock, &crate::topology::build(need, stock, design)?);
     let spice = crate::spice::export(need, stock, design)?;
     let bom_table = crate::bom::table(&crate::bom::rows(&built, stock), need.search.bom_line_cost);
     let svg = crate::schematic::svg(&built, design, &need.sensor.label);
@@ -155,7 +165,12 @@ pub fn solve_bundle(
     if let Some(best) = outcome.best.as_mut() {
         if best.analysis.yield_result.is_none() {
             *best = evaluate(&need, &stock, &best.design)?;
+        } else {
+            with_filter(&need, &stock, best);
         }
+    }
+    for alternative in &mut outcome.alternatives {
+        with_filter(&need, &stock, alternative);
     }
     let report = report::solve_report(&need, &stock, &outcome);
     bundle(
@@ -296,6 +311,7 @@ mod tests {
                 crate::report::types::PartEntry::Resistor(r) => &r.part_id,
                 crate::report::types::PartEntry::Amplifier(a) => &a.part_id,
                 crate::report::types::PartEntry::Reference(r) => &r.part_id,
+                crate::report::types::PartEntry::Capacitor(c) => &c.part_id,
             };
             assert!(table.rows.iter().any(|row| &row[3] == id), "{id}");
         }

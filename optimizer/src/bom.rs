@@ -158,9 +158,53 @@ pub fn rows(built: &Built, stock: &Stock) -> Vec<BomRow> {
             },
         );
     }
+    // The filter at the ADC input: its resistor joins the resistor rows
+    // (one row per part id and grade), its capacitor a row of its own.
+    let mut capacitors: Vec<BomRow> = Vec::new();
+    if let Some(f) = &built.filter {
+        let p = &f.series;
+        let grade = [
+            p.ohms.to_bits(),
+            p.tolerance_pct.to_bits(),
+            p.tcr_ppm_per_c.to_bits(),
+        ];
+        match resistors
+            .iter_mut()
+            .find(|(row, g)| row.part_id == p.part_id && *g == grade)
+        {
+            Some((row, _)) => {
+                row.refs.push(f.series_ref.clone());
+                row.quantity += 1;
+            }
+            None => resistors.push((
+                BomRow {
+                    refs: vec![f.series_ref.clone()],
+                    kind: "resistor".into(),
+                    value: format_ohms(p.ohms),
+                    part_id: p.part_id.clone(),
+                    quantity: 1,
+                    unit_cost: p.unit_cost,
+                },
+                grade,
+            )),
+        }
+        capacitors.push(BomRow {
+            refs: vec![f.shunt_ref.clone()],
+            kind: "capacitor".into(),
+            value: format!(
+                "{} {}",
+                format_quantity(f.shunt.value.0, "F"),
+                f.shunt.dielectric
+            ),
+            part_id: f.shunt.part_id.clone(),
+            quantity: 1,
+            unit_cost: f.shunt.unit_cost,
+        });
+    }
     let mut out: Vec<BomRow> = Vec::new();
     for mut group in [
         resistors.into_iter().map(|(r, _)| r).collect::<Vec<_>>(),
+        capacitors,
         amplifiers,
         references,
     ] {

@@ -8,7 +8,7 @@ use crate::stock::StockFile;
 pub const NEED_TOML: &str = include_str!("../../examples/demo-need.toml");
 
 /// The demo stock tables, by file name.
-pub const STOCK: [(&str, &str); 4] = [
+pub const STOCK: [(&str, &str); 5] = [
     (
         "resistors.csv",
         include_str!("../../parts-data/demo-stock/resistors.csv"),
@@ -24,6 +24,10 @@ pub const STOCK: [(&str, &str); 4] = [
     (
         "inamps.csv",
         include_str!("../../parts-data/demo-stock/inamps.csv"),
+    ),
+    (
+        "capacitors.csv",
+        include_str!("../../parts-data/demo-stock/capacitors.csv"),
     ),
 ];
 

@@ -160,6 +160,20 @@ impl Solver {
         self.branch[element]
     }
 
+    /// The node an op-amp element's + input stamps at (past a folded
+    /// offset source: the source's other node).
+    #[inline]
+    pub(crate) fn plus_node(&self, element: usize) -> Node {
+        self.plus[element]
+    }
+
+    /// Whether this element is an offset source folded into its op-amp's
+    /// row (it has no row of its own).
+    #[inline]
+    pub(crate) fn is_folded(&self, element: usize) -> bool {
+        self.folded[element]
+    }
+
     /// Stamp and factor the matrix of `netlist` (values as they are now).
     pub fn factor(&mut self, netlist: &Netlist) -> Result<(), Singular> {
         let n = self.n;
@@ -196,7 +210,8 @@ impl Solver {
                         a[k * n + q] -= 1.0;
                     }
                 }
-                ElementKind::CurrentSource { .. } => {}
+                // Open at DC.
+                ElementKind::CurrentSource { .. } | ElementKind::Capacitor { .. } => {}
                 ElementKind::OpAmp { inverse_gain } => {
                     let k = self.branch[ei].unwrap_or(0);
                     if let Some(o) = idx(e.nodes[2]) {
@@ -501,16 +516,19 @@ pub fn set_element_value(netlist: &mut Netlist, element: usize, value: f64) {
         ElementKind::VoltageSource { volts } => *volts = value,
         ElementKind::CurrentSource { amps } => *amps = value,
         ElementKind::OpAmp { inverse_gain } => *inverse_gain = value,
+        ElementKind::Capacitor { farads } => *farads = value,
     }
 }
 
-/// The value of an element: ohms, volts, amps or an op-amp's inverse gain.
+/// The value of an element: ohms, volts, amps, an op-amp's inverse gain
+/// or farads.
 pub fn element_value(netlist: &Netlist, element: usize) -> f64 {
     match netlist.elements[element].kind {
         ElementKind::Resistor { ohms } => ohms,
         ElementKind::VoltageSource { volts } => volts,
         ElementKind::CurrentSource { amps } => amps,
         ElementKind::OpAmp { inverse_gain } => inverse_gain,
+        ElementKind::Capacitor { farads } => farads,
     }
 }
 

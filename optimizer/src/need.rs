@@ -5,7 +5,7 @@
 
 use crate::error::Result;
 use crate::series::Series;
-use crate::units::{Celsius, Hertz, Ohms, Percent, PpmPerC, Volts};
+use crate::units::{Celsius, Decibels, Farads, Hertz, Ohms, Percent, PpmPerC, Seconds, Volts};
 use serde::{Deserialize, Serialize};
 
 /// How the sensor presents its signal.
@@ -78,6 +78,22 @@ pub struct Adc {
     pub bits: u32,
     /// Span kept free at each end of the window.
     pub margin: Percent,
+    /// Sample rate (`adc.sample_rate_hz`), if given: the filter's
+    /// rejection at half of it is reported.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sample_rate: Option<Hertz>,
+    /// Wanted rejection at half the sample rate (`adc.alias_rejection_db`),
+    /// if given; a check of the filter.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub alias_rejection: Option<Decibels>,
+    /// Sampling capacitance of a switched-capacitor input
+    /// (`adc.sample_capacitance_pf`), if given (with the acquisition time).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sample_capacitance: Option<Farads>,
+    /// Acquisition time of a switched-capacitor input
+    /// (`adc.acquisition_time_ns`), if given (with the capacitance).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub acquisition_time: Option<Seconds>,
 }
 
 /// The supply rails.

@@ -178,6 +178,18 @@ pub fn need_fields() -> Vec<NeedField> {
             "Share of the window kept free at each end, from 0 to below 50 %.")
             .default(json!(0.0))
             .range(Some((0.0, CLOSED)), Some((50.0, OPEN))),
+        field("adc.sample_rate_hz", "Sample rate", Some("Hz"), Number,
+            "Samples per second; the filter's rejection at half of it is reported. Optional.")
+            .range(Some((1e-3, CLOSED)), Some((1e10, CLOSED))),
+        field("adc.alias_rejection_db", "Rejection at half the sample rate", Some("dB"), Number,
+            "Least attenuation of the filter at half the sample rate; needs sample_rate_hz. Optional.")
+            .range(Some((0.0, CLOSED)), Some((200.0, CLOSED))),
+        field("adc.sample_capacitance_pf", "Sampling capacitance", Some("pF"), Number,
+            "The capacitor a switched-capacitor input connects at each sample; with acquisition_time_ns. Optional.")
+            .range(Some((1e-3, CLOSED)), Some((1e6, CLOSED))),
+        field("adc.acquisition_time_ns", "Acquisition time", Some("ns"), Number,
+            "How long a sampling input stays connected; the input must settle to 1/2 LSB in it. Optional.")
+            .range(Some((1e-3, CLOSED)), Some((1e12, CLOSED))),
         field("supply.positive_v", "Positive rail", v, Number,
             "The positive supply voltage; above the negative rail.")
             .required(),
@@ -343,6 +355,10 @@ mod tests {
                 "sensor.quantity_high" => json!(10.0),
                 "sensor.quantity_unit" => json!("bar"),
                 "stock.path" => json!("shelf"),
+                "adc.sample_rate_hz" => json!(1000.0),
+                "adc.alias_rejection_db" => json!(40.0),
+                "adc.sample_capacitance_pf" => json!(10.0),
+                "adc.acquisition_time_ns" => json!(500.0),
                 _ if f.required => continue,
                 _ => f.default.clone(),
             };
@@ -402,6 +418,17 @@ mod tests {
             let mut need = base.clone();
             if f.key == "accuracy.temp_min_c" {
                 need = with(need, "accuracy.temp_max_c", json!(70.0));
+            }
+            // Keys that come in pairs get their companion.
+            match f.key {
+                "adc.alias_rejection_db" => need = with(need, "adc.sample_rate_hz", json!(1e3)),
+                "adc.sample_capacitance_pf" => {
+                    need = with(need, "adc.acquisition_time_ns", json!(500.0))
+                }
+                "adc.acquisition_time_ns" => {
+                    need = with(need, "adc.sample_capacitance_pf", json!(10.0))
+                }
+                _ => {}
             }
             if let Some(min) = f.min {
                 let below = with(need.clone(), f.key, number(min - step));

@@ -14,7 +14,7 @@ use crate::need::{
     SensorOutput, StockSource, Supply, Topology,
 };
 use crate::series::Series;
-use crate::units::{Celsius, Hertz, Ohms, Percent, PpmPerC, Volts};
+use crate::units::{Celsius, Decibels, Farads, Hertz, Ohms, Percent, PpmPerC, Seconds, Volts};
 use serde::Deserialize;
 use std::ops::Range;
 
@@ -75,6 +75,8 @@ mod defaults {
 /// | `sensor.source_tolerance_pct` | 0 |
 /// | `sensor.source_tempco_ppm_per_c` | 0 |
 /// | `adc.margin_pct` | 0 |
+/// | `adc.sample_rate_hz`, `alias_rejection_db` | none (the rejection needs the rate) |
+/// | `adc.sample_capacitance_pf`, `acquisition_time_ns` | none (both or neither) |
 /// | `supply.negative_v` | 0 (single supply) |
 /// | `supply.tolerance_pct` | 5 |
 /// | `supply.ratiometric` | false |
@@ -200,6 +202,10 @@ struct RawAdc<W> {
     high_v: Option<W>,
     bits: Option<W>,
     margin_pct: Option<W>,
+    sample_rate_hz: Option<W>,
+    alias_rejection_db: Option<W>,
+    sample_capacitance_pf: Option<W>,
+    acquisition_time_ns: Option<W>,
 }
 
 /// `[supply]`.
@@ -708,11 +714,50 @@ fn adc<W: Field>(raw: Option<&RawAdc<W>>, supply: &Supply, ctx: &Ctx<'_>) -> Res
         (0.0..50.0).contains(&margin),
         "a margin from 0 to less than 50 % at each end of the window",
     )?;
+    let optional = |key: &Key<'_, W>, unit: &str| -> Result<Option<f64>> {
+        match key.number(unit)? {
+            Some(v) => key.ranged(v).map(Some),
+            None => Ok(None),
+        }
+    };
+    let rate_key = key!(ctx, adc, raw, sample_rate_hz);
+    let sample_rate = optional(&rate_key, "hertz")?;
+    let rejection_key = key!(ctx, adc, raw, alias_rejection_db);
+    let alias_rejection = optional(&rejection_key, "decibels")?;
+    if alias_rejection.is_some() && sample_rate.is_none() {
+        return Err(rejection_key.err(
+            "adc.alias_rejection_db is the rejection at half the sample rate; expected \
+             adc.sample_rate_hz with it",
+        ));
+    }
+    let capacitance_key = key!(ctx, adc, raw, sample_capacitance_pf);
+    let capacitance = optional(&capacitance_key, "picofarads")?;
+    let time_key = key!(ctx, adc, raw, acquisition_time_ns);
+    let acquisition = optional(&time_key, "nanoseconds")?;
+    match (capacitance.is_some(), acquisition.is_some()) {
+        (true, false) => {
+            return Err(capacitance_key.err(
+                "a sampling input needs both adc.sample_capacitance_pf and \
+                 adc.acquisition_time_ns; expected adc.acquisition_time_ns with it",
+            ))
+        }
+        (false, true) => {
+            return Err(time_key.err(
+                "a sampling input needs both adc.sample_capacitance_pf and \
+                 adc.acquisition_time_ns; expected adc.sample_capacitance_pf with it",
+            ))
+        }
+        _ => {}
+    }
     Ok(Adc {
         low: Volts(low),
         high: Volts(high),
         bits: bits as u32,
         margin: Percent(margin),
+        sample_rate: sample_rate.map(Hertz),
+        alias_rejection: alias_rejection.map(Decibels),
+        sample_capacitance: capacitance.map(|pf| Farads(pf * 1e-12)),
+        acquisition_time: acquisition.map(|ns| Seconds(ns * 1e-9)),
     })
 }
 

@@ -39,6 +39,13 @@ pub enum ElementKind {
         /// Reciprocal open-loop gain; 0 is ideal.
         inverse_gain: f64,
     },
+    /// A capacitor of this many farads between `nodes[0]` and `nodes[1]`:
+    /// open at DC ([`crate::mna`]), an admittance `j w C` in the AC
+    /// analysis ([`crate::mna_ac`]).
+    Capacitor {
+        /// Capacitance.
+        farads: f64,
+    },
 }
 
 /// One element.
@@ -126,6 +133,23 @@ impl Netlist {
     /// Add a DC voltage source.
     pub fn vsource(&mut self, name: &str, a: Node, b: Node, volts: f64) -> usize {
         self.add(name, ElementKind::VoltageSource { volts }, [a, b, 0])
+    }
+
+    /// Add a capacitor.
+    pub fn capacitor(&mut self, name: &str, a: Node, b: Node, farads: f64) -> usize {
+        self.add(name, ElementKind::Capacitor { farads }, [a, b, 0])
+    }
+
+    /// Give an existing node a new name (the old name no longer finds it);
+    /// `false` if `new` is taken or `node` does not exist.
+    pub fn rename_node(&mut self, node: Node, new: &str) -> bool {
+        if node == 0 || node >= self.node_names.len() || self.index.contains_key(new) {
+            return false;
+        }
+        let old = std::mem::replace(&mut self.node_names[node], new.to_string());
+        self.index.remove(&old);
+        self.index.insert(new.to_string(), node);
+        true
     }
 
     /// Add a DC current source.

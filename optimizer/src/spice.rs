@@ -81,7 +81,7 @@ pub fn netlist_text(built: &Built, title: &str, signal_high_v: f64) -> String {
 /// of its span, with the header naming every error source and its limit
 /// from the stock rows (`vos_max_uv`, `ib_max_na`, `initial_pct`).
 pub fn export(need: &Need, stock: &Stock, design: &Design) -> Result<String> {
-    let built = build(need, stock, design)?;
+    let (built, _) = crate::filter::attach(need, stock, &build(need, stock, design)?);
     let span = [need.sensor.signal_low.0, need.sensor.signal_high.0];
     if !(span[0].is_finite() && span[1].is_finite()) {
         return Err(Error::design(
@@ -240,6 +240,7 @@ fn letter(kind: &ElementKind) -> char {
         ElementKind::VoltageSource { .. } => 'V',
         ElementKind::CurrentSource { .. } => 'I',
         ElementKind::OpAmp { .. } => 'E',
+        ElementKind::Capacitor { .. } => 'C',
     }
 }
 
@@ -278,6 +279,7 @@ fn element_line(n: &Netlist, e: &Element, name: &str) -> String {
             format!("{name} {a} {b} DC {}", spice_number(volts))
         }
         ElementKind::CurrentSource { amps } => format!("{name} {a} {b} DC {}", spice_number(amps)),
+        ElementKind::Capacitor { farads } => format!("{name} {a} {b} {}", spice_number(farads)),
         ElementKind::OpAmp { inverse_gain } => {
             let aol = if inverse_gain > 0.0 && inverse_gain.is_finite() {
                 1.0 / inverse_gain
@@ -401,7 +403,8 @@ pub fn deck(built: &Built, deck: &Deck<'_>) -> String {
                     if let ElementKind::VoltageSource { .. } = e.kind {
                         let a = node_name(n, e.nodes[0]);
                         let b = node_name(n, e.nodes[1]);
-                        let _ = writeln!(s, "{name} {a} {b} DC {}", spice_number(deck.span_v[0]));
+                        let _ =
+                            writeln!(s, "{name} {a} {b} DC {} AC 1", spice_number(deck.span_v[0]));
                         continue;
                     }
                 }
@@ -520,6 +523,7 @@ mod tests {
             packages: Vec::new(),
             sources: Vec::new(),
             stage_outputs: vec![out],
+            filter: None,
         }
     }
 
@@ -571,7 +575,7 @@ mod tests {
         let built = tiny();
         let text = netlist_text(&built, "tiny", 0.02);
         let lines: Vec<&str> = text.lines().collect();
-        assert!(lines.contains(&"VSENSE inp 0 DC 1e-2"), "{text}");
+        assert!(lines.contains(&"VSENSE inp 0 DC 1e-2 AC 1"), "{text}");
         assert!(lines.contains(&"R1 out s1m 9e3"));
         assert!(lines.contains(&"R2 s1m 0 1e3"));
         // Ideal op-amp: a large finite gain.
@@ -601,13 +605,13 @@ mod tests {
         let text = export(&need, &stock, &design).unwrap();
         let lines: Vec<&str> = text.lines().collect();
         assert!(lines[0].starts_with("spanfit front end: instrumentation-integrated for "));
-        assert!(lines.contains(&"VSENSE inp inn DC 0"));
+        assert!(lines.contains(&"VSENSE inp inn DC 0 AC 1"));
         assert!(lines.contains(&"VCM inn 0 DC 2.5e0"));
         assert!(lines.contains(&"VREF_VR1 vr1 0 DC 1.25e0"));
         assert!(lines.contains(&"R3 s1g1 s1g2 4.32e2"), "{text}");
         assert!(lines.contains(&"VOS_U2 u2_pi sp DC 0"));
         assert!(lines.contains(&"IBP_U2 sp 0 DC 0") && lines.contains(&"IBN_U2 sn 0 DC 0"));
-        assert!(lines.contains(&"VOSO_U2 out u2_oi DC 0"));
+        assert!(lines.contains(&"VOSO_U2 drv u2_oi DC 0"));
         assert!(lines
             .iter()
             .any(|l| l.starts_with("XU2 ") && l.ends_with(" SF_INAMP_U2")));

@@ -1,12 +1,12 @@
 //! The stock: parts the user can buy or has on the shelf, parsed from the
 //! CSV files of `docs/stock.md` (`resistors.csv`, `opamps.csv`,
-//! `references.csv`, `inamps.csv`). Resistor families expand here into one
-//! [`ResistorPart`] per series value, so the rest of the core sees only
-//! concrete values.
+//! `references.csv`, `inamps.csv`, `capacitors.csv`). Resistor and
+//! capacitor families expand here into one part per series value, so the
+//! rest of the core sees only concrete values.
 
 use crate::error::Result;
 use crate::series::{value_code, Series};
-use crate::units::{Decibels, Ohms, Percent, PpmPerC, Volts};
+use crate::units::{Decibels, Farads, Ohms, Percent, PpmPerC, Volts};
 use serde::{Deserialize, Serialize};
 
 /// One resistor value that can be placed (a single row, or one value of a
@@ -29,6 +29,54 @@ pub struct ResistorPart {
     pub stock_qty: Option<u32>,
     /// The family row it came from, if any.
     pub family: Option<String>,
+}
+
+/// One capacitor value that can be placed (a single row, or one value of
+/// a family).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct CapacitorPart {
+    /// Part number shown on the BOM (families: `<family id>-<value code>`,
+    /// the code in picofarads as [`capacitor_code`] writes it).
+    pub part_id: String,
+    /// Nominal value.
+    pub value: Farads,
+    /// Initial tolerance (+/-).
+    pub tolerance: Percent,
+    /// Temperature coefficient (+/-).
+    pub tempco: PpmPerC,
+    /// Dielectric text (`C0G`, `X7R`, `film` ...), as written in the table.
+    pub dielectric: String,
+    /// Rated voltage.
+    pub rated: Volts,
+    /// Package text.
+    pub package: String,
+    /// Price of one.
+    pub unit_cost: f64,
+    /// Quantity on hand; `None` means unlimited.
+    pub stock_qty: Option<u32>,
+    /// The family row it came from, if any.
+    pub family: Option<String>,
+}
+
+/// The value code of a capacitance in a family part id: three significant
+/// digits with the multiplier letter (`p`, `n`, `u`, `m`) in place of the
+/// decimal point: 4.7 nF is `4n70`, 100 pF `100p`, 2.2 uF `2u20`.
+pub fn capacitor_code(farads: f64) -> String {
+    if !(farads.is_finite() && farads > 0.0) {
+        return "?".to_string();
+    }
+    // The resistor code of the value in picofarads, with its letters
+    // (R, K, M, G: x1, x1e3, x1e6, x1e9) read as p, n, u, m.
+    value_code(farads * 1e12)
+        .chars()
+        .map(|c| match c {
+            'R' => 'p',
+            'K' => 'n',
+            'M' => 'u',
+            'G' => 'm',
+            other => other,
+        })
+        .collect()
 }
 
 /// An op-amp part (one package with `channels` sections).
@@ -72,6 +120,19 @@ pub struct OpAmpPart {
     pub unit_cost: f64,
     /// Packages on hand.
     pub stock_qty: Option<u32>,
+    /// Open-loop output resistance in ohms (optional column
+    /// `output_ohms`; [`DEFAULT_OUTPUT_OHMS`] when absent).
+    #[serde(default = "default_output_ohms")]
+    pub output_ohms: f64,
+}
+
+/// Open-loop output resistance taken for an op-amp whose row has no
+/// `output_ohms`: 100 ohms, a conservative figure for small-signal CMOS
+/// and bipolar parts (common practice, from memory).
+pub const DEFAULT_OUTPUT_OHMS: f64 = 100.0;
+
+fn default_output_ohms() -> f64 {
+    DEFAULT_OUTPUT_OHMS
 }
 
 /// A voltage reference part.
@@ -149,6 +210,10 @@ pub struct Stock {
     pub references: Vec<ReferencePart>,
     /// Integrated in-amps.
     pub inamps: Vec<InAmpPart>,
+    /// Capacitor values, sorted by value then by cost (may be empty: a
+    /// design then has no filter capacitor).
+    #[serde(default)]
+    pub capacitors: Vec<CapacitorPart>,
 }
 
 /// One stock file handed to the parser: its name (`resistors.csv` ...) and
@@ -162,8 +227,8 @@ pub struct StockFile {
 }
 
 /// Parse and validate stock tables. Files are recognised by name
-/// (`resistors.csv`, `opamps.csv`, `references.csv`, `inamps.csv`); a
-/// missing table is an empty one, but a stock with no resistors or no
+/// (`resistors.csv`, `opamps.csv`, `references.csv`, `inamps.csv`,
+/// `capacitors.csv`); a missing table is an empty one, but a stock with no resistors or no
 /// amplifiers at all is an error.
 pub fn parse_stock(files: &[StockFile]) -> Result<Stock> {
     crate::stock_parse::parse_stock(files)
@@ -227,6 +292,10 @@ impl Stock {
     /// Look up an in-amp by part id.
     pub fn inamp(&self, id: &str) -> Option<&InAmpPart> {
         self.inamps.iter().find(|p| p.part_id == id)
+    }
+    /// Look up a capacitor by part id.
+    pub fn capacitor(&self, id: &str) -> Option<&CapacitorPart> {
+        self.capacitors.iter().find(|p| p.part_id == id)
     }
     /// Look up a resistor by part id.
     pub fn resistor(&self, id: &str) -> Option<&ResistorPart> {

@@ -18,13 +18,17 @@
 use crate::error::{Error, Location, Result};
 use crate::need_parse::{decode_utf8, listed, shown};
 use crate::series::{value_code, Series};
-use crate::stock::{InAmpPart, OpAmpPart, ReferencePart, ResistorPart, Stock, StockFile};
-use crate::units::{Decibels, Ohms, Percent, PpmPerC, Volts};
+use crate::stock::{
+    CapacitorPart, InAmpPart, OpAmpPart, ReferencePart, ResistorPart, Stock, StockFile,
+};
+use crate::units::{Decibels, Farads, Ohms, Percent, PpmPerC, Volts};
 use std::collections::HashMap;
 
+mod capacitors;
 mod csv;
 mod tables;
 
+use capacitors::capacitors;
 use csv::{read_csv, Record};
 use tables::{inamps, opamps, references, resistors};
 
@@ -38,8 +42,14 @@ const MAX_LINE_BYTES: usize = 64 << 10;
 pub(crate) const MAX_ID_CHARS: usize = 64;
 
 /// Most resistor values a stock may expand to (single rows plus every
-/// value of every family).
+/// value of every family); the same limit holds for capacitor values.
 const MAX_RESISTOR_VALUES: usize = 100_000;
+
+/// Smallest and largest capacitance accepted, in farads (0.1 pF to 1 F).
+pub(crate) const FARADS_RANGE: (f64, f64) = (1e-13, 1.0);
+
+/// Highest rated voltage accepted for a capacitor, in volts.
+const MAX_RATED_V: f64 = 1e5;
 
 /// Smallest and largest resistance accepted, in ohms (stock and inline
 /// design resistors alike).
@@ -59,21 +69,45 @@ const MAX_NUMBER: f64 = 1e9;
 /// Sections an op-amp package may hold.
 const CHANNELS: [u32; 3] = [1, 2, 4];
 
-/// The four kinds of table, recognised by file name.
+/// The five kinds of table, recognised by file name.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Table {
     Resistors,
     OpAmps,
     References,
     InAmps,
+    Capacitors,
 }
 
+/// The value columns of a table whose rows are single values or series
+/// families (resistors, capacitors).
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct ValueColumns {
+    /// The single-value column (`value_ohms`).
+    pub single: &'static str,
+    /// The family columns: series name, lowest and highest value.
+    pub family: [&'static str; 3],
+}
+
+/// Value columns of `resistors.csv`.
+const RESISTOR_VALUES: ValueColumns = ValueColumns {
+    single: "value_ohms",
+    family: ["series", "min_ohms", "max_ohms"],
+};
+
+/// Value columns of `capacitors.csv`.
+const CAPACITOR_VALUES: ValueColumns = ValueColumns {
+    single: "value_farads",
+    family: ["series", "min_farads", "max_farads"],
+};
+
 impl Table {
-    const ALL: [Table; 4] = [
+    const ALL: [Table; 5] = [
         Table::Resistors,
         Table::OpAmps,
         Table::References,
         Table::InAmps,
+        Table::Capacitors,
     ];
 
     fn file_name(self) -> &'static str {
@@ -82,6 +116,16 @@ impl Table {
             Table::OpAmps => "opamps.csv",
             Table::References => "references.csv",
             Table::InAmps => "inamps.csv",
+            Table::Capacitors => "capacitors.csv",
+        }
+    }
+
+    /// The value columns, for a table of single values or families.
+    fn value_columns(self) -> Option<ValueColumns> {
+        match self {
+            Table::Resistors => Some(RESISTOR_VALUES),
+            Table::Capacitors => Some(CAPACITOR_VALUES),
+            _ => None,
         }
     }
 
@@ -157,30 +201,44 @@ impl Table {
                 "unit_cost",
                 "stock_qty",
             ],
+            Table::Capacitors => &[
+                "part_id",
+                "tolerance_pct",
+                "tempco_ppm_per_c",
+                "dielectric",
+                "rated_v",
+                "package",
+                "unit_cost",
+                "stock_qty",
+            ],
         }
     }
 
-    /// Columns a file may have in addition (resistors: a single value, or
-    /// a series family; at least one of the two kinds must be complete).
+    /// Columns a file may have in addition (resistors and capacitors: a
+    /// single value, or a series family; at least one of the two kinds
+    /// must be complete; op-amps: `output_ohms`).
     fn optional_columns(self) -> &'static [&'static str] {
         match self {
             Table::Resistors => &["value_ohms", "series", "min_ohms", "max_ohms"],
+            Table::Capacitors => &["value_farads", "series", "min_farads", "max_farads"],
+            Table::OpAmps => &["output_ohms"],
             _ => &[],
         }
     }
 
     fn all_columns(self) -> Vec<&'static str> {
         let mut all = self.required_columns().to_vec();
-        // Keep the documented order: the value columns follow part_id.
-        for (i, c) in self.optional_columns().iter().enumerate() {
-            all.insert(1 + i, c);
+        if self.value_columns().is_some() {
+            // Keep the documented order: the value columns follow part_id.
+            for (i, c) in self.optional_columns().iter().enumerate() {
+                all.insert(1 + i, c);
+            }
+        } else {
+            all.extend(self.optional_columns());
         }
         all
     }
 }
-
-/// Family columns of `resistors.csv`.
-const FAMILY_COLUMNS: [&str; 3] = ["series", "min_ohms", "max_ohms"];
 
 /// Parse and validate the stock tables (see [`crate::stock::parse_stock`]).
 // Long because it runs the tables in their fixed order and checks ids
@@ -249,6 +307,12 @@ pub(crate) fn parse_stock(files: &[StockFile]) -> Result<Stock> {
                     stock.inamps.push(part);
                 }
             }
+            Table::Capacitors => {
+                for (part, line) in capacitors(&columns, rows, name)? {
+                    owners.push((part.part_id.clone(), name, line));
+                    stock.capacitors.push(part);
+                }
+            }
         }
     }
     check_ids_across_tables(&owners)?;
@@ -284,6 +348,13 @@ pub(crate) fn parse_stock(files: &[StockFile]) -> Result<Stock> {
         ));
     }
     stock.resistors.sort_by(|a, b| {
+        a.value
+            .0
+            .total_cmp(&b.value.0)
+            .then(a.unit_cost.total_cmp(&b.unit_cost))
+            .then_with(|| a.part_id.cmp(&b.part_id))
+    });
+    stock.capacitors.sort_by(|a, b| {
         a.value
             .0
             .total_cmp(&b.value.0)
@@ -433,21 +504,26 @@ fn split_header<'r>(
         .copied()
         .filter(|c| !index.contains_key(*c))
         .collect();
-    if table == Table::Resistors {
-        let family: Vec<&str> = FAMILY_COLUMNS
+    if let Some(values) = table.value_columns() {
+        let family: Vec<&str> = values
+            .family
             .iter()
             .copied()
             .filter(|c| !index.contains_key(*c))
             .collect();
-        let has_value = index.contains_key("value_ohms");
-        if family.len() == FAMILY_COLUMNS.len() && !has_value {
+        let has_value = index.contains_key(values.single);
+        if family.len() == values.family.len() && !has_value {
             return Err(Error::input(
                 at_line(file, header.line),
-                "the header has neither `value_ohms` (single parts) nor \
-                 `series,min_ohms,max_ohms` (series families); expected one of them or both",
+                format!(
+                    "the header has neither `{}` (single parts) nor `{}` (series families); \
+                     expected one of them or both",
+                    values.single,
+                    values.family.join(",")
+                ),
             ));
         }
-        if family.len() < FAMILY_COLUMNS.len() {
+        if family.len() < values.family.len() {
             missing.extend(family);
         }
     }
@@ -485,6 +561,8 @@ enum Bound {
     Percent,
     /// Inside [`OHMS_RANGE`].
     Resistance,
+    /// Inside [`FARADS_RANGE`].
+    Capacitance,
     /// From zero to this.
     UpTo(f64),
 }
@@ -564,10 +642,16 @@ impl<'a> Row<'a> {
                 (0.0..100.0).contains(&value),
                 "from 0 to less than 100".to_string(),
             ),
-            Bound::Resistance if value <= 0.0 => (false, "above zero".to_string()),
+            Bound::Resistance | Bound::Capacitance if value <= 0.0 => {
+                (false, "above zero".to_string())
+            }
             Bound::Resistance => (
                 value >= OHMS_RANGE.0 && value <= OHMS_RANGE.1,
                 format!("from {} to {:e}", OHMS_RANGE.0, OHMS_RANGE.1),
+            ),
+            Bound::Capacitance => (
+                value >= FARADS_RANGE.0 && value <= FARADS_RANGE.1,
+                format!("from {:e} to {}", FARADS_RANGE.0, FARADS_RANGE.1),
             ),
         };
         if ok && value.is_finite() {

@@ -11,8 +11,8 @@
 //! for each file.
 
 use super::{
-    checked_text, expected_file_names, inamps, opamps, read_csv, references, resistors, shown,
-    split_header, Row, Table,
+    capacitors, checked_text, expected_file_names, inamps, opamps, read_csv, references, resistors,
+    shown, split_header, Row, Table,
 };
 use crate::error::{Error, Location, Result};
 use serde::Serialize;
@@ -22,7 +22,7 @@ use serde::Serialize;
 pub struct StockTable {
     /// The table's file name as the core knows it (`resistors.csv`).
     pub file: &'static str,
-    /// `resistors`, `opamps`, `references` or `inamps`.
+    /// `resistors`, `opamps`, `references`, `inamps` or `capacitors`.
     pub kind: &'static str,
     /// The header's column names, as written (in the file's order).
     pub header: Vec<String>,
@@ -40,7 +40,7 @@ pub struct StockTable {
 
 /// Read and validate one stock file on its own. `file_name` picks the
 /// table (`resistors.csv`, `opamps.csv`, `references.csv`, `inamps.csv`,
-/// any case, any folder) and names the file in errors.
+/// `capacitors.csv`, any case, any folder) and names the file in errors.
 pub fn read_stock_table(file_name: &str, bytes: &[u8]) -> Result<StockTable> {
     let table = Table::from_file_name(file_name).ok_or_else(|| {
         Error::input(
@@ -65,6 +65,7 @@ pub fn read_stock_table(file_name: &str, bytes: &[u8]) -> Result<StockTable> {
         Table::OpAmps => opamps(&columns, rows, file_name).map(drop),
         Table::References => references(&columns, rows, file_name).map(drop),
         Table::InAmps => inamps(&columns, rows, file_name).map(drop),
+        Table::Capacitors => capacitors(&columns, rows, file_name).map(drop),
     };
     let trimmed = |fields: &[String]| fields.iter().map(|f| f.trim().to_string()).collect();
     let file = table.file_name();
@@ -163,8 +164,8 @@ mod tests {
             ours,
             parse_stock(&[file("resistors.csv", ragged)]).unwrap_err()
         );
-        let unknown = read_stock_table("capacitors.csv", b"x\n").unwrap_err();
-        let whole = parse_stock(&[file("capacitors.csv", "x\n")]).unwrap_err();
+        let unknown = read_stock_table("inductors.csv", b"x\n").unwrap_err();
+        let whole = parse_stock(&[file("inductors.csv", "x\n")]).unwrap_err();
         assert_eq!(unknown, whole);
         let empty = read_stock_table("opamps.csv", b"").unwrap_err();
         assert!(empty.to_string().contains("opamps.csv is empty"), "{empty}");

@@ -150,6 +150,29 @@ pub struct Built {
     pub sources: Vec<PlacedSource>,
     /// Output node of each stage.
     pub stage_outputs: Vec<Node>,
+    /// The filter at the ADC input, where one was chosen
+    /// ([`crate::filter::attach`]; designs analysed by the search have
+    /// none).
+    pub filter: Option<PlacedFilter>,
+}
+
+/// The filter pair placed at the ADC input, with its figures.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PlacedFilter {
+    /// Element index of the series resistor.
+    pub series_element: usize,
+    /// Designator of the series resistor (`R<n>`).
+    pub series_ref: String,
+    /// The series resistor part.
+    pub series: Resistor,
+    /// Element index of the shunt capacitor.
+    pub shunt_element: usize,
+    /// Designator of the shunt capacitor (`C1`).
+    pub shunt_ref: String,
+    /// The capacitor part.
+    pub shunt: crate::stock::CapacitorPart,
+    /// Its figures (`design.filter`).
+    pub report: Box<crate::filter::FilterReport>,
 }
 
 /// The netlist under construction with its part map; shape templates
@@ -488,5 +511,6 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
         packages: builder.packages,
         sources: builder.sources,
         stage_outputs,
+        filter: None,
     })
 }

@@ -35,6 +35,11 @@ unit!(
     "ohm"
 );
 unit!(
+    /// Capacitance in farads.
+    Farads,
+    "F"
+);
+unit!(
     /// Potential in volts.
     Volts,
     "V"
@@ -48,6 +53,11 @@ unit!(
     /// Frequency in hertz.
     Hertz,
     "Hz"
+);
+unit!(
+    /// Time in seconds.
+    Seconds,
+    "s"
 );
 unit!(
     /// Temperature in degrees Celsius.

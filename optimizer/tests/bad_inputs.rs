@@ -579,12 +579,14 @@ fn catalogue() -> Vec<Case> {
         Case {
             what: "unknown file name",
             input: Input::Stock(vec![StockFile {
-                name: "capacitors.csv".into(),
+                name: "inductors.csv".into(),
                 bytes: b"part_id\n".to_vec(),
             }]),
             expect: vec![
-                "capacitors.csv".into(),
-                "expected one of resistors.csv, opamps.csv, references.csv, inamps.csv".into(),
+                "inductors.csv".into(),
+                "expected one of resistors.csv, opamps.csv, references.csv, inamps.csv, \
+                 capacitors.csv"
+                    .into(),
             ],
         },
         Case {

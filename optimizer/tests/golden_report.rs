@@ -171,11 +171,18 @@ fn design_object_holds_the_contract_fields() {
                 p["value"].is_number() && p["initial_pct"].is_number(),
                 "{p}"
             ),
+            "capacitor" => assert!(
+                p["value"].as_f64().is_some_and(|f| f > 0.0 && f < 1.0)
+                    && p["dielectric"].is_string()
+                    && p["tolerance_pct"].is_number(),
+                "{p}"
+            ),
             other => panic!("unexpected kind {other}"),
         }
     }
-    // The demo design has a divider, a buffer op-amp, an in-amp and a reference.
-    let all: BTreeSet<String> = ["resistor", "opamp", "inamp", "reference"]
+    // The demo design has a divider, a buffer op-amp, an in-amp, a
+    // reference and the filter capacitor at the ADC input.
+    let all: BTreeSet<String> = ["resistor", "opamp", "inamp", "reference", "capacitor"]
         .iter()
         .map(|s| s.to_string())
         .collect();
@@ -200,7 +207,12 @@ fn part_prices_add_up_to_the_parts_cost() {
             .iter()
             .filter_map(|s| s.reference)
             .map(|i| stock.references[i].unit_cost)
-            .sum::<f64>();
+            .sum::<f64>()
+        + b.filter.as_ref().map_or(0.0, |f| {
+            stock.resistor(&f.series.part_id).unwrap().unit_cost
+                + stock.capacitor(&f.shunt.part_id).unwrap().unit_cost
+        });
+    assert!(b.filter.is_some(), "the demo design has a filter");
     assert!(
         (sum - from_stock).abs() < 1e-9,
         "parts sum {sum}, stock {from_stock}"

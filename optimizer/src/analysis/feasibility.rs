@@ -342,9 +342,11 @@ fn section_findings(
     });
 }
 
-/// Parts on the board: resistors, amplifier packages, references.
+/// Parts on the board: resistors, amplifier packages, references, and
+/// the filter pair where the design has one.
 pub fn part_count(built: &Built) -> usize {
     built.resistors.len()
+        + if built.filter.is_some() { 2 } else { 0 }
         + built.packages.len()
         + built
             .sources

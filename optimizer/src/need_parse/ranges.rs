@@ -151,6 +151,30 @@ pub(crate) const NUMBER_RANGES: &[NumberRange] = &[
         unit: "percent",
     },
     NumberRange {
+        key: "adc.sample_rate_hz",
+        min: 1e-3,
+        max: 1e10,
+        unit: "hertz",
+    },
+    NumberRange {
+        key: "adc.alias_rejection_db",
+        min: 0.0,
+        max: 200.0,
+        unit: "decibels",
+    },
+    NumberRange {
+        key: "adc.sample_capacitance_pf",
+        min: 1e-3,
+        max: 1e6,
+        unit: "picofarads",
+    },
+    NumberRange {
+        key: "adc.acquisition_time_ns",
+        min: 1e-3,
+        max: 1e12,
+        unit: "nanoseconds",
+    },
+    NumberRange {
         key: "accuracy.temp_min_c",
         min: ABSOLUTE_ZERO_C,
         max: 1000.0,

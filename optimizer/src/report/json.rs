@@ -4,10 +4,10 @@
 //! (a percentage of full scale, a designator lookup) are presentation.
 
 use super::types::{
-    AlternativeReport, AmplifierEntry, BudgetEntry, Contributor, DesignReport, ErrorFigures,
-    ErrorKind, ErrorReport, FindingEntry, HistogramReport, InfeasibleReport, InjectionReport,
-    NeedFigures, NoiseReport, PartEntry, ReferenceEntry, Report, ResistorEntry, SearchReport,
-    StageEntry, Status, SuggestionEntry, TransferReport,
+    AlternativeReport, AmplifierEntry, BudgetEntry, CapacitorEntry, Contributor, DesignReport,
+    ErrorFigures, ErrorKind, ErrorReport, FindingEntry, HistogramReport, InfeasibleReport,
+    InjectionReport, NeedFigures, NoiseReport, PartEntry, ReferenceEntry, Report, ResistorEntry,
+    SearchReport, StageEntry, Status, SuggestionEntry, TransferReport,
 };
 use crate::analysis::{Analysis, BudgetLine, Finding};
 use crate::design::{Injection, Source};
@@ -119,6 +119,38 @@ pub fn parts(stock: &Stock, built: &Built) -> Vec<PartEntry> {
             unit_cost: r.unit_cost,
             value: r.volts.0,
             value_text: format_quantity(r.volts.0, "V"),
+        }));
+    }
+    if let Some(f) = &built.filter {
+        let stage = built.stage_outputs.len().saturating_sub(1);
+        parts.push(PartEntry::Resistor(ResistorEntry {
+            footprint: stock.resistor(&f.series.part_id).map(|p| p.package.clone()),
+            kind: "resistor",
+            part_id: f.series.part_id.clone(),
+            reference: f.series_ref.clone(),
+            role: "filter".to_string(),
+            stage,
+            tcr_ppm_per_c: f.series.tcr_ppm_per_c,
+            tolerance_pct: f.series.tolerance_pct,
+            unit_cost: f.series.unit_cost,
+            value: f.series.ohms,
+            value_text: format_ohms(f.series.ohms),
+        }));
+        let c = &f.shunt;
+        parts.push(PartEntry::Capacitor(CapacitorEntry {
+            dielectric: c.dielectric.clone(),
+            footprint: Some(c.package.clone()),
+            kind: "capacitor",
+            part_id: c.part_id.clone(),
+            rated_v: c.rated.0,
+            reference: f.shunt_ref.clone(),
+            role: "filter".to_string(),
+            stage,
+            tempco_ppm_per_c: c.tempco.0,
+            tolerance_pct: c.tolerance.0,
+            unit_cost: c.unit_cost,
+            value: c.value.0,
+            value_text: format_quantity(c.value.0, "F"),
         }));
     }
     parts
@@ -291,6 +323,7 @@ pub fn design_report(need: &Need, stock: &Stock, candidate: &Candidate) -> Desig
             .map(|s| s.shape.name().to_string())
             .collect(),
         stages: stages(candidate),
+        filter: candidate.built.filter.as_ref().map(|f| (*f.report).clone()),
         topology: candidate
             .design
             .stages

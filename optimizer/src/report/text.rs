@@ -227,6 +227,7 @@ fn write_design(out: &mut String, need: &Need, d: &DesignReport) {
     );
     write_stages(out, d);
     write_parts(out, d);
+    write_filter(out, d);
     write_budget(out, need, d);
     write_checks(out, d);
     let _ = writeln!(
@@ -269,6 +270,79 @@ fn write_stages(out: &mut String, d: &DesignReport) {
         ]);
     }
     stages.render(out, "  ");
+}
+
+/// The filter at the ADC input: its figures, its checks and a coarse
+/// table of the chain's response (every tenth Bode point).
+fn write_filter(out: &mut String, d: &DesignReport) {
+    let _ = writeln!(out);
+    let Some(f) = &d.filter else {
+        let _ = writeln!(
+            out,
+            "Filter   none: no resistor and capacitor pair from the stock meets the rules \
+             of docs/filter.md"
+        );
+        return;
+    };
+    let _ = writeln!(
+        out,
+        "Filter   {} in series, {} to ground, driven by {}",
+        f.series_ref, f.shunt_ref, f.driver
+    );
+    let _ = writeln!(
+        out,
+        "         corner {} Hz, noise bandwidth {} Hz, droop at the band edge {} % FS",
+        num(f.corner_hz, 4),
+        num(f.noise_bandwidth_hz, 4),
+        num(f.droop_pct_fs, 3)
+    );
+    if let Some(r) = f.rejection_at_nyquist_db {
+        let _ = writeln!(
+            out,
+            "         rejection at half the sample rate {} dB",
+            num(r, 4)
+        );
+    }
+    if let (Some(t), Some(e)) = (f.settling_ns, f.settling_error_lsb) {
+        let _ = writeln!(
+            out,
+            "         settles to 1/2 LSB in {} ns after a kickback; {} LSB left at the end of \
+             the acquisition",
+            num(t, 4),
+            num(e, 3)
+        );
+    }
+    if let Some(m) = f.phase_margin_deg {
+        let _ = writeln!(
+            out,
+            "         phase margin of {} into the pair {} degrees",
+            f.driver,
+            num(m, 3)
+        );
+    }
+    for c in &f.checks {
+        let _ = writeln!(
+            out,
+            "         [{}] {}: {}",
+            if c.pass { "pass" } else { "FAIL" },
+            c.check,
+            c.detail
+        );
+    }
+    let mut table = Table::new(&[
+        ("Hz", Align::Right),
+        ("dB", Align::Right),
+        ("deg", Align::Right),
+    ]);
+    for p in f.bode.iter().step_by(10) {
+        table.row(vec![
+            num(p.frequency_hz, 4),
+            num(p.magnitude_db, 4),
+            num(p.phase_deg, 4),
+        ]);
+    }
+    let _ = writeln!(out, "         response from the sensor to the ADC pin:");
+    table.render(out, "         ");
 }
 
 fn write_parts(out: &mut String, d: &DesignReport) {
@@ -324,6 +398,19 @@ fn write_parts(out: &mut String, d: &DesignReport) {
                     "{} %, {} ppm/degC",
                     num(r.initial_pct, 2),
                     num(r.tempco_ppm_per_c, 3)
+                ),
+            ),
+            PartEntry::Capacitor(c) => (
+                &c.reference,
+                c.kind,
+                &c.value_text,
+                &c.part_id,
+                c.unit_cost,
+                format!(
+                    "{}, {} %, {} V",
+                    c.dielectric,
+                    num(c.tolerance_pct, 2),
+                    num(c.rated_v, 3)
                 ),
             ),
         };

@@ -87,6 +87,9 @@ pub struct DesignReport {
     pub feasible: bool,
     /// The design in the file format `analyze` reads back.
     pub file: serde_json::Value,
+    /// The filter at the ADC input and its figures, or null when none
+    /// could be chosen from the stock.
+    pub filter: Option<crate::filter::FilterReport>,
     /// Every feasibility check and its outcome.
     pub findings: Vec<FindingEntry>,
     /// Parts on the board.
@@ -185,6 +188,40 @@ pub enum PartEntry {
     Amplifier(AmplifierEntry),
     /// A voltage reference.
     Reference(ReferenceEntry),
+    /// A capacitor (the filter at the ADC input).
+    Capacitor(CapacitorEntry),
+}
+
+/// A capacitor of `parts[]`.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CapacitorEntry {
+    /// Dielectric text from the stock row.
+    pub dielectric: String,
+    /// Package text from the stock row.
+    pub footprint: Option<String>,
+    /// `capacitor`.
+    pub kind: &'static str,
+    /// Part id.
+    pub part_id: String,
+    /// Rated voltage, volts.
+    pub rated_v: f64,
+    /// Designator.
+    #[serde(rename = "ref")]
+    pub reference: String,
+    /// Its place: `filter` (shunt capacitor at the ADC input).
+    pub role: String,
+    /// 0-based index of the stage it follows (the last).
+    pub stage: usize,
+    /// Temperature coefficient, ppm/degC.
+    pub tempco_ppm_per_c: f64,
+    /// Tolerance, %.
+    pub tolerance_pct: f64,
+    /// Price of one.
+    pub unit_cost: f64,
+    /// Farads.
+    pub value: f64,
+    /// Farads as people write them (`4.7 nF`).
+    pub value_text: String,
 }
 
 /// A resistor of `parts[]`.

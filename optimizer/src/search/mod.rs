@@ -135,6 +135,12 @@ pub fn costing(built: &Built, bom_line_cost: f64) -> Costing {
             ids.insert(format!("v:{id}"));
         }
     }
+    // The filter at the ADC input, where a reported design has one.
+    if let Some(f) = &built.filter {
+        parts_cost += f.series.unit_cost + f.shunt.unit_cost;
+        ids.insert(format!("r:{}", f.series.part_id));
+        ids.insert(format!("c:{}", f.shunt.part_id));
+    }
     let bom_lines = ids.len();
     Costing {
         parts_cost,

@@ -1,10 +1,10 @@
 //! One reader per stock table (`resistors.csv`, `opamps.csv`,
-//! `references.csv`, `inamps.csv`): rows become validated parts.
+//! `references.csv`, `inamps.csv`): rows become validated parts. The
+//! reading of a row's value (a single value or a series family) is shared
+//! with `capacitors.csv` through [`row_values`].
 
 use super::*;
 
-// Long because a row is either a single part or a whole series family, and
-// each column of both forms is read and checked here with its location.
 pub(super) fn resistors(
     columns: &Columns,
     rows: &[Record],
@@ -12,16 +12,18 @@ pub(super) fn resistors(
 ) -> Result<Vec<(ResistorPart, usize)>> {
     let mut ids = Ids::default();
     let mut parts = Vec::new();
+    let kind = ValueKind {
+        columns: RESISTOR_VALUES,
+        what: "a number of ohms",
+        unit: "ohms",
+        noun: "resistor",
+        bound: Bound::Resistance,
+        code: value_code,
+    };
     for record in rows {
         let row = Row::new(file, columns, record)?;
         let part_id = row.text("part_id", true)?;
         ids.claim(&part_id, &row)?;
-        let has_value = !row.cell("value_ohms").is_empty();
-        let family_cells: Vec<&str> = FAMILY_COLUMNS
-            .iter()
-            .copied()
-            .filter(|c| !row.cell(c).is_empty())
-            .collect();
         let tolerance = row.number("tolerance_pct", "a tolerance in percent", Bound::Percent)?;
         let tcr = row.number(
             "tcr_ppm_per_c",
@@ -31,121 +33,181 @@ pub(super) fn resistors(
         let package = row.text("package", false)?;
         let unit_cost = row.number("unit_cost", "a unit cost", Bound::UpTo(MAX_UNIT_COST))?;
         let stock_qty = row.quantity("stock_qty")?;
-        let base = ResistorPart {
-            part_id: part_id.clone(),
-            value: Ohms(0.0),
-            tolerance: Percent(tolerance),
-            tcr: PpmPerC(tcr),
-            package,
-            unit_cost,
-            stock_qty,
-            family: None,
-        };
-        match (has_value, family_cells.is_empty()) {
-            (true, false) => {
-                return Err(row.err(
-                    "value_ohms",
-                    "the row has both `value_ohms` and series family cells; expected either a \
-                     single value or `series,min_ohms,max_ohms`",
-                ))
-            }
-            (false, true) => {
-                let column = if columns.index.contains_key("value_ohms") {
-                    "value_ohms"
-                } else {
-                    "series"
-                };
-                return Err(row.err(
-                    column,
-                    "the row has no value; expected `value_ohms` or `series,min_ohms,max_ohms`",
-                ));
-            }
-            (true, true) => {
-                let value = row.number("value_ohms", "a number of ohms", Bound::Resistance)?;
-                parts.push((
-                    ResistorPart {
-                        value: Ohms(value),
-                        ..base
-                    },
-                    row.line,
-                ));
-            }
-            (false, false) => {
-                for c in FAMILY_COLUMNS {
-                    if row.cell(c).is_empty() {
-                        return Err(row.err(
-                            c,
-                            format!(
-                                "a series family needs `series`, `min_ohms` and `max_ohms`; \
-                                 `{c}` is empty"
-                            ),
-                        ));
-                    }
-                }
-                let name = row.cell("series");
-                let series = Series::from_name(name).ok_or_else(|| {
-                    let names: Vec<&str> = Series::ALL.iter().map(|s| s.name()).collect();
-                    row.err(
-                        "series",
-                        format!(
-                            "expected one of {}, found {}",
-                            names.join(", "),
-                            row.found("series")
-                        ),
-                    )
-                })?;
-                let min = row.number("min_ohms", "a number of ohms", Bound::Resistance)?;
-                let max = row.number("max_ohms", "a number of ohms", Bound::Resistance)?;
-                if min > max {
-                    return Err(row.err(
-                        "max_ohms",
-                        format!("max_ohms ({max}) is below min_ohms ({min}); expected min_ohms <= max_ohms"),
-                    ));
-                }
-                let values = series.values_in(min, max);
-                if values.is_empty() {
-                    return Err(row.err(
-                        "min_ohms",
-                        format!(
-                            "family `{}` has no {} value from {min} to {max} ohms; expected a \
-                             range that holds at least one",
-                            shown(&part_id),
-                            series.name()
-                        ),
-                    ));
-                }
-                if parts.len() + values.len() > MAX_RESISTOR_VALUES {
-                    return Err(row.err(
-                        "max_ohms",
-                        format!(
-                            "the stock expands to more than {MAX_RESISTOR_VALUES} resistor \
-                             values at this family; expected fewer or narrower families"
-                        ),
-                    ));
-                }
-                for value in values {
-                    let id = format!("{part_id}-{}", value_code(value));
-                    ids.claim(&id, &row)?;
-                    parts.push((
-                        ResistorPart {
-                            part_id: id,
-                            value: Ohms(value),
-                            family: Some(part_id.clone()),
-                            ..base.clone()
-                        },
-                        row.line,
-                    ));
-                }
-            }
-        }
-        if parts.len() > MAX_RESISTOR_VALUES {
-            return Err(row.err(
-                "part_id",
-                format!("the stock has more than {MAX_RESISTOR_VALUES} resistor values"),
+        for value in row_values(&row, &part_id, &kind, parts.len(), &mut ids)? {
+            parts.push((
+                ResistorPart {
+                    part_id: value.part_id,
+                    value: Ohms(value.value),
+                    tolerance: Percent(tolerance),
+                    tcr: PpmPerC(tcr),
+                    package: package.clone(),
+                    unit_cost,
+                    stock_qty,
+                    family: value.family,
+                },
+                row.line,
             ));
         }
     }
     Ok(parts)
+}
+
+/// How the value of a table of single values or families reads.
+pub(super) struct ValueKind {
+    /// The value columns.
+    pub columns: ValueColumns,
+    /// What a value cell holds, for messages (`a number of ohms`).
+    pub what: &'static str,
+    /// The unit's name (`ohms`).
+    pub unit: &'static str,
+    /// The part's name (`resistor`).
+    pub noun: &'static str,
+    /// The range a value must lie in.
+    pub bound: Bound,
+    /// The value code of a family member's part id.
+    pub code: fn(f64) -> String,
+}
+
+/// One value a row stands for.
+pub(super) struct RowValue {
+    /// Its part id (a family member: `<family id>-<value code>`).
+    pub part_id: String,
+    /// The value in the table's unit.
+    pub value: f64,
+    /// The family id, for a family member.
+    pub family: Option<String>,
+}
+
+/// The values one row stands for: its single value, or every series value
+/// of its family; `before` values came from earlier rows (for the limit
+/// on values per stock).
+// Long because each defect of the value cells (both forms, neither form,
+// an incomplete family, an unknown series, an empty range, too many
+// values) gets its own located message.
+pub(super) fn row_values(
+    row: &Row<'_>,
+    part_id: &str,
+    kind: &ValueKind,
+    before: usize,
+    ids: &mut Ids,
+) -> Result<Vec<RowValue>> {
+    let single = kind.columns.single;
+    let family_columns = kind.columns.family;
+    let has_value = !row.cell(single).is_empty();
+    let family_cells: Vec<&str> = family_columns
+        .iter()
+        .copied()
+        .filter(|c| !row.cell(c).is_empty())
+        .collect();
+    let family_list = family_columns.join(",");
+    let values = match (has_value, family_cells.is_empty()) {
+        (true, false) => {
+            return Err(row.err(
+                single,
+                format!(
+                    "the row has both `{single}` and series family cells; expected either a \
+                     single value or `{family_list}`"
+                ),
+            ))
+        }
+        (false, true) => {
+            let column = if row.columns.index.contains_key(single) {
+                single
+            } else {
+                "series"
+            };
+            return Err(row.err(
+                column,
+                format!("the row has no value; expected `{single}` or `{family_list}`"),
+            ));
+        }
+        (true, true) => vec![RowValue {
+            part_id: part_id.to_string(),
+            value: row.number(single, kind.what, kind.bound)?,
+            family: None,
+        }],
+        (false, false) => {
+            for c in family_columns {
+                if row.cell(c).is_empty() {
+                    return Err(row.err(
+                        c,
+                        format!(
+                            "a series family needs `series`, `{}` and `{}`; `{c}` is empty",
+                            family_columns[1], family_columns[2]
+                        ),
+                    ));
+                }
+            }
+            let (min_column, max_column) = (family_columns[1], family_columns[2]);
+            let name = row.cell("series");
+            let series = Series::from_name(name).ok_or_else(|| {
+                let names: Vec<&str> = Series::ALL.iter().map(|s| s.name()).collect();
+                row.err(
+                    "series",
+                    format!(
+                        "expected one of {}, found {}",
+                        names.join(", "),
+                        row.found("series")
+                    ),
+                )
+            })?;
+            let min = row.number(min_column, kind.what, kind.bound)?;
+            let max = row.number(max_column, kind.what, kind.bound)?;
+            if min > max {
+                return Err(row.err(
+                    max_column,
+                    format!(
+                        "{max_column} ({max}) is below {min_column} ({min}); expected \
+                         {min_column} <= {max_column}"
+                    ),
+                ));
+            }
+            let values = series.values_in(min, max);
+            if values.is_empty() {
+                return Err(row.err(
+                    min_column,
+                    format!(
+                        "family `{}` has no {} value from {min} to {max} {}; expected a \
+                         range that holds at least one",
+                        shown(part_id),
+                        series.name(),
+                        kind.unit
+                    ),
+                ));
+            }
+            if before + values.len() > MAX_RESISTOR_VALUES {
+                return Err(row.err(
+                    max_column,
+                    format!(
+                        "the stock expands to more than {MAX_RESISTOR_VALUES} {} values at \
+                         this family; expected fewer or narrower families",
+                        kind.noun
+                    ),
+                ));
+            }
+            let mut out = Vec::with_capacity(values.len());
+            for value in values {
+                let id = format!("{part_id}-{}", (kind.code)(value));
+                ids.claim(&id, row)?;
+                out.push(RowValue {
+                    part_id: id,
+                    value,
+                    family: Some(part_id.to_string()),
+                });
+            }
+            out
+        }
+    };
+    if before + values.len() > MAX_RESISTOR_VALUES {
+        return Err(row.err(
+            "part_id",
+            format!(
+                "the stock has more than {MAX_RESISTOR_VALUES} {} values",
+                kind.noun
+            ),
+        ));
+    }
+    Ok(values)
 }
 
 /// Supply range and headrooms shared by op-amps and in-amps.
@@ -252,6 +314,15 @@ pub(super) fn opamps(
                 cmrr_min: Decibels(positive("cmrr_min_db", "a common-mode rejection in dB")?),
                 unit_cost: nonneg("unit_cost", "a unit cost")?,
                 stock_qty: row.quantity("stock_qty")?,
+                output_ohms: if row.cell("output_ohms").is_empty() {
+                    crate::stock::DEFAULT_OUTPUT_OHMS
+                } else {
+                    row.number(
+                        "output_ohms",
+                        "an open-loop output resistance in ohms",
+                        Bound::Resistance,
+                    )?
+                },
             },
             row.line,
         ));

@@ -102,3 +102,84 @@ unit_cost,stock_qty\nF,E12,10,100,1,100,0603,0.01,\n"
         .all(|r| r.family.as_deref() == Some("F")));
     assert!(stock.resistors.iter().all(|r| r.stock_qty.is_none()));
 }
+
+fn with_capacitors(text: &str) -> Result<Stock> {
+    let mut files = crate::demo::stock_files();
+    files.retain(|f| f.name != "capacitors.csv");
+    files.push(StockFile {
+        name: "capacitors.csv".into(),
+        bytes: text.as_bytes().to_vec(),
+    });
+    parse_stock(&files)
+}
+
+const CAP_HEADER: &str = "part_id,value_farads,series,min_farads,max_farads,tolerance_pct,\
+                          tempco_ppm_per_c,dielectric,rated_v,package,unit_cost,stock_qty\n";
+
+#[test]
+fn capacitor_families_expand_like_resistor_families() {
+    let stock = with_capacitors(&format!(
+        "{CAP_HEADER}C-A,,E12,1e-11,1e-8,5,30,C0G,50,0603,0.01,\nC-B,4.7e-7,,,,5,200,film,50,1206,0.1,7\n"
+    ))
+    .unwrap();
+    // E12 over three decades, ends included: 3 x 12 + 1 values (IEC 60063).
+    let family: Vec<_> = stock
+        .capacitors
+        .iter()
+        .filter(|c| c.family.as_deref() == Some("C-A"))
+        .collect();
+    assert_eq!(family.len(), 37);
+    assert_eq!(family[0].part_id, "C-A-10p0");
+    assert_eq!(family.last().unwrap().part_id, "C-A-10n0");
+    assert!(stock.capacitor("C-A-4n70").is_some());
+    let film = stock.capacitor("C-B").unwrap();
+    assert_eq!(film.value.0, 4.7e-7);
+    assert_eq!(film.dielectric, "film");
+    assert_eq!(film.stock_qty, Some(7));
+    assert!(stock
+        .capacitors
+        .windows(2)
+        .all(|w| w[0].value.0 <= w[1].value.0));
+}
+
+#[test]
+fn capacitor_value_codes() {
+    use crate::stock::capacitor_code;
+    assert_eq!(capacitor_code(1e-10), "100p");
+    assert_eq!(capacitor_code(4.7e-9), "4n70");
+    assert_eq!(capacitor_code(2.2e-6), "2u20");
+    assert_eq!(capacitor_code(1e-11), "10p0");
+}
+
+#[test]
+fn capacitor_rows_are_checked_with_their_location() {
+    let bad = |row: &str| {
+        with_capacitors(&format!("{CAP_HEADER}{row}\n"))
+            .unwrap_err()
+            .to_string()
+    };
+    let e = bad("C-A,-1e-9,,,,5,30,C0G,50,0603,0.01,");
+    assert!(e.contains("line 2") && e.contains("value_farads"), "{e}");
+    let e = bad("C-A,1e-9,,,,5,30,,50,0603,0.01,");
+    assert!(e.contains("dielectric"), "{e}");
+    let e = bad("C-A,1e-9,,,,5,30,C0G,0,0603,0.01,");
+    assert!(e.contains("rated_v") && e.contains("above zero"), "{e}");
+    let e = bad("C-A,,E12,1e-8,1e-9,5,30,C0G,50,0603,0.01,");
+    assert!(e.contains("max_farads"), "{e}");
+    let e = with_capacitors(
+        "part_id,tolerance_pct,tempco_ppm_per_c,dielectric,rated_v,package,unit_cost,stock_qty\n",
+    )
+    .unwrap_err()
+    .to_string();
+    assert!(e.contains("value_farads"), "{e}");
+}
+
+#[test]
+fn output_ohms_is_optional_with_a_default() {
+    let stock = parse_stock(&crate::demo::stock_files()).unwrap();
+    assert!(stock
+        .opamps
+        .iter()
+        .all(|p| p.output_ohms == crate::stock::DEFAULT_OUTPUT_OHMS));
+    assert!(!stock.capacitors.is_empty());
+}

@@ -1,0 +1,307 @@
+//! The filter and drive at the ADC input: a series resistor from the last
+//! amplifier's output to the ADC pin and a shunt capacitor from the pin to
+//! ground, chosen from the stock, and the figures that prove it.
+//!
+//! The choice ([`choose`]) is closed-form: every constraint on the pair is
+//! a bound on `R`, `C` or `R C` written out below, and the cheapest stock
+//! pair that meets all of them is taken (a linear pass over the stock; no
+//! iteration over analyses). It is made only for designs that are
+//! reported, never for each candidate the search analyses.
+//!
+//! The figures ([`response`]) come from the AC analysis of the whole
+//! chain with the pair in its netlist ([`crate::mna_ac`]): corner, droop
+//! at `accuracy.bandwidth_hz`, rejection at half the sample rate, noise
+//! bandwidth, Bode data; plus the closed forms of the drive (phase margin
+//! of the last op-amp into the capacitor, kickback and settling of a
+//! sampling input). `docs/filter.md` gives every rule and its source.
+
+mod response;
+
+pub use response::{analyse, FilterCheck, FilterReport, FilterStatus};
+
+use crate::design::Resistor;
+use crate::mna::DcSolution;
+use crate::need::Need;
+use crate::stock::{CapacitorPart, Stock, DEFAULT_OUTPUT_OHMS};
+use crate::topology::{AmplifierKind, Built, PlacedFilter, Section};
+
+/// Share of the error target the droop at `accuracy.bandwidth_hz` may
+/// take, with the pair at its tolerance limits (our rule: a tenth).
+pub const DROOP_SHARE_OF_TARGET: f64 = 0.1;
+
+/// The corner is kept within this factor of the lowest corner the droop
+/// rule allows (nominal values), so the noise bandwidth is not wasted
+/// (our rule).
+pub const CORNER_SPREAD: f64 = 3.0;
+
+/// The filter capacitor is at least this many times the ADC's sampling
+/// capacitance, so one sample's kickback moves it little (common practice:
+/// ten to a few tens of times; we take 20).
+pub const RESERVOIR_RATIO: f64 = 20.0;
+
+/// Phase margin asked of the last op-amp driving the capacitor (common
+/// practice: 45 degrees or more).
+pub const PHASE_MARGIN_TARGET_DEG: f64 = 45.0;
+
+/// The amplifier that drives the filter: the section whose output is the
+/// chain's output, with its single-pole model.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Driver {
+    /// Its designator (`U1B`).
+    pub designator: String,
+    /// Gain-bandwidth product, Hz.
+    pub gbw_hz: f64,
+    /// Open-loop output resistance, ohms.
+    pub output_ohms: f64,
+    /// Noise gain (1/feedback factor) of the section, from the DC adjoint.
+    pub noise_gain: f64,
+}
+
+/// The chosen pair.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FilterParts {
+    /// Series resistor, amplifier output to ADC pin.
+    pub series: Resistor,
+    /// Shunt capacitor, ADC pin to ground.
+    pub shunt: CapacitorPart,
+}
+
+/// The bounds the pair must meet, from the need and the driver.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Bounds {
+    /// Largest `R C` (at the pair's upper tolerance limits), seconds: the
+    /// droop rule.
+    pub max_tau_s: f64,
+    /// Smallest nominal `R C`, seconds ([`CORNER_SPREAD`]); raised by the
+    /// alias rule when a rejection is asked.
+    pub min_tau_s: f64,
+    /// Smallest `R C` at the pair's lower tolerance limits for the wanted
+    /// rejection at half the sample rate, seconds (0 without one).
+    pub alias_tau_s: f64,
+    /// Smallest capacitor, farads (reservoir rule; 0 without a sampling
+    /// input).
+    pub min_farads: f64,
+    /// Smallest series resistor, ohms (phase-margin rule).
+    pub min_ohms: f64,
+    /// Largest `R (C + Cs)` for settling in the acquisition time at the
+    /// smallest capacitor, seconds (infinite without a sampling input or
+    /// when that capacitor's kickback is already under 1/2 LSB; a larger
+    /// capacitor has a smaller kickback, so each pair is also checked on
+    /// its own).
+    pub max_settle_tau_s: f64,
+}
+
+/// The section driving the chain's output, with its noise gain.
+pub fn driver(need: &Need, stock: &Stock, built: &Built) -> Option<Driver> {
+    let section: &Section = built.sections.iter().find(|s| s.out == built.out)?;
+    let (gbw_mhz, output_ohms) = match section.kind {
+        AmplifierKind::OpAmp(i) => {
+            let p = stock.opamps.get(i)?;
+            (p.gbw_mhz, p.output_ohms)
+        }
+        AmplifierKind::InAmp(i) => (stock.inamps.get(i)?.gbw_mhz, DEFAULT_OUTPUT_OHMS),
+    };
+    let mut netlist = built.netlist.clone();
+    let low = need.sensor.signal_low.0;
+    let dc = DcSolution::solve(&mut netlist, built.vsense, [low, low], built.out).ok()?;
+    let noise_gain = dc.branch_adjoint(section.vos).abs().max(1.0);
+    Some(Driver {
+        designator: section.designator.clone(),
+        gbw_hz: gbw_mhz * 1e6,
+        output_ohms,
+        noise_gain,
+    })
+}
+
+/// The worst-case step a sampling capacitor meets at the start of an
+/// acquisition: the whole ADC window (it may hold the last sample from the
+/// other end), volts.
+pub fn kickback_step_v(need: &Need) -> f64 {
+    need.full_scale()
+}
+
+/// Settling closed form: the kickback droop `dV0 = step Cs / (C + Cs)`
+/// (charge sharing), recovered with the time constant
+/// `tau = R (C + Cs) + NG / (2 pi GBW)` (the sum of the two time
+/// constants, an Elmore estimate; from memory). Returns `(dV0, tau)`.
+pub fn kickback(need: &Need, driver: &Driver, ohms: f64, farads: f64) -> Option<(f64, f64)> {
+    let cs = need.adc.sample_capacitance?.0;
+    let dv0 = kickback_step_v(need) * cs / (farads + cs);
+    let tau =
+        ohms * (farads + cs) + driver.noise_gain / (2.0 * std::f64::consts::PI * driver.gbw_hz);
+    Some((dv0, tau))
+}
+
+/// The bounds of [`Bounds`] for this need and driver (closed forms; see
+/// the module header and `docs/filter.md`).
+pub fn bounds(need: &Need, driver: &Driver) -> Bounds {
+    let two_pi = 2.0 * std::f64::consts::PI;
+    let bandwidth = need.accuracy.bandwidth.0;
+    // Droop of one pole at f: 1 - 1/sqrt(1 + (f/fc)^2) <= d, as a share
+    // of the output span of the window.
+    let (low, high) = need.target_window();
+    let span_share = ((high - low) / need.full_scale()).max(1e-12);
+    let droop =
+        (DROOP_SHARE_OF_TARGET * (need.accuracy.max_error_pct_fs / 100.0) / span_share).min(0.5);
+    let ratio = ((1.0 / (1.0 - droop)).powi(2) - 1.0).sqrt();
+    let fc_min = bandwidth / ratio;
+    let max_tau_s = 1.0 / (two_pi * fc_min);
+    let mut min_tau_s = max_tau_s / CORNER_SPREAD;
+    let mut alias_tau_s = 0.0;
+    if let (Some(rate), Some(rejection)) = (need.adc.sample_rate, need.adc.alias_rejection) {
+        let nyquist = rate.0 / 2.0;
+        let fc_max = nyquist / (10f64.powf(rejection.0 / 10.0) - 1.0).max(1e-300).sqrt();
+        alias_tau_s = 1.0 / (two_pi * fc_max);
+        min_tau_s = min_tau_s.max(alias_tau_s);
+    }
+    // Phase margin: the load's pole-zero pair lags at most
+    // atan(Ro / (2 sqrt(R (R + Ro)))) at any frequency; keeping that lag
+    // under 90 - target leaves the target margin over a single-pole
+    // amplifier's 90 degrees, whatever the crossover.
+    let t = (90.0 - PHASE_MARGIN_TARGET_DEG).to_radians().tan();
+    let ro = driver.output_ohms;
+    let min_ohms = ro * ((1.0 + 1.0 / (t * t)).sqrt() - 1.0) / 2.0;
+    let (min_farads, max_settle_tau_s) =
+        match (need.adc.sample_capacitance, need.adc.acquisition_time) {
+            (Some(cs), Some(t_acq)) => {
+                let half_lsb = 0.5 * need.lsb();
+                // dV0 exp(-t/tau) <= LSB/2 with dV0 at the smallest C.
+                let min_c = RESERVOIR_RATIO * cs.0;
+                let dv0 = kickback_step_v(need) * cs.0 / (min_c + cs.0);
+                let amp_tau = driver.noise_gain / (two_pi * driver.gbw_hz);
+                let settle = t_acq.0 / (dv0 / half_lsb).ln().max(1e-12) - amp_tau;
+                (min_c, settle)
+            }
+            _ => (0.0, f64::INFINITY),
+        };
+    Bounds {
+        max_tau_s,
+        min_tau_s,
+        alias_tau_s,
+        min_farads,
+        min_ohms,
+        max_settle_tau_s,
+    }
+}
+
+/// Whether a pair meets the bounds.
+fn meets(bounds: &Bounds, need: &Need, driver: &Driver, r: &Resistor, c: &CapacitorPart) -> bool {
+    let (ohms, farads) = (r.ohms, c.value.0);
+    let (tr, tc) = (r.tolerance_pct / 100.0, c.tolerance.0 / 100.0);
+    let tau = ohms * farads;
+    if ohms < bounds.min_ohms || farads < bounds.min_farads {
+        return false;
+    }
+    if tau * (1.0 + tr) * (1.0 + tc) > bounds.max_tau_s || tau < bounds.min_tau_s {
+        return false;
+    }
+    if tau * (1.0 - tr) * (1.0 - tc) < bounds.alias_tau_s {
+        return false;
+    }
+    if let Some((dv0, settle_tau)) = kickback(need, driver, ohms, farads) {
+        let t_acq = need.adc.acquisition_time.map_or(0.0, |t| t.0);
+        if dv0 * (-t_acq / settle_tau).exp() > 0.5 * need.lsb() {
+            return false;
+        }
+    }
+    true
+}
+
+/// The cheapest stock pair meeting every bound (ties: the larger `R C`,
+/// then the smaller resistor), or `None` when the stock has none.
+pub fn choose(need: &Need, stock: &Stock, driver: &Driver) -> Option<FilterParts> {
+    let b = bounds(need, driver);
+    let mut best: Option<(f64, f64, f64, usize, usize)> = None;
+    for (ci, c) in stock.capacitors.iter().enumerate() {
+        if c.stock_qty == Some(0) || c.value.0 < b.min_farads {
+            continue;
+        }
+        // R from the R C bounds for this C, widened by the tolerances.
+        let r_low = (b.min_tau_s / c.value.0).max(b.min_ohms) * (1.0 - 1e-9);
+        let r_high = b.max_tau_s / c.value.0 * (1.0 + 1e-9);
+        let start = stock.resistors.partition_point(|r| r.value.0 < r_low);
+        for (ri, part) in stock.resistors.iter().enumerate().skip(start) {
+            if part.value.0 > r_high {
+                break;
+            }
+            if part.stock_qty == Some(0) {
+                continue;
+            }
+            let r = Resistor::from(part);
+            if !meets(&b, need, driver, &r, c) {
+                continue;
+            }
+            let cost = r.unit_cost + c.unit_cost;
+            let tau = r.ohms * c.value.0;
+            let better = match best {
+                None => true,
+                Some((bc, bt, bo, _, _)) => {
+                    cost < bc - 1e-12
+                        || ((cost - bc).abs() <= 1e-12
+                            && (tau > bt * (1.0 + 1e-12)
+                                || ((tau - bt).abs() <= bt * 1e-12 && r.ohms < bo)))
+                }
+            };
+            if better {
+                best = Some((cost, tau, r.ohms, ri, ci));
+            }
+        }
+    }
+    best.map(|(_, _, _, ri, ci)| FilterParts {
+        series: Resistor::from(&stock.resistors[ri]),
+        shunt: stock.capacitors[ci].clone(),
+    })
+}
+
+/// The built design with its filter placed and reported, when one can be
+/// chosen; otherwise the design as it is, with the reason.
+pub fn attach(need: &Need, stock: &Stock, built: &Built) -> (Built, Option<String>) {
+    match analyse(need, stock, built) {
+        FilterStatus::Designed {
+            parts,
+            built: mut filtered,
+            report,
+        } => {
+            let find = |name: &str| filtered.netlist.element(name).unwrap_or(0);
+            let placed = PlacedFilter {
+                series_element: find(&report.series_ref),
+                series_ref: report.series_ref.clone(),
+                series: parts.series,
+                shunt_element: find(&report.shunt_ref),
+                shunt_ref: report.shunt_ref.clone(),
+                shunt: parts.shunt,
+                report,
+            };
+            filtered.filter = Some(placed);
+            (*filtered, None)
+        }
+        FilterStatus::NotDesigned { reason } => (built.clone(), Some(reason)),
+    }
+}
+
+/// The chain with the filter: the last amplifier's output node is renamed
+/// `drv`, the series resistor runs from it to a new `out` (the ADC pin) and
+/// the capacitor from `out` to ground. Returns the built design with the
+/// filter and the designators given to the two parts.
+pub fn with_filter(built: &Built, parts: &FilterParts) -> (Built, String, String) {
+    let mut b = built.clone();
+    let number = b
+        .resistors
+        .iter()
+        .filter_map(|r| r.designator.strip_prefix('R')?.parse::<usize>().ok())
+        .max()
+        .unwrap_or(0)
+        + 1;
+    let r_ref = format!("R{number}");
+    let c_ref = "C1".to_string();
+    let drv = b.out;
+    b.netlist.rename_node(drv, "drv");
+    let out = b.netlist.node("out");
+    b.netlist.resistor(&r_ref, drv, out, parts.series.ohms);
+    b.netlist.capacitor(&c_ref, out, 0, parts.shunt.value.0);
+    b.out = out;
+    (b, r_ref, c_ref)
+}
+
+#[cfg(test)]
+mod tests;

@@ -1,0 +1,133 @@
+//! Tests of the filter choice and its figures, against handbook closed
+//! forms of one RC pole (common practice).
+
+use super::*;
+use crate::units::{Decibels, Farads, Hertz, Seconds};
+
+fn demo() -> (Need, Stock, crate::design::Design) {
+    let need = crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo.toml").unwrap();
+    let stock = crate::stock::parse_stock(&crate::demo::stock_files()).unwrap();
+    let json = include_str!("../../../examples/demo-design.json");
+    let design = crate::design::parse_design(json.as_bytes(), "demo-design.json", &stock).unwrap();
+    (need, stock, design)
+}
+
+fn designed(
+    need: &Need,
+    stock: &Stock,
+    design: &crate::design::Design,
+) -> (FilterParts, FilterReport) {
+    let built = crate::topology::build(need, stock, design).unwrap();
+    match analyse(need, stock, &built) {
+        FilterStatus::Designed { parts, report, .. } => (parts, *report),
+        FilterStatus::NotDesigned { reason } => panic!("no filter: {reason}"),
+    }
+}
+
+/// The chosen pair meets every bound, and the reported corner is the RC
+/// corner `1/(2 pi R C)` up to the stage poles far above it.
+#[test]
+fn the_pair_meets_its_bounds_and_sets_the_corner() {
+    let (need, stock, design) = demo();
+    let built = crate::topology::build(&need, &stock, &design).unwrap();
+    let d = driver(&need, &stock, &built).unwrap();
+    let b = bounds(&need, &d);
+    let (parts, report) = designed(&need, &stock, &design);
+    let (r, c) = (parts.series.ohms, parts.shunt.value.0);
+    assert!(r >= b.min_ohms && c >= b.min_farads);
+    let tau = r * c;
+    let (tr, tc) = (
+        parts.series.tolerance_pct / 100.0,
+        parts.shunt.tolerance.0 / 100.0,
+    );
+    assert!(tau * (1.0 + tr) * (1.0 + tc) <= b.max_tau_s * (1.0 + 1e-9));
+    assert!(tau >= b.min_tau_s * (1.0 - 1e-9));
+    let rc_corner = 1.0 / (2.0 * std::f64::consts::PI * tau);
+    assert!(
+        (report.corner_hz / rc_corner - 1.0).abs() < 0.02,
+        "{} vs {rc_corner}",
+        report.corner_hz
+    );
+    assert!(report.checks.iter().all(|c| c.pass), "{:?}", report.checks);
+    assert_eq!(report.bode.len(), 61);
+}
+
+/// For one dominant pole the noise bandwidth is pi/2 times the corner
+/// (handbook closed form); the chain's is within 2 % of it.
+#[test]
+fn noise_bandwidth_is_pi_over_two_times_the_corner() {
+    let (need, stock, design) = demo();
+    let (_, report) = designed(&need, &stock, &design);
+    let want = std::f64::consts::FRAC_PI_2 * report.corner_hz;
+    assert!(
+        (report.noise_bandwidth_hz / want - 1.0).abs() < 0.02,
+        "{} vs {want}",
+        report.noise_bandwidth_hz
+    );
+}
+
+/// A sampling input and an alias target: the reservoir, settling and
+/// rejection rules bind, and the reported figures follow their closed
+/// forms (one pole: 10 log10(1 + (f/fc)^2) dB at f).
+#[test]
+fn a_sampling_input_gets_a_reservoir_and_settles() {
+    let (mut need, stock, design) = demo();
+    // A 12-bit converter: a large reservoir keeps its kickback under
+    // 1/2 LSB.
+    need.adc.bits = 12;
+    need.adc.sample_rate = Some(Hertz(200e3));
+    need.adc.alias_rejection = Some(Decibels(20.0));
+    need.adc.sample_capacitance = Some(Farads(10e-12));
+    need.adc.acquisition_time = Some(Seconds(2e-6));
+    let (parts, report) = designed(&need, &stock, &design);
+    assert!(parts.shunt.value.0 >= 20.0 * 10e-12);
+    let rejection = report.rejection_at_nyquist_db.unwrap();
+    assert!(rejection >= 20.0, "{rejection}");
+    let fc = report.corner_hz;
+    let one_pole = 10.0 * (1.0 + (100e3 / fc).powi(2)).log10();
+    // The stage poles add rejection; never less than the pair's own.
+    assert!(rejection >= one_pole - 0.2, "{rejection} vs {one_pole}");
+    let left = report.settling_error_lsb.unwrap();
+    assert!(left <= 0.5, "{left}");
+    let kick = report.kickback_v.unwrap();
+    let want = need.full_scale() * 10e-12 / (parts.shunt.value.0 + 10e-12);
+    assert!((kick / want - 1.0).abs() < 1e-12);
+}
+
+/// Without capacitors in the stock there is no filter, and the reason
+/// says so.
+#[test]
+fn no_capacitors_no_filter() {
+    let (need, mut stock, design) = demo();
+    stock.capacitors.clear();
+    let built = crate::topology::build(&need, &stock, &design).unwrap();
+    match analyse(&need, &stock, &built) {
+        FilterStatus::NotDesigned { reason } => assert!(reason.contains("capacitors"), "{reason}"),
+        FilterStatus::Designed { .. } => panic!("a filter without capacitors"),
+    }
+}
+
+/// The phase-margin rule: at the smallest R it allows, the exact margin
+/// at any noise gain is at least the target.
+#[test]
+fn the_isolation_resistor_bound_keeps_the_margin() {
+    for noise_gain in [1.0, 3.0, 100.0] {
+        let d = Driver {
+            designator: "U1".into(),
+            gbw_hz: 1e6,
+            output_ohms: 100.0,
+            noise_gain,
+        };
+        let t = (90.0 - PHASE_MARGIN_TARGET_DEG).to_radians().tan();
+        let r_min = 100.0 * ((1.0 + 1.0 / (t * t)).sqrt() - 1.0) / 2.0;
+        for farads in [1e-10, 1e-9, 1e-8, 1e-7, 1e-6] {
+            let m = response::phase_margin_deg(&d, r_min, farads);
+            assert!(
+                m >= PHASE_MARGIN_TARGET_DEG - 1e-6,
+                "NG {noise_gain}, C {farads}: {m}"
+            );
+        }
+        // Without the resistor a large capacitor costs margin.
+        assert!(response::phase_margin_deg(&d, 0.0, 1e-6) < 45.0 || noise_gain > 10.0);
+    }
+}
