@@ -73,6 +73,7 @@ test('an edit re-solves by itself; meanwhile the answer is marked out of date an
     const before = await worstRaw(page);
     const gainBefore = Number(await page.getAttribute('[data-figure="gain"]', 'data-raw'));
     assert.equal(await page.isEnabled('#dl-bom'), true);
+    await page.click('[data-testid=pin]');
     await page.fill('#f-adc-high_v', '2.5');
     // At once: out of date, downloads off.
     await page.waitForFunction(() => document.querySelector('[data-testid=freshness]').dataset.fresh !== 'current', null, { timeout: 1000 });
@@ -86,6 +87,10 @@ test('an edit re-solves by itself; meanwhile the answer is marked out of date an
     assert.notEqual(gainAfter, gainBefore, 'a new design for the new window');
     assert.equal(await page.isEnabled('#dl-bom'), true);
     assert.equal(await page.getAttribute('#result', 'data-stale'), 'no');
+    // The pinned design (the one before the edit) beside the new one.
+    const rows = await page.$$eval('#compare-table tbody tr', (trs) => trs.map((tr) => [...tr.children].map((c) => c.textContent)));
+    const worstRow = rows.find((r) => r[0] === 'Worst-case error');
+    assert.deepEqual(worstRow.slice(1), [`${Number(before.toPrecision(3))} % FS`, `${Number((await worstRaw(page)).toPrecision(3))} % FS`]);
     console.log(`re-solved ${took} ms after the edit (worst case ${before} -> ${await worstRaw(page)} % FS)`);
     assert.equal(took < 2000, true, `re-solved within 2 s (took ${took} ms)`);
     // An invalid field: the answer waits, marked out of date.
@@ -251,6 +256,24 @@ test('a share link carries the edited shelf into a fresh browser, and leaves the
     await page.waitForFunction(() => document.body.dataset.ready === 'yes');
     assert.equal(await page.inputValue('#f-accuracy-max_error_pct_fs'), '0.9', 'the later edit survives a reload');
     assert.equal(await page.inputValue('[data-testid=stock-table] input[data-row="0"][data-col="0"]'), 'HR-SHARED');
+  });
+});
+
+test('named projects: save, open, duplicate and delete in this browser', async () => {
+  await withPage(async ({ page }) => {
+    await page.fill('[data-testid=project-name]', 'bench A');
+    await page.click('#project-save');
+    await page.fill('#f-adc-bits', '12');
+    await page.waitForFunction(() => window.spanfitPage.state.need.adc.bits === 12);
+    await page.click('#project-duplicate');
+    const names = await page.$$eval('[data-testid=project-list] option', (o) => o.map((x) => x.value));
+    assert.deepEqual(names, ['bench A', 'bench A (copy)']);
+    await page.selectOption('[data-testid=project-list]', 'bench A');
+    await page.click('#project-open');
+    await page.waitForFunction(() => document.querySelector('#f-adc-bits').value === '16');
+    await page.selectOption('[data-testid=project-list]', 'bench A (copy)');
+    await page.click('#project-delete');
+    assert.deepEqual(await page.$$eval('[data-testid=project-list] option', (o) => o.map((x) => x.value)), ['bench A']);
   });
 });
 

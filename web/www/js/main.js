@@ -22,13 +22,13 @@
 import { $, clear, el, setStatus } from './dom.js';
 import { bundle, Engine } from './wasm-client.js';
 import { engines, state, updateSolveButton } from './state.js';
-import { loadStored, saveNow, saveSoon, setAside } from './storage.js';
+import { loadStored, namedProjects, projectObject, saveNow, saveSoon, setAside, writeNamedProjects } from './storage.js';
 import { buildForm, fillForm, validateNeed } from './need-form.js';
 import { buildTabs, onStockUpload, renderStockTable, stockChanged, validateStock } from './shelf.js';
 import { onCancel, refreshFreshness, runSolve } from './solve.js';
-import { renderViewed, watchChartWidth, wireSchematic } from './results.js';
+import { pinViewed, renderCompare, renderViewed, watchChartWidth, wireSchematic } from './results.js';
 import { wireDownloads } from './downloads.js';
-import { clearFragment, demoNeed, demoStock, exampleProject, needFromFile, projectFromFile, projectFromFragment, readStockTexts, shareLink } from './project.js';
+import { clearFragment, demoNeed, demoStock, exampleProject, needFromFile, projectFromFile, projectFromFragment, readProject, readStockTexts, shareLink } from './project.js';
 import { toCsv } from './csv.js';
 
 // The badge shows the two workers together: ready when both are.
@@ -112,6 +112,63 @@ function wireCurrency() {
   });
 }
 
+/** The list of named projects, with `selected` chosen when given. */
+function listNamed(selected) {
+  const select = $('project-list');
+  clear(select);
+  const names = Object.keys(namedProjects()).sort();
+  if (!names.length) select.append(el('option', { value: '', text: '(none saved yet)' }));
+  for (const name of names) select.append(el('option', { value: name, text: name }));
+  if (selected && names.includes(selected)) select.value = selected;
+  for (const id of ['project-open', 'project-duplicate', 'project-delete']) $(id).disabled = !names.length;
+}
+
+function wireNamed() {
+  listNamed();
+  $('project-save').addEventListener('click', () => {
+    const name = $('project-name').value.trim();
+    if (!name) { setStatus('run-status', 'Give the project a name to save it under.', 'bad'); $('project-name').focus(); return; }
+    const all = namedProjects();
+    all[name] = { ...projectObject(), tables: state.stock };
+    if (!writeNamedProjects(all)) { setStatus('run-status', 'This browser refused to store the project (storage is off or full).', 'bad'); return; }
+    listNamed(name);
+    setStatus('run-status', `Saved as "${name}" in this browser.`, 'good');
+  });
+  $('project-open').addEventListener('click', async () => {
+    const name = $('project-list').value;
+    const value = namedProjects()[name];
+    if (!value) return;
+    try {
+      const project = await readProject(value, `the saved project "${name}"`);
+      useProject(project);
+      $('project-name').value = name;
+      setStatus('run-status', `Opened "${name}".`, 'good');
+    } catch (error) {
+      setStatus('run-status', error.message, 'bad');
+    }
+  });
+  $('project-duplicate').addEventListener('click', () => {
+    const name = $('project-list').value;
+    const all = namedProjects();
+    if (!all[name]) return;
+    let copy = `${name} (copy)`;
+    for (let n = 2; all[copy]; n += 1) copy = `${name} (copy ${n})`;
+    all[copy] = all[name];
+    writeNamedProjects(all);
+    listNamed(copy);
+    setStatus('run-status', `Duplicated "${name}" as "${copy}".`, 'good');
+  });
+  $('project-delete').addEventListener('click', () => {
+    const name = $('project-list').value;
+    const all = namedProjects();
+    if (!all[name]) return;
+    delete all[name];
+    writeNamedProjects(all);
+    listNamed();
+    setStatus('run-status', `Deleted "${name}" from this browser.`, 'good');
+  });
+}
+
 let gallery = null;
 
 function wireGallery() {
@@ -191,6 +248,9 @@ function wire() {
   wireDownloads();
   wireSchematic();
   wireCurrency();
+  wireNamed();
+  $('pin').addEventListener('click', pinViewed);
+  $('unpin').addEventListener('click', () => { state.pinned = null; renderCompare(); });
   wireGallery();
   window.addEventListener('hashchange', async () => {
     const project = await projectFromFragment();

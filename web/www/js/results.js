@@ -38,6 +38,51 @@ export function showReport() {
   renderViewed();
 }
 
+/** The figures of a design that the comparison shows, from the core's report. */
+function summaryOf(design, label) {
+  const e = errorOf(design);
+  const parts = isObject(design) && Array.isArray(design.parts) ? design.parts : [];
+  return {
+    label,
+    need: JSON.stringify(state.result.need),
+    rows: [
+      ['Cost', money(design.cost)],
+      ['Worst-case error', `${fmt(e.worst, 3)} % FS`],
+      ['RSS error', `${fmt(e.rss, 3)} % FS`],
+      ['Topology', String(design.topology ?? '—')],
+      ['Parts', parts.filter(isObject).map((p) => `${p.ref} ${partValueText(p)}`).join(', ')],
+    ],
+  };
+}
+
+/** Pin the design on show, to compare later designs against it. */
+export function pinViewed() {
+  if (!state.viewed || !isObject(state.viewed.design)) return;
+  state.pinned = summaryOf(state.viewed.design, state.viewed.label);
+  renderCompare();
+}
+
+/** The pinned design beside the one on show (or nothing when none is pinned). */
+export function renderCompare() {
+  const box = $('compare');
+  const pinned = state.pinned;
+  box.hidden = !pinned;
+  if (!pinned) return;
+  const node = $('compare-table');
+  clear(node);
+  const now = state.viewed && isObject(state.viewed.design) ? summaryOf(state.viewed.design, state.viewed.label) : null;
+  const sameNeed = now && now.need === pinned.need;
+  node.append(el('thead', {}, el('tr', {},
+    el('th', { scope: 'col', text: 'Figure' }),
+    el('th', { scope: 'col', text: `Pinned (${pinned.label})` }),
+    el('th', { scope: 'col', text: now ? `On show (${now.label}${sameNeed ? '' : ', another need'})` : 'On show' }))));
+  const body = el('tbody');
+  pinned.rows.forEach(([name, value], i) => {
+    body.append(el('tr', {}, el('th', { scope: 'row', text: name }), el('td', { text: value }), el('td', { text: now ? now.rows[i][1] : '—' })));
+  });
+  node.append(body);
+}
+
 /** Redraw everything about the design on show (state.viewed). */
 export function renderViewed() {
   const report = reportOf(state.result.bundle);
@@ -59,6 +104,8 @@ export function renderViewed() {
   const extra = { stages: design && design.stages, transfer: design && design.transfer, search: report.search };
   $('raw-extra').textContent = JSON.stringify(extra, null, 2);
   setDownloads($('result').dataset.stale === 'yes');
+  $('pin').disabled = !isObject(design);
+  renderCompare();
 }
 
 /**

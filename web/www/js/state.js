@@ -18,6 +18,7 @@ export const state = {
   checkedStock: null,
   formDirty: false,
   currency: '',
+  pinned: null,
   needValid: false,
   stockValid: false,
   solving: false,

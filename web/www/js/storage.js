@@ -94,3 +94,25 @@ export function loadStored() {
     return null;
   }
 }
+
+const NAMED_KEY = 'spanfit-projects-v1';
+
+/** The named projects kept in this browser: name -> project object. */
+export function namedProjects() {
+  try {
+    const value = JSON.parse(localStorage.getItem(NAMED_KEY) || '{}');
+    return isObject(value) ? value : {};
+  } catch (_) {
+    return {};
+  }
+}
+
+/** Write the named projects back; false when storage refuses. */
+export function writeNamedProjects(all) {
+  try {
+    localStorage.setItem(NAMED_KEY, JSON.stringify(all));
+    return true;
+  } catch (_) {
+    return false;
+  }
+}
