@@ -5,7 +5,8 @@
 #   - the wasm32-unknown-unknown target for the machine's Rust toolchain
 #   - wasm-bindgen-cli 0.2.130 (must match the wasm-bindgen crate pin)
 #   - Debian's chromium, chromium-driver and ngspice
-#   - npm packages in tests/page: playwright-core and binaryen@132 (wasm-opt)
+#   - npm packages in tests/page: playwright-core, axe-core (accessibility
+#     checks in the page tests) and binaryen@132 (wasm-opt)
 set -euo pipefail
 cd "$(dirname "$0")/.."
 export PATH="$HOME/.cargo/bin:$PATH"
@@ -47,7 +48,7 @@ fi
 
 lock=tests/page/package-lock.json
 installed=tests/page/node_modules/.package-lock.json
-if [[ -x tests/page/node_modules/.bin/wasm-opt && -f tests/page/node_modules/playwright-core/package.json \
+if [[ -x tests/page/node_modules/.bin/wasm-opt && -f tests/page/node_modules/playwright-core/package.json && -f tests/page/node_modules/axe-core/axe.min.js \
   && -f "$installed" && ! "$lock" -nt "$installed" ]]; then
   log "npm packages in tests/page: present"
 else

@@ -59,6 +59,11 @@ pub struct NeedField {
     pub required: bool,
     /// One line on what to enter.
     pub hint: &'static str,
+    /// A longer explanation, shown on demand: what the key means and how
+    /// it is used.
+    pub help: &'static str,
+    /// A typical value, in words, where one helps (`None` otherwise).
+    pub typical: Option<&'static str>,
     /// `min` itself is refused (the value must be above it). Not in the
     /// JSON; the hint says so in words.
     #[serde(skip)]
@@ -89,6 +94,8 @@ fn field(
         max: None,
         required: false,
         hint,
+        help: "",
+        typical: None,
         min_excluded: false,
         max_excluded: false,
     }
@@ -124,9 +131,62 @@ const CLOSED: bool = false;
 const OPEN: bool = true;
 
 /// Every key of a need file, table by table in the order of a need file.
+pub fn need_fields() -> Vec<NeedField> {
+    let mut fields = field_list();
+    for f in &mut fields {
+        let (help, typical) = help_of(f.key);
+        f.help = help;
+        f.typical = typical;
+    }
+    fields
+}
+
+/// The longer explanation and a typical value of a key (our own wording;
+/// the typical values are ordinary choices, common practice).
+// One arm per key: a table of text, as long as the list of keys.
+fn help_of(key: &str) -> (&'static str, Option<&'static str>) {
+    match key {
+        "sensor.label" => ("A name for the sensor channel. It only labels the reports, the schematic and the BOM; it changes nothing in the design.", Some("\"tank pressure\"")),
+        "sensor.signal_low_v" => ("The voltage the sensor puts out at the low end of the range you care about. Together with the top value it sets the span the circuit must stretch onto the ADC window. It may be above the top value for a sensor whose output falls as its quantity rises.", Some("0 V to a few mV for a bridge, 1 V for a 1-5 V transmitter")),
+        "sensor.signal_high_v" => ("The voltage the sensor puts out at the high end of the range. The span (top minus bottom) and the ADC window give the gain the circuit needs.", Some("10 mV to 100 mV for a bridge")),
+        "sensor.quantity_low" => ("The physical value (pressure, temperature, weight ...) at the bottom of the range. With the top value and the unit it lets the page show errors in that unit as well as in % of full scale.", Some("0")),
+        "sensor.quantity_high" => ("The physical value at the top of the range, in the same unit as the bottom value.", Some("10 (bar), 150 (degC)")),
+        "sensor.quantity_unit" => ("The unit of the physical values, as text. It is only used to label figures.", Some("bar, degC, kg")),
+        "sensor.output" => ("How the sensor's output is wired: single-ended (one output against ground) or differential (two outputs whose difference is the signal, as from a bridge). A differential sensor needs a common-mode voltage and a topology that takes a difference.", Some("differential for a bridge")),
+        "sensor.common_mode_v" => ("For a differential sensor, the mid voltage of its two outputs against ground. It must leave the amplifier inputs inside their allowed range.", Some("half the excitation of a bridge")),
+        "sensor.source_ohms" => ("The output resistance of the sensor (of each leg when differential). It adds to the input resistors of the amplifier and, with bias currents, adds offset error.", Some("0 for a buffered output, 350 ohm to a few kohm for a bridge")),
+        "adc.low_v" => ("The lowest input voltage the ADC converts. The circuit maps the bottom of the sensor range here (plus the margin).", Some("0 V")),
+        "adc.high_v" => ("The highest input voltage the ADC converts, usually its reference voltage. The circuit maps the top of the sensor range here (minus the margin).", Some("2.5 V, 3.3 V or 4.096 V")),
+        "adc.bits" => ("The ADC's resolution. It sets the size of one LSB, in which errors are also shown; quantisation is reported apart from the error budget.", Some("12 or 16 bits")),
+        "adc.margin_pct" => ("Room kept free at each end of the ADC window, in % of the window, so that a slightly out-of-range signal still reads instead of clipping.", Some("2 to 5 %")),
+        "supply.positive_v" => ("The positive supply of the amplifiers. Outputs and inputs must stay inside the rails the parts allow.", Some("3.3 V or 5 V")),
+        "supply.negative_v" => ("The negative supply; 0 for a single supply. A negative rail lets signals go below ground.", Some("0 V (single supply)")),
+        "supply.tolerance_pct" => ("How far the positive rail may be from its nominal value. Where the rail sets an offset or the ADC scale, this counts as an error source (unless ratiometric).", Some("5 %")),
+        "supply.ratiometric" => ("Tick when the ADC's reference is this same supply. The ADC scale then moves with the rail, so an offset taken from the rail cancels instead of counting as supply error.", Some("ticked when the ADC uses the supply as its reference")),
+        "accuracy.max_error_pct_fs" => ("The largest total error allowed, in % of the ADC full scale, over temperature and part tolerances, on the basis chosen below.", Some("0.1 % to 1 %")),
+        "accuracy.basis" => ("Which total must meet the target: worst case (every error at its limit at once, the strictest), RSS (independent errors added as a root sum of squares), or yield (the share of Monte Carlo builds that meet the target).", Some("worst-case")),
+        "accuracy.yield_pct" => ("With the yield basis: the share of simulated builds that must meet the target.", Some("99 %")),
+        "accuracy.temp_min_c" => ("The lowest operating temperature. Part limits are taken as stated at 25 degC; drifts count from there to whichever end of the range is farther away.", Some("0 degC or -40 degC")),
+        "accuracy.temp_max_c" => ("The highest operating temperature.", Some("70 degC or 85 degC")),
+        "accuracy.calibration" => ("What is trimmed on the finished board at room temperature. Offset removes the error at the low end of the span; two-point removes the fixed errors at both ends, leaving drift and noise. The supply's tolerance is never trimmed away.", Some("none")),
+        "accuracy.bandwidth_hz" => ("How fast the signal changes. It sets the noise bandwidth and the gain-bandwidth the amplifiers must have.", Some("10 Hz for a slow sensor")),
+        "search.max_stages" => ("The most amplifier stages a design may use. More stages allow more gain per design but add parts and error sources.", Some("2 or 3")),
+        "search.topologies" => ("The amplifier families the search may try. Leave them all ticked unless you want to rule one out.", None),
+        "search.resistor_series" => ("The standard value series the search may use for resistors where the shelf does not fix the values.", Some("E96")),
+        "search.objective" => ("What the search makes as small as possible among the designs that meet the target.", Some("cost")),
+        "search.bom_line_cost" => ("A fixed cost for each distinct part number on the BOM (handling, a feeder, a reel), so that the search prefers fewer different parts.", Some("0")),
+        "search.max_parts" => ("The most parts a design may have on the board.", Some("30")),
+        "search.time_limit_ms" => ("How long the search may run. When it ends early the best design found is shown and the page says it is not proven the cheapest.", Some("2000 ms")),
+        "stock.path" => ("For the command line only: the folder of the stock CSV files, relative to the need file. The page uses the shelf shown on it instead.", None),
+        "stock.only" => ("Use only parts on the shelf. When cleared, the search may also use resistor values from the series that are not stocked.", Some("ticked")),
+        _ => ("", None),
+    }
+}
+
+/// The keys with their labels, units, kinds, limits and hints.
 // A flat list of data, one entry per key; splitting it would only scatter
 // the keys of one table.
-pub fn need_fields() -> Vec<NeedField> {
+fn field_list() -> Vec<NeedField> {
     use FieldKind::*;
     let v = Some("V");
     let pct = Some("%");
@@ -311,6 +371,7 @@ mod tests {
             assert_eq!(f.key.split_once('.').map(|(t, _)| t), Some(f.section));
             assert!(!f.label.is_empty() && !f.hint.is_empty(), "{}", f.key);
             assert!(!f.hint.contains('\n'), "{}", f.key);
+            assert!(!f.help.is_empty(), "{} has a longer help", f.key);
             let has_choices = matches!(f.kind, FieldKind::Choice | FieldKind::Choices);
             assert_eq!(f.choices.is_some(), has_choices, "{}", f.key);
             assert!(!f.required || f.default.is_null(), "{}", f.key);

@@ -3,6 +3,7 @@
 // panic recovery, the cautions and the Content-Security-Policy.
 import assert from 'node:assert/strict';
 import { after, before, test } from 'node:test';
+import { inflateRawSync } from 'node:zlib';
 import { launch, openPage, serveDist, shot, unexpected } from './helpers.mjs';
 
 const CAUTION = 'This designs low-voltage signal conditioning only; it does not design isolation, protection against mains or high-voltage faults, or intrinsic safety; follow the applicable standards, local codes and licensed practice, and verify on the bench before use.';
@@ -310,22 +311,30 @@ test('a need file (TOML) opens into the form', async () => {
   });
 });
 
-test('the share link carries the need in the fragment as base64url JSON', async () => {
+test('the share link carries the need and the shelf, deflated, in the fragment; an older need-only link still opens', async () => {
   await withPage(async ({ page }) => {
     await setField(page, 'accuracy.max_error_pct_fs', '0.35');
+    await page.waitForFunction(() => window.spanfitPage.state.need.accuracy.max_error_pct_fs === 0.35);
     await page.click('#share');
+    await page.waitForFunction(() => document.querySelector('[data-testid=share-url]').value !== '');
     const link = await page.inputValue('[data-testid=share-url]');
-    const code = /#need=([A-Za-z0-9_-]+)$/.exec(link);
+    const code = /#p=([A-Za-z0-9_-]+)$/.exec(link);
     assert.ok(code, link);
-    const need = JSON.parse(Buffer.from(code[1], 'base64url').toString('utf8'));
-    assert.equal(need.accuracy.max_error_pct_fs, 0.35);
-    assert.equal(need.adc.bits, 16);
+    const project = JSON.parse(inflateRawSync(Buffer.from(code[1], 'base64url')).toString('utf8'));
+    assert.equal(project.format, 'spanfit-project');
+    assert.equal(project.need.accuracy.max_error_pct_fs, 0.35);
+    assert.equal(project.need.adc.bits, 16);
+    assert.match(project.stock['resistors.csv'], /^part_id,/);
     const other = await browserPage(page, link);
     assert.equal(await other.inputValue('#f-accuracy-max_error_pct_fs'), '0.35');
+    // A need-only link (base64url JSON of the need), as older pages made.
+    const needOnly = { ...project.need, accuracy: { ...project.need.accuracy, max_error_pct_fs: 0.45 } };
+    const old = await browserPage(page, `${link.split('#')[0]}#need=${Buffer.from(JSON.stringify(needOnly)).toString('base64url')}`);
+    assert.equal(await old.inputValue('#f-accuracy-max_error_pct_fs'), '0.45');
     // A damaged fragment is reported, and the saved need is kept.
-    const broken = await browserPage(page, `${link.split('#')[0]}#need=%%%`);
+    const broken = await browserPage(page, `${link.split('#')[0]}#p=%%%`);
     assert.match(await broken.textContent('[data-testid=run-status]'), /could not be read/);
-    assert.equal(await broken.inputValue('#f-accuracy-max_error_pct_fs'), '0.35');
+    assert.equal(await broken.inputValue('#f-accuracy-max_error_pct_fs'), '0.45');
   });
 });
 

@@ -35,11 +35,14 @@
 use serde::Serialize;
 use serde_json::{json, Value};
 use spanfit::api::{Progress, SolveControl};
+use spanfit::need_fields::FieldKind;
 use spanfit::report::ErrorReport;
 use spanfit::stock::StockFile;
 use spanfit::{Error, Location};
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use wasm_bindgen::prelude::*;
+
+pub mod gallery;
 
 /// Run `work` and wrap its outcome in the envelope ([`envelope`]),
 /// turning a panic into an `internal` error. Input problems are already
@@ -256,10 +259,63 @@ pub fn analyze_value(
     )
 }
 
+/// The error of a design over the need's temperature range: `{"points":
+/// [{"temp_c", "worst_case_pct_fs", "rss_pct_fs"}, ...], "target_pct_fs"}`
+/// from the core's analysis at a few temperatures (worst case and RSS, no
+/// Monte Carlo; see [`spanfit::sweep`]).
+pub fn temperature_sweep_value(
+    need_text: &str,
+    need_name: &str,
+    stock_json: &str,
+    design_text: &str,
+    design_name: &str,
+) -> Result<spanfit::sweep::Sweep, Error> {
+    let files = stock_files_from_json(stock_json)?;
+    let (need, stock) = spanfit::api::load(need_text.as_bytes(), need_name, &files)?;
+    let design = spanfit::api::read_design(design_text.as_bytes(), design_name, &stock)?;
+    spanfit::sweep::temperature_sweep(&need, &stock, &design, 7)
+}
+
 /// The need keys described for a form, as a JSON array (see
 /// [`spanfit::need_fields::need_fields`]).
 pub fn need_fields_text() -> String {
     serde_json::to_string(&spanfit::need_fields::need_fields()).unwrap_or_else(|_| "[]".into())
+}
+
+/// Read the texts of a form's number fields, `{"adc.high_v": "3.3 V",
+/// ...}`, as numbers of those need keys, accepting SI prefixes and the
+/// field's unit ([`spanfit::si_input::read_quantity`]). The value maps each
+/// key to `{"value": 3.3, "understood": "3.3 V"}` or to `{"detail": "<what
+/// is wrong and what to enter>"}`; a key that is not a number field of the
+/// need gets a detail saying so.
+pub fn read_numbers_value(texts_json: &str) -> Result<Value, Error> {
+    let texts: serde_json::Map<String, Value> = serde_json::from_str(texts_json).map_err(|e| {
+        Error::input(
+            Location::file("fields"),
+            format!("expected a JSON object of field texts: {e}"),
+        )
+    })?;
+    let fields = spanfit::need_fields::need_fields();
+    let mut out = serde_json::Map::new();
+    for (key, text) in texts {
+        let field = fields.iter().find(|f| f.key == key);
+        let answer = match (field, text.as_str()) {
+            (None, _) => json!({"detail": format!("{key} is not a key of the need")}),
+            (Some(f), _) if !matches!(f.kind, FieldKind::Number | FieldKind::Integer) => {
+                json!({"detail": format!("{key} does not take a number")})
+            }
+            (Some(_), None) => json!({"detail": "expected the field's text"}),
+            (Some(f), Some(text)) => match spanfit::si_input::read_quantity(text, f.unit) {
+                Ok(r) if f.kind == FieldKind::Integer && r.value.fract() != 0.0 => json!({
+                    "detail": format!("\"{}\" is {}; enter a whole number", text.trim(), r.understood)
+                }),
+                Ok(r) => json!({"value": r.value, "understood": r.understood}),
+                Err(detail) => json!({ "detail": detail }),
+            },
+        };
+        out.insert(key, answer);
+    }
+    Ok(Value::Object(out))
 }
 
 /// The demo stock as `{"resistors.csv": "<csv text>", ...}`.
@@ -305,6 +361,26 @@ pub fn need_fields() -> String {
     need_fields_text()
 }
 
+/// Read form texts as numbers of their need fields (SI prefixes and
+/// units accepted); see [`read_numbers_value`]. Returns the envelope.
+#[wasm_bindgen]
+pub fn read_numbers(texts_json: &str) -> String {
+    guarded(|| read_numbers_value(texts_json))
+}
+
+/// The error of a design over the temperature range; see
+/// [`temperature_sweep_value`]. Returns the envelope.
+#[wasm_bindgen]
+pub fn temperature_sweep(
+    need_text: &str,
+    need_name: &str,
+    stock_json: &str,
+    design_text: &str,
+    design_name: &str,
+) -> String {
+    guarded(|| temperature_sweep_value(need_text, need_name, stock_json, design_text, design_name))
+}
+
 /// Solve a need. `stock_json` maps file names to CSV text (`{}` is the demo
 /// stock). `progress_callback(done, total, best_cost)` is called now and
 /// then (`best_cost` is `null` before the first design); returning `false`
@@ -344,6 +420,12 @@ pub fn analyze(
     design_name: &str,
 ) -> String {
     guarded(|| analyze_value(need_text, need_name, stock_json, design_text, design_name))
+}
+
+/// The gallery of invented examples, as JSON text (see [`gallery`]).
+#[wasm_bindgen]
+pub fn gallery_examples() -> String {
+    gallery::gallery_text()
 }
 
 /// The demo need, as TOML text.
@@ -690,5 +772,57 @@ mod tests {
             err["message"].as_str().unwrap().contains("mine.json"),
             "{err}"
         );
+    }
+
+    #[test]
+    fn form_numbers_read_with_prefixes_and_units() {
+        let texts = json!({
+            "sensor.signal_high_v": "25 mV",
+            "sensor.source_ohms": "4.7k",
+            "adc.bits": "12.5",
+            "adc.high_v": "3 A",
+            "sensor.label": "x",
+        });
+        let v = open(&read_numbers(&texts.to_string())).unwrap();
+        assert_eq!(v["sensor.signal_high_v"]["value"].as_f64(), Some(0.025));
+        assert_eq!(v["sensor.signal_high_v"]["understood"], "0.025 V");
+        assert_eq!(v["sensor.source_ohms"]["value"].as_f64(), Some(4700.0));
+        assert!(v["adc.bits"]["detail"]
+            .as_str()
+            .unwrap()
+            .contains("whole number"));
+        assert!(v["adc.high_v"]["detail"]
+            .as_str()
+            .unwrap()
+            .contains("unit V"));
+        assert!(v["sensor.label"]["detail"].is_string());
+        assert!(open(&read_numbers("[1]")).is_err());
+    }
+
+    #[test]
+    fn the_temperature_sweep_covers_the_range() {
+        let design = include_str!("../../examples/demo-design.json");
+        let v = open(&temperature_sweep(
+            &demo_need(),
+            "demo.toml",
+            "{}",
+            design,
+            "d.json",
+        ))
+        .unwrap();
+        let points = v["points"].as_array().unwrap();
+        assert!(points.len() >= 2 && points.len() <= spanfit::sweep::MAX_POINTS);
+        assert!(points
+            .iter()
+            .all(|p| p["worst_case_pct_fs"].as_f64().unwrap() > 0.0));
+        assert!(v["target_pct_fs"].as_f64().unwrap() > 0.0);
+        assert!(open(&temperature_sweep(
+            &demo_need(),
+            "demo.toml",
+            "{}",
+            "{}",
+            "d.json"
+        ))
+        .is_err());
     }
 }

@@ -35,8 +35,8 @@ if (typeof wasm_bindgen === 'undefined') {
   importScripts('pkg/spanfit_web.js');
 }
 
-const ENVELOPED = new Set(['check_need', 'need_keys', 'check_stock', 'analyze', 'read_stock_table']);
-const PLAIN = new Set(['demo_need', 'demo_stock', 'version', 'need_fields', 'diagnostic_panic']);
+const ENVELOPED = new Set(['read_numbers', 'temperature_sweep', 'check_need', 'need_keys', 'check_stock', 'analyze', 'read_stock_table']);
+const PLAIN = new Set(['gallery_examples', 'demo_need', 'demo_stock', 'version', 'need_fields', 'diagnostic_panic']);
 const PROGRESS_EVERY_MS = 40;
 const CANCEL_CHECK_EVERY_MS = 10;
 

@@ -3,6 +3,7 @@
 // histogram. Text reaches them only as SVG text nodes.
 import { $, clear, el, isObject, num, svg } from './dom.js';
 import { fmt } from './format.js';
+import { state } from './state.js';
 
 /** The error figures of a design object of the report. */
 export function errorOf(design) {
@@ -41,37 +42,70 @@ function niceTicks(lo, hi, count = 5) {
   return ticks;
 }
 
+/**
+ * The drawing width of a chart: the width its box has on screen, so one
+ * unit of the drawing is one CSS pixel and the text keeps its CSS size
+ * (at least 11 px) at every screen width.
+ */
+function widthOf(box) {
+  const w = Math.floor(box.clientWidth || 0);
+  return w >= 240 ? w : 620;
+}
+
+/** The currency symbol the user picked, with a space where it is a code. */
+export function money(value) {
+  const symbol = currencySymbol();
+  const text = fmt(value);
+  if (text === '—' || !symbol) return text;
+  return symbol.length > 1 ? `${text} ${symbol}` : `${symbol}${text}`;
+}
+
+/** The currency symbol of the project ('' for none). */
+export function currencySymbol() {
+  return typeof state.currency === 'string' ? state.currency : '';
+}
+
 function targetOf(need) {
   return num(((need && need.accuracy) || {}).max_error_pct_fs);
 }
 
-/** The error budget: one bar per source, the totals, the target line. */
+/**
+ * The error budget: one bar per source, the totals, the target line. Each
+ * bar's tooltip (and the list under the chart) says what the line is.
+ * On a narrow box each label sits on its own line above its bar.
+ */
 export function renderBudget(design, need) {
   const box = $('budget-chart');
   clear(box);
   const e = errorOf(design);
   const rows = e.budget
     .filter((b) => isObject(b) && num(b.pct_fs) !== null)
-    .map((b) => ({ label: String(b.source ?? '?'), value: b.pct_fs, lsb: num(b.lsb), units: num(b.units), unit: b.unit, total: false }))
+    .map((b) => ({ label: String(b.source ?? '?'), value: b.pct_fs, lsb: num(b.lsb), units: num(b.units), unit: b.unit, line: b.line, total: false }))
     .sort((a, b) => Math.abs(b.value) - Math.abs(a.value));
   if (e.worst !== null) rows.push({ label: 'total, worst case', value: e.worst, total: true });
   if (e.rss !== null) rows.push({ label: 'total, RSS', value: e.rss, total: true });
   if (!rows.length) { box.append(el('p', { className: 'empty', text: 'No error budget in this report.' })); return; }
   const target = targetOf(need);
-  const W = 620; const left = 210; const right = 70; const rowH = 22; const top = 26;
-  const H = top + rows.length * rowH + 28;
+  const W = widthOf(box);
+  const narrow = W < 560;
+  const left = narrow ? 8 : Math.min(250, Math.round(W * 0.4)); const right = 64;
+  const rowH = narrow ? 40 : 24; const barTop = narrow ? 20 : 4; const barH = narrow ? 14 : 16;
+  const top = 34; const H = top + rows.length * rowH + 40;
   const maxV = Math.max(target || 0, ...rows.map((r) => Math.abs(r.value))) * 1.08 || 1;
   const x = (v) => left + (Math.abs(v) / maxV) * (W - left - right);
-  const chart = svg('svg', { viewBox: `0 0 ${W} ${H}`, class: 'chart', role: 'img', 'aria-label': 'error budget bar chart' });
-  for (const tick of niceTicks(0, maxV)) {
-    chart.append(svg('line', { x1: x(tick), x2: x(tick), y1: top - 4, y2: H - 24, class: 'grid' }));
-    chart.append(svg('text', { x: x(tick), y: H - 8, class: 'tick', 'text-anchor': 'middle' }, fmt(tick, 3)));
+  const chart = svg('svg', { viewBox: `0 0 ${W} ${H}`, width: W, height: H, class: 'chart', role: 'img', 'aria-label': 'error budget bar chart' });
+  chart.append(svg('title', {}, 'Error budget: the size of each error source in % of full scale, with the target'));
+  for (const tick of niceTicks(0, maxV, narrow ? 3 : 5)) {
+    chart.append(svg('line', { x1: x(tick), x2: x(tick), y1: top - 4, y2: H - 34, class: 'grid' }));
+    chart.append(svg('text', { x: x(tick), y: H - 20, class: 'tick', 'text-anchor': 'middle' }, fmt(tick, 3)));
   }
+  chart.append(svg('text', { x: (left + W - right) / 2, y: H - 4, class: 'axis', 'text-anchor': 'middle' }, 'error, % of full scale'));
   rows.forEach((r, i) => {
     const y = top + i * rowH;
-    chart.append(svg('text', { x: left - 8, y: y + 15, class: r.total ? 'label total' : 'label', 'text-anchor': 'end' }, r.label));
+    const labelAt = narrow ? { x: left, y: y + 14, anchor: 'start' } : { x: left - 8, y: y + 17, anchor: 'end' };
+    chart.append(svg('text', { x: labelAt.x, y: labelAt.y, class: r.total ? 'label total' : 'label', 'text-anchor': labelAt.anchor }, r.label));
     const bar = svg('rect', {
-      x: left, y: y + 4, width: Math.max(1, x(r.value) - left), height: rowH - 8,
+      x: left, y: y + barTop, width: Math.max(1, x(r.value) - left), height: barH,
       class: r.total ? 'bar total' : (r.value < 0 ? 'bar negative' : 'bar'), 'data-source': r.label, 'data-value': r.value,
     });
     const extra = [
@@ -80,13 +114,52 @@ export function renderBudget(design, need) {
     ].filter(Boolean).join(', ');
     bar.append(svg('title', {}, `${r.label}: ${fmt(r.value, 4)} % FS${extra ? `, ${extra}` : ''}`));
     chart.append(bar);
-    chart.append(svg('text', { x: x(r.value) + 5, y: y + 15, class: 'value' }, `${r.value < 0 ? '−' : ''}${fmt(Math.abs(r.value), 3)}`));
+    chart.append(svg('text', { x: x(r.value) + 5, y: y + barTop + barH - 3, class: 'value' }, `${r.value < 0 ? '−' : ''}${fmt(Math.abs(r.value), 3)}`));
   });
   if (target !== null) {
-    chart.append(svg('line', { x1: x(target), x2: x(target), y1: top - 10, y2: H - 24, class: 'target', 'data-target': target }));
-    chart.append(svg('text', { x: x(target), y: top - 14, class: 'target-label', 'text-anchor': 'middle' }, `target ${fmt(target, 3)} % FS`));
+    chart.append(svg('line', { x1: x(target), x2: x(target), y1: top - 8, y2: H - 34, class: 'target', 'data-target': target }));
+    const anchor = x(target) > W - 90 ? 'end' : (x(target) < left + 60 ? 'start' : 'middle');
+    chart.append(svg('text', { x: x(target), y: top - 14, class: 'target-label', 'text-anchor': anchor }, `target ${fmt(target, 3)} % FS`));
   }
   box.append(chart);
+}
+
+/**
+ * What each budget line is and how it is worked out (docs/error-budget.md,
+ * in short); the parts behind a line are those of its kind in the parts
+ * table.
+ */
+const LINE_NOTES = {
+  'nominal-rounding': ['the stocked values give a gain and offset slightly off the ideal', 'output with ideal op-amps minus the ideal K·Vsensor + B', 'resistors, references'],
+  'open-loop-gain': ['op-amps at their minimum open-loop gain instead of an infinite one', 'output at aol_min_db minus output with ideal op-amps', 'op-amps'],
+  'resistor-tolerance': ['each resistor off its nominal value', 'Σ |sensitivity to R| × tolerance_pct / 100', 'resistors'],
+  'resistor-tcr': ['each resistor drifting with temperature', 'Σ |sensitivity to R| × tcr_ppm_per_c × 10⁻⁶ × ΔT', 'resistors'],
+  'offset-voltage': ['input offset of each amplifier times its gain to the output', 'Σ |sensitivity to Vos| × vos_max_uv × 10⁻⁶', 'op-amps, in-amps'],
+  'offset-drift': ['drift of those offsets', 'Σ |sensitivity to Vos| × drift × 10⁻⁶ × ΔT', 'op-amps, in-amps'],
+  'bias-current': ['input bias currents through the resistances the inputs see', 'Σ |sensitivity to Ib+ + Ib−| × ib_max_na × 10⁻⁹', 'op-amps, in-amps, resistors, sensor'],
+  'offset-current': ['the difference between the two bias currents', 'Σ |(s+ − s−) / 2| × ios_max_na × 10⁻⁹', 'op-amps'],
+  cmrr: ['finite common-mode rejection acting as an input offset', 'Σ |sensitivity to Vos| × (Vcm − Vmid) / CMRR', 'op-amps, in-amps'],
+  'reference-initial': ['each voltage reference off its nominal voltage', 'Σ |sensitivity to Vref| × volts × initial_pct / 100', 'references'],
+  'reference-tempco': ['each reference drifting with temperature', 'Σ |sensitivity to Vref| × volts × tempco × 10⁻⁶ × ΔT', 'references'],
+  'supply-tolerance': ['the positive rail off nominal where it sets an offset or the ADC scale', '|sensitivity to Vsupply| × positive_v × tolerance_pct / 100', 'supply'],
+  'in-amp-gain-error': ['gain error of an integrated in-amp', 'sensitivity to its gain × gain_error_pct / 100', 'in-amps'],
+  'in-amp-gain-drift': ['drift of that gain', 'sensitivity to its gain × drift × 10⁻⁶ × ΔT', 'in-amps'],
+  'in-amp-output-offset': ['output-referred offset of an integrated in-amp', 'sensitivity × output_offset_uv × 10⁻⁶', 'in-amps'],
+};
+
+/** Under the budget chart: each line of this budget, what it is and its formula. */
+export function renderBudgetNotes(design) {
+  const list = $('budget-notes');
+  clear(list);
+  for (const b of errorOf(design).budget) {
+    if (!isObject(b)) continue;
+    const note = LINE_NOTES[b.line];
+    const kind = b.systematic ? 'fixed' : 'random';
+    const text = note
+      ? `${note[0]}; ${note[1]} (${kind}; parts: ${note[2]}).`
+      : `${kind} line.`;
+    list.append(el('li', {}, el('strong', { text: `${String(b.source ?? b.line ?? '?')}: ` }), document.createTextNode(text)));
+  }
 }
 
 /**
@@ -103,7 +176,7 @@ export function renderPareto(report, need, viewedIndex, onPick) {
   if (!points.length && !chosen) { box.append(el('p', { className: 'empty', text: 'No alternatives in this report.' })); return; }
   const all = chosen ? [...points, chosen] : points;
   const target = targetOf(need);
-  const W = 620; const H = 300; const L = 64; const R = 20; const T = 18; const B = 46;
+  const W = widthOf(box); const H = 300; const L = 70; const R = 20; const T = 22; const B = 50;
   const errs = all.map((p) => p.error).concat(target === null ? [] : [target]);
   const costs = all.map((p) => p.cost);
   const xLo = 0; const xHi = Math.max(...errs) * 1.1 || 1;
@@ -112,8 +185,8 @@ export function renderPareto(report, need, viewedIndex, onPick) {
   const yLo = Math.max(0, cLo - pad); const yHi = cHi + pad;
   const x = (v) => L + ((v - xLo) / (xHi - xLo)) * (W - L - R);
   const y = (v) => H - B - ((v - yLo) / (yHi - yLo)) * (H - T - B);
-  const chart = svg('svg', { viewBox: `0 0 ${W} ${H}`, class: 'chart', role: 'img', 'aria-label': 'cost against error' });
-  for (const tick of niceTicks(xLo, xHi)) {
+  const chart = svg('svg', { viewBox: `0 0 ${W} ${H}`, width: W, height: H, class: 'chart', 'aria-label': 'cost against error; each point is a design' });
+  for (const tick of niceTicks(xLo, xHi, W < 480 ? 3 : 5)) {
     chart.append(svg('line', { x1: x(tick), x2: x(tick), y1: T, y2: H - B, class: 'grid' }));
     chart.append(svg('text', { x: x(tick), y: H - B + 16, class: 'tick', 'text-anchor': 'middle' }, fmt(tick, 3)));
   }
@@ -123,10 +196,10 @@ export function renderPareto(report, need, viewedIndex, onPick) {
   }
   const basis = ((need && need.accuracy) || {}).basis || 'chosen';
   chart.append(svg('text', { x: (L + W - R) / 2, y: H - 8, class: 'axis', 'text-anchor': 'middle' }, `error on the ${basis} basis, % FS`));
-  chart.append(svg('text', { x: 14, y: (T + H - B) / 2, class: 'axis', 'text-anchor': 'middle', transform: `rotate(-90 14 ${(T + H - B) / 2})` }, 'cost'));
+  chart.append(svg('text', { x: 14, y: (T + H - B) / 2, class: 'axis', 'text-anchor': 'middle', transform: `rotate(-90 14 ${(T + H - B) / 2})` }, currencySymbol() ? `cost, ${currencySymbol()}` : 'cost (stock currency)'));
   if (target !== null) {
     chart.append(svg('line', { x1: x(target), x2: x(target), y1: T, y2: H - B, class: 'target' }));
-    chart.append(svg('text', { x: x(target) + 4, y: T + 10, class: 'target-label' }, 'target'));
+    chart.append(svg('text', { x: x(target) + 4, y: T - 6, class: 'target-label', 'text-anchor': x(target) > W - 80 ? 'end' : 'start' }, 'target'));
   }
   const front = [...points].sort((a, b) => a.error - b.error);
   if (front.length > 1) {
@@ -144,7 +217,8 @@ export function renderPareto(report, need, viewedIndex, onPick) {
       class: `point${isChosen ? ' chosen' : ''}${selected ? ' selected' : ''}`,
       'data-index': index, 'data-cost': p.cost, 'data-error': p.error,
     });
-    dot.append(svg('title', {}, `${isChosen ? 'chosen design: ' : ''}cost ${fmt(p.cost)}, error ${fmt(p.error, 3)} % FS`));
+    dot.setAttribute('aria-label', `${isChosen ? 'chosen design: ' : ''}cost ${money(p.cost)}, error ${fmt(p.error, 3)} % FS`);
+    dot.append(svg('title', {}, `${isChosen ? 'chosen design: ' : ''}cost ${money(p.cost)}, error ${fmt(p.error, 3)} % FS`));
     const pick = () => onPick(isChosen ? -1 : index);
     dot.addEventListener('click', pick);
     dot.addEventListener('keydown', (ev) => { if (ev.key === 'Enter' || ev.key === ' ') { ev.preventDefault(); pick(); } });
@@ -166,14 +240,14 @@ export function renderHistogram(design, need) {
   $('histogram-box').hidden = !usable;
   if (!usable) return;
   const target = targetOf(need);
-  const W = 620; const H = 260; const L = 56; const R = 16; const T = 16; const B = 44;
+  const W = widthOf(box); const H = 270; const L = 64; const R = 16; const T = 24; const B = 50;
   let lo = edges[0]; let hi = edges[edges.length - 1];
   if (target !== null) { lo = Math.min(lo, -target * 1.05); hi = Math.max(hi, target * 1.05); }
   const cMax = Math.max(...counts) || 1;
   const x = (v) => L + ((v - lo) / (hi - lo || 1)) * (W - L - R);
   const y = (c) => H - B - (c / cMax) * (H - T - B);
-  const chart = svg('svg', { viewBox: `0 0 ${W} ${H}`, class: 'chart', role: 'img', 'aria-label': 'Monte Carlo error histogram' });
-  for (const tick of niceTicks(lo, hi, 6)) {
+  const chart = svg('svg', { viewBox: `0 0 ${W} ${H}`, width: W, height: H, class: 'chart', role: 'img', 'aria-label': 'Monte Carlo histogram: builds at each error, with the target' });
+  for (const tick of niceTicks(lo, hi, W < 480 ? 4 : 6)) {
     chart.append(svg('text', { x: x(tick), y: H - B + 16, class: 'tick', 'text-anchor': 'middle' }, fmt(tick, 3)));
   }
   for (const tick of niceTicks(0, cMax, 4)) {
@@ -186,8 +260,67 @@ export function renderHistogram(design, need) {
     chart.append(bar);
   });
   if (target !== null) {
-    for (const t of [-target, target]) chart.append(svg('line', { x1: x(t), x2: x(t), y1: T, y2: H - B, class: 'target' }));
+    for (const t of [-target, target]) {
+      chart.append(svg('line', { x1: x(t), x2: x(t), y1: T, y2: H - B, class: 'target', 'data-target': t }));
+      chart.append(svg('text', { x: x(t), y: T - 8, class: 'target-label', 'text-anchor': 'middle' }, `${t < 0 ? '−' : '+'}target`));
+    }
   }
-  chart.append(svg('text', { x: (L + W - R) / 2, y: H - 8, class: 'axis', 'text-anchor': 'middle' }, 'error of a build, % FS'));
+  chart.append(svg('text', { x: (L + W - R) / 2, y: H - 8, class: 'axis', 'text-anchor': 'middle' }, 'largest error of a build, % FS (signed)'));
+  chart.append(svg('text', { x: 14, y: (T + H - B) / 2, class: 'axis', 'text-anchor': 'middle', transform: `rotate(-90 14 ${(T + H - B) / 2})` }, 'builds'));
+  const total = counts.reduce((a, c) => a + c, 0);
+  $('histogram-note').textContent = `Each of the ${total} simulated builds is counted once, at its largest error (by size, with its sign) over both ends of the span and both ends of the temperature range. Taking the largest pulls builds away from zero, which is why the counts form two humps rather than one peak.`;
+  box.append(chart);
+}
+
+/**
+ * The error over the temperature range (the core's `temperature_sweep`):
+ * worst case and RSS at each temperature, the target line.
+ */
+export function renderSweep(sweep) {
+  const box = $('sweep-chart');
+  clear(box);
+  const points = isObject(sweep) && Array.isArray(sweep.points) ? sweep.points.filter((p) => isObject(p) && num(p.temp_c) !== null && num(p.worst_case_pct_fs) !== null) : [];
+  if (!points.length) {
+    box.append(el('p', { className: 'empty', text: typeof sweep === 'string' ? sweep : 'No sweep for this design yet.' }));
+    return;
+  }
+  const target = num(sweep.target_pct_fs);
+  const W = widthOf(box); const H = 260; const L = 64; const R = 16; const T = 24; const B = 50;
+  let tLo = points[0].temp_c; let tHi = points[points.length - 1].temp_c;
+  if (!(tHi > tLo)) { tLo -= 1; tHi += 1; }
+  const eHi = Math.max(target || 0, ...points.map((p) => p.worst_case_pct_fs)) * 1.1 || 1;
+  const x = (t) => L + ((t - tLo) / (tHi - tLo)) * (W - L - R);
+  const y = (v) => H - B - (v / eHi) * (H - T - B);
+  const chart = svg('svg', { viewBox: `0 0 ${W} ${H}`, width: W, height: H, class: 'chart', role: 'img', 'aria-label': 'error against temperature, worst case and RSS, with the target' });
+  for (const tick of niceTicks(tLo, tHi, W < 480 ? 4 : 6)) {
+    chart.append(svg('line', { x1: x(tick), x2: x(tick), y1: T, y2: H - B, class: 'grid' }));
+    chart.append(svg('text', { x: x(tick), y: H - B + 16, class: 'tick', 'text-anchor': 'middle' }, fmt(tick, 3)));
+  }
+  for (const tick of niceTicks(0, eHi, 4)) {
+    chart.append(svg('line', { x1: L, x2: W - R, y1: y(tick), y2: y(tick), class: 'grid' }));
+    chart.append(svg('text', { x: L - 6, y: y(tick) + 4, class: 'tick', 'text-anchor': 'end' }, fmt(tick, 3)));
+  }
+  chart.append(svg('text', { x: (L + W - R) / 2, y: H - 8, class: 'axis', 'text-anchor': 'middle' }, 'temperature, °C'));
+  chart.append(svg('text', { x: 14, y: (T + H - B) / 2, class: 'axis', 'text-anchor': 'middle', transform: `rotate(-90 14 ${(T + H - B) / 2})` }, 'error, % FS'));
+  if (target !== null) {
+    chart.append(svg('line', { x1: L, x2: W - R, y1: y(target), y2: y(target), class: 'target', 'data-target': target }));
+    chart.append(svg('text', { x: W - R, y: y(target) - 5, class: 'target-label', 'text-anchor': 'end' }, `target ${fmt(target, 3)} % FS`));
+  }
+  const line = (key, cls) => {
+    const d = points.map((p, i) => `${i ? 'L' : 'M'} ${x(p.temp_c)} ${y(p[key])}`).join(' ');
+    chart.append(svg('path', { d, class: cls }));
+    for (const p of points) {
+      const dot = svg('circle', { cx: x(p.temp_c), cy: y(p[key]), r: 3.5, class: `${cls}-dot`, 'data-temp': p.temp_c, 'data-value': p[key] });
+      dot.append(svg('title', {}, `${fmt(p.temp_c, 3)} °C: ${fmt(p[key], 3)} % FS`));
+      chart.append(dot);
+    }
+  };
+  if (points.every((p) => num(p.rss_pct_fs) !== null)) line('rss_pct_fs', 'sweep-rss');
+  line('worst_case_pct_fs', 'sweep-worst');
+  const legendY = T - 8;
+  chart.append(svg('line', { x1: L, x2: L + 18, y1: legendY - 4, y2: legendY - 4, class: 'sweep-worst' }));
+  chart.append(svg('text', { x: L + 22, y: legendY, class: 'label' }, 'worst case'));
+  chart.append(svg('line', { x1: L + 110, x2: L + 128, y1: legendY - 4, y2: legendY - 4, class: 'sweep-rss' }));
+  chart.append(svg('text', { x: L + 132, y: legendY, class: 'label' }, 'RSS'));
   box.append(chart);
 }

@@ -28,21 +28,29 @@ export function readFileText(file) {
   });
 }
 
-/** UTF-8 text to base64url (RFC 4648 section 5), for the share link. */
+/** UTF-8 text to base64url (RFC 4648 section 5). */
 export function toBase64Url(text) {
-  const bytes = new TextEncoder().encode(text);
+  return bytesToBase64Url(new TextEncoder().encode(text));
+}
+
+/** Bytes to base64url (RFC 4648 section 5), for the share link. */
+export function bytesToBase64Url(bytes) {
   let binary = '';
   for (let i = 0; i < bytes.length; i += 0x8000) binary += String.fromCharCode(...bytes.subarray(i, i + 0x8000));
   return btoa(binary).replace(/\+/g, '-').replace(/\//g, '_').replace(/=+$/, '');
 }
 
-/** base64url back to UTF-8 text; throws on anything else. */
-export function fromBase64Url(code) {
+/** base64url back to bytes; throws on anything else. */
+export function base64UrlToBytes(code) {
   if (!/^[A-Za-z0-9_-]*$/.test(code)) throw new Error('not base64url text');
   const padded = code.replace(/-/g, '+').replace(/_/g, '/') + '==='.slice((code.length + 3) % 4);
   const binary = atob(padded);
-  const bytes = Uint8Array.from(binary, (c) => c.charCodeAt(0));
-  return new TextDecoder('utf-8', { fatal: true }).decode(bytes);
+  return Uint8Array.from(binary, (c) => c.charCodeAt(0));
+}
+
+/** base64url back to UTF-8 text; throws on anything else. */
+export function fromBase64Url(code) {
+  return new TextDecoder('utf-8', { fatal: true }).decode(base64UrlToBytes(code));
 }
 
 /** Standard base64 to bytes (the wasm inside the single file). */

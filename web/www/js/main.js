@@ -19,15 +19,16 @@
 //   charts.js       error budget, cost-against-error front, histogram
 //   downloads.js    the download buttons
 //   project.js      demo, need file, project file, share link
-import { $, setStatus } from './dom.js';
+import { $, clear, el, setStatus } from './dom.js';
 import { bundle, Engine } from './wasm-client.js';
 import { engines, state, updateSolveButton } from './state.js';
-import { loadStored, saveNow, setAside } from './storage.js';
+import { loadStored, namedProjects, projectObject, saveNow, saveSoon, setAside, writeNamedProjects } from './storage.js';
 import { buildForm, fillForm, validateNeed } from './need-form.js';
 import { buildTabs, onStockUpload, renderStockTable, stockChanged, validateStock } from './shelf.js';
-import { onCancel, runSolve } from './solve.js';
+import { onCancel, refreshFreshness, runSolve } from './solve.js';
+import { pinViewed, renderCompare, renderViewed, watchChartWidth, wireSchematic } from './results.js';
 import { wireDownloads } from './downloads.js';
-import { demoNeed, demoStock, needFromFile, needFromFragment, projectFromFile, readStockTexts, shareLink } from './project.js';
+import { clearFragment, demoNeed, demoStock, exampleProject, needFromFile, projectFromFile, projectFromFragment, readProject, readStockTexts, shareLink } from './project.js';
 import { toCsv } from './csv.js';
 
 // The badge shows the two workers together: ready when both are.
@@ -62,16 +63,21 @@ function useNeed(need) {
   validateNeed();
 }
 
+/** Put a whole project on the page: need, shelf and (when given) currency. */
+function useProject(project) {
+  state.need = project.need;
+  state.stock = project.stock;
+  if (typeof project.currency === 'string') setCurrency(project.currency);
+  fillForm(state.need);
+  showShelf();
+  saveNow();
+  validateNeed();
+  validateStock();
+}
+
 async function importProject(file) {
   try {
-    const project = await projectFromFile(file);
-    state.need = project.need;
-    state.stock = project.stock;
-    fillForm(state.need);
-    showShelf();
-    saveNow();
-    validateNeed();
-    validateStock();
+    useProject(await projectFromFile(file));
     setStatus('run-status', `Project ${file.name} loaded.`, 'good');
   } catch (error) {
     setStatus('run-status', error.message, 'bad');
@@ -83,6 +89,122 @@ async function openNeedFile(file) {
     useNeed(await needFromFile(file));
   } catch (error) {
     setStatus('need-status', error.message, 'bad');
+  }
+}
+
+/** Currency symbols offered for costs (the stock's prices carry none). */
+const CURRENCIES = [['', 'none'], ['€', '€ euro'], ['$', '$ dollar'], ['£', '£ pound'], ['¥', '¥ yen / yuan'], ['CHF', 'CHF franc'], ['kr', 'kr krona / krone'], ['₹', '₹ rupee']];
+
+function setCurrency(symbol) {
+  const select = $('currency');
+  if (![...select.options].some((o) => o.value === symbol)) select.append(el('option', { value: symbol, text: symbol }));
+  select.value = symbol;
+  state.currency = symbol;
+}
+
+function wireCurrency() {
+  const select = $('currency');
+  for (const [value, text] of CURRENCIES) select.append(el('option', { value, text }));
+  select.addEventListener('change', () => {
+    state.currency = select.value;
+    saveSoon();
+    if (state.result && state.viewed) renderViewed();
+  });
+}
+
+/** The list of named projects, with `selected` chosen when given. */
+function listNamed(selected) {
+  const select = $('project-list');
+  clear(select);
+  const names = Object.keys(namedProjects()).sort();
+  if (!names.length) select.append(el('option', { value: '', text: '(none saved yet)' }));
+  for (const name of names) select.append(el('option', { value: name, text: name }));
+  if (selected && names.includes(selected)) select.value = selected;
+  for (const id of ['project-open', 'project-duplicate', 'project-delete']) $(id).disabled = !names.length;
+}
+
+function wireNamed() {
+  listNamed();
+  $('project-save').addEventListener('click', () => {
+    const name = $('project-name').value.trim();
+    if (!name) { setStatus('run-status', 'Give the project a name to save it under.', 'bad'); $('project-name').focus(); return; }
+    const all = namedProjects();
+    all[name] = { ...projectObject(), tables: state.stock };
+    if (!writeNamedProjects(all)) { setStatus('run-status', 'This browser refused to store the project (storage is off or full).', 'bad'); return; }
+    listNamed(name);
+    setStatus('run-status', `Saved as "${name}" in this browser.`, 'good');
+  });
+  $('project-open').addEventListener('click', async () => {
+    const name = $('project-list').value;
+    const value = namedProjects()[name];
+    if (!value) return;
+    try {
+      const project = await readProject(value, `the saved project "${name}"`);
+      useProject(project);
+      $('project-name').value = name;
+      setStatus('run-status', `Opened "${name}".`, 'good');
+    } catch (error) {
+      setStatus('run-status', error.message, 'bad');
+    }
+  });
+  $('project-duplicate').addEventListener('click', () => {
+    const name = $('project-list').value;
+    const all = namedProjects();
+    if (!all[name]) return;
+    let copy = `${name} (copy)`;
+    for (let n = 2; all[copy]; n += 1) copy = `${name} (copy ${n})`;
+    all[copy] = all[name];
+    writeNamedProjects(all);
+    listNamed(copy);
+    setStatus('run-status', `Duplicated "${name}" as "${copy}".`, 'good');
+  });
+  $('project-delete').addEventListener('click', () => {
+    const name = $('project-list').value;
+    const all = namedProjects();
+    if (!all[name]) return;
+    delete all[name];
+    writeNamedProjects(all);
+    listNamed();
+    setStatus('run-status', `Deleted "${name}" from this browser.`, 'good');
+  });
+}
+
+let gallery = null;
+
+function wireGallery() {
+  const dialog = $('gallery');
+  $('gallery-open').addEventListener('click', async () => {
+    if (!gallery) {
+      try {
+        gallery = JSON.parse(await engines.checker.call('gallery_examples'));
+      } catch (error) {
+        setStatus('run-status', `The examples could not be loaded: ${error.message}`, 'bad');
+        return;
+      }
+      const list = $('gallery-list');
+      clear(list);
+      for (const example of gallery) {
+        const pick = el('button', { type: 'button', className: 'primary', 'data-example': example.id, text: 'Load need and shelf' });
+        pick.addEventListener('click', () => loadExample(example));
+        list.append(el('li', {},
+          el('span', { className: 'invented', text: 'Invented example' }),
+          el('h3', { text: String(example.title) }),
+          el('p', { text: String(example.summary) }),
+          pick));
+      }
+    }
+    dialog.showModal();
+  });
+  $('gallery-close').addEventListener('click', () => dialog.close());
+}
+
+async function loadExample(example) {
+  try {
+    useProject(await exampleProject(example));
+    $('gallery').close();
+    setStatus('run-status', `Loaded the invented example "${example.title}" (need and shelf).`, 'good');
+  } catch (error) {
+    setStatus('run-status', error.message, 'bad');
   }
 }
 
@@ -111,16 +233,29 @@ function wire() {
   $('project-import').addEventListener('click', () => $('project-file').click());
   $('project-file').addEventListener('change', onFile(importProject));
   $('share').addEventListener('click', async () => {
-    const link = shareLink();
+    const { link, tooLong } = await shareLink();
+    if (tooLong) {
+      $('share-line').hidden = true;
+      setStatus('run-status', `This shelf is too large for a link (${link.length} characters). Use "Export project" and send the file instead.`, 'warn');
+      $('project-export').focus();
+      return;
+    }
     $('share-line').hidden = false;
     $('share-url').value = link;
     $('share-url').select();
-    try { await navigator.clipboard.writeText(link); setStatus('run-status', 'Link copied.', 'good'); } catch (_) { /* selected for copying */ }
+    try { await navigator.clipboard.writeText(link); setStatus('run-status', 'Link with the need and the shelf copied.', 'good'); } catch (_) { /* selected for copying */ }
   });
   wireDownloads();
-  window.addEventListener('hashchange', () => {
-    const need = needFromFragment();
-    if (need) useNeed(need);
+  wireSchematic();
+  wireCurrency();
+  wireNamed();
+  $('pin').addEventListener('click', pinViewed);
+  $('unpin').addEventListener('click', () => { state.pinned = null; renderCompare(); });
+  wireGallery();
+  window.addEventListener('hashchange', async () => {
+    const project = await projectFromFragment();
+    clearFragment();
+    if (project) useProject({ stock: state.stock, ...project });
   });
 }
 
@@ -154,12 +289,23 @@ async function start() {
   }
   state.need = stored ? stored.need : await demoNeed();
   state.stock = await storedOrDemoStock(stored);
-  const linked = needFromFragment();
-  if (linked) state.need = linked;
+  setCurrency(stored && typeof stored.currency === 'string' ? stored.currency : '');
+  // A share link: its need (and shelf and currency, when it has them)
+  // replace the saved ones; the fragment then leaves the address bar, so a
+  // reload shows later edits rather than the link again.
+  const linked = await projectFromFragment();
+  clearFragment();
+  if (linked) {
+    state.need = linked.need;
+    if (linked.stock) state.stock = linked.stock;
+    if (typeof linked.currency === 'string') setCurrency(linked.currency);
+  }
   fillForm(state.need);
   showShelf();
   saveNow();
+  watchChartWidth();
   await Promise.all([validateNeed(), validateStock()]);
+  refreshFreshness();
   document.body.dataset.ready = 'yes';
 }
 
@@ -169,7 +315,7 @@ window.spanfitPage = {
   solve: (options) => runSolve(options),
   panic: () => engines.checker.call('diagnostic_panic'),
   call: (fn, ...args) => engines.checker.call(fn, ...args),
-  shareLink,
+  shareLink: () => shareLink().then((r) => r.link),
   toCsv,
 };
 

@@ -6,7 +6,7 @@
 import { $, clear, el, isObject, num, setStatus } from './dom.js';
 import { eng, fmt } from './format.js';
 import { saveSoon } from './storage.js';
-import { engines, state, updateSolveButton } from './state.js';
+import { engines, hooks, state, updateSolveButton } from './state.js';
 
 // Headings of the form's groups (the need's sections); a section the page
 // does not know is shown under its own name.
@@ -14,7 +14,9 @@ const SECTION_TITLES = {
   sensor: 'Sensor', adc: 'ADC', supply: 'Supply', accuracy: 'Accuracy', search: 'Search', stock: 'Stock use',
 };
 
-const NUMBER_TEXT = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/;
+// A plain decimal number, read by the page as JavaScript reads it; any
+// other text of a number field goes to the core.
+const PLAIN_NUMBER = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/;
 
 /** The id of a field's input: `f-adc-high_v` for `adc.high_v`. */
 export function fieldId(key) {
@@ -75,17 +77,39 @@ export function buildForm(fields) {
     const id = fieldId(f.key);
     const wrap = el('div', { className: `field kind-${f.kind}`, 'data-key': f.key });
     wrap.append(el('label', { for: id, text: String(f.label || f.key) }));
-    wrap.append(inputFor(f, id));
-    if (f.unit) wrap.append(el('span', { className: 'unit', text: String(f.unit) }));
+    const input = inputFor(f, id);
+    input.setAttribute('aria-describedby', `${id}-hint ${id}-error`);
+    wrap.append(input);
+    wrap.append(el('span', { className: 'unit', text: f.unit ? String(f.unit) : '' }));
     const optional = !f.required && (f.default === null || f.default === undefined);
     const note = [optional ? 'optional' : '', typeof f.hint === 'string' ? f.hint : ''].filter(Boolean).join('; ');
-    if (note) wrap.append(el('span', { className: 'hint', text: note }));
+    const hint = el('span', { className: 'hint', id: `${id}-hint`, text: note });
+    wrap.append(hint);
+    wrap.append(el('span', { className: 'understood', id: `${id}-understood`, 'data-testid': `understood-${f.key}` }));
+    if (typeof f.help === 'string' && f.help) {
+      const more = el('details', { className: 'help' }, el('summary', { text: 'More about this field' }));
+      more.append(el('p', { text: f.help }));
+      const facts = [
+        f.unit ? `Unit: ${f.unit}.` : '',
+        f.default !== null && f.default !== undefined ? `Default: ${defaultText(f)}.` : (f.required ? 'Required.' : 'Optional, no default.'),
+        typeof f.typical === 'string' && f.typical ? `Typical: ${f.typical}.` : '',
+      ].filter(Boolean).join(' ');
+      if (facts) more.append(el('p', { className: 'facts', text: facts }));
+      wrap.append(more);
+    }
     wrap.append(el('span', { className: 'field-error', id: `${id}-error`, 'aria-live': 'polite' }));
     groups.get(section).append(wrap);
   }
   form.addEventListener('input', onFormInput);
   form.addEventListener('change', onFormInput);
   form.addEventListener('submit', (e) => e.preventDefault());
+  // Enter in a field: check now and solve now, without the pause.
+  form.addEventListener('keydown', (e) => {
+    if (e.key !== 'Enter' || !(e.target instanceof HTMLInputElement) || e.target.type === 'checkbox') return;
+    e.preventDefault();
+    clearTimeout(needTimer);
+    validateNeed().then(() => { if (state.needValid && hooks.solveNow) hooks.solveNow(); });
+  });
 }
 
 /** Show a need object in the form; a key it lacks shows the default. */
@@ -114,12 +138,42 @@ export function fillForm(need) {
 
 /**
  * The form as a need object, keeping keys the form does not show (the core
- * reports unknown ones). Returns {need, problems}; a problem is {key,
- * detail} for a value the page can already tell is not a number.
+ * reports unknown ones). Number fields are read by the core
+ * (`read_numbers`: SI prefixes and the field's unit accepted, `25 mV` is
+ * 0.025), and what it understood is shown beside the field. Resolves with
+ * {need, problems}; a problem is {key, detail} for a text the core could
+ * not read as that field's number.
  */
-function readForm() {
+async function readForm() {
+  const { need, problems, numberTexts } = collectForm();
+  const understood = {};
+  if (Object.keys(numberTexts).length) {
+    const read = await engines.checker.call('read_numbers', JSON.stringify(numberTexts));
+    for (const [key, text] of Object.entries(numberTexts)) {
+      const [section, name] = split(key);
+      const answer = isObject(read[key]) ? read[key] : { detail: 'not read' };
+      if (num(answer.value) !== null) {
+        need[section][name] = answer.value;
+        understood[key] = String(answer.understood);
+      } else {
+        need[section][name] = text;
+        problems.push({ key, detail: String(answer.detail) });
+      }
+    }
+  }
+  showUnderstood(understood);
+  return { need, problems };
+}
+
+/**
+ * The form as a need object at once, without the core: number fields
+ * whose text is not a plain decimal number hold their text, listed in
+ * `numberTexts` for the core to read.
+ */
+function collectForm() {
   const need = JSON.parse(JSON.stringify(state.need || {}));
   const problems = [];
+  const numberTexts = {};
   for (const f of state.fields) {
     const [section, name] = split(f.key);
     const values = isObject(need[section]) ? need[section] : {};
@@ -135,18 +189,23 @@ function readForm() {
         if (f.required) problems.push({ key: f.key, detail: 'a value is needed' });
       } else if (f.kind === 'text') {
         values[name] = input.value;
-      } else if (!NUMBER_TEXT.test(text) || !Number.isFinite(Number(text))) {
-        values[name] = text;
-        problems.push({ key: f.key, detail: `"${text}" is not a number` });
-      } else if (f.kind === 'integer' && !Number.isInteger(Number(text))) {
+      } else if (PLAIN_NUMBER.test(text) && (f.kind === 'number' || Number.isInteger(Number(text)))) {
         values[name] = Number(text);
-        problems.push({ key: f.key, detail: 'expected a whole number' });
       } else {
-        values[name] = Number(text);
+        numberTexts[f.key] = text;
+        values[name] = text;
       }
     }
   }
-  return { need, problems };
+  return { need, problems, numberTexts };
+}
+
+/** Beside each field whose text was more than a plain number: what it was read as. */
+function showUnderstood(understood) {
+  for (const f of state.fields) {
+    const node = document.getElementById(`${fieldId(f.key)}-understood`);
+    if (node) node.textContent = understood[f.key] ? `read as ${understood[f.key]}` : '';
+  }
 }
 
 /** The label a message uses for a key: the field's label, or the key. */
@@ -170,11 +229,14 @@ let needTimer = null;
 let needCheckSeq = 0;
 
 function onFormInput() {
-  const { need, problems } = readForm();
-  state.need = need;
+  state.formDirty = true;
+  // The need follows the form at once (texts the core has yet to read as
+  // numbers held as text), so a reload or a share link never lags.
+  state.need = collectForm().need;
   saveSoon();
   clearTimeout(needTimer);
-  needTimer = setTimeout(() => validateNeed(problems), 150);
+  needTimer = setTimeout(() => validateNeed(), 150);
+  if (hooks.settled) hooks.settled();
 }
 
 /**
@@ -188,9 +250,23 @@ function needMessage(info) {
 }
 
 /** Ask the core whether the need is complete and consistent. */
-export async function validateNeed(localProblems) {
+export async function validateNeed() {
   const seq = ++needCheckSeq;
-  const problems = localProblems || readForm().problems;
+  let read;
+  try {
+    read = await readForm();
+  } catch (error) {
+    if (seq === needCheckSeq) setStatus('need-status', error.message, 'bad');
+    return;
+  }
+  if (seq !== needCheckSeq) return;
+  state.formDirty = false;
+  const { need, problems } = read;
+  if (JSON.stringify(need) !== JSON.stringify(state.need)) {
+    state.need = need;
+    saveSoon();
+  }
+  if (hooks.settled) hooks.settled();
   if (problems.length) {
     markFields(problems);
     state.needValid = false;

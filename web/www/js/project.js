@@ -1,28 +1,77 @@
 // Where a need and a shelf come from besides the form: the demo, a need
 // file, a project file, the share link.
 import { isObject, setStatus } from './dom.js';
-import { fromBase64Url, readFileText, toBase64Url } from './io.js';
-import { PROJECT_FORMAT } from './storage.js';
+import { base64UrlToBytes, bytesToBase64Url, fromBase64Url, readFileText } from './io.js';
+import { PROJECT_FORMAT, projectObject } from './storage.js';
 import { readTable } from './shelf.js';
 import { engines, state } from './state.js';
 
-/** The page's address with the need in the fragment (base64url JSON). */
-export function shareLink() {
-  const base = location.href.split('#')[0];
-  return `${base}#need=${toBase64Url(JSON.stringify(state.need))}`;
+/** The longest share link the page offers; a larger project goes by file. */
+export const MAX_LINK_CHARS = 16000;
+
+async function deflate(text) {
+  const stream = new Blob([new TextEncoder().encode(text)]).stream().pipeThrough(new CompressionStream('deflate-raw'));
+  return new Uint8Array(await new Response(stream).arrayBuffer());
 }
 
-/** The need of the address's `#need=` fragment, or null (said when damaged). */
-export function needFromFragment() {
-  if (!location.hash.startsWith('#need=')) return null;
+async function inflate(bytes) {
+  const stream = new Blob([bytes]).stream().pipeThrough(new DecompressionStream('deflate-raw'));
+  return new TextDecoder('utf-8', { fatal: true }).decode(await new Response(stream).arrayBuffer());
+}
+
+/**
+ * The page's address with the project in the fragment: `#p=` and the
+ * project (need, shelf as CSV text, currency) as JSON, deflated (raw
+ * DEFLATE, RFC 1951) and in base64url. Resolves with `{link, tooLong}`;
+ * `tooLong` when the link would pass MAX_LINK_CHARS.
+ */
+export async function shareLink() {
+  const base = location.href.split('#')[0];
+  const link = `${base}#p=${bytesToBase64Url(await deflate(JSON.stringify(projectObject())))}`;
+  return { link, tooLong: link.length > MAX_LINK_CHARS };
+}
+
+/** The fragment's kind: 'project' (`#p=`), 'need' (`#need=`, older links) or null. */
+export function fragmentKind() {
+  if (location.hash.startsWith('#p=')) return 'project';
+  if (location.hash.startsWith('#need=')) return 'need';
+  return null;
+}
+
+/** Take the fragment out of the address bar (a reload then shows the saved work). */
+export function clearFragment() {
+  if (location.hash) history.replaceState(null, '', location.href.split('#')[0]);
+}
+
+/**
+ * The project of the address's fragment: `{need, stock?, currency?}`, or
+ * null (said when damaged). A `#need=` link (base64url JSON of the need)
+ * carries the need only.
+ */
+export async function projectFromFragment() {
+  const kind = fragmentKind();
+  if (!kind) return null;
   try {
-    const need = JSON.parse(fromBase64Url(location.hash.slice('#need='.length)));
-    if (!isObject(need)) throw new Error('expected an object of need sections');
-    return need;
+    if (kind === 'need') {
+      const need = JSON.parse(fromBase64Url(location.hash.slice('#need='.length)));
+      if (!isObject(need)) throw new Error('expected an object of need sections');
+      return { need };
+    }
+    const value = JSON.parse(await inflate(base64UrlToBytes(location.hash.slice('#p='.length))));
+    const project = await readProject(value, 'the link');
+    return { ...project, currency: typeof value.currency === 'string' ? value.currency : undefined };
   } catch (error) {
-    setStatus('run-status', `The link's need could not be read (${error.message}); the saved need is shown instead.`, 'warn');
+    setStatus('run-status', `The link's project could not be read (${error.message}); the saved work is shown instead.`, 'warn');
     return null;
   }
+}
+
+/** An example of the gallery as `{need, stock}`, both read by the core. */
+export async function exampleProject(example) {
+  const need = await engines.checker.call('need_keys', example.need, `${example.id}.toml`);
+  const { stock, problems } = await readStockTexts(example.stock);
+  if (problems.length) throw new Error(`${example.title}: ${problems.join(' · ')}`);
+  return { need, stock };
 }
 
 /**
@@ -58,7 +107,9 @@ export async function readProject(value, name) {
   }
   const { stock, problems } = await readStockTexts(value.stock);
   if (problems.length) throw new Error(`${name}: ${problems.join(' · ')}`);
-  return { need: value.need, stock };
+  const out = { need: value.need, stock };
+  if (typeof value.currency === 'string') out.currency = value.currency;
+  return out;
 }
 
 /** A project file's need and shelf, or a thrown message. */

@@ -5,7 +5,7 @@
 import { $, clear, el, isObject, num } from './dom.js';
 import { eng, fmt } from './format.js';
 import { engines, state } from './state.js';
-import { alternativeDesign, errorOf, renderBudget, renderHistogram, renderPareto } from './charts.js';
+import { alternativeDesign, errorOf, money, renderBudget, renderBudgetNotes, renderHistogram, renderPareto, renderSweep } from './charts.js';
 
 function reportOf(bundle) {
   return isObject(bundle.report) ? bundle.report : {};
@@ -38,6 +38,51 @@ export function showReport() {
   renderViewed();
 }
 
+/** The figures of a design that the comparison shows, from the core's report. */
+function summaryOf(design, label) {
+  const e = errorOf(design);
+  const parts = isObject(design) && Array.isArray(design.parts) ? design.parts : [];
+  return {
+    label,
+    need: JSON.stringify(state.result.need),
+    rows: [
+      ['Cost', money(design.cost)],
+      ['Worst-case error', `${fmt(e.worst, 3)} % FS`],
+      ['RSS error', `${fmt(e.rss, 3)} % FS`],
+      ['Topology', String(design.topology ?? '—')],
+      ['Parts', parts.filter(isObject).map((p) => `${p.ref} ${partValueText(p)}`).join(', ')],
+    ],
+  };
+}
+
+/** Pin the design on show, to compare later designs against it. */
+export function pinViewed() {
+  if (!state.viewed || !isObject(state.viewed.design)) return;
+  state.pinned = summaryOf(state.viewed.design, state.viewed.label);
+  renderCompare();
+}
+
+/** The pinned design beside the one on show (or nothing when none is pinned). */
+export function renderCompare() {
+  const box = $('compare');
+  const pinned = state.pinned;
+  box.hidden = !pinned;
+  if (!pinned) return;
+  const node = $('compare-table');
+  clear(node);
+  const now = state.viewed && isObject(state.viewed.design) ? summaryOf(state.viewed.design, state.viewed.label) : null;
+  const sameNeed = now && now.need === pinned.need;
+  node.append(el('thead', {}, el('tr', {},
+    el('th', { scope: 'col', text: 'Figure' }),
+    el('th', { scope: 'col', text: `Pinned (${pinned.label})` }),
+    el('th', { scope: 'col', text: now ? `On show (${now.label}${sameNeed ? '' : ', another need'})` : 'On show' }))));
+  const body = el('tbody');
+  pinned.rows.forEach(([name, value], i) => {
+    body.append(el('tr', {}, el('th', { scope: 'row', text: name }), el('td', { text: value }), el('td', { text: now ? now.rows[i][1] : '—' })));
+  });
+  node.append(body);
+}
+
 /** Redraw everything about the design on show (state.viewed). */
 export function renderViewed() {
   const report = reportOf(state.result.bundle);
@@ -48,17 +93,36 @@ export function renderViewed() {
   renderFigures(design, report);
   renderSchematic(artifacts.svg);
   renderBudget(design, need);
+  renderBudgetNotes(design);
   renderPareto(report, need, state.viewed.index, viewAlternative);
   renderHistogram(design, need);
+  if (state.viewed.sweep) renderSweep(state.viewed.sweep);
+  else loadSweep(design);
   renderParts(design);
   renderBom(artifacts.bom_table);
   renderFindings(design);
   const extra = { stages: design && design.stages, transfer: design && design.transfer, search: report.search };
   $('raw-extra').textContent = JSON.stringify(extra, null, 2);
-  $('dl-bom').disabled = typeof artifacts.bom_csv !== 'string';
-  $('dl-spice').disabled = typeof artifacts.spice !== 'string';
-  $('dl-svg').disabled = typeof artifacts.svg !== 'string';
-  $('dl-design').disabled = !(isObject(design) && isObject(design.file));
+  setDownloads($('result').dataset.stale === 'yes');
+  $('pin').disabled = !isObject(design);
+  renderCompare();
+}
+
+/**
+ * Turn the downloads on for what the design on show has, or all off when
+ * the answer is out of date (its design no longer fits the inputs).
+ */
+export function setDownloads(stale) {
+  const viewed = state.viewed || { artifacts: {} };
+  const artifacts = viewed.artifacts || {};
+  const off = (yes) => stale || !yes;
+  $('dl-bom').disabled = off(typeof artifacts.bom_csv === 'string');
+  $('dl-spice').disabled = off(typeof artifacts.spice === 'string');
+  $('dl-svg').disabled = off(typeof artifacts.svg === 'string');
+  $('dl-design').disabled = off(isObject(viewed.design) && isObject(viewed.design.file));
+  $('dl-json').disabled = off(!!state.result);
+  const why = stale ? 'The answer is out of date; these downloads return when it is current.' : '';
+  for (const id of ['dl-bom', 'dl-spice', 'dl-svg', 'dl-design', 'dl-json']) $(id).title = why;
 }
 
 function inUnits(pct) {
@@ -90,7 +154,7 @@ function renderFigures(design, report) {
   if (!isObject(design)) return;
   const e = errorOf(design);
   const target = state.result.need.accuracy || {};
-  figure(list, 'cost', 'Cost', fmt(design.cost), design.cost, `${design.part_count ?? '—'} parts · ${design.bom_lines ?? '—'} BOM lines`);
+  figure(list, 'cost', 'Cost', money(design.cost), design.cost, `${design.part_count ?? '—'} parts · ${design.bom_lines ?? '—'} BOM lines`);
   const worst = inUnits(e.worst);
   figure(list, 'worst', 'Worst-case error', worst.pct, e.worst, [worst.lsb, worst.unit].filter(Boolean).join(' · '));
   const rss = inUnits(e.rss);
@@ -121,18 +185,109 @@ function renderFigures(design, report) {
 }
 
 let schematicUrl = null;
+let schematicSize = { w: 0, h: 0 };
+
+/**
+ * The schematic's zoom: 1 draws it at the size the core wrote it. Its
+ * smallest text is 10 px there, so the page opens it at 1.1 (11 px).
+ */
+export const ZOOM = { initial: 1.1, min: 0.3, max: 4, step: 1.25 };
+let zoom = ZOOM.initial;
+
+function sizeOf(svgText) {
+  const w = /<svg[^>]*\swidth="([\d.]+)"/.exec(svgText);
+  const h = /<svg[^>]*\sheight="([\d.]+)"/.exec(svgText);
+  return { w: w ? Number(w[1]) : 800, h: h ? Number(h[1]) : 400 };
+}
+
+function applyZoom() {
+  const img = $('schematic').querySelector('img');
+  if (!img) return;
+  img.style.width = `${Math.round(schematicSize.w * zoom)}px`;
+  img.style.height = `${Math.round(schematicSize.h * zoom)}px`;
+  img.dataset.zoom = String(zoom);
+  $('zoom-fit').setAttribute('aria-pressed', 'false');
+}
+
+/** Zoom the schematic by `factor` (keeping the middle of the view in place), or fit it. */
+export function zoomSchematic(factor) {
+  const box = $('schematic');
+  if (factor === 'fit') {
+    zoom = Math.max(ZOOM.min, Math.min(ZOOM.max, (box.clientWidth - 4) / schematicSize.w));
+    applyZoom();
+    return;
+  }
+  const cx = (box.scrollLeft + box.clientWidth / 2) / zoom;
+  const cy = (box.scrollTop + box.clientHeight / 2) / zoom;
+  zoom = Math.max(ZOOM.min, Math.min(ZOOM.max, zoom * factor));
+  applyZoom();
+  box.scrollLeft = cx * zoom - box.clientWidth / 2;
+  box.scrollTop = cy * zoom - box.clientHeight / 2;
+}
+
+/** Wheel (with Ctrl, as a trackpad pinch sends it), keys and dragging on the schematic. */
+export function wireSchematic() {
+  const box = $('schematic');
+  $('zoom-in').addEventListener('click', () => zoomSchematic(ZOOM.step));
+  $('zoom-out').addEventListener('click', () => zoomSchematic(1 / ZOOM.step));
+  $('zoom-fit').addEventListener('click', () => zoomSchematic('fit'));
+  $('zoom-full').addEventListener('click', openFullSchematic);
+  $('schematic-close').addEventListener('click', () => $('schematic-dialog').close());
+  box.addEventListener('wheel', (e) => {
+    if (!e.ctrlKey && !e.metaKey) return;
+    e.preventDefault();
+    zoomSchematic(e.deltaY < 0 ? 1.1 : 1 / 1.1);
+  }, { passive: false });
+  box.addEventListener('keydown', (e) => {
+    const pan = { ArrowLeft: [-60, 0], ArrowRight: [60, 0], ArrowUp: [0, -60], ArrowDown: [0, 60] }[e.key];
+    if (pan) { box.scrollBy(pan[0], pan[1]); e.preventDefault(); return; }
+    if (e.key === '+' || e.key === '=') { zoomSchematic(ZOOM.step); e.preventDefault(); }
+    if (e.key === '-') { zoomSchematic(1 / ZOOM.step); e.preventDefault(); }
+    if (e.key === '0') { zoom = ZOOM.initial; applyZoom(); e.preventDefault(); }
+  });
+  let drag = null;
+  box.addEventListener('pointerdown', (e) => {
+    if (e.pointerType !== 'mouse' || e.button !== 0) return;
+    drag = { x: e.clientX, y: e.clientY, left: box.scrollLeft, top: box.scrollTop };
+    box.setPointerCapture(e.pointerId);
+    box.classList.add('dragging');
+  });
+  box.addEventListener('pointermove', (e) => {
+    if (!drag) return;
+    box.scrollLeft = drag.left - (e.clientX - drag.x);
+    box.scrollTop = drag.top - (e.clientY - drag.y);
+  });
+  const end = () => { drag = null; box.classList.remove('dragging'); };
+  box.addEventListener('pointerup', end);
+  box.addEventListener('pointercancel', end);
+}
+
+function openFullSchematic() {
+  const body = $('schematic-full');
+  clear(body);
+  if (!schematicUrl) return;
+  body.append(el('img', {
+    src: schematicUrl, alt: 'Schematic of the design, full size',
+    style: undefined, width: Math.round(schematicSize.w * 1.4), height: Math.round(schematicSize.h * 1.4),
+  }));
+  $('schematic-dialog').showModal();
+}
+
 function renderSchematic(svgText) {
   const box = $('schematic');
   clear(box);
   if (schematicUrl) URL.revokeObjectURL(schematicUrl);
   schematicUrl = null;
+  for (const id of ['zoom-in', 'zoom-out', 'zoom-fit', 'zoom-full']) $(id).disabled = typeof svgText !== 'string';
   if (typeof svgText !== 'string') {
     box.append(el('p', { className: 'empty', text: 'No schematic in this report.' }));
     return;
   }
+  schematicSize = sizeOf(svgText);
   // As an image: any script or link inside the SVG stays inert.
   schematicUrl = URL.createObjectURL(new Blob([svgText], { type: 'image/svg+xml' }));
-  box.append(el('img', { src: schematicUrl, alt: 'Schematic of the design', 'data-testid': 'schematic-img' }));
+  box.append(el('img', { src: schematicUrl, alt: 'Schematic of the design', 'data-testid': 'schematic-img', draggable: 'false' }));
+  applyZoom();
 }
 
 function partValueText(part) {
@@ -160,7 +315,7 @@ function renderParts(design) {
     for (const c of cols) {
       let text;
       if (c === 'value') text = partValueText(part);
-      else if (c === 'unit_cost') text = fmt(part.unit_cost);
+      else if (c === 'unit_cost') text = money(part.unit_cost);
       else if (c === 'tolerance_pct' || c === 'tcr_ppm_per_c') text = part[c] === undefined ? '' : fmt(part[c]);
       else text = part[c] === undefined ? '' : String(part[c]);
       tr.append(el('td', { 'data-col': c, 'data-raw': part[c] === undefined ? undefined : JSON.stringify(part[c]), text }));
@@ -222,6 +377,39 @@ function renderBom(table) {
   }
   node.append(el('thead', {}, el('tr', {}, ...table.header.map((h) => el('th', { text: String(h), scope: 'col' })))));
   node.append(el('tbody', {}, ...table.rows.filter(Array.isArray).map((r) => el('tr', {}, ...r.map((c) => el('td', { text: String(c) }))))));
+}
+
+let sweepSeq = 0;
+
+/** Ask the core for the design's error over the temperature range (worst case, cheap). */
+async function loadSweep(design) {
+  const seq = ++sweepSeq;
+  const viewed = state.viewed;
+  const file = isObject(design) && isObject(design.file) ? design.file : null;
+  if (!file) { renderSweep(null); return; }
+  renderSweep('Working out the error over temperature…');
+  try {
+    const sweep = await engines.checker.call('temperature_sweep', JSON.stringify(state.result.need), 'need', state.result.stock, JSON.stringify(file), 'design.json');
+    if (seq !== sweepSeq || state.viewed !== viewed) return;
+    viewed.sweep = sweep;
+    renderSweep(sweep);
+  } catch (error) {
+    if (seq === sweepSeq) renderSweep(`The error over temperature could not be worked out: ${error.message}`);
+  }
+}
+
+/** Redraw the charts when the answer's width changes (their text stays at its CSS size). */
+export function watchChartWidth() {
+  let width = 0;
+  let timer = null;
+  const observer = new ResizeObserver((entries) => {
+    const w = Math.round(entries[0].contentRect.width);
+    if (w === width) return;
+    width = w;
+    clearTimeout(timer);
+    timer = setTimeout(() => { if (state.result && state.viewed) renderViewed(); }, 120);
+  });
+  observer.observe($('answer'));
 }
 
 let analyzeSeq = 0;

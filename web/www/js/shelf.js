@@ -37,7 +37,7 @@ export function renderStockTable() {
   node.append(el('caption', { text: file }));
   const head = el('tr', {}, el('th', { text: '#' }));
   for (const h of table.header) head.append(el('th', { text: h, scope: 'col' }));
-  head.append(el('th', { text: '' }));
+  head.append(el('th', { scope: 'col' }, el('span', { className: 'sr-only', text: 'Delete row' })));
   node.append(el('thead', {}, head));
   const body = el('tbody');
   table.rows.forEach((row, r) => {
@@ -95,9 +95,11 @@ export async function validateStock() {
     return;
   }
   try {
-    const counts = await engines.checker.call('check_stock', stockJson());
+    const checked = stockJson();
+    const counts = await engines.checker.call('check_stock', checked);
     if (seq !== stockCheckSeq) return;
     state.stockValid = true;
+    state.checkedStock = checked;
     setStatus('stock-status', `Shelf read: ${counts.resistors} resistor values, ${counts.opamps} op-amps, ${counts.references} references, ${counts.inamps} in-amps.`, 'good');
   } catch (error) {
     if (seq !== stockCheckSeq) return;

@@ -15,6 +15,10 @@ export const state = {
   activeTable: 'resistors.csv',
   derived: null,
   checkedNeed: null,
+  checkedStock: null,
+  formDirty: false,
+  currency: '',
+  pinned: null,
   needValid: false,
   stockValid: false,
   solving: false,
@@ -26,9 +30,22 @@ export const state = {
 /** The checker (validation and small calls) and the solver (searches). */
 export const engines = { checker: null, solver: null, solverReady: false, states: {} };
 
-/** Enable "Design it" when both halves are valid and the solver is ready. */
+/**
+ * Hooks set by other modules: `settled()` runs after every change of the
+ * inputs' checks or of the solver's state (the answer's freshness and the
+ * search that starts by itself, in solve.js); `solveNow()` starts a
+ * search at once.
+ */
+export const hooks = { settled: null, solveNow: null };
+
+/**
+ * Enable "Solve now" when both halves are valid and the solver is ready
+ * (also while a search runs: a new request replaces it), and Stop while a
+ * search runs.
+ */
 export function updateSolveButton() {
   const ready = engines.solver && engines.solverReady;
-  $('solve').disabled = !ready || state.solving || !state.needValid || !state.stockValid;
+  $('solve').disabled = !ready || !state.needValid || !state.stockValid;
   $('cancel').disabled = !state.solving;
+  if (hooks.settled) hooks.settled();
 }

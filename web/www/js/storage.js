@@ -10,14 +10,15 @@ const STORAGE_KEY = 'spanfit-project-v1';
 export const PROJECT_FORMAT = 'spanfit-project';
 
 /**
- * The project as exported: `{format, version, need, stock}` where `stock`
- * maps file names to CSV text (as the core reads it; no spreadsheet
- * escaping, so the text reads back the same).
+ * The project as exported: `{format, version, need, stock, currency}`
+ * where `stock` maps file names to CSV text (as the core reads it; no
+ * spreadsheet escaping, so the text reads back the same) and `currency`
+ * is the symbol costs are shown with ('' for none).
  */
 export function projectObject() {
   const stock = {};
   for (const [file, table] of Object.entries(state.stock)) stock[file] = toCsv(table);
-  return { format: PROJECT_FORMAT, version: 1, need: state.need, stock };
+  return { format: PROJECT_FORMAT, version: 1, need: state.need, stock, currency: state.currency || '' };
 }
 
 let saveTimer = null;
@@ -83,13 +84,35 @@ export function loadStored() {
         if (!read) throw new Error(`the stored table ${file} is damaged`);
         tables[file] = read;
       }
-      return { need: value.need, tables };
+      return { need: value.need, tables, currency: typeof value.currency === 'string' ? value.currency : '' };
     }
     if (!isObject(value.stock) || !Object.values(value.stock).every(isText)) throw new Error('the stored shelf is damaged');
-    return { need: value.need, stockCsv: value.stock };
+    return { need: value.need, stockCsv: value.stock, currency: typeof value.currency === 'string' ? value.currency : '' };
   } catch (error) {
     setAside();
     setStatus('run-status', `The saved project could not be read and was set aside: ${error.message}`, 'warn');
     return null;
+  }
+}
+
+const NAMED_KEY = 'spanfit-projects-v1';
+
+/** The named projects kept in this browser: name -> project object. */
+export function namedProjects() {
+  try {
+    const value = JSON.parse(localStorage.getItem(NAMED_KEY) || '{}');
+    return isObject(value) ? value : {};
+  } catch (_) {
+    return {};
+  }
+}
+
+/** Write the named projects back; false when storage refuses. */
+export function writeNamedProjects(all) {
+  try {
+    localStorage.setItem(NAMED_KEY, JSON.stringify(all));
+    return true;
+  } catch (_) {
+    return false;
   }
 }

@@ -1,0 +1,309 @@
+// The page as a bench: the answer in view on load, kept current as the
+// need changes, SI input, readable charts and schematic, the gallery, the
+// share link with the shelf, print, and axe-core on four states.
+import assert from 'node:assert/strict';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { after, before, test } from 'node:test';
+import { ROOT, launch, openPage, serveDist, shot, unexpected } from './helpers.mjs';
+
+const AXE = readFileSync(join(ROOT, 'tests', 'page', 'node_modules', 'axe-core', 'axe.min.js'), 'utf8');
+
+let server;
+before(async () => { server = await serveDist(); });
+after(async () => { await server.close(); });
+
+async function withPage(fn, viewport) {
+  const browser = await launch();
+  try {
+    if (viewport) {
+      const page0 = browser.context.pages()[0];
+      if (page0) await page0.setViewportSize(viewport);
+    }
+    const opened = await openPage(browser.context, server.url);
+    if (viewport) await opened.page.setViewportSize(viewport);
+    await fn({ ...opened, browser });
+  } finally {
+    await browser.close();
+  }
+}
+
+/** Wait until the answer is current (solved for the inputs on show). */
+async function waitCurrent(page, timeout = 20000) {
+  await page.waitForFunction(() => document.querySelector('[data-testid=freshness]').dataset.fresh === 'current', null, { timeout });
+}
+
+async function worstRaw(page) {
+  return Number(await page.getAttribute('[data-figure="worst"]', 'data-raw'));
+}
+
+async function axeViolations(page) {
+  await page.evaluate(AXE);
+  return page.evaluate(async () => {
+    // eslint-disable-next-line no-undef
+    const result = await axe.run(document, { resultTypes: ['violations'] });
+    return result.violations.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(' ')).slice(0, 3).join(' | ')}`);
+  });
+}
+
+test('on a wide screen the solved demo is in the first view without a click; on phones nothing overflows', async () => {
+  await withPage(async ({ page, problems }) => {
+    await waitCurrent(page);
+    const box = await page.locator('[data-figure="worst"]').boundingBox();
+    assert.ok(box, 'the worst-case figure is shown');
+    assert.equal(box.y + box.height <= 900 && box.x + box.width <= 1440, true, `worst-case figure at ${JSON.stringify(box)}`);
+    const answer = await page.locator('[data-testid=answer]').boundingBox();
+    const need = await page.locator('.need-panel').boundingBox();
+    assert.equal(answer.x > need.x + need.width - 1, true, 'the answer sits beside the need');
+    await shot(page, 'bench-wide');
+    for (const width of [390, 360]) {
+      await page.setViewportSize({ width, height: 844 });
+      await page.waitForTimeout(300);
+      const widths = await page.evaluate(() => ({ doc: document.documentElement.scrollWidth, screen: window.innerWidth }));
+      assert.equal(widths.doc <= widths.screen, true, `document ${widths.doc} px wide on a ${widths.screen} px screen`);
+    }
+    await shot(page, 'bench-phone');
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  }, { width: 1440, height: 900 });
+});
+
+test('an edit re-solves by itself; meanwhile the answer is marked out of date and its downloads are off', async () => {
+  await withPage(async ({ page, problems }) => {
+    await waitCurrent(page);
+    const before = await worstRaw(page);
+    const gainBefore = Number(await page.getAttribute('[data-figure="gain"]', 'data-raw'));
+    assert.equal(await page.isEnabled('#dl-bom'), true);
+    await page.click('[data-testid=pin]');
+    await page.fill('#f-adc-high_v', '2.5');
+    // At once: out of date, downloads off.
+    await page.waitForFunction(() => document.querySelector('[data-testid=freshness]').dataset.fresh !== 'current', null, { timeout: 1000 });
+    assert.equal(await page.isDisabled('#dl-bom'), true);
+    assert.equal(await page.isDisabled('#dl-spice'), true);
+    assert.equal(await page.getAttribute('#result', 'data-stale'), 'yes');
+    const started = Date.now();
+    await waitCurrent(page, 10000);
+    const took = Date.now() - started;
+    const gainAfter = Number(await page.getAttribute('[data-figure="gain"]', 'data-raw'));
+    assert.notEqual(gainAfter, gainBefore, 'a new design for the new window');
+    assert.equal(await page.isEnabled('#dl-bom'), true);
+    assert.equal(await page.getAttribute('#result', 'data-stale'), 'no');
+    // The pinned design (the one before the edit) beside the new one.
+    const rows = await page.$$eval('#compare-table tbody tr', (trs) => trs.map((tr) => [...tr.children].map((c) => c.textContent)));
+    const worstRow = rows.find((r) => r[0] === 'Worst-case error');
+    assert.deepEqual(worstRow.slice(1), [`${Number(before.toPrecision(3))} % FS`, `${Number((await worstRaw(page)).toPrecision(3))} % FS`]);
+    console.log(`re-solved ${took} ms after the edit (worst case ${before} -> ${await worstRaw(page)} % FS)`);
+    assert.equal(took < 2000, true, `re-solved within 2 s (took ${took} ms)`);
+    // An invalid field: the answer waits, marked out of date.
+    await page.fill('#f-adc-high_v', 'lots');
+    await page.waitForSelector('.field.invalid[data-key="adc.high_v"]');
+    await page.waitForFunction(() => document.querySelector('[data-testid=freshness]').dataset.fresh === 'waiting');
+    assert.match(await page.textContent('#f-adc-high_v-error'), /enter a number of volts/);
+    assert.equal(await page.isDisabled('#dl-bom'), true);
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('SI input: "30 mV" and "30m" read as 0.03, give the design of 0.03, and say what was understood', async () => {
+  await withPage(async ({ page }) => {
+    await waitCurrent(page);
+    await page.fill('#f-sensor-signal_high_v', '0.03');
+    await page.waitForFunction(() => window.spanfitPage.state.need.sensor.signal_high_v === 0.03);
+    await waitCurrent(page);
+    const plain = await page.evaluate(() => window.spanfitPage.state.result.bundle.report.design);
+    for (const text of ['30 mV', '30m']) {
+      await page.fill('#f-sensor-signal_high_v', text);
+      await page.waitForFunction((t) => window.spanfitPage.state.need.sensor.signal_high_v === 0.03
+        && document.querySelector('[data-testid="understood-sensor.signal_high_v"]').textContent !== ''
+        && document.querySelector('#f-sensor-signal_high_v').value === t, text);
+      assert.equal(await page.textContent('[data-testid="understood-sensor.signal_high_v"]'), 'read as 0.03 V');
+      assert.equal(await page.evaluate(() => window.spanfitPage.state.need.sensor.signal_high_v), 0.03);
+      await waitCurrent(page);
+      const design = await page.evaluate(() => window.spanfitPage.state.result.bundle.report.design);
+      assert.deepEqual(design.parts, plain.parts, text);
+      assert.equal(design.error.worst_case_pct_fs, plain.error.worst_case_pct_fs, text);
+    }
+    await page.fill('#f-sensor-source_ohms', '4.7k');
+    await page.waitForFunction(() => window.spanfitPage.state.need.sensor.source_ohms === 4700);
+    await page.fill('#f-sensor-signal_high_v', '100 nA');
+    await page.waitForSelector('.field.invalid[data-key="sensor.signal_high_v"]');
+    const label = await page.textContent('.field[data-key="sensor.signal_high_v"] label');
+    const status = await page.textContent('[data-testid=need-status]');
+    assert.equal(status.includes(`${label}: `), true, status);
+    assert.match(status, /the unit V/);
+    // The longer help opens on demand.
+    const help = page.locator('.field[data-key="adc.margin_pct"] details.help');
+    assert.equal(await help.locator('p').first().isVisible(), false);
+    await help.locator('summary').click();
+    assert.match(await help.textContent(), /Typical: 2 to 5 %/);
+  });
+});
+
+test('charts and schematic keep text at 11 px or more; the schematic zooms and opens full size; costs take a currency', async () => {
+  for (const viewport of [{ width: 1440, height: 900 }, { width: 390, height: 844 }]) {
+    await withPage(async ({ page }) => {
+      await waitCurrent(page);
+      await page.waitForSelector('[data-testid=sweep-chart] svg');
+      await page.waitForTimeout(400);
+      const smallest = await page.evaluate(() => {
+        let min = Infinity;
+        for (const chart of document.querySelectorAll('#result svg.chart')) {
+          const vb = chart.viewBox.baseVal;
+          const scale = chart.getBoundingClientRect().width / vb.width;
+          for (const t of chart.querySelectorAll('text')) min = Math.min(min, parseFloat(getComputedStyle(t).fontSize) * scale);
+        }
+        return min;
+      });
+      assert.equal(smallest >= 10.95, true, `smallest chart text ${smallest} px at ${viewport.width} px`);
+      const img = page.locator('[data-testid=schematic-img]');
+      const zoom = Number(await img.getAttribute('data-zoom'));
+      const natural = await img.evaluate((i) => i.naturalWidth);
+      const shown = (await img.boundingBox()).width;
+      // The core's schematic has 10 px as its smallest text.
+      assert.equal((shown / natural) * 10 >= 10.95, true, `schematic text ${(shown / natural) * 10} px`);
+      await page.click('#zoom-in');
+      assert.equal(Number(await img.getAttribute('data-zoom')) > zoom, true);
+      await page.focus('[data-testid=schematic]');
+      await page.keyboard.press('-');
+      await page.keyboard.press('-');
+      assert.equal(Number(await img.getAttribute('data-zoom')) < zoom, true, 'minus key zooms out');
+      await page.locator('[data-testid=schematic]').hover();
+      await page.keyboard.down('Control');
+      await page.mouse.wheel(0, -100);
+      await page.keyboard.up('Control');
+      await page.click('#zoom-full');
+      assert.equal(await page.isVisible('#schematic-dialog'), true);
+      await page.click('#schematic-close');
+      // Axis labels with units, and the histogram's explanation.
+      assert.match(await page.textContent('[data-testid=sweep-chart]'), /temperature, °C/);
+      assert.match(await page.textContent('[data-testid=budget-chart]'), /% of full scale/);
+      await page.selectOption('[data-testid=currency]', '€');
+      await page.waitForFunction(() => document.querySelector('[data-figure="cost"] .main').textContent.startsWith('€'));
+      assert.match(await page.textContent('[data-testid=pareto-chart]'), /cost, €/);
+      await page.waitForTimeout(400);
+      await page.reload();
+      await page.waitForFunction(() => document.body.dataset.ready === 'yes');
+      assert.equal(await page.inputValue('[data-testid=currency]'), '€');
+      await shot(page, `bench-readable-${viewport.width}`);
+    }, viewport);
+  }
+});
+
+test('the sweep is the core analysis over temperature; the yield histogram marks the target and says what it counts', async () => {
+  await withPage(async ({ page }) => {
+    await waitCurrent(page);
+    await page.waitForSelector('[data-testid=sweep-chart] svg');
+    const temps = await page.$$eval('[data-testid=sweep-chart] circle.sweep-worst-dot', (c) => c.map((x) => Number(x.dataset.temp)));
+    const need = await page.evaluate(() => window.spanfitPage.state.need.accuracy);
+    assert.equal(temps[0], need.temp_min_c);
+    assert.equal(temps[temps.length - 1], need.temp_max_c);
+    const values = await page.$$eval('[data-testid=sweep-chart] circle.sweep-worst-dot', (c) => c.map((x) => Number(x.dataset.value)));
+    const worst = await worstRaw(page);
+    assert.equal(Math.abs(Math.max(...values) - worst) <= 1e-4 * worst, true, `largest of the sweep ${Math.max(...values)} is close to the design's worst case ${worst}`);
+    await page.selectOption('#f-accuracy-basis', 'yield');
+    await page.waitForFunction(() => window.spanfitPage.state.need.accuracy.basis === 'yield');
+    await waitCurrent(page, 25000);
+    await page.waitForSelector('#histogram-box:not([hidden])');
+    assert.equal(await page.locator('[data-testid=histogram-chart] line.target').count(), 2);
+    assert.match(await page.textContent('[data-testid=histogram-chart]'), /builds/);
+    assert.match(await page.textContent('[data-testid=histogram-note]'), /simulated builds is counted once/);
+  });
+});
+
+test('the gallery offers at least six invented examples; one loads its need and its own shelf and solves', async () => {
+  await withPage(async ({ page, problems }) => {
+    await waitCurrent(page);
+    await page.click('#gallery-open');
+    const items = page.locator('#gallery-list li');
+    assert.equal(await items.count() >= 6, true);
+    for (const text of await items.allTextContents()) assert.match(text, /Invented example/);
+    await shot(page, 'bench-gallery');
+    await page.click('button[data-example="electrode-falling"]');
+    await page.waitForFunction(() => /Reed Pond/.test(document.querySelector('#f-sensor-label').value));
+    await page.click('button.tab[data-file="opamps.csv"]');
+    const ids = await page.$$eval('[data-testid=stock-table] input[data-col="0"]', (i) => i.map((x) => x.value));
+    assert.equal(ids.includes('OA-EM1'), true, ids.join(', '));
+    await waitCurrent(page, 25000);
+    const report = await page.evaluate(() => window.spanfitPage.state.result.bundle.report);
+    assert.equal(report.status, 'ok', report.reason);
+    assert.equal(report.design.parts.some((p) => p.part_id === 'OA-EM1'), true);
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('a share link carries the edited shelf into a fresh browser, and leaves the address bar', async () => {
+  let link;
+  await withPage(async ({ page }) => {
+    const cell = page.locator('[data-testid=stock-table] input[data-row="0"][data-col="0"]');
+    await cell.fill('HR-SHARED');
+    await cell.press('Tab');
+    await page.fill('#f-accuracy-max_error_pct_fs', '0.8');
+    await page.waitForFunction(() => window.spanfitPage.state.need.accuracy.max_error_pct_fs === 0.8);
+    await page.click('#share');
+    await page.waitForFunction(() => document.querySelector('[data-testid=share-url]').value !== '');
+    link = await page.inputValue('[data-testid=share-url]');
+    assert.match(link, /#p=[A-Za-z0-9_-]+$/);
+  });
+  await withPage(async ({ page }) => {
+    await page.goto(link);
+    await page.waitForFunction(() => document.body.dataset.ready === 'yes');
+    assert.equal(await page.inputValue('[data-testid=stock-table] input[data-row="0"][data-col="0"]'), 'HR-SHARED');
+    assert.equal(await page.inputValue('#f-accuracy-max_error_pct_fs'), '0.8');
+    assert.equal(await page.evaluate(() => location.hash), '', 'the fragment is cleared');
+    await page.fill('#f-accuracy-max_error_pct_fs', '0.9');
+    await page.waitForFunction(() => window.spanfitPage.state.need.accuracy.max_error_pct_fs === 0.9);
+    await page.waitForTimeout(400);
+    await page.reload();
+    await page.waitForFunction(() => document.body.dataset.ready === 'yes');
+    assert.equal(await page.inputValue('#f-accuracy-max_error_pct_fs'), '0.9', 'the later edit survives a reload');
+    assert.equal(await page.inputValue('[data-testid=stock-table] input[data-row="0"][data-col="0"]'), 'HR-SHARED');
+  });
+});
+
+test('named projects: save, open, duplicate and delete in this browser', async () => {
+  await withPage(async ({ page }) => {
+    await page.fill('[data-testid=project-name]', 'bench A');
+    await page.click('#project-save');
+    await page.fill('#f-adc-bits', '12');
+    await page.waitForFunction(() => window.spanfitPage.state.need.adc.bits === 12);
+    await page.click('#project-duplicate');
+    const names = await page.$$eval('[data-testid=project-list] option', (o) => o.map((x) => x.value));
+    assert.deepEqual(names, ['bench A', 'bench A (copy)']);
+    await page.selectOption('[data-testid=project-list]', 'bench A');
+    await page.click('#project-open');
+    await page.waitForFunction(() => document.querySelector('#f-adc-bits').value === '16');
+    await page.selectOption('[data-testid=project-list]', 'bench A (copy)');
+    await page.click('#project-delete');
+    assert.deepEqual(await page.$$eval('[data-testid=project-list] option', (o) => o.map((x) => x.value)), ['bench A']);
+  });
+});
+
+test('printing gives at most two pages with the schematic and the budget', async () => {
+  await withPage(async ({ page }) => {
+    await waitCurrent(page);
+    await page.waitForSelector('[data-testid=sweep-chart] svg');
+    const pdf = await page.pdf({ format: 'A4', printBackground: false });
+    const pages = (pdf.toString('latin1').match(/\/Type\s*\/Page[^s]/g) || []).length;
+    assert.equal(pages >= 1 && pages <= 2, true, `${pages} pages`);
+    await page.emulateMedia({ media: 'print' });
+    assert.equal(await page.isVisible('[data-testid=schematic-img]'), true);
+    assert.equal(await page.isVisible('[data-testid=budget-chart] svg'), true);
+    assert.equal(await page.isVisible('.stock-panel'), false);
+  });
+});
+
+test('axe-core finds no violations on load, after a solve, with an invalid field, and when infeasible', async () => {
+  await withPage(async ({ page }) => {
+    assert.deepEqual(await axeViolations(page), [], 'first load');
+    await waitCurrent(page);
+    assert.deepEqual(await axeViolations(page), [], 'after a solve');
+    await page.fill('#f-adc-high_v', 'three');
+    await page.waitForSelector('.field.invalid[data-key="adc.high_v"]');
+    assert.deepEqual(await axeViolations(page), [], 'invalid field');
+    await page.fill('#f-adc-high_v', '3');
+    await page.fill('#f-accuracy-max_error_pct_fs', '0.01');
+    await page.waitForFunction(() => window.spanfitPage.state.need.accuracy.max_error_pct_fs === 0.01);
+    await waitCurrent(page, 25000);
+    assert.equal(await page.getAttribute('[data-testid=result-banner]', 'data-status'), 'infeasible');
+    assert.deepEqual(await axeViolations(page), [], 'infeasible');
+  });
+});
