@@ -208,13 +208,14 @@ fn small_spaces(runs: usize, exhaustive_runs: usize) {
          same optimum | proven (optimised / exhaustive) |"
     );
     println!("|---|---:|---:|---:|---:|---:|:---:|:---:|");
-    for (grades, max_parts, calibration) in [
-        (1, 3, "none"),
-        (1, 4, "offset"),
-        (2, 3, "two-point"),
-        (2, 4, "none"),
+    for (grades, max_parts, calibration, err) in [
+        (1, 3, "none", 5.0),
+        (1, 4, "offset", 2.0),
+        (2, 3, "two-point", 1.0),
+        (2, 4, "none", 5.0),
+        (2, 4, "offset", 1.0),
     ] {
-        let (need, stock) = common::small_space(grades, max_parts, calibration);
+        let (need, stock) = common::small_space(grades, max_parts, calibration, err);
         let (fast_ms, fast) = time(&need, &stock, false, runs);
         let (full_ms, full) = time(&need, &stock, true, exhaustive_runs);
         let same = match (&fast.best, &full.best) {
@@ -223,7 +224,7 @@ fn small_spaces(runs: usize, exhaustive_runs: usize) {
             _ => false,
         };
         println!(
-            "| {grades} grade(s), max_parts = {max_parts}, calibration {calibration} | \
+            "| {grades} grade(s), max_parts = {max_parts}, calibration {calibration}, {err} % FS | \
              {fast_ms:.1} | {full_ms:.1} | {:.1}x | {} | {} | {} | {} / {} |",
             full_ms / fast_ms.max(1e-9),
             cost(&fast),

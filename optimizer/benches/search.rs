@@ -54,7 +54,7 @@ fn scaling(c: &mut Criterion) {
 }
 
 fn reduced(c: &mut Criterion) {
-    let (need, stock) = common::small_space(2, 4, "none");
+    let (need, stock) = common::small_space(2, 4, "none", 5.0);
     // Both modes must agree before their times mean anything.
     let fast = common::run(&need, &stock, false);
     let full = common::run(&need, &stock, true);

@@ -100,14 +100,15 @@ pub fn run(need: &Need, stock: &Stock, exhaustive: bool) -> SolveOutcome {
 
 /// A small invented space the exhaustive walk finishes: a single-ended
 /// sensor over 0.1..0.3 V into a 0..3 V ADC (negative ideal offset), one
-/// stage, at most `max_parts` parts, against `grades` E6 families (1 % and
-/// 0.1 %) over 1 to 6.8 kohm, one op-amp and one 2.5 V reference.
-pub fn small_space(grades: usize, max_parts: usize, calibration: &str) -> (Need, Stock) {
+/// stage, at most `max_parts` parts, a target of `err` % FS, against
+/// `grades` E6 families (1 % and 0.1 %) over 1 to 6.8 kohm, one op-amp and
+/// one 2.5 V reference.
+pub fn small_space(grades: usize, max_parts: usize, calibration: &str, err: f64) -> (Need, Stock) {
     let text = format!(
         "[sensor]\nsignal_low_v = 0.1\nsignal_high_v = 0.3\noutput = \"single-ended\"\nsource_ohms = 10.0\n\
          [adc]\nlow_v = 0.0\nhigh_v = 3.0\nbits = 12\nmargin_pct = 0.0\n\
          [supply]\npositive_v = 5.0\nnegative_v = 0.0\n\
-         [accuracy]\nmax_error_pct_fs = 1.0\ncalibration = \"{calibration}\"\ntemp_min_c = 0.0\ntemp_max_c = 50.0\n\
+         [accuracy]\nmax_error_pct_fs = {err}\ncalibration = \"{calibration}\"\ntemp_min_c = 0.0\ntemp_max_c = 50.0\n\
          [search]\nmax_stages = 1\nmax_parts = {max_parts}\nbom_line_cost = 0.02\ntime_limit_ms = {TIME_LIMIT_MS}\n"
     );
     let need = parse_need(text.as_bytes(), "small.toml")

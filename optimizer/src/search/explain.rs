@@ -161,10 +161,10 @@ fn binding_limit(
         None => {
             let worst = diagnosis.failed_checks.iter().max_by_key(|(_, v)| v.0);
             match worst {
-                Some((check, (_, detail))) => (format!("{check}: no structure passes; for example {detail}"), None, Vec::new()),
+                Some((check, (_, detail))) => (format!("{check}: no structure the search tried passes; for example {detail}"), None, Vec::new()),
                 None => match &diagnosis.closest_rejection {
-                    Some((why, _)) => (format!("no structure passes; the nearest miss: {why}"), None, Vec::new()),
-                    None => ("no structure can be built from this stock for this need (check the topologies, the supplies and the offset sources)".into(), None, Vec::new()),
+                    Some((why, _)) => (format!("no structure the search tried passes; the nearest miss: {why}"), None, Vec::new()),
+                    None => ("the search built no structure from this stock for this need (check the topologies, the supplies and the offset sources)".into(), None, Vec::new()),
                 },
             }
         }
