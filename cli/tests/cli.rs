@@ -416,7 +416,7 @@ fn exports_are_written_for_an_analysed_design() {
     for p in v["design"]["parts"].as_array().unwrap() {
         let r = p["ref"].as_str().unwrap();
         let element = match p["kind"].as_str().unwrap() {
-            "resistor" => r.to_string(),
+            "resistor" | "capacitor" => r.to_string(),
             "reference" => format!("VREF_{r}"),
             _ => format!("VOS_{r}"),
         };

@@ -14,6 +14,8 @@
 // Tests run ngspice: they write decks to files and start a process.
 #![allow(clippy::disallowed_methods, clippy::disallowed_types)]
 
+// Only `ngspice()` of the shared runner is used here.
+#[allow(dead_code)]
 mod common;
 
 use common::ngspice::ngspice;
@@ -42,15 +44,15 @@ fn magnitudes_db(deck: &str, frequencies: &[f64], tag: &str) -> Vec<f64> {
     }
     text.push_str(".endc\n.end\n");
     let dir = std::env::temp_dir().join(format!("spanfit-filter-{}-{tag}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::create_dir_all(&dir).expect("a temporary folder");
     let file = dir.join("deck.cir");
-    std::fs::write(&file, &text).unwrap();
+    std::fs::write(&file, &text).expect("the deck is written");
     let out = Command::new(ngspice())
         .arg("-b")
         .arg(&file)
         .current_dir(&dir)
         .output()
-        .unwrap();
+        .expect("ngspice runs");
     let stdout = String::from_utf8_lossy(&out.stdout).to_string();
     let stderr = String::from_utf8_lossy(&out.stderr).to_string();
     let _ = std::fs::remove_dir_all(&dir);
@@ -68,7 +70,7 @@ fn magnitudes_db(deck: &str, frequencies: &[f64], tag: &str) -> Vec<f64> {
                 .unwrap_or_else(|| panic!("{tag}: no m{i} in:\n{stdout}\n{text}"))
                 .trim()
                 .parse::<f64>()
-                .unwrap()
+                .expect("ngspice prints a number")
         })
         .collect()
 }

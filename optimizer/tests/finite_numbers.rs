@@ -52,6 +52,19 @@ fn null_allowed(key: &str, parent: &serde_json::Map<String, Value>, _report: &Va
             .is_some_and(Vec::is_empty),
         // Package text of a part not in the stock tables.
         "footprint" => true,
+        // No filter pair from the stock (docs/filter.md).
+        "filter" => true,
+        // The settling figures exist only for a sampling input, all three
+        // together.
+        "kickback_v" | "settling_ns" | "settling_error_lsb" => {
+            is_null("kickback_v") && is_null("settling_ns") && is_null("settling_error_lsb")
+        }
+        // The rejection needs a sample rate; without one there is no
+        // alias check either.
+        "rejection_at_nyquist_db" => parent
+            .get("checks")
+            .and_then(Value::as_array)
+            .is_some_and(|c| c.iter().all(|x| x["check"] != "alias-rejection")),
         _ => false,
     }
 }

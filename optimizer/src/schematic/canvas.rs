@@ -199,6 +199,28 @@ impl Canvas {
         self.close_part();
     }
 
+    /// A vertical capacitor between `y1` and `y2` on `x`: two plates
+    /// across the wire, the label to the right.
+    pub(crate) fn capacitor_v(&mut self, x: f64, y1: f64, y2: f64, c: &Labelled) {
+        self.open_part(&c.designator, &c.hover);
+        let cy = (y1 + y2) / 2.0;
+        self.wire(&[(x, y1), (x, cy - 4.0)]);
+        self.wire(&[(x, cy + 4.0), (x, y2)]);
+        for py in [cy - 4.0, cy + 4.0] {
+            let _ = writeln!(
+                self.body,
+                "<line class=\"g\" x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\"/>",
+                num(x - 12.0),
+                num(py),
+                num(x + 12.0),
+                num(py)
+            );
+        }
+        self.extend(x + 12.0, y2);
+        self.text(x + 16.0, cy + 4.0, "start", "lbl", &c.label);
+        self.close_part();
+    }
+
     /// An op-amp pointing right: inputs at `(ox, oy -+ 15)`, output at
     /// `(ox + 60, oy)`. `caption` (the part id) goes above or below.
     pub(crate) fn opamp(

@@ -468,16 +468,40 @@ pub fn svg(built: &Built, design: &Design, title: &str) -> String {
         );
         let outline = stage.shape.behaviour().draw(&mut canvas, &sheet, i, x, out);
         collect_networks(&sheet, i, &mut nets);
+        let mut end = outline.out;
         if i == last {
-            canvas.tag(
-                outline.out.0,
-                outline.out.1,
-                sheet.node(built.out),
-                Side::Right,
-            );
+            if let Some(f) = &built.filter {
+                // The filter at the ADC input: series resistor, then the
+                // capacitor to ground at the ADC pin.
+                let (ox, oy) = outline.out;
+                let series = Labelled {
+                    designator: f.series_ref.clone(),
+                    label: format!("{} {}", f.series_ref, format_ohms(f.series.ohms)),
+                    hover: format!(
+                        "{}: filter series resistor {}",
+                        f.series_ref, f.series.part_id
+                    ),
+                };
+                canvas.resistor_h(ox, ox + 70.0, oy, &series, Side::Above);
+                let shunt = Labelled {
+                    designator: f.shunt_ref.clone(),
+                    label: format!("{} {}", f.shunt_ref, format_quantity(f.shunt.value.0, "F")),
+                    hover: format!(
+                        "{}: filter capacitor {} ({})",
+                        f.shunt_ref, f.shunt.part_id, f.shunt.dielectric
+                    ),
+                };
+                canvas.dot(ox + 90.0, oy);
+                canvas.wire(&[(ox + 70.0, oy), (ox + 90.0, oy)]);
+                canvas.capacitor_v(ox + 90.0, oy, oy + 40.0, &shunt);
+                canvas.ground(ox + 90.0, oy + 40.0);
+                canvas.wire(&[(ox + 90.0, oy), (ox + 110.0, oy)]);
+                end = (ox + 110.0, oy);
+            }
+            canvas.tag(end.0, end.1, sheet.node(built.out), Side::Right);
         }
-        prev = Some(outline.out);
-        x = outline.out.0 + GAP;
+        prev = Some(end);
+        x = end.0 + GAP;
     }
     // The row of networks and sources.
     let mut bx = 20.0;
@@ -656,8 +680,19 @@ mod tests {
                       "bottom": "HR-F1-10K0", "buffered": true}}
         ]}"#;
         let design = crate::design::parse_design(design_json.as_bytes(), "d.json", &stock).unwrap();
-        let built = crate::topology::build(&need, &stock, &design).unwrap();
+        let unfiltered = crate::topology::build(&need, &stock, &design).unwrap();
+        let (built, _) = crate::filter::attach(&need, &stock, &unfiltered);
+        let filter = built
+            .filter
+            .as_ref()
+            .expect("the demo stock gives a filter");
         let doc = svg(&built, &design, "<b>demo</b> & \"co\"");
+        for reference in [&filter.series_ref, &filter.shunt_ref] {
+            assert!(
+                doc.contains(&format!("data-ref=\"{reference}\"")),
+                "{reference}"
+            );
+        }
         assert!(doc.starts_with("<svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 "));
         assert!(doc.trim_end().ends_with("</svg>"));
         assert!(!doc.contains("<b>demo"));
