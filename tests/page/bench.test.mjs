@@ -213,6 +213,7 @@ test('the gallery offers at least six invented examples; one loads its need and 
   await withPage(async ({ page, problems }) => {
     await waitCurrent(page);
     await page.click('#gallery-open');
+    await page.waitForSelector('#gallery[open] #gallery-list li');
     const items = page.locator('#gallery-list li');
     assert.equal(await items.count() >= 6, true);
     for (const text of await items.allTextContents()) assert.match(text, /Invented example/);
@@ -222,10 +223,14 @@ test('the gallery offers at least six invented examples; one loads its need and 
     await page.click('button.tab[data-file="opamps.csv"]');
     const ids = await page.$$eval('[data-testid=stock-table] input[data-col="0"]', (i) => i.map((x) => x.value));
     assert.equal(ids.includes('OA-EM1'), true, ids.join(', '));
-    await waitCurrent(page, 25000);
+    await page.waitForFunction(() => {
+      const { result } = window.spanfitPage.state;
+      return result && /Reed Pond/.test(result.need.sensor.label)
+        && document.querySelector('[data-testid=freshness]').dataset.fresh === 'current';
+    }, null, { timeout: 25000 });
     const report = await page.evaluate(() => window.spanfitPage.state.result.bundle.report);
     assert.equal(report.status, 'ok', report.reason);
-    assert.equal(report.design.parts.some((p) => p.part_id === 'OA-EM1'), true);
+    assert.equal(report.design.parts.some((p) => p.part_id === 'OA-EM1'), true, JSON.stringify(report.design.parts.map((p) => p.part_id)));
     assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
   });
 });

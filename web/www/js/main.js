@@ -60,6 +60,7 @@ function useNeed(need) {
   state.need = need;
   fillForm(need);
   saveNow();
+  updateSolveButton();
   validateNeed();
 }
 
@@ -71,6 +72,8 @@ function useProject(project) {
   fillForm(state.need);
   showShelf();
   saveNow();
+  // Mark the answer out of date at once, before the checks come back.
+  updateSolveButton();
   validateNeed();
   validateStock();
 }

@@ -67,6 +67,7 @@ export function renderStockTable() {
 export function stockChanged() {
   saveSoon();
   buildTabs();
+  updateSolveButton();
   validateStockSoon();
 }
 
