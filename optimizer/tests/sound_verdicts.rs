@@ -27,8 +27,10 @@ const OPAMPS: &str = "part_id,channels,supply_min_v,supply_max_v,input_headroom_
 TV-BIG,1,2.7,20,0.1,0.1,0.1,0.1,100,1,100,10,110,1,20,0.1,100,0.5,100\n\
 TV-FET,1,2.7,20,0.1,0.1,0.1,0.1,100,1,0.001,0.001,110,1,20,0.0001,100,0.5,100\n";
 
+/// `TV-REF`: an invented 2.5 V reference with a 20 ppm/degC tempco only.
 const REFERENCES: &str =
-    "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty\n";
+    "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty\n\
+TV-REF,2.5,0,20,0.2,0,1,100\n";
 
 fn stock(opamps: &str) -> Stock {
     let file = |name: &str, text: &str| StockFile {
@@ -331,6 +333,51 @@ fn sensor_resistance_line_matches_closed_form() {
             // by about noise gain / A_OL = 4 / 3e5.
             (got - want).abs() <= 1e-4 * want.max(1e-12) + 1e-12,
             "end {end}: line {got} % FS, closed form {want} % FS"
+        );
+    }
+}
+
+// ---------------------------------------------------------------------
+// Reference tempco by the box method.
+
+/// A box-method tempco bounds the output inside a box `tempco x (T_max -
+/// T_min)` high over the whole range (common practice), so over 0..70 degC
+/// a 2.5 V, 20 ppm/degC reference may move 2.5 x 20e-6 x 70 = 3.5 mV from
+/// its 25 degC value, not 2.5 x 20e-6 x 45. Into the foot of Rg of a
+/// non-inverting stage with Rf = Rg it moves the output by Rf/Rg = 1 times
+/// that: 0.14 % of a 2.5 V full scale.
+#[test]
+fn reference_tempco_covers_the_whole_range() {
+    let toml = "[sensor]\nsignal_low_v = 1.25\nsignal_high_v = 2.5\n\
+        [adc]\nlow_v = 0\nhigh_v = 2.5\nbits = 12\nmargin_pct = 0\n\
+        [supply]\npositive_v = 5\n\
+        [accuracy]\nmax_error_pct_fs = 5\ntemp_min_c = 0\ntemp_max_c = 70\nbandwidth_hz = 1\n";
+    let need = parse_need(toml.as_bytes(), "box.toml")
+        .unwrap_or_else(|e| panic!("the need does not parse: {e}"));
+    let stock = stock(OPAMPS);
+    let exact =
+        |ohms: f64| serde_json::json!({"ohms": ohms, "tolerance_pct": 0, "tcr_ppm_per_c": 0});
+    let json = serde_json::json!({"stages": [{
+        "shape": "non-inverting", "amplifier": "TV-FET",
+        "resistors": {"rf": exact(10_000.0), "rg": exact(10_000.0)},
+        "offset": {"kind": "direct", "source": "TV-REF"},
+    }]})
+    .to_string();
+    let design = parse_design(json.as_bytes(), "box.json", &stock)
+        .unwrap_or_else(|e| panic!("the design does not parse: {e}"));
+    let (_, a) = analyze(&need, &stock, &design, 0, 1)
+        .unwrap_or_else(|e| panic!("the design does not analyse: {e}"));
+    let line = a
+        .budget
+        .iter()
+        .find(|b| b.line == Contributor::ReferenceTempco)
+        .unwrap_or_else(|| panic!("no reference tempco line: {:?}", a.budget));
+    let want = 100.0 * 2.5 * 20e-6 * 70.0 / 2.5;
+    for got in line.at_ends_pct_fs {
+        // 1e-4: the part's 110 dB open-loop gain (noise gain 2).
+        assert!(
+            (got.abs() - want).abs() <= 1e-4 * want,
+            "reference tempco line {got} % FS, box method {want} % FS"
         );
     }
 }

@@ -17,6 +17,7 @@
 use super::params::{Parameter, Target};
 use crate::mna::{element_value, DcSolution, Solver};
 use crate::netlist::{ElementKind, Netlist, Node};
+use std::collections::BTreeMap;
 
 /// `d(V_node)/d(target)` at `end` of the nominal solution, from the
 /// node's adjoint `adjoint`.
@@ -91,38 +92,42 @@ pub(crate) fn raw_limit(parameter: &Parameter, end: usize) -> f64 {
 }
 
 /// The half-width of the raw range of `node` at each span end: the sum
-/// over the parameters of `|dV/dp| x (initial + drift limit)`.
+/// over the parameters of `|dV/dp| x (initial + drift limit)`, from the
+/// node's adjoint (`adjoint`).
 pub(crate) fn node_half_range(
     netlist: &Netlist,
     dc: &DcSolution,
     params: &[Parameter],
-    node: Node,
+    adjoint: &[f64],
 ) -> [f64; 2] {
-    if dc.solver().node_unknown(node).is_none() {
-        return [0.0; 2];
-    }
-    let adjoint = dc.adjoint_of(node);
     let mut half = [0.0; 2];
     for parameter in params {
         for (end, h) in half.iter_mut().enumerate() {
-            let s = sensitivity(netlist, dc, &adjoint, &parameter.target, end);
+            let s = sensitivity(netlist, dc, adjoint, &parameter.target, end);
             *h += (s * raw_limit(parameter, end)).abs();
         }
     }
     half
 }
 
-/// The raw low and high of a set of nodes over both span ends.
+/// The raw low and high of a set of nodes over both span ends; node
+/// adjoints are taken from, and added to, `adjoints`.
 pub(crate) fn nodes_range(
     netlist: &Netlist,
     dc: &DcSolution,
     params: &[Parameter],
     nodes: &[Node],
+    adjoints: &mut BTreeMap<Node, Vec<f64>>,
 ) -> (f64, f64) {
     let mut low = f64::INFINITY;
     let mut high = f64::NEG_INFINITY;
     for &node in nodes {
-        let half = node_half_range(netlist, dc, params, node);
+        let half = if dc.solver().node_unknown(node).is_none() {
+            [0.0; 2]
+        } else {
+            let adjoint = adjoints.entry(node).or_insert_with(|| dc.adjoint_of(node));
+            node_half_range(netlist, dc, params, adjoint)
+        };
         for (end, h) in half.iter().enumerate() {
             let v = dc.voltage(end, node);
             low = low.min(v - h);

@@ -287,7 +287,8 @@ fn section_findings(
     let limits = section_limits(stock, section.kind);
     // Lowest and highest raw voltage of these nodes at both span ends,
     // every part at its limits.
-    let range_of = |nodes: &[usize]| extremes::nodes_range(raw.netlist, dc, raw.params, nodes);
+    let mut range_of =
+        |nodes: &[usize]| extremes::nodes_range(raw.netlist, dc, raw.params, nodes, adjoints);
     let (common_low, common_high) = (
         negative + limits.input_headroom[0],
         positive - limits.input_headroom[1],

@@ -8,8 +8,8 @@
 //! tempco, supply tolerance, in-amp gain error ...) becomes a *parameter*
 //! with an initial range and a drift range and its output-referred effect
 //! at both ends. From that linear model come the worst-case and RSS totals
-//! and the Monte Carlo yield; the worst case is then confirmed by solving
-//! the full netlist at its extreme corner. Finite open-loop gain and the
+//! and the Monte Carlo yield; the worst case is then confirmed by a search
+//! for the worst corner on the full netlist. Finite open-loop gain and the
 //! rounding of values are exact systematic terms.
 //!
 //! The pipeline, one module a step ([`Model::new`] runs it):
@@ -20,10 +20,11 @@
 //! 3. `systematic`: rounding and finite open-loop gain;
 //! 4. `noise`: output noise;
 //! 5. `ranges`: each stage's gain, offset and output range;
-//! 6. `feasibility`: the checks ([`Check`]);
+//! 6. `feasibility`: the checks ([`Check`]), with every node taken at
+//!    its raw extremes (`extremes`: every part at its limits, untrimmed);
 //!
-//! and on the model: `budget` (lines and totals), `corners` (the exact
-//! worst-case corner), `monte_carlo` (yield), with `accuracy` holding how
+//! and on the model: `budget` (lines and totals), `corners` (the worst
+//! corner found on the full netlist), `monte_carlo` (yield), with `accuracy` holding how
 //! calibration and the basis combine numbers. Budget lines and their
 //! formulas are described in `docs/error-budget.md`.
 

@@ -97,6 +97,11 @@ pub(crate) fn collect(
     for section in &built.sections {
         amplifier_parameters(need, stock, netlist, dc, section, &mut params);
     }
+    // A reference's tempco is a box-method figure (common practice): the
+    // output stays inside a box `tempco x (temp_max - temp_min)` high over
+    // the whole range, and its value at 25 degC may sit anywhere in that
+    // box, so the drift limit is the whole box height.
+    let box_t = (need.accuracy.temp_max.0 - need.accuracy.temp_min.0).max(0.0);
     for source in &built.sources {
         if let Some(i) = source.reference {
             let reference = &stock.references[i];
@@ -106,7 +111,7 @@ pub(crate) fn collect(
                 drift_contributor: Contributor::ReferenceTempco,
                 target: Target::Source(source.element),
                 initial: [reference.volts.0 * reference.initial.fraction(); 2],
-                drift: reference.volts.0 * reference.tempco.fraction_per_c() * delta_t,
+                drift: reference.volts.0 * reference.tempco.fraction_per_c() * box_t,
                 sensitivity: [sensitivity, sensitivity],
                 calibratable: true,
             });
