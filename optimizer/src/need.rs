@@ -182,6 +182,12 @@ pub struct Accuracy {
     pub calibration: Calibration,
     /// Signal bandwidth (noise bandwidth and gain-bandwidth check).
     pub bandwidth: Hertz,
+    /// Width of the temperature range a reference's box-method tempco
+    /// covers, degC, when it is not `temp_max - temp_min`: an analysis at
+    /// one temperature of a wider range (the error-over-temperature sweep)
+    /// keeps the box of the whole range. Not a need key.
+    #[serde(skip)]
+    pub reference_box_c: Option<f64>,
 }
 
 /// Topology families (trade names).

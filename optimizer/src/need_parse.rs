@@ -835,6 +835,7 @@ fn accuracy<W: Field>(raw: Option<&RawAccuracy<W>>, ctx: &Ctx<'_>) -> Result<Acc
         temp_max: Celsius(temp_max),
         calibration,
         bandwidth: Hertz(bandwidth),
+        reference_box_c: None,
     })
 }
 

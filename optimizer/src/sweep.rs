@@ -6,7 +6,9 @@
 //!
 //! Part limits are stated at 25 degC (see `docs/error-budget.md`), so the
 //! drift terms grow with the distance from 25 degC; the point nearest
-//! 25 degC shows the error without drift.
+//! 25 degC shows the error without drift. A reference's tempco is a
+//! box-method figure over the whole range, so every point away from
+//! 25 degC keeps the whole box for it.
 
 use crate::analysis::Model;
 use crate::design::Design;
@@ -73,6 +75,10 @@ pub fn temperature_sweep(
         let mut at = need.clone();
         at.accuracy.temp_min = Celsius(t);
         at.accuracy.temp_max = Celsius(t);
+        // A reference's tempco is a box over the whole range: at any one
+        // temperature of it the reference may sit anywhere in that box.
+        at.accuracy.reference_box_c =
+            Some((need.accuracy.temp_max.0 - need.accuracy.temp_min.0).max(0.0));
         // The worst-case basis: a yield basis would start a Monte Carlo run.
         at.accuracy.basis = Basis::WorstCase;
         let model = Model::new(&at, stock, design)?;

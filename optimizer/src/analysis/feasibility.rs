@@ -381,7 +381,7 @@ mod tests {
         assert_eq!(finding.kind, Check::OutputSwing);
         assert_eq!(
             finding.detail,
-            "output moves 0.0100 V to 4.9900 V; the part swings 0.0500 V to 4.9500 V"
+            "output reaches 0.0100 V to 4.9900 V untrimmed; the part swings 0.0500 V to 4.9500 V"
         );
     }
 }

@@ -101,7 +101,11 @@ pub(crate) fn collect(
     // output stays inside a box `tempco x (temp_max - temp_min)` high over
     // the whole range, and its value at 25 degC may sit anywhere in that
     // box, so the drift limit is the whole box height.
-    let box_t = (need.accuracy.temp_max.0 - need.accuracy.temp_min.0).max(0.0);
+    let box_t = need
+        .accuracy
+        .reference_box_c
+        .unwrap_or(need.accuracy.temp_max.0 - need.accuracy.temp_min.0)
+        .max(0.0);
     for source in &built.sources {
         if let Some(i) = source.reference {
             let reference = &stock.references[i];
