@@ -312,9 +312,34 @@ fn every_report_field_is_documented_and_every_documented_field_exists() {
             .is_some_and(|a| !a.is_empty()),
         "the demo has no cost/error front, so its members go unchecked"
     );
-    let in_code = report_paths_outside_design(report);
+    // The need's tables (`need.sensor`, ...) echo need-file keys: their
+    // insides are the keys of docs/need.md, checked here against it.
+    let need_tables = ["sensor", "adc", "supply", "accuracy", "search", "stock"];
+    let need_keys: BTreeSet<String> = first_cells(NEED_MD).into_iter().collect();
+    let mut in_code = BTreeSet::new();
+    for path in report_paths_outside_design(report) {
+        let inside = need_tables.iter().find_map(|t| {
+            path.strip_prefix(&format!("need.{t}."))
+                .map(|key| format!("{t}.{}", key.trim_end_matches("[]")))
+        });
+        match inside {
+            Some(key) => assert!(
+                need_keys.contains(&key),
+                "the report's need echo has {path}, which docs/need.md does not list as {key}"
+            ),
+            None => {
+                in_code.insert(path);
+            }
+        }
+    }
     let in_docs = documented_report_paths(|c| !c.starts_with("infeasible."));
     assert_same("report fields", &in_code, &in_docs, "docs/report.md");
+    for table in need_tables {
+        assert!(
+            report["need"][table].is_object(),
+            "the report's need has no {table} table"
+        );
+    }
     // Every front entry is a whole design object.
     let design_keys: BTreeSet<&str> = report["design"]
         .as_object()

@@ -370,7 +370,14 @@ pub fn shortfall(need: &Need, a: &Analysis) -> Option<String> {
 pub fn need_figures(need: &Need) -> NeedFigures {
     let (k, b) = need.ideal_transfer();
     let (lo, hi) = need.target_window();
+    let [sensor, adc, supply, accuracy, search, stock] = super::need_echo::need_tables(need);
     NeedFigures {
+        accuracy,
+        adc,
+        search,
+        sensor,
+        stock,
+        supply,
         full_scale_v: need.full_scale(),
         ideal_gain: k,
         ideal_offset_v: b,

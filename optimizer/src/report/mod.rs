@@ -22,6 +22,7 @@
 //!   reads, so a reported design can be fed back to `analyze`.
 
 pub mod json;
+pub mod need_echo;
 pub mod text;
 pub mod types;
 

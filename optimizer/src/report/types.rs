@@ -58,6 +58,10 @@ pub struct Report {
 /// The derived figures of a need (`need` in the report).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct NeedFigures {
+    /// The need's `accuracy` table as the run used it, defaults applied.
+    pub accuracy: serde_json::Value,
+    /// The need's `adc` table as the run used it, defaults applied.
+    pub adc: serde_json::Value,
     /// ADC full-scale span in volts.
     pub full_scale_v: f64,
     /// Ideal gain `K`.
@@ -68,6 +72,14 @@ pub struct NeedFigures {
     pub lsb_v: f64,
     /// The sensor's physical unit, where the need gives one.
     pub quantity_unit: Option<String>,
+    /// The need's `search` table as the run used it, defaults applied.
+    pub search: serde_json::Value,
+    /// The need's `sensor` table as the run used it, defaults applied.
+    pub sensor: serde_json::Value,
+    /// The need's `stock` table as the run used it, defaults applied.
+    pub stock: serde_json::Value,
+    /// The need's `supply` table as the run used it, defaults applied.
+    pub supply: serde_json::Value,
     /// The target output window `[low, high]`, volts.
     pub target_window_v: [f64; 2],
     /// Volts at the ADC per unit of the physical quantity, where given.
