@@ -166,9 +166,10 @@ fn write_job(out: &mut String, need: &Need) {
     );
     let _ = writeln!(
         out,
-        "Supply   {} / {}{}",
+        "Supply   {} / {}, positive rail within {} %{}",
         volts_eng(need.supply.positive.0),
         volts_eng(need.supply.negative.0),
+        num(need.supply.tolerance.0, 3),
         if need.supply.ratiometric {
             ", ratiometric"
         } else {
@@ -185,7 +186,7 @@ fn write_job(out: &mut String, need: &Need) {
     );
     let _ = writeln!(
         out,
-        "Target   {} % FS on the {} basis{}, calibration {}, {} to {} degC",
+        "Target   {} % FS on the {} basis{}, calibration {}, {} to {} degC, signal bandwidth {} Hz",
         num(need.accuracy.max_error_pct_fs, 3),
         enum_name(&need.accuracy.basis),
         if need.accuracy.basis == crate::need::Basis::Yield {
@@ -195,7 +196,23 @@ fn write_job(out: &mut String, need: &Need) {
         },
         enum_name(&need.accuracy.calibration),
         num(need.accuracy.temp_min.0, 3),
-        num(need.accuracy.temp_max.0, 3)
+        num(need.accuracy.temp_max.0, 3),
+        num(need.accuracy.bandwidth.0, 4)
+    );
+    let search = &need.search;
+    let _ = writeln!(
+        out,
+        "Limits   objective {}, up to {} stages and {} parts, BOM-line fee {}, time limit {} ms, {}",
+        search.objective.name(),
+        search.max_stages,
+        search.max_parts,
+        search.bom_line_cost,
+        search.time_limit_ms,
+        if need.stock.only {
+            "stocked parts only"
+        } else {
+            "series values beyond the stock allowed"
+        }
     );
 }
 
