@@ -14,6 +14,7 @@
 //! so a spreadsheet does not run it as a formula (the OWASP advice on CSV
 //! injection, common practice).
 
+use crate::design::Resistor;
 use crate::schematic::{format_ohms, format_quantity};
 use crate::stock::Stock;
 use crate::topology::{AmplifierKind, Built};
@@ -69,6 +70,36 @@ fn push(rows: &mut Vec<BomRow>, same: impl Fn(&BomRow) -> bool, designator: &str
     }
 }
 
+/// Put a resistor on the resistor rows: one row per part id and grade
+/// (value, tolerance, TCR), its designators gathered.
+fn add_resistor(rows: &mut Vec<(BomRow, [u64; 3])>, designator: &str, p: &Resistor) {
+    let grade = [
+        p.ohms.to_bits(),
+        p.tolerance_pct.to_bits(),
+        p.tcr_ppm_per_c.to_bits(),
+    ];
+    match rows
+        .iter_mut()
+        .find(|(row, g)| row.part_id == p.part_id && *g == grade)
+    {
+        Some((row, _)) => {
+            row.refs.push(designator.to_string());
+            row.quantity += 1;
+        }
+        None => rows.push((
+            BomRow {
+                refs: vec![designator.to_string()],
+                kind: "resistor".into(),
+                value: format_ohms(p.ohms),
+                part_id: p.part_id.clone(),
+                quantity: 1,
+                unit_cost: p.unit_cost,
+            },
+            grade,
+        )),
+    }
+}
+
 /// The rows of a built design: resistors, then amplifier packages, then
 /// references, each group in designator order. A dual or quad op-amp
 /// package serving several sections is one part.
@@ -77,32 +108,7 @@ fn push(rows: &mut Vec<BomRow>, same: impl Fn(&BomRow) -> bool, designator: &str
 pub fn rows(built: &Built, stock: &Stock) -> Vec<BomRow> {
     let mut resistors: Vec<(BomRow, [u64; 3])> = Vec::new();
     for r in &built.resistors {
-        let p = &r.part;
-        let grade = [
-            p.ohms.to_bits(),
-            p.tolerance_pct.to_bits(),
-            p.tcr_ppm_per_c.to_bits(),
-        ];
-        match resistors
-            .iter_mut()
-            .find(|(row, g)| row.part_id == p.part_id && *g == grade)
-        {
-            Some((row, _)) => {
-                row.refs.push(r.designator.clone());
-                row.quantity += 1;
-            }
-            None => resistors.push((
-                BomRow {
-                    refs: vec![r.designator.clone()],
-                    kind: "resistor".into(),
-                    value: format_ohms(p.ohms),
-                    part_id: p.part_id.clone(),
-                    quantity: 1,
-                    unit_cost: p.unit_cost,
-                },
-                grade,
-            )),
-        }
+        add_resistor(&mut resistors, &r.designator, &r.part);
     }
     let mut amplifiers: Vec<BomRow> = Vec::new();
     for pkg in &built.packages {
@@ -162,32 +168,7 @@ pub fn rows(built: &Built, stock: &Stock) -> Vec<BomRow> {
     // (one row per part id and grade), its capacitor a row of its own.
     let mut capacitors: Vec<BomRow> = Vec::new();
     if let Some(f) = &built.filter {
-        let p = &f.series;
-        let grade = [
-            p.ohms.to_bits(),
-            p.tolerance_pct.to_bits(),
-            p.tcr_ppm_per_c.to_bits(),
-        ];
-        match resistors
-            .iter_mut()
-            .find(|(row, g)| row.part_id == p.part_id && *g == grade)
-        {
-            Some((row, _)) => {
-                row.refs.push(f.series_ref.clone());
-                row.quantity += 1;
-            }
-            None => resistors.push((
-                BomRow {
-                    refs: vec![f.series_ref.clone()],
-                    kind: "resistor".into(),
-                    value: format_ohms(p.ohms),
-                    part_id: p.part_id.clone(),
-                    quantity: 1,
-                    unit_cost: p.unit_cost,
-                },
-                grade,
-            )),
-        }
+        add_resistor(&mut resistors, &f.series_ref, &f.series);
         capacitors.push(BomRow {
             refs: vec![f.shunt_ref.clone()],
             kind: "capacitor".into(),
