@@ -31,6 +31,38 @@ impl SensorOutput {
     }
 }
 
+/// What powers the sensor's output.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Excitation {
+    /// Its own source: the signal and the common mode do not follow the
+    /// supply.
+    #[default]
+    Independent,
+    /// The positive supply: the signal and the common mode scale with
+    /// `supply.positive_v` (the values are given at the nominal rail).
+    Supply,
+}
+
+impl Excitation {
+    /// Every value, in a fixed order.
+    pub const ALL: [Excitation; 2] = [Excitation::Independent, Excitation::Supply];
+
+    /// The name used in need files and reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Excitation::Independent => "independent",
+            Excitation::Supply => "supply",
+        }
+    }
+}
+
+/// Tolerance of an independently excited differential sensor's common
+/// mode when the need does not give one, in % of `common_mode_v` (our
+/// rule, conservative: a bridge's common mode is set by its excitation and
+/// the balance of its arms, neither of which is a reference).
+pub const DEFAULT_COMMON_MODE_TOLERANCE_PCT: f64 = 5.0;
+
 /// The optional physical scale of the sensor.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Quantity {
@@ -57,7 +89,9 @@ pub struct Sensor {
     pub output: SensorOutput,
     /// Common-mode voltage of a differential sensor (0 for single-ended).
     pub common_mode: Volts,
-    /// Output resistance of the sensor (each leg, for a differential one).
+    /// Resistance between the sensor's output terminals: a single-ended
+    /// sensor's output resistance; a differential sensor has half of it in
+    /// each leg ([`Sensor::leg_ohms`]).
     pub source: Ohms,
     /// Tolerance of that resistance (0: exact).
     #[serde(default)]
@@ -65,6 +99,27 @@ pub struct Sensor {
     /// Temperature coefficient of that resistance (0: none).
     #[serde(default)]
     pub source_tempco: PpmPerC,
+    /// What excites the sensor (`sensor.excitation`).
+    #[serde(default)]
+    pub excitation: Excitation,
+    /// Tolerance of the common mode of a differential sensor with its own
+    /// excitation, in % of `common_mode` (`sensor.common_mode_tolerance_pct`);
+    /// 0 where it does not apply (single-ended, or excited by the supply,
+    /// whose tolerance its common mode then carries).
+    #[serde(default)]
+    pub common_mode_tolerance: Percent,
+}
+
+impl Sensor {
+    /// The sensor's resistance in its (+, -) legs: a differential sensor
+    /// has half of `source` in each, a single-ended one all of it in the
+    /// signal leg.
+    pub fn leg_ohms(&self) -> (f64, f64) {
+        match self.output {
+            SensorOutput::Differential => (0.5 * self.source.0, 0.5 * self.source.0),
+            SensorOutput::SingleEnded => (self.source.0, 0.0),
+        }
+    }
 }
 
 /// The converter the front end drives.

@@ -10,7 +10,10 @@
 //! every key it accepts appears here exactly once, each default is what it
 //! fills in, and each limit is where it starts refusing.
 
-use crate::need::{Basis, Calibration, Objective, SensorOutput, Topology};
+use crate::need::{
+    Basis, Calibration, Excitation, Objective, SensorOutput, Topology,
+    DEFAULT_COMMON_MODE_TOLERANCE_PCT,
+};
 use crate::series::Series;
 use serde::Serialize;
 use serde_json::{json, Value};
@@ -154,9 +157,11 @@ fn help_of(key: &str) -> (&'static str, Option<&'static str>) {
         "sensor.quantity_unit" => ("The unit of the physical values, as text. It is only used to label figures.", Some("bar, degC, kg")),
         "sensor.output" => ("How the sensor's output is wired: single-ended (one output against ground) or differential (two outputs whose difference is the signal, as from a bridge). A differential sensor needs a common-mode voltage and a topology that takes a difference.", Some("differential for a bridge")),
         "sensor.common_mode_v" => ("For a differential sensor, the mid voltage of its two outputs against ground. It must leave the amplifier inputs inside their allowed range.", Some("half the excitation of a bridge")),
-        "sensor.source_ohms" => ("The output resistance of the sensor (of each leg when differential). It adds to the input resistors of the amplifier and, with bias currents, adds offset error.", Some("0 for a buffered output, 350 ohm to a few kohm for a bridge")),
+        "sensor.source_ohms" => ("The resistance between the sensor's output terminals, as an ohmmeter across them would read it with the sensor unpowered. A differential sensor gets half of it in each leg: a bridge of four 350 ohm arms is 350 ohm (175 ohm in each leg). It adds to the input resistors of the amplifier and, with bias currents, adds offset error.", Some("0 for a buffered output, 350 ohm to a few kohm for a bridge")),
         "sensor.source_tolerance_pct" => ("How far the sensor's output resistance may be from the value above, in %. Where that resistance sits in a gain-setting path it moves the gain, and it gets a budget line of its own.", Some("0 when the resistance does not matter, 1 % to 10 % for a bridge")),
         "sensor.source_tempco_ppm_per_c" => ("How much the sensor's output resistance changes per degree, in ppm/degC, counted from 25 degC like every drift. It enters the same budget line as the tolerance.", Some("0, or a few hundred ppm/degC for a metal-film bridge")),
+        "sensor.excitation" => ("What powers the sensor. Independent: its own source (a reference, a battery, a self-generating sensor); its output does not follow the supply. Supply: excited from the positive rail, like a bridge across the supply, so its signal and common mode scale with the rail (the values above are at the nominal rail). With the ADC referenced to the same rail (ratiometric) and an offset taken from it too, the supply's tolerance then cancels; an offset from a fixed reference leaves a residue.", Some("supply for a bridge across the rail, independent otherwise")),
+        "sensor.common_mode_tolerance_pct" => ("For a differential sensor with its own excitation: how far its common-mode voltage may be from the value above, in % of that value. The common mode is not a reference, so the design may not lean on it: it moves the amplifier inputs and, through any mismatch, the output. Excited from the supply, the common mode carries the supply's tolerance instead and this key is not allowed. A common mode of 0 V is taken as exact.", Some("5 % (the default, our conservative rule)")),
         "adc.low_v" => ("The lowest input voltage the ADC converts. The circuit maps the bottom of the sensor range here (plus the margin).", Some("0 V")),
         "adc.high_v" => ("The highest input voltage the ADC converts, usually its reference voltage. The circuit maps the top of the sensor range here (minus the margin).", Some("2.5 V, 3.3 V or 4.096 V")),
         "adc.bits" => ("The ADC's resolution. It sets the size of one LSB, in which errors are also shown; quantisation is reported apart from the error budget.", Some("12 or 16 bits")),
@@ -219,7 +224,7 @@ fn field_list() -> Vec<NeedField> {
         field("sensor.common_mode_v", "Common-mode voltage", v, Number,
             "Required for a differential sensor (the mid voltage of its outputs); not allowed otherwise."),
         field("sensor.source_ohms", "Sensor output resistance", Some("ohm"), Number,
-            "Output resistance of the sensor (each leg when differential); 0 or more.")
+            "Resistance between the sensor's terminals (half in each leg when differential); 0 or more.")
             .default(json!(0.0))
             .range(Some((0.0, CLOSED)), None),
         field("sensor.source_tolerance_pct", "Sensor resistance tolerance", pct, Number,
@@ -230,6 +235,14 @@ fn field_list() -> Vec<NeedField> {
             "Temperature coefficient of the sensor's output resistance; 0 for none.")
             .default(json!(0.0))
             .range(Some((-100_000.0, CLOSED)), Some((100_000.0, CLOSED))),
+        field("sensor.excitation", "Sensor excitation", None, Choice,
+            "Independent of the supply, or from the positive supply (signal and common mode scale with it).")
+            .choices(Excitation::ALL.iter().map(|e| e.name()).collect())
+            .default(json!(Excitation::Independent.name())),
+        field("sensor.common_mode_tolerance_pct", "Common-mode tolerance", pct, Number,
+            "Differential sensor with its own excitation only: tolerance of its common mode, 0 to below 100 %.")
+            .default(json!(DEFAULT_COMMON_MODE_TOLERANCE_PCT))
+            .range(Some((0.0, CLOSED)), Some((100.0, OPEN))),
         field("adc.low_v", "ADC window bottom", v, Number,
             "Lowest input voltage the ADC converts; inside the supply rails.")
             .required(),
@@ -435,11 +448,25 @@ mod tests {
         assert_eq!(read.stock.path.as_deref(), Some("shelf"));
     }
 
+    /// The minimal need with a differential sensor.
+    fn minimal_differential() -> Value {
+        let need = with(minimal(), "sensor.output", json!("differential"));
+        with(need, "sensor.common_mode_v", json!(2.5))
+    }
+
     /// Giving a key its documented default reads the same as leaving it out.
     #[test]
     fn defaults_are_what_the_reader_fills_in() {
-        let plain = parse(&minimal()).unwrap();
         for f in need_fields().iter().filter(|f| !f.default.is_null()) {
+            // The common mode's tolerance applies to a differential sensor.
+            let minimal = || {
+                if f.key == "sensor.common_mode_tolerance_pct" {
+                    minimal_differential()
+                } else {
+                    minimal()
+                }
+            };
+            let plain = parse(&minimal()).unwrap();
             let given = parse(&with(minimal(), f.key, f.default.clone()))
                 .unwrap_or_else(|e| panic!("{}: {e}", f.key));
             assert_eq!(given, plain, "default of {}", f.key);
@@ -495,6 +522,10 @@ mod tests {
                 "adc.acquisition_time_ns" => {
                     need = with(need, "adc.sample_capacitance_pf", json!(10.0))
                 }
+                "sensor.common_mode_tolerance_pct" => {
+                    need = with(need, "sensor.output", json!("differential"));
+                    need = with(need, "sensor.common_mode_v", json!(2.5));
+                }
                 _ => {}
             }
             if let Some(min) = f.min {
@@ -541,6 +572,9 @@ mod tests {
         let serde_name = |v: Value| v.as_str().unwrap_or_default().to_string();
         for o in SensorOutput::ALL {
             assert_eq!(serde_name(json!(o)), o.name());
+        }
+        for e in Excitation::ALL {
+            assert_eq!(serde_name(json!(e)), e.name());
         }
         for b in Basis::ALL {
             assert_eq!(serde_name(json!(b)), b.name());

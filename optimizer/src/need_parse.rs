@@ -10,8 +10,8 @@
 
 use crate::error::{Error, Location, Result};
 use crate::need::{
-    Accuracy, Adc, Basis, Calibration, Need, Objective, Quantity, SearchOptions, Sensor,
-    SensorOutput, StockSource, Supply, Topology,
+    Accuracy, Adc, Basis, Calibration, Excitation, Need, Objective, Quantity, SearchOptions,
+    Sensor, SensorOutput, StockSource, Supply, Topology,
 };
 use crate::series::Series;
 use crate::units::{Celsius, Decibels, Farads, Hertz, Ohms, Percent, PpmPerC, Seconds, Volts};
@@ -71,9 +71,11 @@ mod defaults {
 /// | `sensor.quantity_low`, `quantity_high`, `quantity_unit` | none (all three or none) |
 /// | `sensor.output` | `"single-ended"` |
 /// | `sensor.common_mode_v` | required when differential; not allowed otherwise |
-/// | `sensor.source_ohms` | 0 |
+/// | `sensor.source_ohms` | 0 (between the terminals; half in each leg of a differential sensor) |
 /// | `sensor.source_tolerance_pct` | 0 |
 /// | `sensor.source_tempco_ppm_per_c` | 0 |
+/// | `sensor.excitation` | `"independent"` |
+/// | `sensor.common_mode_tolerance_pct` | 5 for a differential sensor with `excitation = "independent"`; not allowed otherwise |
 /// | `adc.margin_pct` | 0 |
 /// | `adc.sample_rate_hz`, `alias_rejection_db` | none (the rejection needs the rate) |
 /// | `adc.sample_capacitance_pf`, `acquisition_time_ns` | none (both or neither) |
@@ -188,6 +190,8 @@ struct RawSensor<W> {
     source_ohms: Option<W>,
     source_tolerance_pct: Option<W>,
     source_tempco_ppm_per_c: Option<W>,
+    excitation: Option<W>,
+    common_mode_tolerance_pct: Option<W>,
 }
 
 /// `[adc]`.
@@ -499,6 +503,16 @@ fn validate<W: Field>(raw: &RawNeed<W>, ctx: &Ctx<'_>) -> Result<Need> {
 
     let sensor = sensor(Some(sensor_raw), ctx)?;
     let supply = supply(Some(supply_raw), ctx)?;
+    if sensor.excitation == Excitation::Supply && supply.positive.0 <= 0.0 {
+        return Err(Error::input(
+            ctx.at("sensor.excitation", None),
+            format!(
+                "sensor.excitation = \"supply\" scales the sensor with supply.positive_v, which \
+                 is {} V; expected a positive rail above 0 V, or excitation = \"independent\"",
+                short_number(supply.positive.0)
+            ),
+        ));
+    }
     let adc = adc(Some(adc_raw), &supply, ctx)?;
     let accuracy = accuracy(Some(accuracy_raw), ctx)?;
     let search = search(raw.search.as_ref(), ctx)?;
@@ -625,6 +639,41 @@ fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor>
         "a tempco from -100000 to 100000 ppm/degC",
     )?;
 
+    let excitation = key!(ctx, sensor, raw, excitation).choice(
+        &[
+            ("independent", Excitation::Independent),
+            ("supply", Excitation::Supply),
+        ],
+        Excitation::Independent,
+    )?;
+    let cm_tolerance_key = key!(ctx, sensor, raw, common_mode_tolerance_pct);
+    let cm_tolerance = cm_tolerance_key.number("percent")?;
+    let common_mode_tolerance = match (output, excitation, cm_tolerance) {
+        (SensorOutput::SingleEnded, _, Some(_)) => {
+            return Err(cm_tolerance_key.err(
+                "sensor.common_mode_tolerance_pct applies only to output = \"differential\"; \
+                 remove it or set output = \"differential\"",
+            ))
+        }
+        (SensorOutput::Differential, Excitation::Supply, Some(_)) => {
+            return Err(cm_tolerance_key.err(
+                "with sensor.excitation = \"supply\" the common mode follows the supply and \
+                 carries its tolerance (supply.tolerance_pct); remove \
+                 sensor.common_mode_tolerance_pct or set excitation = \"independent\"",
+            ))
+        }
+        (SensorOutput::Differential, Excitation::Independent, given) => {
+            given.unwrap_or(crate::need::DEFAULT_COMMON_MODE_TOLERANCE_PCT)
+        }
+        _ => 0.0,
+    };
+    check(
+        &cm_tolerance_key,
+        common_mode_tolerance,
+        (0.0..100.0).contains(&common_mode_tolerance),
+        "a tolerance from 0 to less than 100 %",
+    )?;
+
     Ok(Sensor {
         label,
         signal_low: Volts(low),
@@ -635,6 +684,8 @@ fn sensor<W: Field>(raw: Option<&RawSensor<W>>, ctx: &Ctx<'_>) -> Result<Sensor>
         source: Ohms(source),
         source_tolerance: Percent(source_tolerance),
         source_tempco: PpmPerC(source_tempco),
+        excitation,
+        common_mode_tolerance: Percent(common_mode_tolerance),
     })
 }
 

@@ -193,11 +193,12 @@ pub fn limit_notes(need: &Need, stock: &Stock, built: &Built) -> Vec<String> {
     if need.sensor.output == SensorOutput::Differential {
         notes.push(format!(
             "Sensor: differential, {} V to {} V between inp and inn, common mode {} V (VCM), \
-             {} ohm per leg",
+             {} ohm between the terminals ({} ohm per leg)",
             need.sensor.signal_low.0,
             need.sensor.signal_high.0,
             need.sensor.common_mode.0,
-            need.sensor.source.0
+            need.sensor.source.0,
+            need.sensor.leg_ohms().0
         ));
     } else {
         notes.push(format!(

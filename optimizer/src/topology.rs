@@ -458,14 +458,16 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
             .vsource("VSENSE", inp, 0, need.sensor.signal_low.0);
         (vs, None, 0)
     };
+    // The sensor's resistance: `source_ohms` is between its terminals, so
+    // a differential sensor has half of it in each leg.
     let mut source_resistors = Vec::new();
-    let rs = need.sensor.source.0;
+    let (rs, rs_leg) = (need.sensor.source.0, need.sensor.leg_ohms().0);
     let (sp, sn) = if rs > 0.0 {
         let sp = builder.netlist.node("sp");
         if differential {
             let sn = builder.netlist.node("sn");
-            source_resistors.push(builder.netlist.resistor("RSENSE_P", inp, sp, rs));
-            source_resistors.push(builder.netlist.resistor("RSENSE_N", inn, sn, rs));
+            source_resistors.push(builder.netlist.resistor("RSENSE_P", inp, sp, rs_leg));
+            source_resistors.push(builder.netlist.resistor("RSENSE_N", inn, sn, rs_leg));
             (sp, sn)
         } else {
             source_resistors.push(builder.netlist.resistor("RSENSE", inp, sp, rs));

@@ -10,7 +10,7 @@ const CAUTION = 'This designs low-voltage signal conditioning only; it does not 
 
 // Every key of a need file (docs/need.md), by table.
 const NEED_KEYS = {
-  sensor: ['label', 'signal_low_v', 'signal_high_v', 'quantity_low', 'quantity_high', 'quantity_unit', 'output', 'common_mode_v', 'source_ohms', 'source_tolerance_pct', 'source_tempco_ppm_per_c'],
+  sensor: ['label', 'signal_low_v', 'signal_high_v', 'quantity_low', 'quantity_high', 'quantity_unit', 'output', 'common_mode_v', 'source_ohms', 'source_tolerance_pct', 'source_tempco_ppm_per_c', 'excitation', 'common_mode_tolerance_pct'],
   adc: ['low_v', 'high_v', 'bits', 'margin_pct', 'sample_rate_hz', 'alias_rejection_db', 'sample_capacitance_pf', 'acquisition_time_ns'],
   supply: ['positive_v', 'negative_v', 'tolerance_pct', 'ratiometric'],
   accuracy: ['max_error_pct_fs', 'basis', 'yield_pct', 'temp_min_c', 'temp_max_c', 'calibration', 'bandwidth_hz'],

@@ -218,12 +218,20 @@ impl Model {
                         set_element_value(netlist, *a, element_value(nominal, *a));
                         set_element_value(netlist, *b, element_value(nominal, *b));
                     }
+                    Target::Sources(list) => {
+                        for (e, _) in list {
+                            set_element_value(netlist, *e, element_value(nominal, *e));
+                        }
+                    }
                 }
                 if parameter.initial_contributor == Contributor::SupplyTolerance {
                     supply_deviation = deviation(i, parameter, end);
                     supply_index = Some(i);
                 }
             }
+            // The sensor at this end before the deviations, which may move
+            // it too (a sensor excited from the supply).
+            set_element_value(netlist, self.built.vsense, self.signal[end]);
             for (i, parameter) in self.params.iter().enumerate() {
                 let delta = deviation(i, parameter, end);
                 let mut add = |e: usize, delta: f64| {
@@ -241,9 +249,13 @@ impl Model {
                         add(*a, 0.5 * delta);
                         add(*b, -0.5 * delta);
                     }
+                    Target::Sources(list) => {
+                        for (e, w) in list {
+                            add(*e, w[end] * delta);
+                        }
+                    }
                 }
             }
-            set_element_value(netlist, self.built.vsense, self.signal[end]);
             solver.rhs(netlist, &mut unknowns);
             solver.solve_in_place(&mut unknowns);
             let mut output = solver.voltage(&unknowns, self.built.out);
@@ -273,6 +285,7 @@ impl Model {
                             &parameter.target,
                             &voltage,
                             Some(nominal),
+                            end,
                         );
                     if supply_index == Some(i) {
                         g += supply_term;

@@ -29,13 +29,13 @@ pub(crate) fn sensitivity(
     end: usize,
 ) -> f64 {
     let voltage = |n: Node| dc.voltage(end, n);
-    sensitivity_with(netlist, dc.solver(), adjoint, target, &voltage, None)
+    sensitivity_with(netlist, dc.solver(), adjoint, target, &voltage, None, end)
 }
 
 /// `d(V)/d(target)` for the node whose adjoint is `adjoint`, on `netlist`
 /// factored in `solver`, whose node voltages are `voltage`. A resistor's
 /// deviation is relative to its value in `nominal` (its present value
-/// when `None`).
+/// when `None`); weighted sources take their weight at span end `end`.
 pub(crate) fn sensitivity_with(
     netlist: &Netlist,
     solver: &Solver,
@@ -43,6 +43,7 @@ pub(crate) fn sensitivity_with(
     target: &Target,
     voltage: &dyn Fn(Node) -> f64,
     nominal: Option<&Netlist>,
+    end: usize,
 ) -> f64 {
     let at_node = |n: Node| solver.node_unknown(n).map(|i| adjoint[i]).unwrap_or(0.0);
     // A source's value enters the right-hand side: a voltage source at its
@@ -81,6 +82,7 @@ pub(crate) fn sensitivity_with(
         Target::BiasCommon(a, b) => source(*a) + source(*b),
         Target::BiasOffset(a, b) => 0.5 * (source(*a) - source(*b)),
         Target::AdcScale => 0.0,
+        Target::Sources(list) => list.iter().map(|(e, w)| w[end] * source(*e)).sum(),
     }
 }
 

@@ -1,13 +1,21 @@
 //! Parameter collection: every imperfection of the parts (resistor
 //! tolerance and TCR, op-amp offset, drift, bias and offset current, CMRR,
 //! in-amp gain error and output offset, reference accuracy and tempco,
-//! supply tolerance) becomes a [`Parameter`]: what it perturbs in the
-//! netlist, its initial range and drift range, and the output's
-//! sensitivity to it at both span ends (from the adjoint).
+//! supply tolerance, the sensor's resistance and common mode) becomes a
+//! [`Parameter`]: what it perturbs in the netlist, its initial range and
+//! drift range, and the output's sensitivity to it at both span ends (from
+//! the adjoint).
+//!
+//! The sensor as it is: its common mode is not a reference. A
+//! differential sensor with its own excitation has a common mode within
+//! `sensor.common_mode_tolerance_pct`; one excited from the supply
+//! (`sensor.excitation = "supply"`) has its signal and common mode move
+//! with the rail, so the supply's one parameter moves them together with
+//! every offset taken from the rail and, when ratiometric, the ADC scale.
 
 use super::contributor::Contributor;
 use crate::mna::DcSolution;
-use crate::need::{Calibration, Need};
+use crate::need::{Calibration, Excitation, Need};
 use crate::netlist::Netlist;
 use crate::stock::Stock;
 use crate::topology::{AmplifierKind, Built, Section};
@@ -25,6 +33,11 @@ pub(crate) enum Target {
     BiasOffset(usize, usize),
     /// Nothing in the circuit: the ADC scale itself (ratiometric supply).
     AdcScale,
+    /// Absolute change of several sources together, each by its weight at
+    /// each span end (the supply when it also excites the sensor: the rail,
+    /// the sensor signal by `signal / rail` and its common mode by
+    /// `common mode / rail`).
+    Sources(Vec<(usize, [f64; 2])>),
 }
 
 /// One imperfection, linearised.
@@ -82,6 +95,19 @@ pub(crate) fn collect(
 ) -> Vec<Parameter> {
     let delta_t = need.max_delta_t();
     let mut params = Vec::new();
+    let common_mode = common_mode_parameter(need, built, dc);
+    let supply = supply_parameter(need, built, dc);
+    // How the sensor's common mode can move the amplifier inputs: the
+    // forward response of every node to those two parameters, per end.
+    let motions: Vec<SourceMotion> = common_mode
+        .iter()
+        .chain(
+            supply
+                .iter()
+                .filter(|_| need.sensor.excitation == Excitation::Supply),
+        )
+        .filter_map(|p| SourceMotion::of(dc, p))
+        .collect();
     for placed in &built.resistors {
         let tolerance = placed.part.tolerance_pct / 100.0;
         params.push(Parameter {
@@ -95,7 +121,7 @@ pub(crate) fn collect(
         });
     }
     for section in &built.sections {
-        amplifier_parameters(need, stock, netlist, dc, section, &mut params);
+        amplifier_parameters(need, stock, netlist, dc, section, &motions, &mut params);
     }
     // A reference's tempco is a box-method figure (common practice): the
     // output stays inside a box `tempco x (temp_max - temp_min)` high over
@@ -142,10 +168,77 @@ pub(crate) fn collect(
             calibratable: true,
         });
     }
-    if let Some(supply) = supply_parameter(need, built, dc) {
-        params.push(supply);
-    }
+    params.extend(common_mode);
+    params.extend(supply);
     params
+}
+
+/// The forward response of every unknown to one parameter's sources, per
+/// unit of its deviation, at each span end, with the parameter's largest
+/// deviation (initial plus drift).
+struct SourceMotion {
+    response: [Vec<f64>; 2],
+    range: f64,
+}
+
+impl SourceMotion {
+    /// The motion of a parameter that moves sources (`None` for others).
+    fn of(dc: &DcSolution, parameter: &Parameter) -> Option<SourceMotion> {
+        let weights: Vec<(usize, [f64; 2])> = match &parameter.target {
+            Target::Source(e) => vec![(*e, [1.0; 2])],
+            Target::Sources(list) => list.clone(),
+            _ => return None,
+        };
+        let solver = dc.solver();
+        let response = [0, 1].map(|end| {
+            let mut x = vec![0.0; solver.size()];
+            for (e, w) in &weights {
+                if let Some(k) = solver.branch_unknown(*e) {
+                    x[k] += w[end];
+                }
+            }
+            solver.solve_in_place(&mut x);
+            x
+        });
+        Some(SourceMotion {
+            response,
+            range: parameter.initial[0].abs().max(parameter.initial[1].abs())
+                + parameter.drift.abs(),
+        })
+    }
+
+    /// How far the mean of `nodes` can move at `end`, volts.
+    fn reach(&self, dc: &DcSolution, nodes: &[crate::netlist::Node], end: usize) -> f64 {
+        let solver = dc.solver();
+        let mean = nodes
+            .iter()
+            .map(|&n| solver.voltage(&self.response[end], n))
+            .sum::<f64>()
+            / nodes.len().max(1) as f64;
+        (mean * self.range).abs()
+    }
+}
+
+/// The common mode of a differential sensor with its own excitation: not
+/// a reference, it sits within `sensor.common_mode_tolerance_pct` of its
+/// value. Its output effect (through any mismatch of the network that
+/// takes the difference) goes to the common-mode line. It is a property
+/// of the sensor and its excitation, not of the board, so calibration
+/// does not remove it (our rule).
+fn common_mode_parameter(need: &Need, built: &Built, dc: &DcSolution) -> Option<Parameter> {
+    let vcm = built.vcm?;
+    if need.sensor.excitation != Excitation::Independent {
+        return None;
+    }
+    let range = need.sensor.common_mode_tolerance.fraction() * need.sensor.common_mode.0.abs();
+    if range <= 0.0 {
+        return None;
+    }
+    let sensitivity = dc.branch_adjoint(vcm);
+    Some(Parameter {
+        calibratable: false,
+        ..flat(Contributor::Cmrr, Target::Source(vcm), range, sensitivity)
+    })
 }
 
 /// A constant parameter with the same range and sensitivity at both ends.
@@ -203,6 +296,7 @@ fn amplifier_parameters(
     netlist: &Netlist,
     dc: &DcSolution,
     section: &Section,
+    motions: &[SourceMotion],
     params: &mut Vec<Parameter>,
 ) {
     let delta_t = need.max_delta_t();
@@ -261,7 +355,18 @@ fn amplifier_parameters(
         }
         AmplifierKind::OpAmp(_) => dc.voltage(end, section.plus),
     };
-    let common_mode = [common_mode_at(0) - mid, common_mode_at(1) - mid];
+    // The sensor's common mode is not exact: the inputs' common mode
+    // reaches as far from mid-supply as its motion allows.
+    let inputs: &[crate::netlist::Node] = match section.kind {
+        AmplifierKind::InAmp(_) => &[section.plus, section.minus],
+        AmplifierKind::OpAmp(_) => &[section.plus],
+    };
+    let widened = |end: usize| {
+        let nominal = common_mode_at(end) - mid;
+        let reach: f64 = motions.iter().map(|m| m.reach(dc, inputs, end)).sum();
+        nominal + if nominal < 0.0 { -reach } else { reach }
+    };
+    let common_mode = [widened(0), widened(1)];
     params.push(Parameter {
         initial: [
             common_mode[0] / limits.cmrr_ratio,
@@ -300,9 +405,10 @@ fn amplifier_parameters(
     }
 }
 
-/// The supply: as an offset source where it feeds the circuit, and as the
-/// ADC scale when the design is ratiometric. Not removed by calibration:
-/// it moves in service.
+/// The supply: as an offset source where it feeds the circuit, as the
+/// sensor's excitation (its signal and common mode scale with the rail)
+/// with `sensor.excitation = "supply"`, and as the ADC scale when the
+/// design is ratiometric. Not removed by calibration: it moves in service.
 fn supply_parameter(need: &Need, built: &Built, dc: &DcSolution) -> Option<Parameter> {
     let nominal = need.supply.positive.0;
     let supply_element = built
@@ -310,26 +416,43 @@ fn supply_parameter(need: &Need, built: &Built, dc: &DcSolution) -> Option<Param
         .iter()
         .find(|s| s.reference.is_none())
         .map(|s| s.element);
-    if supply_element.is_none() && !need.supply.ratiometric {
+    let excited = need.sensor.excitation == Excitation::Supply;
+    if supply_element.is_none() && !need.supply.ratiometric && !excited {
         return None;
     }
-    let s_supply = supply_element.map(|e| dc.branch_adjoint(e)).unwrap_or(0.0);
+    // The sources the rail moves, each per volt of the rail at each end.
+    let mut weights: Vec<(usize, [f64; 2])> =
+        supply_element.map(|e| (e, [1.0; 2])).into_iter().collect();
+    if excited {
+        let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
+        weights.push((built.vsense, [signal[0] / nominal, signal[1] / nominal]));
+        if let Some(vcm) = built.vcm {
+            weights.push((vcm, [need.sensor.common_mode.0 / nominal; 2]));
+        }
+    }
+    let in_circuit = |end: usize| -> f64 {
+        weights
+            .iter()
+            .map(|(e, w)| w[end] * dc.branch_adjoint(*e))
+            .sum()
+    };
     let out = dc.output();
     let sensitivity = if need.supply.ratiometric {
         [
-            s_supply - (out[0] - need.adc.low.0) / nominal,
-            s_supply - (out[1] - need.adc.low.0) / nominal,
+            in_circuit(0) - (out[0] - need.adc.low.0) / nominal,
+            in_circuit(1) - (out[1] - need.adc.low.0) / nominal,
         ]
     } else {
-        [s_supply, s_supply]
+        [in_circuit(0), in_circuit(1)]
     };
     let range = need.supply.tolerance.fraction() * nominal;
     Some(Parameter {
         initial_contributor: Contributor::SupplyTolerance,
         drift_contributor: Contributor::SupplyTolerance,
-        target: match supply_element {
-            Some(e) => Target::Source(e),
-            None => Target::AdcScale,
+        target: match (excited, supply_element) {
+            (true, _) => Target::Sources(weights),
+            (false, Some(e)) => Target::Source(e),
+            (false, None) => Target::AdcScale,
         },
         initial: [range, range],
         drift: 0.0,

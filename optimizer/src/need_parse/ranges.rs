@@ -97,6 +97,12 @@ pub(crate) const NUMBER_RANGES: &[NumberRange] = &[
         unit: "ppm/degC",
     },
     NumberRange {
+        key: "sensor.common_mode_tolerance_pct",
+        min: 0.0,
+        max: 100.0,
+        unit: "percent",
+    },
+    NumberRange {
         key: "adc.low_v",
         min: -MAX_ABS_VOLTS,
         max: MAX_ABS_VOLTS,

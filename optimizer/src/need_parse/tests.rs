@@ -144,6 +144,12 @@ mod cases {
         if key == "sensor.common_mode_v" {
             text = text.replace("[sensor]\n", "[sensor]\noutput = \"differential\"\n");
         }
+        if key == "sensor.common_mode_tolerance_pct" {
+            text = text.replace(
+                "[sensor]\n",
+                "[sensor]\noutput = \"differential\"\ncommon_mode_v = 2.5\n",
+            );
+        }
         if key.starts_with("sensor.quantity_") {
             text = text.replace("[sensor]\n", "[sensor]\nquantity_unit = \"bar\"\n");
             for other in ["quantity_low", "quantity_high"] {
@@ -335,5 +341,41 @@ mod cases {
             .unwrap_err()
             .to_string();
         assert!(m.contains("missing table [adc]"), "{m}");
+    }
+
+    /// `sensor.excitation` and `sensor.common_mode_tolerance_pct`: the
+    /// defaults, what each sensor wiring allows, and the refusals naming
+    /// the key.
+    #[test]
+    fn excitation_and_common_mode_tolerance() {
+        let need = parse_need(MINIMAL.as_bytes(), "t.toml").unwrap();
+        assert_eq!(need.sensor.excitation, Excitation::Independent);
+        assert_eq!(need.sensor.common_mode_tolerance, Percent(0.0));
+        let differential = MINIMAL.replace(
+            "[sensor]\n",
+            "[sensor]\noutput = \"differential\"\ncommon_mode_v = 2.5\n",
+        );
+        let need = parse_need(differential.as_bytes(), "t.toml").unwrap();
+        assert_eq!(
+            need.sensor.common_mode_tolerance,
+            Percent(crate::need::DEFAULT_COMMON_MODE_TOLERANCE_PCT)
+        );
+        let given =
+            differential.replace("[sensor]\n", "[sensor]\ncommon_mode_tolerance_pct = 0.5\n");
+        let need = parse_need(given.as_bytes(), "t.toml").unwrap();
+        assert_eq!(need.sensor.common_mode_tolerance, Percent(0.5));
+        let supply = differential.replace("[sensor]\n", "[sensor]\nexcitation = \"supply\"\n");
+        let need = parse_need(supply.as_bytes(), "t.toml").unwrap();
+        assert_eq!(need.sensor.excitation, Excitation::Supply);
+        assert_eq!(need.sensor.common_mode_tolerance, Percent(0.0));
+        let m = message(&supply.replace("[sensor]\n", "[sensor]\ncommon_mode_tolerance_pct = 1\n"));
+        assert!(m.contains("sensor.common_mode_tolerance_pct"), "{m}");
+        assert!(m.contains("supply.tolerance_pct"), "{m}");
+        let m =
+            message(&MINIMAL.replace("[sensor]\n", "[sensor]\ncommon_mode_tolerance_pct = 1\n"));
+        assert!(m.contains("only to output = \"differential\""), "{m}");
+        let m = message(&MINIMAL.replace("[sensor]\n", "[sensor]\nexcitation = \"mains\"\n"));
+        assert!(m.contains("sensor.excitation"), "{m}");
+        assert!(m.contains("\"independent\", \"supply\""), "{m}");
     }
 }

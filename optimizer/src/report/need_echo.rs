@@ -38,6 +38,12 @@ pub fn need_tables(need: &Need) -> [Value; 6] {
         ("source_ohms", Some(json!(s.source.0))),
         ("source_tolerance_pct", Some(json!(s.source_tolerance.0))),
         ("source_tempco_ppm_per_c", Some(json!(s.source_tempco.0))),
+        ("excitation", Some(json!(s.excitation.name()))),
+        (
+            "common_mode_tolerance_pct",
+            (differential && s.excitation == crate::need::Excitation::Independent)
+                .then(|| json!(s.common_mode_tolerance.0)),
+        ),
     ]);
     let a = &need.adc;
     let adc = table(vec![
@@ -120,7 +126,12 @@ mod tests {
             1,
         );
         assert_ne!(with_filter_keys, full, "the demo need has an [adc] table");
-        for text in [full, with_filter_keys] {
+        let supply_excited =
+            full.replacen("excitation = \"independent\"", "excitation = \"supply\"", 1);
+        assert_ne!(supply_excited, full, "the demo need sets sensor.excitation");
+        let common_mode_given =
+            full.replacen("[sensor]", "[sensor]\ncommon_mode_tolerance_pct = 0.5", 1);
+        for text in [full, with_filter_keys, supply_excited, common_mode_given] {
             let need = crate::need::parse_need(text.as_bytes(), "need.toml").unwrap();
             let [sensor, adc, supply, accuracy, search, stock] = need_tables(&need);
             let echo = json!({

@@ -150,10 +150,14 @@ fn write_job(out: &mut String, need: &Need) {
     };
     let _ = writeln!(
         out,
-        "         {} to {}{quantity}, {wiring}, source {} ohm",
+        "         {} to {}{quantity}, {wiring}, source {} ohm between its terminals{}",
         volts_eng(s.signal_low.0),
         volts_eng(s.signal_high.0),
-        format_ohms(s.source.0)
+        format_ohms(s.source.0),
+        match s.excitation {
+            crate::need::Excitation::Supply => ", excited from the supply",
+            crate::need::Excitation::Independent => "",
+        }
     );
     let _ = writeln!(
         out,

@@ -324,11 +324,7 @@ impl Problem<'_> {
         if stage > 0 {
             return (0.0, 0.0);
         }
-        let r = self.need.sensor.source.0;
-        match self.need.sensor.output {
-            SensorOutput::Differential => (r, r),
-            SensorOutput::SingleEnded => (r, 0.0),
-        }
+        self.need.sensor.leg_ohms()
     }
 
     /// The (+, -) input voltages of a stage at both span ends; `previous`

@@ -156,14 +156,13 @@ fn check(shape: Shape, network: Option<OffsetNetwork>) {
         ),
         Some(_) => (supply, 0.0),
     };
-    let rs = need.sensor.source.0;
     let ohms = |role: Role| ohms_of(role);
     let drive = StageDrive {
         ohms: &ohms,
         network,
         offset_volts,
         thevenin_ohms,
-        sensor_ohms: if differential { (rs, rs) } else { (rs, 0.0) },
+        sensor_ohms: need.sensor.leg_ohms(),
         inamp_gain_ohms: stock.inamps[0].gain_resistor.0,
     };
     let common = match need.sensor.output {
