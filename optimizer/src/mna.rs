@@ -486,6 +486,26 @@ impl DcSolution {
         sensitivity
     }
 
+    /// The branch current of a voltage source at `end` in the MNA sense
+    /// (flowing from its first node into the source, so negative while
+    /// the source delivers current to the circuit), or `None` when the
+    /// element has no branch unknown of its own.
+    pub fn branch_current(&self, end: usize, element: usize) -> Option<f64> {
+        self.solver
+            .branch_unknown(element)
+            .map(|i| self.ends[end][i])
+    }
+
+    /// The adjoint of a voltage source's branch current (one more solve
+    /// with the same factors), or `None` when it has no branch unknown.
+    pub fn branch_current_adjoint(&self, element: usize) -> Option<Vec<f64>> {
+        let k = self.solver.branch_unknown(element)?;
+        let mut adjoint = vec![0.0; self.solver.size()];
+        adjoint[k] = 1.0;
+        self.solver.solve_transposed_in_place(&mut adjoint);
+        Some(adjoint)
+    }
+
     /// The adjoint of another node (one more solve with the same factors);
     /// the output's own is returned without solving.
     pub fn adjoint_of(&self, node: Node) -> Vec<f64> {

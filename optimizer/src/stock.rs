@@ -124,6 +124,45 @@ pub struct OpAmpPart {
     /// `output_ohms`; [`DEFAULT_OUTPUT_OHMS`] when absent).
     #[serde(default = "default_output_ohms")]
     pub output_ohms: f64,
+    /// Temperature rise over which the bias and offset current limits
+    /// double (optional column `ib_doubling_c`, for FET and CMOS inputs):
+    /// `ib_max_na` and `ios_max_na` are then their limits at 25 degC. `None`
+    /// (absent): they are the limits over the whole temperature range.
+    #[serde(default)]
+    pub ib_doubling_c: Option<f64>,
+    /// Minimum power-supply rejection (optional column `psrr_min_db`;
+    /// [`DEFAULT_PSRR_DB`] when absent).
+    #[serde(default = "default_psrr")]
+    pub psrr_min: Decibels,
+}
+
+/// Power-supply rejection taken for an amplifier whose row has no
+/// `psrr_min_db`: 70 dB, below the minimum most general-purpose and
+/// precision op-amps and in-amps specify at DC, so a part without the
+/// figure is not flattered (common practice, from memory; our rule).
+pub const DEFAULT_PSRR_DB: f64 = 70.0;
+
+fn default_psrr() -> Decibels {
+    Decibels(DEFAULT_PSRR_DB)
+}
+
+/// Load regulation taken for a reference whose row has no
+/// `load_regulation_ppm_per_ma`: 100 ppm of its output per mA of load,
+/// at the poor end of what small series references specify (common
+/// practice, from memory; our rule).
+pub const DEFAULT_LOAD_REGULATION_PPM_PER_MA: f64 = 100.0;
+
+/// Largest load current taken for a reference whose row has no
+/// `max_load_ma`: 1 mA, which small series references can source
+/// (common practice, from memory; our rule).
+pub const DEFAULT_MAX_LOAD_MA: f64 = 1.0;
+
+fn default_load_regulation() -> f64 {
+    DEFAULT_LOAD_REGULATION_PPM_PER_MA
+}
+
+fn default_max_load() -> f64 {
+    DEFAULT_MAX_LOAD_MA
 }
 
 /// Open-loop output resistance taken for an op-amp whose row has no
@@ -154,6 +193,15 @@ pub struct ReferencePart {
     pub unit_cost: f64,
     /// Quantity on hand.
     pub stock_qty: Option<u32>,
+    /// Change of the output per mA of load current, ppm of the output
+    /// (optional column `load_regulation_ppm_per_ma`;
+    /// [`DEFAULT_LOAD_REGULATION_PPM_PER_MA`] when absent).
+    #[serde(default = "default_load_regulation")]
+    pub load_regulation_ppm_per_ma: f64,
+    /// Largest load current the output may source, mA (optional column
+    /// `max_load_ma`; [`DEFAULT_MAX_LOAD_MA`] when absent).
+    #[serde(default = "default_max_load")]
+    pub max_load_ma: f64,
 }
 
 /// An integrated instrumentation amplifier, gain `1 + Rk/Rg`.
@@ -197,6 +245,14 @@ pub struct InAmpPart {
     pub unit_cost: f64,
     /// Quantity on hand.
     pub stock_qty: Option<u32>,
+    /// Temperature rise over which the bias current limit doubles
+    /// (optional column `ib_doubling_c`; as for op-amps).
+    #[serde(default)]
+    pub ib_doubling_c: Option<f64>,
+    /// Minimum power-supply rejection, input-referred (optional column
+    /// `psrr_min_db`; [`DEFAULT_PSRR_DB`] when absent).
+    #[serde(default = "default_psrr")]
+    pub psrr_min: Decibels,
 }
 
 /// All parts available to a design.

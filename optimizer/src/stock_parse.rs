@@ -216,13 +216,17 @@ impl Table {
 
     /// Columns a file may have in addition (resistors and capacitors: a
     /// single value, or a series family; at least one of the two kinds
-    /// must be complete; op-amps: `output_ohms`).
+    /// must be complete; op-amps: `output_ohms`, `ib_doubling_c`,
+    /// `psrr_min_db`; in-amps: `ib_doubling_c`, `psrr_min_db`; references:
+    /// `load_regulation_ppm_per_ma`, `max_load_ma`). An absent column or an
+    /// empty cell takes the documented default.
     fn optional_columns(self) -> &'static [&'static str] {
         match self {
             Table::Resistors => &["value_ohms", "series", "min_ohms", "max_ohms"],
             Table::Capacitors => &["value_farads", "series", "min_farads", "max_farads"],
-            Table::OpAmps => &["output_ohms"],
-            _ => &[],
+            Table::OpAmps => &["output_ohms", "ib_doubling_c", "psrr_min_db"],
+            Table::InAmps => &["ib_doubling_c", "psrr_min_db"],
+            Table::References => &["load_regulation_ppm_per_ma", "max_load_ma"],
         }
     }
 
@@ -565,6 +569,8 @@ enum Bound {
     Capacitance,
     /// From zero to this.
     UpTo(f64),
+    /// From the first to the second, both included.
+    Between(f64, f64),
 }
 
 /// One data row of a table.
@@ -638,6 +644,9 @@ impl<'a> Row<'a> {
                 format!("from 0 to {MAX_NUMBER:e}"),
             ),
             Bound::UpTo(max) => ((0.0..=max).contains(&value), format!("from 0 to {max:e}")),
+            Bound::Between(min, max) => {
+                ((min..=max).contains(&value), format!("from {min} to {max}"))
+            }
             Bound::Percent => (
                 (0.0..100.0).contains(&value),
                 "from 0 to less than 100".to_string(),
@@ -669,6 +678,16 @@ impl<'a> Row<'a> {
                     self.found(column)
                 ),
             ))
+        }
+    }
+
+    /// An optional number: `default` when the column is absent or the
+    /// cell empty, else a number meeting `bound`.
+    fn optional_number(&self, column: &str, what: &str, bound: Bound, default: f64) -> Result<f64> {
+        if self.cell(column).is_empty() {
+            Ok(default)
+        } else {
+            self.number(column, what, bound)
         }
     }
 

@@ -23,20 +23,28 @@ const TEST_RESISTORS: &str =
 TR-F1,E96,10,1000000,1.0,100,0603,0.004,\n";
 
 /// Invented op-amps: `TA-IDEAL` has no imperfection but a 200 dB gain;
-/// the others add one imperfection each (`TA-MC` three, for Monte Carlo).
-const TEST_OPAMPS: &str = "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
-TA-IDEAL,1,1,40,0,0,0,0,0,0,0,0,200,100,0,0,200,1,100\n\
-TA-VOS,1,1,40,0,0,0,0,1000,0,0,0,200,100,0,0,200,1,100\n\
-TA-IB,1,1,40,0,0,0,0,0,0,10,0,200,100,0,0,200,1,100\n\
-TA-AOL,1,1,40,0,0,0,0,0,0,0,0,60,100,0,0,200,1,100\n\
-TA-MC,1,1,40,0,0,0,0,1000,0,100,0,200,100,0,0,200,1,100\n";
+/// the others add one imperfection each (`TA-MC` three, for Monte Carlo;
+/// `TA-PSRR` a 60 dB supply rejection; `TA-FET` a bias current that
+/// doubles every 10 degC). The idealised parts give a 400 dB PSRR, so the
+/// supply-rejection line (70 dB where a table does not say) stays out of
+/// their closed forms.
+const TEST_OPAMPS: &str = "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty,psrr_min_db,ib_doubling_c\n\
+TA-IDEAL,1,1,40,0,0,0,0,0,0,0,0,200,100,0,0,200,1,100,400,\n\
+TA-VOS,1,1,40,0,0,0,0,1000,0,0,0,200,100,0,0,200,1,100,400,\n\
+TA-IB,1,1,40,0,0,0,0,0,0,10,0,200,100,0,0,200,1,100,400,\n\
+TA-AOL,1,1,40,0,0,0,0,0,0,0,0,60,100,0,0,200,1,100,400,\n\
+TA-MC,1,1,40,0,0,0,0,1000,0,100,0,200,100,0,0,200,1,100,400,\n\
+TA-PSRR,1,1,40,0,0,0,0,0,0,0,0,200,100,0,0,200,1,100,60,\n\
+TA-FET,1,1,40,0,0,0,0,0,0,10,0,200,100,0,0,200,1,100,400,10\n";
 
 /// Invented references: `TR-2V5` exact and noiseless, `TR-MC` with a
-/// 0.12 % initial accuracy and nothing else.
+/// 0.12 % initial accuracy and nothing else, `TR-LOAD` exact but for a
+/// 100 ppm/mA load regulation and a 0.1 mA load limit.
 const TEST_REFERENCES: &str =
-    "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty\n\
-TR-2V5,2.5,0,0,0.2,0,1,100\n\
-TR-MC,2.5,0.12,0,0.2,0,1,100\n";
+    "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty,load_regulation_ppm_per_ma,max_load_ma\n\
+TR-2V5,2.5,0,0,0.2,0,1,100,0,100\n\
+TR-MC,2.5,0.12,0,0.2,0,1,100,0,100\n\
+TR-LOAD,2.5,0,0,0.2,0,1,100,100,0.1\n";
 
 fn test_stock() -> Stock {
     let file = |name: &str, text: &str| StockFile {
@@ -732,4 +740,169 @@ fn monte_carlo_of_demo_design_matches_independent_sampler() {
         "demo: Monte Carlo sigma {} % FS, independent sampler {sampled} % FS",
         y.sigma_pct_fs
     );
+}
+
+// ---------------------------------------------------------------------
+// Parts over temperature and load (docs/stock.md, docs/error-budget.md).
+
+/// PSRR line = positive rail x tolerance / PSRR x noise gain: a 60 dB part
+/// (1000) on a 5 V rail of 5 % tolerance sees 0.25 V / 1000 at its input,
+/// amplified by `1 + Rf/Rg` (handbook supply-rejection error, common
+/// practice).
+#[test]
+fn psrr_line_is_supply_tolerance_over_psrr_times_noise_gain() {
+    let fs = 3.0;
+    let n = single_ended(0.0, 0.1, 0.0, (0.0, fs), (0.0, 5.0));
+    let (rf, rg) = (29_000.0, 1_000.0);
+    let (_, a) = run(
+        &n,
+        &test_stock(),
+        non_inverting("TA-PSRR", rf, rg, ground()),
+    );
+    let want = 100.0 * (5.0 * 0.05 / 1000.0) * (1.0 + rf / rg) / fs;
+    for v in line(&a, Contributor::Psrr) {
+        close(v, want, 1e-8, "PSRR line");
+    }
+}
+
+/// A need over `temp_min..temp_max` with the given calibration, 0..0.1 V
+/// into 0..3 V, 5 V single supply.
+fn thermal_need(temp_min: f64, temp_max: f64, calibration: &str) -> Need {
+    need(&format!(
+        "[sensor]\nsignal_low_v = 0\nsignal_high_v = 0.1\nsource_ohms = 0\n\
+         [adc]\nlow_v = 0\nhigh_v = 3\nbits = 12\nmargin_pct = 0\n\
+         [supply]\npositive_v = 5\n\
+         [accuracy]\nmax_error_pct_fs = 1\ntemp_min_c = {temp_min}\ntemp_max_c = {temp_max}\n\
+         calibration = \"{calibration}\"\nbandwidth_hz = 10\n"
+    ))
+}
+
+/// A FET-input part whose bias current doubles every 10 degC: at 45 degC
+/// it is four times its 25 degC limit. Untrimmed, the bias line is that
+/// grown limit through Rf; trimmed at 25 degC, only the growth is left,
+/// three times the limit (exponential doubling, common practice).
+#[test]
+fn fet_bias_current_grows_with_temperature() {
+    let fs = 3.0;
+    let (rf, rg) = (9_000.0, 1_000.0);
+    let ib = 10e-9;
+    for (calibration, factor) in [("none", 4.0), ("two-point", 3.0)] {
+        let n = thermal_need(25.0, 45.0, calibration);
+        let (_, a) = run(&n, &test_stock(), non_inverting("TA-FET", rf, rg, ground()));
+        let want = 100.0 * factor * ib * rf / fs;
+        for v in line(&a, Contributor::BiasCurrent) {
+            close(v, want, 1e-8, &format!("FET bias line, {calibration}"));
+        }
+        // The same part without a doubling interval: the limit holds over
+        // the whole range (TA-IB).
+        let (_, a) = run(&n, &test_stock(), non_inverting("TA-IB", rf, rg, ground()));
+        for v in line(&a, Contributor::BiasCurrent) {
+            close(v, 100.0 * ib * rf / fs, 1e-8, "flat bias line");
+        }
+    }
+}
+
+/// Reference load regulation: the reference drives the bottom of Rg of a
+/// non-inverting stage whose - input follows the sensor, so it sources
+/// `(2.5 V - Vs)/Rg`: at the low end (Vs = 1.25 V) 1.25 V / 10 kohm =
+/// 0.125 mA, at the high end nothing. Its output moves
+/// by 2.5 V x 100 ppm/mA x 0.125 mA = 31.25 uV, times the stage's
+/// `-Rf/Rg = -1` (Ohm's law, common practice). The 0.125 mA is over the
+/// part's 0.1 mA limit, so the reference-load check fails.
+#[test]
+fn reference_load_line_and_check() {
+    let n = single_ended(1.25, 2.5, 0.0, (0.0, 2.5), (0.0, 5.0));
+    let design = non_inverting(
+        "TA-IDEAL",
+        10_000.0,
+        10_000.0,
+        serde_json::json!({"kind": "direct", "source": "TR-LOAD"}),
+    );
+    let (_, a) = run(&n, &test_stock(), design);
+    let at = line(&a, Contributor::ReferenceLoad);
+    close(at[0], 100.0 * 31.25e-6 / 2.5, 1e-8, "load line, low end");
+    assert!(at[1].abs() < 1e-12, "no load at the high end: {at:?}");
+    let check = a
+        .findings
+        .iter()
+        .find(|f| f.check == "reference load")
+        .expect("a reference-load finding");
+    assert!(!check.ok, "{}", check.detail);
+    assert!(check.detail.contains("0.1250 mA"), "{}", check.detail);
+    assert!(!a.feasible);
+
+    // The same network on the exact TR-2V5 (no regulation, 100 mA limit).
+    let design = non_inverting(
+        "TA-IDEAL",
+        10_000.0,
+        10_000.0,
+        serde_json::json!({"kind": "direct", "source": "TR-2V5"}),
+    );
+    let (_, a) = run(&n, &test_stock(), design);
+    assert_eq!(line(&a, Contributor::ReferenceLoad), [0.0, 0.0]);
+    let check = a
+        .findings
+        .iter()
+        .find(|f| f.check == "reference load")
+        .expect("a reference-load finding");
+    assert!(check.ok, "{}", check.detail);
+}
+
+/// The share of Monte Carlo builds inside the RSS total: the MC case's
+/// three uniform terms of 2, 1 and 3 mV have an RSS of sqrt(14) mV, and the
+/// share of their sum inside it is the generalised Irwin-Hall CDF there.
+#[test]
+fn rss_coverage_matches_sum_of_uniforms() {
+    let (_, m, a) = mc_case("TA-MC");
+    let rss_mv = a.rss_pct_fs / 100.0 * 2.5 * 1e3;
+    close(rss_mv, 14f64.sqrt(), 1e-6, "RSS of the MC case");
+    let builds = 100_000u64;
+    let y = m.monte_carlo(builds, 11, 1.0);
+    let widths = [2.0, 1.0, 3.0];
+    let exact = uniform_sum_cdf(&widths, rss_mv) - uniform_sum_cdf(&widths, -rss_mv);
+    let pass = (y.rss_coverage_pct / 100.0 * builds as f64).round();
+    let (lo, hi) = wilson(pass, builds as f64, 4.0);
+    assert!(
+        exact >= lo && exact <= hi,
+        "RSS coverage {} %, closed form {} %",
+        y.rss_coverage_pct,
+        100.0 * exact
+    );
+    // Well under every build: an RSS of limits is not a worst case.
+    assert!(y.rss_coverage_pct < 99.0, "{}", y.rss_coverage_pct);
+}
+
+/// A design judged on the rss basis whose Monte Carlo yield is under the
+/// need's yield_pct carries a warning; on the worst-case basis it does not.
+#[test]
+fn rss_basis_below_yield_is_flagged() {
+    let n = |basis: &str| {
+        need(&format!(
+            "[sensor]\nsignal_low_v = 1.25\nsignal_high_v = 2.5\nsource_ohms = 0\n\
+             [adc]\nlow_v = 0\nhigh_v = 2.5\nbits = 12\nmargin_pct = 0\n\
+             [supply]\npositive_v = 5\n\
+             [accuracy]\nmax_error_pct_fs = 0.16\nbasis = \"{basis}\"\nyield_pct = 99\n\
+             temp_min_c = 27\ntemp_max_c = 27\nbandwidth_hz = 10\n"
+        ))
+    };
+    let design = non_inverting(
+        "TA-MC",
+        10_000.0,
+        10_000.0,
+        serde_json::json!({"kind": "direct", "source": "TR-MC"}),
+    );
+    let text = design.to_string();
+    let stock = test_stock();
+    let d = parse_design(text.as_bytes(), "check.json", &stock).expect("design");
+    let rss_need = n("rss");
+    let (_, a) = analyze(&rss_need, &stock, &d, 20_000, 1).expect("analysis");
+    let y = a.yield_result.as_ref().expect("Monte Carlo ran");
+    assert!(a.rss_pct_fs <= 0.16, "RSS {}", a.rss_pct_fs);
+    assert!(y.yield_pct < 99.0, "yield {}", y.yield_pct);
+    let warnings = a.warnings(&rss_need);
+    assert_eq!(warnings.len(), 1, "{warnings:?}");
+    assert!(warnings[0].contains("rss basis"), "{}", warnings[0]);
+    let worst_need = n("worst-case");
+    let (_, a) = analyze(&worst_need, &stock, &d, 20_000, 1).expect("analysis");
+    assert!(a.warnings(&worst_need).is_empty());
 }

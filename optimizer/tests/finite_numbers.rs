@@ -39,9 +39,12 @@ fn null_allowed(key: &str, parent: &serde_json::Map<String, Value>, _report: &Va
         "volts_per_unit" => is_null("quantity_unit"),
         // Monte Carlo figures exist only where a Monte Carlo run was made
         // (the reported design, not the alternatives).
-        "yield_pct" | "yield_confidence_pct" | "sigma_pct_fs" | "histogram" | "yield_builds" => {
-            is_null("yield_builds") && is_null("histogram")
-        }
+        "yield_pct"
+        | "yield_confidence_pct"
+        | "sigma_pct_fs"
+        | "histogram"
+        | "yield_builds"
+        | "rss_coverage_pct" => is_null("yield_builds") && is_null("histogram"),
         // A gap needs a design and a valid bound: null when proven, with
         // no design, or for the error objective.
         "gap" => true,

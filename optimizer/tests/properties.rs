@@ -268,8 +268,10 @@ struct Corner {
 
 fn corners(model: &Model, analysis: &Analysis, need: &Need) -> Result<Vec<Corner>, TestCaseError> {
     let live = live_coordinates(model)?;
+    // 15: every section's PSRR line (the supply through its offset) is
+    // one more live coordinate than before it was in the budget.
     prop_assert!(
-        live.len() <= 14,
+        live.len() <= 15,
         "{} live coordinates: too many corners",
         live.len()
     );

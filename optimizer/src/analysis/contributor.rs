@@ -33,8 +33,14 @@ pub enum Contributor {
     ReferenceInitial,
     /// Reference tempco.
     ReferenceTempco,
+    /// Reference load regulation: its output moved by the current the
+    /// network it drives draws.
+    ReferenceLoad,
     /// Supply tolerance (where the supply sets offset or ADC scale).
     SupplyTolerance,
+    /// Finite supply rejection: the supply's tolerance over each section's
+    /// PSRR, as an input offset.
+    Psrr,
     /// In-amp gain error.
     InAmpGainError,
     /// In-amp gain drift.
@@ -49,7 +55,7 @@ pub enum Contributor {
 
 impl Contributor {
     /// Every contributor in report order.
-    pub const ALL: [Contributor; 17] = [
+    pub const ALL: [Contributor; 19] = [
         Contributor::NominalRounding,
         Contributor::OpenLoopGain,
         Contributor::ResistorTolerance,
@@ -61,7 +67,9 @@ impl Contributor {
         Contributor::Cmrr,
         Contributor::ReferenceInitial,
         Contributor::ReferenceTempco,
+        Contributor::ReferenceLoad,
         Contributor::SupplyTolerance,
+        Contributor::Psrr,
         Contributor::InAmpGainError,
         Contributor::InAmpGainDrift,
         Contributor::InAmpOutputOffset,
@@ -83,7 +91,9 @@ impl Contributor {
             Contributor::Cmrr => "CMRR x common-mode voltage",
             Contributor::ReferenceInitial => "reference initial accuracy",
             Contributor::ReferenceTempco => "reference tempco",
+            Contributor::ReferenceLoad => "reference load regulation",
             Contributor::SupplyTolerance => "supply tolerance",
+            Contributor::Psrr => "PSRR x supply tolerance",
             Contributor::InAmpGainError => "in-amp gain error",
             Contributor::InAmpGainDrift => "in-amp gain drift",
             Contributor::InAmpOutputOffset => "in-amp output offset",

@@ -1,6 +1,6 @@
 //! Feasibility: the checks a design must pass whatever its error (supply
 //! range, input common mode, output swing, gain-bandwidth, reference
-//! headroom, part count, and, once the worst case is known, the ADC
+//! headroom and load, part count, and, once the worst case is known, the ADC
 //! window). Each check is a [`Check`]; its label and its detail text come
 //! from the variant, so the text reports show is written in one place.
 //!
@@ -35,6 +35,9 @@ pub enum Check {
     GainBandwidth,
     /// A reference's voltage plus dropout under the positive rail.
     ReferenceHeadroom,
+    /// A reference's load current, at its raw extremes, within what it
+    /// may source.
+    ReferenceLoad,
     /// Parts on the board against the need's limit.
     PartCount,
     /// The output with its worst-case error inside the ADC window.
@@ -43,12 +46,13 @@ pub enum Check {
 
 impl Check {
     /// Every check, in the order findings list them.
-    pub const ALL: [Check; 7] = [
+    pub const ALL: [Check; 8] = [
         Check::SupplyRange,
         Check::CommonMode,
         Check::OutputSwing,
         Check::GainBandwidth,
         Check::ReferenceHeadroom,
+        Check::ReferenceLoad,
         Check::PartCount,
         Check::AdcWindow,
     ];
@@ -61,6 +65,7 @@ impl Check {
             Check::OutputSwing => "output swing",
             Check::GainBandwidth => "gain-bandwidth",
             Check::ReferenceHeadroom => "reference headroom",
+            Check::ReferenceLoad => "reference load",
             Check::PartCount => "part count",
             Check::AdcWindow => "ADC window",
         }
@@ -99,6 +104,9 @@ impl Check {
             Check::ReferenceHeadroom => format!(
                 "the reference needs {a:.3} V above ground; the positive rail is {b:.3} V"
             ),
+            Check::ReferenceLoad => format!(
+                "the network draws up to {a:.4} mA untrimmed; the part sources at most {b:.4} mA"
+            ),
             Check::PartCount => format!("{a:.0} parts; the need allows {b:.0}"),
             Check::AdcWindow => format!(
                 "output reaches {a:.4} V to {b:.4} V untrimmed; the ADC takes {c:.4} V to {d:.4} V"
@@ -121,6 +129,107 @@ pub struct Finding {
     pub ok: bool,
     /// What was found against what was allowed.
     pub detail: String,
+    /// The 0-based stage of the section it concerns, where it concerns one
+    /// (not in the JSON).
+    #[serde(skip)]
+    pub stage: Option<usize>,
+    /// The check's numbers: found low and high (or found and allowed),
+    /// allowed low and high (not in the JSON).
+    #[serde(skip)]
+    pub numbers: [f64; 4],
+}
+
+impl Finding {
+    /// How far a range check goes past its limit (volts; for the other
+    /// checks, in the check's own unit), and on which side (`low` or
+    /// `high`); zero when it passes.
+    pub fn excess(&self) -> (f64, &'static str) {
+        let [a, b, c, d] = self.numbers;
+        match self.kind {
+            Check::CommonMode | Check::OutputSwing | Check::AdcWindow => {
+                let (low, high) = (c - a, b - d);
+                if high > low {
+                    (high.max(0.0), "high")
+                } else {
+                    (low.max(0.0), "low")
+                }
+            }
+            Check::SupplyRange => {
+                if a > c {
+                    (a - c, "high")
+                } else {
+                    ((b - a).max(0.0), "low")
+                }
+            }
+            Check::GainBandwidth => ((10.0 * c - b).max(0.0), "low"),
+            Check::ReferenceHeadroom | Check::ReferenceLoad | Check::PartCount => {
+                ((a - b).max(0.0), "high")
+            }
+        }
+    }
+
+    /// The failure in plain words, for a need no structure passes: which
+    /// stage and node, by how much, and why choosing other resistor values
+    /// does not help.
+    pub fn plain_words(&self) -> String {
+        let [a, b, c, d] = self.numbers;
+        let (excess, side) = self.excess();
+        let stage = self
+            .stage
+            .map(|s| format!("stage {} ", s + 1))
+            .unwrap_or_default();
+        let who = &self.subject;
+        match self.kind {
+            Check::OutputSwing => format!(
+                "the output of {stage}({who}) must reach {a:.4} V to {b:.4} V untrimmed, {excess:.4} V \
+                 past the {side} end of what its part can swing to ({c:.4} V to {d:.4} V). \
+                 Resistor values set this node's gain and offset, and the chain must still map \
+                 the span onto the target window, so where that window (or the node feeding it) \
+                 sits that close to a rail no value set the search tried brings it inside; room \
+                 from adc.margin_pct, a part that swings nearer the rail, or wider rails can"
+            ),
+            Check::CommonMode => format!(
+                "the input of {stage}({who}) reaches {a:.4} V to {b:.4} V untrimmed, {excess:.4} V \
+                 past the {side} end of its part's input common-mode range ({c:.4} V to \
+                 {d:.4} V). The sensor's span and common mode (or the node the stage's offset \
+                 network sets) fix this voltage before the stage's gain acts, so no value set \
+                 the search tried brings it inside; a part whose inputs reach that rail, another \
+                 topology, or other rails can"
+            ),
+            Check::AdcWindow => format!(
+                "the output at the ADC reaches {a:.4} V to {b:.4} V untrimmed (every part at its \
+                 limit), {excess:.4} V past the {side} end of the ADC's input range ({c:.4} V \
+                 to {d:.4} V); calibration cannot undo a reading that clipped, so the target \
+                 window must leave room for the raw spread: a larger adc.margin_pct or parts \
+                 with smaller limits can"
+            ),
+            Check::SupplyRange => format!(
+                "{who} runs from {b:.3} V to {c:.3} V of total supply but the rails span {a:.3} V \
+                 ({excess:.3} V {}); this depends only on the part and the rails, so no value \
+                 set helps",
+                if side == "high" { "too many" } else { "too few" }
+            ),
+            Check::GainBandwidth => format!(
+                "{who} ({stage}) at noise gain {a:.1} leaves {b:.0} Hz of closed-loop bandwidth, \
+                 {excess:.0} Hz short of 10 x {c:.1} Hz; the noise gain follows from the gain the \
+                 stage must give, so no value set helps; a faster part or the gain split over \
+                 more stages (search.max_stages) can"
+            ),
+            Check::ReferenceHeadroom => format!(
+                "{who} needs {a:.3} V above ground but the positive rail, at the low end of its \
+                 tolerance, is {b:.3} V ({excess:.3} V short); this depends only on the part and \
+                 the rails, so no value set helps"
+            ),
+            Check::ReferenceLoad => format!(
+                "{who} would source up to {a:.4} mA into the network it drives, {excess:.4} mA \
+                 over its {b:.4} mA limit; larger network resistors or a buffered tap lower it"
+            ),
+            Check::PartCount => format!(
+                "the smallest design has {a:.0} parts, {excess:.0} over the need's limit of \
+                 {b:.0}; search.max_parts decides it, not the values"
+            ),
+        }
+    }
 }
 
 /// A finding kept as numbers until it is shown (formatting text costs more
@@ -131,6 +240,8 @@ pub struct RawFinding {
     subject: String,
     ok: bool,
     numbers: [f64; 4],
+    /// The 0-based stage of the section it concerns, if any.
+    stage: Option<usize>,
 }
 
 impl RawFinding {
@@ -152,6 +263,8 @@ impl RawFinding {
             subject: self.subject.clone(),
             ok: self.ok,
             detail: self.check.detail(self.numbers),
+            stage: self.stage,
+            numbers: self.numbers,
         }
     }
 }
@@ -174,6 +287,7 @@ pub(crate) fn adc_window(
         subject: "out".into(),
         ok: low >= adc_low - 1e-12 && high <= adc_high + 1e-12,
         numbers: [low, high, adc_low, adc_high],
+        stage: None,
     }
 }
 
@@ -200,6 +314,7 @@ pub(crate) fn findings(
             subject: format!("{} ({})", package.designator, package.part_id),
             ok: rails >= low && rails <= high,
             numbers: [rails, low, high, 0.0],
+            stage: None,
         });
     }
     // Adjoints of the section outputs, one solve per distinct node.
@@ -222,6 +337,15 @@ pub(crate) fn findings(
                 subject: format!("{} ({})", source.designator, reference.part_id),
                 ok: needs <= positive,
                 numbers: [needs, positive, 0.0, 0.0],
+                stage: None,
+            });
+            let load_ma = 1e3 * reference_load_a(netlist, dc, params, source.element);
+            out.push(RawFinding {
+                check: Check::ReferenceLoad,
+                subject: format!("{} ({})", source.designator, reference.part_id),
+                ok: load_ma <= reference.max_load_ma * (1.0 + 1e-9),
+                numbers: [load_ma, reference.max_load_ma, 0.0, 0.0],
+                stage: None,
             });
         }
     }
@@ -231,8 +355,28 @@ pub(crate) fn findings(
         subject: "design".into(),
         ok: parts <= need.search.max_parts,
         numbers: [parts as f64, need.search.max_parts as f64, 0.0, 0.0],
+        stage: None,
     });
     out
+}
+
+/// The largest load current a reference's source delivers, amperes: its
+/// branch current at both span ends, widened by the raw range of every
+/// parameter (untrimmed, every part at its limits), from the adjoint of
+/// that branch current.
+fn reference_load_a(
+    netlist: &Netlist,
+    dc: &DcSolution,
+    params: &[Parameter],
+    element: usize,
+) -> f64 {
+    let Some(adjoint) = dc.branch_current_adjoint(element) else {
+        return 0.0;
+    };
+    let half = extremes::node_half_range(netlist, dc, params, &adjoint);
+    (0..2)
+        .map(|end| dc.branch_current(end, element).unwrap_or(0.0).abs() + half[end])
+        .fold(0.0, f64::max)
 }
 
 /// The input, output and bandwidth limits of one amplifier section.
@@ -303,6 +447,7 @@ fn section_findings(
         subject: section.designator.clone(),
         ok: input_min >= common_low - VOLTAGE_SLACK && input_max <= common_high + VOLTAGE_SLACK,
         numbers: [input_min, input_max, common_low, common_high],
+        stage: Some(section.stage),
     });
     let (swing_low, swing_high) = (
         negative + limits.output_headroom[0],
@@ -316,6 +461,7 @@ fn section_findings(
         subject: section.designator.clone(),
         ok: output_min >= swing_low - VOLTAGE_SLACK && output_max <= swing_high + VOLTAGE_SLACK,
         numbers: [output_min, output_max, swing_low, swing_high],
+        stage: Some(section.stage),
     });
     // Noise gain of this section: its output per volt of its own offset,
     // from the adjoint of its output node (a follower's is 1 without
@@ -340,6 +486,7 @@ fn section_findings(
         subject: section.designator.clone(),
         ok: closed_loop_hz >= needed,
         numbers: [noise_gain, closed_loop_hz, need.accuracy.bandwidth.0, 0.0],
+        stage: Some(section.stage),
     });
 }
 
@@ -375,6 +522,7 @@ mod tests {
             subject: "U1A".into(),
             ok: false,
             numbers: [0.01, 4.99, 0.05, 4.95],
+            stage: None,
         }
         .finding();
         assert_eq!(finding.check, "output swing");

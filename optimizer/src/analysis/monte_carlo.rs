@@ -2,11 +2,13 @@
 //! parameter's initial deviation and drift uniformly inside its limits
 //! (seeded generator of [`crate::montecarlo`]), evaluates the error at both
 //! ends of the span and both ends of the temperature range, and keeps the
-//! worst of the four.
+//! worst of the four. Every statistic it gives is of that worst-of-four
+//! error of a build: the yield, the standard deviation, the histogram, and
+//! the share of builds the RSS total covers.
 
-use super::Model;
+use super::{Analysis, Model};
 use crate::montecarlo::{wilson_interval, Rng};
-use crate::need::Need;
+use crate::need::{Basis, Need};
 use serde::Serialize;
 
 /// Bins of the reported histogram.
@@ -19,13 +21,21 @@ pub struct YieldResult {
     pub builds: u64,
     /// Seed used.
     pub seed: u64,
-    /// Fraction inside the target, in %.
+    /// Share of builds whose error (the worst of the four conditions, plus
+    /// the noise peak) is inside the target, in %.
     pub yield_pct: f64,
     /// 95 % confidence interval (Wilson), in %.
     pub confidence_pct: [f64; 2],
-    /// Standard deviation of the error at the binding end, % FS.
+    /// Standard deviation of each build's signed error at its worst
+    /// condition (the largest in magnitude of both span ends at both
+    /// temperature ends), % FS.
     pub sigma_pct_fs: f64,
-    /// Histogram of the signed error at the worse end of each build.
+    /// Share of builds whose error (worst of the four conditions, plus the
+    /// noise peak) is inside the RSS total, in %: the yield a target equal
+    /// to the RSS total would have. It says what the RSS total covers; it
+    /// is not a fixed number of sigma.
+    pub rss_coverage_pct: f64,
+    /// Histogram of each build's signed error at its worst condition.
     pub histogram: Histogram,
 }
 
@@ -81,8 +91,13 @@ impl Model {
         ];
         let other_end = self.other_end_drift_ratio;
         let limit = limit_v - self.noise_peak;
+        // The RSS total as reported (the larger end), less the noise peak
+        // each build carries on top of its drawn error.
+        let rss = self.rss_at_ends();
+        let rss_limit = rss[0].max(rss[1]) - self.noise_peak;
         let mut rng = Rng::new(seed);
         let mut pass = 0u64;
+        let mut inside_rss = 0u64;
         let mut worst = Vec::with_capacity(builds as usize);
         let (mut sum, mut sum_squares) = (0.0, 0.0);
         for _ in 0..builds {
@@ -113,6 +128,9 @@ impl Model {
             if m.abs() <= limit {
                 pass += 1;
             }
+            if m.abs() <= rss_limit {
+                inside_rss += 1;
+            }
             sum += m;
             sum_squares += m * m;
             worst.push(m);
@@ -128,8 +146,36 @@ impl Model {
             yield_pct: 100.0 * pass as f64 / n,
             confidence_pct: [100.0 * low, 100.0 * high],
             sigma_pct_fs: sigma * pct,
+            rss_coverage_pct: 100.0 * inside_rss as f64 / n,
             histogram: histogram(&worst, limit_v, pct),
         }
+    }
+}
+
+impl Analysis {
+    /// Plain-language warnings about how far the verdict on the need's
+    /// basis can be trusted: a design judged on the `rss` basis whose Monte
+    /// Carlo yield is under the need's `yield_pct` is flagged, with the
+    /// share of builds the RSS total covers.
+    pub fn warnings(&self, need: &Need) -> Vec<String> {
+        let mut out = Vec::new();
+        if let (Basis::Rss, Some(y)) = (need.accuracy.basis, &self.yield_result) {
+            if y.yield_pct < need.accuracy.yield_pct {
+                out.push(format!(
+                    "judged on the rss basis: only {:.2} % of {} Monte Carlo builds stay within \
+                     the target of {} % FS (the need's yield_pct is {} %); the RSS total \
+                     ({:.4} % FS) covers {:.2} % of builds, not every build. Use basis = \
+                     \"yield\" or \"worst-case\" for a verdict that holds at that yield.",
+                    y.yield_pct,
+                    y.builds,
+                    need.accuracy.max_error_pct_fs,
+                    need.accuracy.yield_pct,
+                    self.rss_pct_fs,
+                    y.rss_coverage_pct,
+                ));
+            }
+        }
+        out
     }
 }
 

@@ -1,7 +1,7 @@
 //! Parameter collection: every imperfection of the parts (resistor
 //! tolerance and TCR, op-amp offset, drift, bias and offset current, CMRR,
-//! in-amp gain error and output offset, reference accuracy and tempco,
-//! supply tolerance, the sensor's resistance and common mode) becomes a
+//! PSRR, in-amp gain error and output offset, reference accuracy, tempco
+//! and load regulation, supply tolerance, the sensor's resistance and common mode) becomes a
 //! [`Parameter`]: what it perturbs in the netlist, its initial range and
 //! drift range, and the output's sensitivity to it at both span ends (from
 //! the adjoint).
@@ -168,6 +168,7 @@ pub(crate) fn collect(
             calibratable: true,
         });
     }
+    reference_load_parameters(stock, built, dc, &mut params);
     params.extend(common_mode);
     params.extend(supply);
     params
@@ -241,6 +242,93 @@ fn common_mode_parameter(need: &Need, built: &Built, dc: &DcSolution) -> Option<
     })
 }
 
+// ---------------------------------------------------------------------
+// Parts over temperature and load: bias current growth with temperature,
+// supply rejection, reference load regulation (`docs/stock.md` gives the
+// columns and their defaults).
+
+/// The bias (and offset) current limit's initial and drift ranges, as
+/// multiples of the stock limit. Without a doubling interval the limit
+/// holds over the whole range: untrimmed it is the initial range at every
+/// temperature; once a calibration has trimmed the value on the day, the
+/// current may still move anywhere inside its limit (drift range the limit
+/// itself; a conservative assumption of this tool). With a doubling
+/// interval `n` degC (FET and CMOS inputs, leakage roughly doubling every
+/// 10 degC; common practice) the limit is the one at 25 degC and grows to
+/// `2^((temp_max - 25)/n)` times it at the hot end: untrimmed that is the
+/// initial range; trimmed at 25 degC, the drift range is the larger move
+/// to either temperature end, `2^(hot/n) - 1` or `1 - 2^(-cold/n)`.
+pub(crate) fn bias_over_temperature(need: &Need, doubling_c: Option<f64>) -> [f64; 2] {
+    let calibrated = need.accuracy.calibration != Calibration::None;
+    match doubling_c {
+        None => {
+            let moves = need.max_delta_t() > 0.0 && calibrated;
+            [1.0, if moves { 1.0 } else { 0.0 }]
+        }
+        Some(n) => {
+            let hot = (need.accuracy.temp_max.0 - 25.0).max(0.0);
+            let cold = (25.0 - need.accuracy.temp_min.0).max(0.0);
+            let growth = (hot / n).exp2();
+            if calibrated {
+                [1.0, (growth - 1.0).max(1.0 - (-cold / n).exp2())]
+            } else {
+                [growth, 0.0]
+            }
+        }
+    }
+}
+
+/// The supply-rejection parameter of a section: the positive rail's
+/// tolerance over the part's minimum PSRR, as an input offset (so through
+/// the section's noise gain). Like the supply line it moves in service, so
+/// calibration does not remove it. `None` when the supply has no
+/// tolerance.
+fn psrr_parameter(need: &Need, psrr_ratio: f64, vos: usize, s_offset: f64) -> Option<Parameter> {
+    let supply_range = need.supply.positive.0.abs() * need.supply.tolerance.fraction();
+    (supply_range > 0.0 && psrr_ratio > 0.0).then(|| Parameter {
+        calibratable: false,
+        ..flat(
+            Contributor::Psrr,
+            Target::Source(vos),
+            supply_range / psrr_ratio,
+            s_offset,
+        )
+    })
+}
+
+/// Load regulation of each reference: its load current at each span end
+/// (the branch current of its source, from the network it drives) times
+/// its regulation, as a change of its output. A fixed shift on each board,
+/// so calibration removes it like the initial accuracy.
+fn reference_load_parameters(
+    stock: &Stock,
+    built: &Built,
+    dc: &DcSolution,
+    params: &mut Vec<Parameter>,
+) {
+    for source in &built.sources {
+        let Some(reference) = source.reference.and_then(|i| stock.references.get(i)) else {
+            continue;
+        };
+        // Volts of output change per ampere of load.
+        let per_amp = reference.volts.0 * reference.load_regulation_ppm_per_ma * 1e-6 * 1e3;
+        let load = [0, 1].map(|end| dc.branch_current(end, source.element).unwrap_or(0.0).abs());
+        let initial = [per_amp * load[0], per_amp * load[1]];
+        if initial[0] > 0.0 || initial[1] > 0.0 {
+            let sensitivity = dc.branch_adjoint(source.element);
+            params.push(Parameter {
+                initial_contributor: Contributor::ReferenceLoad,
+                drift_contributor: Contributor::ReferenceLoad,
+                target: Target::Source(source.element),
+                initial,
+                drift: 0.0,
+                sensitivity: [sensitivity, sensitivity],
+                calibratable: true,
+            });
+        }
+    }
+}
+
 /// A constant parameter with the same range and sensitivity at both ends.
 fn flat(contributor: Contributor, target: Target, initial: f64, sensitivity: f64) -> Parameter {
     Parameter {
@@ -261,6 +349,10 @@ struct AmplifierLimits {
     bias_a: f64,
     offset_current_a: f64,
     cmrr_ratio: f64,
+    /// Temperature rise that doubles the bias current, if given.
+    ib_doubling_c: Option<f64>,
+    /// Minimum supply rejection as a ratio.
+    psrr_ratio: f64,
 }
 
 fn amplifier_limits(stock: &Stock, kind: AmplifierKind, delta_t: f64) -> AmplifierLimits {
@@ -273,6 +365,8 @@ fn amplifier_limits(stock: &Stock, kind: AmplifierKind, delta_t: f64) -> Amplifi
                 bias_a: part.ib_max_na * 1e-9,
                 offset_current_a: part.ios_max_na * 1e-9,
                 cmrr_ratio: part.cmrr_min.ratio(),
+                ib_doubling_c: part.ib_doubling_c,
+                psrr_ratio: part.psrr_min.ratio(),
             }
         }
         AmplifierKind::InAmp(i) => {
@@ -283,6 +377,8 @@ fn amplifier_limits(stock: &Stock, kind: AmplifierKind, delta_t: f64) -> Amplifi
                 bias_a: part.ib_max_na * 1e-9,
                 offset_current_a: 0.0,
                 cmrr_ratio: part.cmrr_min.ratio(),
+                ib_doubling_c: part.ib_doubling_c,
+                psrr_ratio: part.psrr_min.ratio(),
             }
         }
     }
@@ -315,23 +411,15 @@ fn amplifier_parameters(
         )
     });
     // Bias and offset current are real errors through the network
-    // resistance. The stock gives one limit, taken to hold over the whole
-    // temperature range. Untrimmed, the initial range covers it at every
-    // temperature; once a calibration has trimmed the value on the day,
-    // the current may still move inside its limit as the temperature
-    // moves, so the drift range is the limit itself (a conservative
-    // assumption of this tool).
-    let moves = if delta_t > 0.0 && need.accuracy.calibration != Calibration::None {
-        1.0
-    } else {
-        0.0
-    };
+    // resistance; their ranges over temperature are those of
+    // `bias_over_temperature`.
+    let [grows, moves] = bias_over_temperature(need, limits.ib_doubling_c);
     params.push(Parameter {
         drift: moves * limits.bias_a,
         ..flat(
             Contributor::BiasCurrent,
             Target::BiasCommon(section.ibp, section.ibn),
-            limits.bias_a,
+            grows * limits.bias_a,
             s_bias_plus + s_bias_minus,
         )
     });
@@ -341,7 +429,7 @@ fn amplifier_parameters(
             ..flat(
                 Contributor::OffsetCurrent,
                 Target::BiasOffset(section.ibp, section.ibn),
-                limits.offset_current_a,
+                grows * limits.offset_current_a,
                 0.5 * (s_bias_plus - s_bias_minus),
             )
         });
@@ -379,6 +467,12 @@ fn amplifier_parameters(
             s_offset,
         )
     });
+    params.extend(psrr_parameter(
+        need,
+        limits.psrr_ratio,
+        section.vos,
+        s_offset,
+    ));
     if let (AmplifierKind::InAmp(i), Some(internals)) = (section.kind, &section.inamp) {
         let part = &stock.inamps[i];
         let mut s_gain = [0.0; 2];

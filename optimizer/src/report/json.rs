@@ -280,6 +280,7 @@ fn error_figures(need: &Need, a: &Analysis) -> ErrorFigures {
         },
         quantisation_lsb: 0.5,
         quantisation_pct_fs: a.quantisation_pct_fs,
+        rss_coverage_pct: mc.map(|y| y.rss_coverage_pct),
         rss_pct_fs: a.rss_pct_fs,
         sigma_pct_fs: mc.map(|y| y.sigma_pct_fs),
         target_pct_fs: need.accuracy.max_error_pct_fs,
@@ -337,6 +338,7 @@ pub fn design_report(need: &Need, stock: &Stock, candidate: &Candidate) -> Desig
             offset_v: t.offset_v,
             output_at_ends_v: t.output_at_ends_v,
         },
+        warnings: a.warnings(need),
     }
 }
 

@@ -523,7 +523,11 @@ fn write_budget(out: &mut String, need: &Need, d: &DesignReport) {
         "check",
     ));
     table.row(row("worst case", e.worst_case_pct_fs, "total"));
-    table.row(row("RSS", e.rss_pct_fs, "total"));
+    table.row(row(
+        "RSS (root-sum-square of the limits)",
+        e.rss_pct_fs,
+        "total",
+    ));
     table.row(row(
         &format!("on the {} basis", e.basis),
         e.basis_pct_fs,
@@ -563,6 +567,20 @@ fn write_budget(out: &mut String, need: &Need, d: &DesignReport) {
             num(ci[1], 5),
             num(sigma, 3)
         );
+        let _ = writeln!(
+            out,
+            "  (each build's error is the worst of both span ends at both temperature ends; sigma is the spread of that worst error)"
+        );
+    }
+    if let Some(coverage) = e.rss_coverage_pct {
+        let _ = writeln!(
+            out,
+            "  RSS total covers {} % of the Monte Carlo builds (an RSS of limits, not a fixed number of sigma)",
+            num(coverage, 4)
+        );
+    }
+    for warning in &d.warnings {
+        let _ = writeln!(out, "  Warning: {}", clean(warning));
     }
 }
 

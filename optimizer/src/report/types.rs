@@ -118,6 +118,10 @@ pub struct DesignReport {
     pub topology: Option<String>,
     /// The solved transfer against the ideal one.
     pub transfer: TransferReport,
+    /// Plain-language warnings about the verdict (a design judged on the
+    /// `rss` basis whose Monte Carlo yield is under the need's
+    /// `yield_pct`); empty when there is nothing to flag.
+    pub warnings: Vec<String>,
 }
 
 /// A design of the cost/error front: the design object plus its worst
@@ -369,9 +373,14 @@ pub struct ErrorFigures {
     pub quantisation_lsb: f64,
     /// Quantisation, % FS.
     pub quantisation_pct_fs: f64,
-    /// Root-sum-square total, % FS.
+    /// Share of Monte Carlo builds whose error is inside the RSS total, %,
+    /// where run.
+    pub rss_coverage_pct: Option<f64>,
+    /// Root-sum-square total of the limits, % FS.
     pub rss_pct_fs: f64,
-    /// Monte Carlo sigma, % FS, where run.
+    /// Standard deviation of the Monte Carlo builds' error at each build's
+    /// worst condition (both span ends, both temperature ends), % FS,
+    /// where run.
     pub sigma_pct_fs: Option<f64>,
     /// The need's target, % FS.
     pub target_pct_fs: f64,

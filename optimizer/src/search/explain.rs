@@ -25,13 +25,14 @@ pub(super) struct Diagnosis {
 }
 
 impl Diagnosis {
-    /// Count the failed checks of an analysis.
+    /// Count the failed checks of an analysis (keeping the first failure
+    /// of each check in plain words).
     pub(super) fn note_findings(&mut self, findings: &[Finding]) {
         for f in findings.iter().filter(|f| !f.ok) {
             let entry = self
                 .failed_checks
                 .entry(f.check.clone())
-                .or_insert((0, f.detail.clone()));
+                .or_insert_with(|| (0, f.plain_words()));
             entry.0 += 1;
         }
     }
@@ -161,7 +162,13 @@ fn binding_limit(
         None => {
             let worst = diagnosis.failed_checks.iter().max_by_key(|(_, v)| v.0);
             match worst {
-                Some((check, (_, detail))) => (format!("{check}: no structure the search tried passes; for example {detail}"), None, Vec::new()),
+                Some((check, (count, words))) => (
+                    format!(
+                        "{check}: no structure the search tried passes ({count} of the designs analysed fail it); for example {words}"
+                    ),
+                    None,
+                    Vec::new(),
+                ),
                 None => match &diagnosis.closest_rejection {
                     Some((why, _)) => (format!("no structure the search tried passes; the nearest miss: {why}"), None, Vec::new()),
                     None => ("the search built no structure from this stock for this need (check the topologies, the supplies and the offset sources)".into(), None, Vec::new()),
@@ -270,6 +277,37 @@ fn need_changes(need: &Need, best_error: Option<f64>) -> Vec<(String, Need)> {
     tries
 }
 
+/// ADC margins tried, in %, smallest first, for a need no structure
+/// passes: the first that makes the need feasible is suggested.
+const MARGIN_LADDER_PCT: [f64; 4] = [1.0, 2.0, 5.0, 10.0];
+
+/// For a need no structure passes, the smallest ADC margin of
+/// [`MARGIN_LADDER_PCT`] above the need's own that makes it feasible,
+/// verified by solving again ("set adc.margin_pct to N"): with no margin
+/// the output must reach the ends of the ADC window, which a single
+/// supply puts at or near a rail, and untrimmed errors then clip.
+fn margin_suggestion(
+    need: &Need,
+    stock: &Stock,
+    budget: &mut Budget<'_, '_>,
+) -> Option<Suggestion> {
+    for margin in MARGIN_LADDER_PCT {
+        if margin <= need.adc.margin.0 {
+            continue;
+        }
+        let mut changed = need.clone();
+        changed.adc.margin = crate::units::Percent(margin);
+        let change = format!(
+            "leave room at the ends of the ADC window: set adc.margin_pct to {margin} (it is {})",
+            need.adc.margin.0
+        );
+        if let Some(found) = try_change(change, &changed, stock, budget) {
+            return Some(found);
+        }
+    }
+    None
+}
+
 /// The cheapest design of a changed need or stock, as a suggestion.
 fn try_change(
     change: String,
@@ -322,6 +360,9 @@ fn verified_suggestions(
     }
     for (change, changed) in tries {
         out.extend(try_change(change, &changed, stock, budget));
+    }
+    if best_error.is_none() {
+        out.extend(margin_suggestion(need, stock, budget));
     }
     out
 }

@@ -323,6 +323,8 @@ pub(super) fn opamps(
                         Bound::Resistance,
                     )?
                 },
+                ib_doubling_c: ib_doubling(&row)?,
+                psrr_min: psrr(&row)?,
             },
             row.line,
         ));
@@ -363,11 +365,48 @@ pub(super) fn references(
                 noise_uv_pp: nonneg("noise_uv_pp", "a noise in microvolts peak to peak")?,
                 unit_cost: nonneg("unit_cost", "a unit cost")?,
                 stock_qty: row.quantity("stock_qty")?,
+                load_regulation_ppm_per_ma: row.optional_number(
+                    "load_regulation_ppm_per_ma",
+                    "a load regulation in ppm of the output per mA",
+                    Bound::ZeroOrMore,
+                    crate::stock::DEFAULT_LOAD_REGULATION_PPM_PER_MA,
+                )?,
+                max_load_ma: row.optional_number(
+                    "max_load_ma",
+                    "a largest load current in mA",
+                    Bound::AboveZero,
+                    crate::stock::DEFAULT_MAX_LOAD_MA,
+                )?,
             },
             row.line,
         ));
     }
     Ok(parts)
+}
+
+/// The optional `ib_doubling_c` of an amplifier row: `None` when absent
+/// or empty (the bias current limit then holds over the whole range).
+fn ib_doubling(row: &Row<'_>) -> Result<Option<f64>> {
+    if row.cell("ib_doubling_c").is_empty() {
+        return Ok(None);
+    }
+    row.number(
+        "ib_doubling_c",
+        "a temperature rise in degC over which the bias current doubles",
+        Bound::Between(1.0, 1000.0),
+    )
+    .map(Some)
+}
+
+/// The optional `psrr_min_db` of an amplifier row, or the default.
+fn psrr(row: &Row<'_>) -> Result<Decibels> {
+    row.optional_number(
+        "psrr_min_db",
+        "a power-supply rejection in dB",
+        Bound::AboveZero,
+        crate::stock::DEFAULT_PSRR_DB,
+    )
+    .map(Decibels)
 }
 
 pub(super) fn inamps(
@@ -414,6 +453,8 @@ pub(super) fn inamps(
                 gbw_mhz: positive("gbw_mhz", "a gain-bandwidth product in MHz")?,
                 unit_cost: nonneg("unit_cost", "a unit cost")?,
                 stock_qty: row.quantity("stock_qty")?,
+                ib_doubling_c: ib_doubling(&row)?,
+                psrr_min: psrr(&row)?,
             },
             row.line,
         ));

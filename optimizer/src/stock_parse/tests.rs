@@ -183,3 +183,123 @@ fn output_ohms_is_optional_with_a_default() {
         .all(|p| p.output_ohms == crate::stock::DEFAULT_OUTPUT_OHMS));
     assert!(!stock.capacitors.is_empty());
 }
+
+/// The demo op-amp header and one row, with `extra` columns and cells
+/// appended.
+fn opamp_file(extra_header: &str, extra_cells: &str) -> StockFile {
+    StockFile {
+        name: "opamps.csv".into(),
+        bytes: format!(
+            "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,\
+             input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,\
+             vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,\
+             cmrr_min_db,unit_cost,stock_qty{extra_header}\n\
+             OA-T,1,1.8,5.5,0,0,0.02,0.02,800,3,0.01,0.01,100,1,30,0.005,80,0.35,400{extra_cells}\n"
+        )
+        .into_bytes(),
+    }
+}
+
+fn reference_file(extra_header: &str, extra_cells: &str) -> StockFile {
+    StockFile {
+        name: "references.csv".into(),
+        bytes: format!(
+            "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,\
+             stock_qty{extra_header}\nVR-T,2.5,0.1,20,0.2,20,0.6,300{extra_cells}\n"
+        )
+        .into_bytes(),
+    }
+}
+
+fn one_resistor() -> StockFile {
+    StockFile {
+        name: "resistors.csv".into(),
+        bytes: b"part_id,value_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+                 R-1,1000,1,100,0603,0.01,\n"
+            .to_vec(),
+    }
+}
+
+/// Files without the optional columns keep reading, with the documented
+/// defaults; given columns are read.
+#[test]
+fn optional_part_columns_default_when_absent_and_read_when_given() {
+    let stock = parse_stock(&[one_resistor(), opamp_file("", ""), reference_file("", "")])
+        .expect("old files read");
+    let amp = &stock.opamps[0];
+    assert_eq!(amp.ib_doubling_c, None);
+    assert_eq!(amp.psrr_min.0, crate::stock::DEFAULT_PSRR_DB);
+    let reference = &stock.references[0];
+    assert_eq!(
+        reference.load_regulation_ppm_per_ma,
+        crate::stock::DEFAULT_LOAD_REGULATION_PPM_PER_MA
+    );
+    assert_eq!(reference.max_load_ma, crate::stock::DEFAULT_MAX_LOAD_MA);
+
+    let stock = parse_stock(&[
+        one_resistor(),
+        opamp_file(",ib_doubling_c,psrr_min_db", ",10,96"),
+        reference_file(",load_regulation_ppm_per_ma,max_load_ma", ",25,5"),
+    ])
+    .expect("new columns read");
+    assert_eq!(stock.opamps[0].ib_doubling_c, Some(10.0));
+    assert_eq!(stock.opamps[0].psrr_min.0, 96.0);
+    assert_eq!(stock.references[0].load_regulation_ppm_per_ma, 25.0);
+    assert_eq!(stock.references[0].max_load_ma, 5.0);
+
+    // Empty cells take the defaults too.
+    let stock = parse_stock(&[
+        one_resistor(),
+        opamp_file(",ib_doubling_c,psrr_min_db", ",,"),
+        reference_file(",load_regulation_ppm_per_ma,max_load_ma", ",,"),
+    ])
+    .expect("empty cells read");
+    assert_eq!(stock.opamps[0].ib_doubling_c, None);
+    assert_eq!(
+        stock.references[0].max_load_ma,
+        crate::stock::DEFAULT_MAX_LOAD_MA
+    );
+}
+
+/// A bad value in an optional column is refused with its file, line and
+/// column, and says what was expected.
+#[test]
+fn bad_optional_part_values_name_file_line_and_column() {
+    for (file, column, want) in [
+        (
+            opamp_file(",ib_doubling_c", ",0.5"),
+            "ib_doubling_c",
+            "from 1 to 1000",
+        ),
+        (
+            opamp_file(",psrr_min_db", ",-3"),
+            "psrr_min_db",
+            "above zero",
+        ),
+        (
+            opamp_file(",psrr_min_db", ",loud"),
+            "psrr_min_db",
+            "power-supply rejection",
+        ),
+        (
+            reference_file(",max_load_ma", ",0"),
+            "max_load_ma",
+            "above zero",
+        ),
+        (
+            reference_file(",load_regulation_ppm_per_ma", ",NaN"),
+            "load_regulation_ppm_per_ma",
+            "load regulation",
+        ),
+    ] {
+        let name = file.name.clone();
+        let e = parse_stock(&[one_resistor(), file])
+            .expect_err("a bad optional value is refused")
+            .to_string();
+        assert!(
+            e.contains(&format!("{name}, line 2, column {column}")),
+            "{e}"
+        );
+        assert!(e.contains(want), "{e}");
+    }
+}
