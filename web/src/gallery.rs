@@ -52,7 +52,7 @@ pub fn examples() -> Vec<Example> {
         Example {
             id: "ratiometric-bridge",
             title: "Ratiometric bridge excited from the supply",
-            summary: "A pressure bridge on the 5 V rail that is also the ADC's reference. The analysis moves the ADC scale with the rail but not the bridge's excitation, so the rail's 1 % tolerance still counts.",
+            summary: "A pressure bridge on the 5 V rail that is also the ADC's reference: its signal, its common mode and the ADC scale all follow the rail, so an offset from the rail cancels the rail's 5 % tolerance.",
             need: include_str!("../../examples/gallery/ratiometric-bridge.toml"),
             stock: demo.clone(),
         },
