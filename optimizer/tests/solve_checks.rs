@@ -670,3 +670,43 @@ fn cancelled_search_is_not_proven_and_keeps_its_best() {
         "a run cut after a design was found handed back no best so far"
     );
 }
+
+/// With no ADC margin the demo need (an invented scenario) asks the output
+/// to reach 0 V on a single supply, which no demo op-amp swings to: no
+/// structure passes. The explanation names the stage and the shortfall,
+/// and suggests the smallest margin of its ladder that a re-solve shows to
+/// work; solving the need with that margin finds a design.
+#[test]
+fn a_need_short_of_margin_gets_a_verified_margin_suggestion() {
+    // A longer time limit than the demo's, so the re-solves that verify
+    // the suggestions have time left on a loaded machine.
+    let text = spanfit::demo::NEED_TOML
+        .replace("margin_pct = 2.0", "margin_pct = 0.0")
+        .replace("time_limit_ms = 2000", "time_limit_ms = 30000");
+    let n = need(&text, "no-margin.toml");
+    let stock = demo_stock();
+    let o = solve_timed(&n, &stock, false);
+    assert!(
+        o.best.is_none(),
+        "a design without margin: {:?}",
+        o.best.map(|b| b.design)
+    );
+    let why = o.infeasible.as_ref().expect("an explanation");
+    assert!(why.binding.contains("stage 1"), "{}", why.binding);
+    let suggestion = why
+        .suggestions
+        .iter()
+        .find(|s| s.change.contains("set adc.margin_pct to"))
+        .unwrap_or_else(|| panic!("no margin suggestion: {:?}", why.suggestions));
+    let margin: f64 = suggestion
+        .change
+        .split("set adc.margin_pct to ")
+        .nth(1)
+        .and_then(|rest| rest.split_whitespace().next())
+        .and_then(|v| v.parse().ok())
+        .expect("a margin in the suggestion");
+    let mut with_margin = n.clone();
+    with_margin.adc.margin = spanfit::units::Percent(margin);
+    let fixed = solve_timed(&with_margin, &stock, false);
+    assert!(fixed.best.is_some(), "margin {margin} % finds no design");
+}

@@ -507,6 +507,40 @@ pub fn part_count(built: &Built) -> usize {
 mod tests {
     use super::*;
 
+    /// A failed swing names its stage, the node, the side and the amount
+    /// in plain words, and says why values do not help.
+    #[test]
+    fn plain_words_name_stage_side_and_amount() {
+        let finding = RawFinding {
+            check: Check::OutputSwing,
+            subject: "U1B".into(),
+            ok: false,
+            numbers: [-0.02, 2.9, 0.02, 4.95],
+            stage: Some(1),
+        }
+        .finding();
+        assert_eq!(finding.excess(), (0.04, "low"));
+        let words = finding.plain_words();
+        assert!(words.contains("stage 2 (U1B)"), "{words}");
+        assert!(words.contains("0.0400 V past the low end"), "{words}");
+        assert!(words.contains("no value set"), "{words}");
+        // A load over the reference's limit, by how much.
+        let load = RawFinding {
+            check: Check::ReferenceLoad,
+            subject: "VR1 (VR-250)".into(),
+            ok: false,
+            numbers: [1.5, 1.0, 0.0, 0.0],
+            stage: None,
+        }
+        .finding();
+        assert_eq!(load.excess(), (0.5, "high"));
+        assert!(
+            load.plain_words().contains("0.5000 mA over"),
+            "{}",
+            load.plain_words()
+        );
+    }
+
     #[test]
     fn labels_are_distinct_and_read_back() {
         for check in Check::ALL {
