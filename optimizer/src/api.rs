@@ -169,22 +169,23 @@ pub fn solve_bundle(
         } else {
             with_filter(&need, &stock, best);
         }
-        // The search ranks designs without the filter pair, and the pair a
-        // design gets depends on its driving amplifier (or it gets none), so
-        // a proof over the searched costs does not cover the pair: what the
-        // pair adds to the best design is added to the gap, and the claim
-        // of optimality stands only when it adds nothing.
+        // The search costs every design with the filter pair the report
+        // attaches (search/pair.rs), so its proof covers the reported cost.
+        // Should the attached pair differ from the counted one (the pair's
+        // AC analysis can still refuse it), the proof does not cover the
+        // report: the claim is dropped, and the gap kept only where the
+        // report costs more (then the bound still lies below it).
         let added = match need.search.objective {
             crate::need::Objective::Cost => best.costing.total - searched.0,
             crate::need::Objective::Parts => best.costing.part_count as f64 - searched.1,
             crate::need::Objective::Error => 0.0,
         };
-        if added > 1e-12 {
+        if added.abs() > 1e-9 {
             let stats = &mut outcome.stats;
-            stats.gap = if stats.proven_optimal {
-                Some(added)
-            } else {
-                stats.gap.map(|g| g + added)
+            stats.gap = match (stats.proven_optimal, stats.gap) {
+                _ if added < 0.0 => None,
+                (true, _) => Some(added),
+                (false, gap) => gap.map(|g| g + added),
             };
             stats.proven_optimal = false;
         }

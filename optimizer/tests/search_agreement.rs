@@ -118,3 +118,124 @@ fn the_demo_claims_only_what_its_bound_proves() {
         None => assert!(o.stats.proven_optimal),
     }
 }
+
+/// A need no design meets, on a space the search walks whole: the best
+/// error it reports is the least error of the space (the exhaustive walk
+/// of the error objective with a loose target finds no design more
+/// accurate), the binding limit says so, and progress keeps one total
+/// through the search, the walk for the least error and the re-solves.
+#[test]
+fn the_best_error_of_a_walked_space_is_its_least() {
+    let stock = small_stock();
+    let need = need(0.001, "two-point", 3);
+    let mut totals = std::collections::BTreeSet::new();
+    let clock = || 0.0;
+    let mut progress = |p: Progress| {
+        totals.insert(p.total);
+        assert!(p.done <= p.total, "done {} of {}", p.done, p.total);
+        true
+    };
+    let mut control = SolveControl {
+        progress: &mut progress,
+        now_ms: &clock,
+    };
+    let o = solve(&need, &stock, SearchMode::Optimised, &mut control).expect("the search runs");
+    let why = o.infeasible.as_ref().expect("no design meets 0.001 % FS");
+    assert!(why.proven, "the small space is walked whole");
+    let mut loose = need.clone();
+    loose.search.objective = spanfit::need::Objective::Error;
+    loose.accuracy.max_error_pct_fs = 100.0;
+    let least = run(&loose, &stock, SearchMode::Exhaustive)
+        .best
+        .map(|b| b.analysis.basis_pct_fs)
+        .expect("some design of the space is feasible");
+    assert_eq!(why.best_error_pct_fs, Some(least), "{}", why.binding);
+    assert!(
+        why.binding.contains("none is more accurate"),
+        "{}",
+        why.binding
+    );
+    assert_eq!(totals.len(), 1, "one progress total per call: {totals:?}");
+}
+
+/// With capacitors on the shelf every reported design carries the filter
+/// pair at the ADC input; the search counts it, so both modes prove the
+/// same optimum with the pair included, and the report keeps the proof
+/// (its cost is the cost the search ranked).
+#[test]
+fn the_filter_pair_is_inside_the_proof() {
+    let files = |caps: bool| {
+        let mut out: Vec<StockFile> = [
+            (
+                "resistors.csv",
+                "part_id,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+                 Y-E6,E6,1000,6900,1.0,100,0603,0.003,\n",
+            ),
+            (
+                "opamps.csv",
+                "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
+                 Y-OA1,1,2.7,12,0,0,0.02,0.02,300,2,0.1,0.1,110,2,20,0.1,100,0.40,\n",
+            ),
+            (
+                "references.csv",
+                "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty\n\
+                 Y-REF,2.5,0.1,20,0.2,10,0.30,\n",
+            ),
+        ]
+        .iter()
+        .map(|(name, text)| StockFile {
+            name: (*name).into(),
+            bytes: text.as_bytes().to_vec(),
+        })
+        .collect();
+        if caps {
+            out.push(StockFile {
+                name: "capacitors.csv".into(),
+                bytes: b"part_id,value_farads,series,min_farads,max_farads,tolerance_pct,tempco_ppm_per_c,dielectric,rated_v,package,unit_cost,stock_qty\n\
+                         Y-C,,E6,1e-9,1e-6,10,1500,X7R,25,0603,0.004,\n"
+                    .to_vec(),
+            });
+        }
+        out
+    };
+    let need = "[sensor]\nsignal_low_v = 0.1\nsignal_high_v = 0.3\noutput = \"single-ended\"\nsource_ohms = 10.0\n\
+                [adc]\nlow_v = 0.0\nhigh_v = 3.0\nbits = 12\nmargin_pct = 0.0\n\
+                [supply]\npositive_v = 5.0\nnegative_v = 0.0\n\
+                [accuracy]\nmax_error_pct_fs = 0.5\ncalibration = \"two-point\"\ntemp_min_c = 0.0\ntemp_max_c = 50.0\n\
+                [search]\nmax_stages = 1\nmax_parts = 4\nbom_line_cost = 0.05\ntime_limit_ms = 600000\n";
+    let solve = |caps: bool, exhaustive: bool| {
+        let clock = || 0.0;
+        let mut progress = |_p: Progress| true;
+        let mut control = SolveControl {
+            progress: &mut progress,
+            now_ms: &clock,
+        };
+        spanfit::api::solve_bundle(
+            need.as_bytes(),
+            "case.toml",
+            &files(caps),
+            exhaustive,
+            &mut control,
+        )
+        .expect("the search runs")
+        .report
+    };
+    let bare = solve(false, false);
+    let bare_cost = bare.design.as_ref().expect("a design").cost;
+    let mut costs = Vec::new();
+    for exhaustive in [false, true] {
+        let r = solve(true, exhaustive);
+        let design = r.design.as_ref().expect("a design");
+        assert!(design.filter.is_some(), "the pair is attached");
+        let search = r.search.as_ref().expect("a search");
+        assert!(search.proven_optimal, "exhaustive {exhaustive}: {search:?}");
+        assert!(search.gap.is_none());
+        costs.push(design.cost);
+    }
+    assert!((costs[0] - costs[1]).abs() < 1e-9, "{costs:?}");
+    // The pair adds its two parts and at least the capacitor's line.
+    assert!(
+        costs[0] >= bare_cost + 0.05 - 1e-9,
+        "{costs:?} against {bare_cost}"
+    );
+}

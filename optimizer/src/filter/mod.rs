@@ -5,8 +5,10 @@
 //! The choice ([`choose`]) is closed-form: every constraint on the pair is
 //! a bound on `R`, `C` or `R C` written out below, and the cheapest stock
 //! pair that meets all of them is taken (a linear pass over the stock; no
-//! iteration over analyses). It is made only for designs that are
-//! reported, never for each candidate the search analyses.
+//! iteration over analyses). The search counts the pair each design will
+//! get in its cost (`search/pair.rs`: chosen once per driving part, or
+//! per noise gain with a sampling input); the figures are worked out only
+//! for designs that are reported.
 //!
 //! The figures ([`response`]) come from the AC analysis of the whole
 //! chain with the pair in its netlist ([`crate::mna_ac`]): corner, droop

@@ -477,8 +477,10 @@ pub struct SearchReport {
 /// Why no design meets the need (proven) or why none was found.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct InfeasibleReport {
-    /// Error of the most accurate design the search analysed, % FS (not
-    /// a bound on what the stock allows).
+    /// Error of the most accurate design the search analysed, % FS: the
+    /// least of the whole space where the search walked all of it
+    /// (`binding` then says so), otherwise not a bound on what the stock
+    /// allows.
     pub best_error_pct_fs: Option<f64>,
     /// The binding limit in words.
     pub binding: String,

@@ -31,10 +31,13 @@
 //!   first-order worst case (worst-case basis, a lower bound on the
 //!   reported total, which is its maximum with the corner check) or RSS
 //!   (RSS basis, the reported total itself) exceeds the target, cannot
-//!   meet the need and is not reported in full.
+//!   meet the need and is not reported in full; with the error objective,
+//!   nor is one whose such total exceeds the best design's reported total
+//!   (it cannot be more accurate).
 
 use super::bounds::wrong_sign_ruled_out;
 use super::groups::shape_sequences;
+use super::pair::PairFloor;
 use super::strategy::{objective_key, RunResult, SearchState};
 use super::verify::verify_model;
 use super::{costing, Problem, Progress, SearchMode, SearchStats, SolveControl, Stop};
@@ -42,6 +45,7 @@ use crate::analysis::Model;
 use crate::design::{Design, Injection, Resistor, Shape, Source, Stage};
 use crate::need::{Basis, Objective};
 use crate::shape::{OffsetNetwork, Role};
+use crate::topology::AmplifierKind;
 use std::cmp::Ordering;
 use std::collections::{BTreeMap, BinaryHeap};
 
@@ -125,6 +129,16 @@ fn uses_bias(shape: Shape) -> bool {
         .any(|&c| shape.offset_network(c) == Some(OffsetNetwork::InvertingBias))
 }
 
+/// The part driving the output when a stage of `shape` with stock
+/// amplifier `amplifier` is the last.
+fn driver_kind(shape: Shape, amplifier: usize) -> AmplifierKind {
+    if shape.integrated() {
+        AmplifierKind::InAmp(amplifier)
+    } else {
+        AmplifierKind::OpAmp(amplifier)
+    }
+}
+
 /// The drives a node may take.
 fn drives(sources: usize) -> Vec<Drive> {
     let mut out = vec![Drive::Ground];
@@ -196,7 +210,8 @@ impl Walk {
                 continue;
             }
             let mut per_stage = Vec::new();
-            for &shape in &shapes {
+            for (position, &shape) in shapes.iter().enumerate() {
+                let last = position + 1 == shapes.len();
                 let mut options = Vec::new();
                 let amplifiers = if shape.integrated() { &inamps } else { &opamps };
                 let bias_drives = if uses_bias(shape) {
@@ -261,10 +276,22 @@ impl Walk {
                                     if parts + usize::from(sections > 0) > need.search.max_parts {
                                         continue;
                                     }
+                                    // The last stage's amplifier drives
+                                    // the filter pair: its floor (proof in
+                                    // search/pair.rs) joins the bound.
+                                    let pair = if last {
+                                        problem.pairs.floor(driver_kind(shape, amplifier))
+                                    } else {
+                                        PairFloor::default()
+                                    };
                                     let bound = match objective {
-                                        Objective::Parts => parts as f64 + section_parts,
+                                        Objective::Parts => {
+                                            parts as f64 + section_parts + pair.parts as f64
+                                        }
                                         _ => {
-                                            own + section_cost + slots.len() as f64 * least_resistor
+                                            own + section_cost
+                                                + slots.len() as f64 * least_resistor
+                                                + pair.cost
                                         }
                                     };
                                     options.push(StageOption {
@@ -383,8 +410,10 @@ impl Walk {
 }
 
 /// Whether a model's cheap totals prove that it cannot meet the target
-/// (see the module notes); the yield basis proves nothing here.
-fn cannot_meet(problem: &Problem<'_>, model: &Model) -> bool {
+/// or, with the error objective, cannot be more accurate than the best
+/// design found (`best_v`, volts on the need's basis): see the module
+/// notes; the yield basis proves nothing here.
+fn cannot_meet(problem: &Problem<'_>, model: &Model, best_v: Option<f64>) -> bool {
     if !model.feasible() {
         return true;
     }
@@ -393,7 +422,10 @@ fn cannot_meet(problem: &Problem<'_>, model: &Model) -> bool {
         Basis::Rss => model.rss_at_ends(),
         Basis::Yield => return false,
     };
-    total[0].max(total[1]) > problem.target_v
+    let least = total[0].max(total[1]);
+    // Proof (error objective): the reported total is at least this one,
+    // so above the best's reported total it ranks after the best.
+    least > problem.target_v || best_v.is_some_and(|b| least > b * (1.0 + 1e-9))
 }
 
 /// Every resistor assignment of one structure, offered to `state`;
@@ -416,6 +448,11 @@ fn search_structure(
         return true;
     }
     let mut flat = vec![0usize; count];
+    // The part driving the output and the filter pair.
+    let driver = match (shapes.last(), options.last()) {
+        (Some(&shape), Some(option)) => Some(driver_kind(shape, option.amplifier)),
+        _ => None,
+    };
     // Cost of everything but the resistors, exact, from the first build.
     let mut fixed: Option<f64> = None;
     let mut visited = 0u64;
@@ -445,6 +482,11 @@ fn search_structure(
                     }
                 }
                 cost += line * ids.len() as f64;
+                // The filter pair the report attaches: exact without a
+                // sampling input, its floor with one (search/pair.rs).
+                if let Some(kind) = driver {
+                    cost += problem.pairs.least_added(kind, &|id| ids.contains(&id));
+                }
                 cost >= objective_key(objective, best).0 - 1e-12
             }
             _ => false,
@@ -469,7 +511,13 @@ fn search_structure(
                         .sum();
                     fixed = Some(c.total - resistor_cost - line * resistor_lines as f64);
                 }
-                if cannot_meet(problem, &model) {
+                let best_v = match (objective, state.best.as_ref()) {
+                    (Objective::Error, Some(best)) => {
+                        Some(best.analysis.basis_pct_fs / 100.0 * best.analysis.full_scale_v)
+                    }
+                    _ => None,
+                };
+                if cannot_meet(problem, &model, best_v) {
                     state.diagnosis.note_findings(&model.findings());
                 } else if let Some(c) = verify_model(problem, design, model) {
                     state.evaluated += 1;
@@ -729,6 +777,7 @@ pub(super) fn run(problem: &Problem<'_>, control: &mut SolveControl<'_>) -> RunR
     RunResult {
         stopped: (!end.finished).then_some(Stop::Cancelled),
         proven_infeasible: end.finished && state.best.is_none(),
+        walked: end.finished,
         stats: SearchStats {
             mode: SearchMode::Exhaustive.name().into(),
             evaluated: state.evaluated,

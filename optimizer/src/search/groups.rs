@@ -7,6 +7,7 @@ use crate::design::{Shape, Source};
 use crate::need::{Calibration, Need, SensorOutput};
 use crate::shape::OffsetNetwork;
 use crate::stock::Stock;
+use crate::topology::AmplifierKind;
 
 /// Screening slack: a group or structure is dropped only when its estimate
 /// exceeds the target by more than this factor.
@@ -58,6 +59,9 @@ pub(super) struct Group {
     pub(super) resistors_per_stage: Vec<usize>,
     /// Amplifier packages.
     pub(super) packages: usize,
+    /// The least the filter pair adds to any design of the group (its
+    /// last stage's amplifier drives the pair; search/pair.rs).
+    pub(super) pair_floor: super::pair::PairFloor,
 }
 
 impl Group {
@@ -363,6 +367,14 @@ fn groups_with_parts(
                 fixed_cost += stock.inamps[i].unit_cost;
                 fixed_lines += 1;
             }
+            // The last stage's amplifier drives the output and the pair.
+            let driver = match frame.shapes.last() {
+                Some(shape) if shape.integrated() => inamp.map(AmplifierKind::InAmp),
+                _ => opamp.map(AmplifierKind::OpAmp),
+            };
+            let pair_floor = driver
+                .map(|kind| problem.pairs.floor(kind))
+                .unwrap_or_default();
             let group = Group {
                 shapes: frame.shapes.to_vec(),
                 opamp,
@@ -374,6 +386,7 @@ fn groups_with_parts(
                 fixed_lines,
                 resistors_per_stage: resistors_per_stage(frame.shapes, plans),
                 packages,
+                pair_floor,
             };
             match check_swing(problem, &group) {
                 Ok(()) => {

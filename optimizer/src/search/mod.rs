@@ -33,6 +33,7 @@ mod exhaustive;
 mod explain;
 mod groups;
 mod milp;
+mod pair;
 mod pareto;
 pub(crate) mod ratio;
 mod strategy;
@@ -43,11 +44,12 @@ mod verify;
 pub use structures::augment_stock;
 
 use crate::analysis::{part_count, Analysis};
-use crate::design::{Design, Source};
+use crate::design::{Design, Resistor, Source};
 use crate::error::Result;
 use crate::need::{Need, SensorOutput};
-use crate::stock::Stock;
+use crate::stock::{CapacitorPart, Stock};
 use crate::topology::Built;
+use pair::FilterPairs;
 use serde::Serialize;
 use std::collections::BTreeSet;
 use structures::Grade;
@@ -119,6 +121,17 @@ pub struct Costing {
 
 /// Cost a built design.
 pub fn costing(built: &Built, bom_line_cost: f64) -> Costing {
+    costing_with(built, None, bom_line_cost)
+}
+
+/// Cost a built design as it will be reported: with `pair` (the filter
+/// pair the report will attach, for a design analysed without one) added
+/// as the report adds it.
+pub(crate) fn costing_with(
+    built: &Built,
+    pair: Option<&(Resistor, CapacitorPart)>,
+    bom_line_cost: f64,
+) -> Costing {
     let mut ids = BTreeSet::new();
     let mut parts_cost = 0.0;
     for r in &built.resistors {
@@ -141,11 +154,18 @@ pub fn costing(built: &Built, bom_line_cost: f64) -> Costing {
         ids.insert(format!("r:{}", f.series.part_id));
         ids.insert(format!("c:{}", f.shunt.part_id));
     }
+    let mut added_parts = 0;
+    if let (None, Some((series, shunt))) = (&built.filter, pair) {
+        parts_cost += series.unit_cost + shunt.unit_cost;
+        ids.insert(format!("r:{}", series.part_id));
+        ids.insert(format!("c:{}", shunt.part_id));
+        added_parts = 2;
+    }
     let bom_lines = ids.len();
     Costing {
         parts_cost,
         bom_lines,
-        part_count: part_count(built),
+        part_count: part_count(built) + added_parts,
         total: parts_cost + bom_line_cost * bom_lines as f64,
     }
 }
@@ -315,9 +335,28 @@ struct Problem<'a> {
     ideal: [f64; 2],
     /// Allowed error on the need's basis, volts at the output.
     target_v: f64,
+    /// The filter pair each design will be reported with, and its floors.
+    pairs: FilterPairs<'a>,
 }
 
-impl Problem<'_> {
+impl<'a> Problem<'a> {
+    /// The problem of a need, with the user's stock (the filter pair is
+    /// chosen from it, as the report chooses it) and the search's
+    /// augmented stock.
+    fn new(need: &'a Need, user_stock: &'a Stock, stock: &'a Stock) -> Problem<'a> {
+        let (k, b) = need.ideal_transfer();
+        let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
+        Problem {
+            need,
+            stock,
+            grades: structures::grades(stock),
+            signal,
+            ideal: [k * signal[0] + b, k * signal[1] + b],
+            target_v: need.accuracy.max_error_pct_fs / 100.0 * need.full_scale(),
+            pairs: FilterPairs::new(need, user_stock),
+        }
+    }
+
     /// The sensor's own resistance on the (+, -) input legs of a stage
     /// (zero past the first stage).
     fn sensor_ohms(&self, stage: usize) -> (f64, f64) {
@@ -340,6 +379,55 @@ impl Problem<'_> {
             [(previous[0], 0.0), (previous[1], 0.0)]
         }
     }
+}
+
+/// The most accurate design of the whole space (`Some(None)`: none is
+/// feasible at all), by the exhaustive walk of the error objective with
+/// a loose target; `None` when the deadline or a cancel cut it short.
+/// Progress is reported as the main search's end (`total`).
+fn least_error(
+    need: &Need,
+    stock: &Stock,
+    control: &mut SolveControl<'_>,
+    deadline_ms: f64,
+    total: u64,
+) -> Option<Option<Candidate>> {
+    let mut loose = need.clone();
+    loose.search.objective = crate::need::Objective::Error;
+    loose.accuracy.max_error_pct_fs = 100.0;
+    let augmented = augment_stock(&loose, stock);
+    let problem = Problem::new(&loose, stock, &augmented);
+    let end = exhaustive::walk(
+        &problem,
+        control,
+        strategy::SearchState::new(crate::need::Objective::Error),
+        &exhaustive::WalkBudget {
+            deadline_ms,
+            report_as: Some(total),
+        },
+    );
+    end.finished.then_some(end.state.best)
+}
+
+/// The search alone, for callers that need only its verdict and design
+/// (the cross-checks of the two modes): as [`solve`], except that a need
+/// without a design is explained by its binding limit only, without the
+/// verified suggestions and the walk for the least error of the space,
+/// each a search of its own.
+pub fn solve_unexplained(
+    need: &Need,
+    stock: &Stock,
+    mode: SearchMode,
+    control: &mut SolveControl<'_>,
+) -> Result<SolveOutcome> {
+    solve_with(need, stock, mode, control, Suggestions::Skip)
+}
+
+/// Designs in the whole space of a need and a stock (docs/search.md),
+/// counted without building any, or `None` once the count passes `limit`.
+pub fn space_designs(need: &Need, stock: &Stock, limit: u64) -> Option<u64> {
+    let augmented = augment_stock(need, stock);
+    exhaustive::space_size(&Problem::new(need, stock, &augmented), limit)
 }
 
 /// Search for the cheapest design meeting the need (or, with
@@ -367,17 +455,8 @@ fn solve_with(
         SearchMode::Optimised => (control.now_ms)() + need.search.time_limit_ms as f64,
         SearchMode::Exhaustive => f64::INFINITY,
     };
-    let stock = augment_stock(need, stock);
-    let (k, b) = need.ideal_transfer();
-    let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
-    let problem = Problem {
-        need,
-        stock: &stock,
-        grades: structures::grades(&stock),
-        signal,
-        ideal: [k * signal[0] + b, k * signal[1] + b],
-        target_v: need.accuracy.max_error_pct_fs / 100.0 * need.full_scale(),
-    };
+    let augmented = augment_stock(need, stock);
+    let problem = Problem::new(need, stock, &augmented);
     let run = strategy::run(&problem, mode, control);
     let mut alternatives = pareto::front(run.found);
     if let Some(best) = &run.best {
@@ -392,10 +471,23 @@ fn solve_with(
     // infeasible. A finished walk without one is explained, and marked
     // proven only where a proof holds.
     let infeasible = if run.best.is_none() && run.stopped.is_none() {
+        let mut diagnosis = run.diagnosis;
+        // Where the walk covered the whole space, the least error of the
+        // space is found by walking it again for the error objective (in
+        // the time left); the explanation then starts from that design.
+        let least = if run.walked && suggestions == Suggestions::Try {
+            least_error(need, stock, control, deadline_ms, run.stats.structures)
+        } else {
+            None
+        };
+        if let Some(Some(design)) = &least {
+            diagnosis.note(design);
+        }
+        // The re-solves start from the user's stock, as this call did.
         let mut why = explain::explain(
             need,
-            &stock,
-            &run.diagnosis,
+            stock,
+            &diagnosis,
             &mut explain::Budget {
                 control,
                 deadline_ms,
@@ -404,6 +496,14 @@ fn solve_with(
             suggestions,
         );
         why.proven = run.proven_infeasible;
+        if let Some(found) = least {
+            let least_pct = found.map(|c| c.analysis.basis_pct_fs);
+            // The least error of the space is the best error there is.
+            if why.best_error_pct_fs.is_some() && why.best_error_pct_fs == least_pct {
+                why.binding
+                    .push_str("; every design of the space was walked, and none is more accurate");
+            }
+        }
         Some(why)
     } else {
         None

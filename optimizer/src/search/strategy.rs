@@ -194,7 +194,8 @@ impl Optimised {
         let quick = (random[0] + systematic[0]).max(random[1] + systematic[1]);
         let open_loop = model.open_loop_gain_error();
         let rounding = model.rounding_error();
-        let reference_cost = costing(model.built(), problem.need.search.bom_line_cost).total;
+        let reference_cost =
+            costing(model.built(), problem.need.search.bom_line_cost).total + group.pair_floor.cost;
         let could_win = state
             .best
             .as_ref()
@@ -348,6 +349,9 @@ pub(super) struct RunResult {
     /// No design in the whole space can meet the need (a proof, not a
     /// failure to find one).
     pub(super) proven_infeasible: bool,
+    /// The exhaustive walk visited (or ruled out by proof) every
+    /// structure of the space.
+    pub(super) walked: bool,
     /// Counters.
     pub(super) stats: SearchStats,
 }
@@ -467,6 +471,7 @@ pub(super) fn run(
     }
     let (mut proven_optimal, mut gap) = proof_from_space(objective, &space, state.best.as_ref());
     let mut proven_infeasible = space.proven_empty();
+    let mut walked = false;
     // A small space is finished by the exhaustive walk in the time left,
     // from the best design found as its incumbent: a walk that ends
     // proves the verdict.
@@ -489,6 +494,7 @@ pub(super) fn run(
             stopped = Some(Stop::Cancelled);
         }
         if end.finished {
+            walked = true;
             proven_optimal = state.best.is_some();
             proven_infeasible = state.best.is_none();
             gap = None;
@@ -503,6 +509,7 @@ pub(super) fn run(
         found: state.found,
         diagnosis: state.diagnosis,
         proven_infeasible,
+        walked,
         stats: SearchStats {
             mode: strategy.mode().name().into(),
             evaluated: state.evaluated,

@@ -134,9 +134,10 @@ pub(super) struct Structure {
     pub(super) group: usize,
     /// Grade index per stage, then the divider grade.
     pub(super) grades: Vec<usize>,
-    /// Lower bound on the total cost of any design of the structure.
+    /// Lower bound on the total cost of any design of the structure, the
+    /// filter pair's floor included.
     pub(super) bound: f64,
-    /// Parts on the board.
+    /// Parts on the board, with the filter pair's floor.
     pub(super) parts: usize,
 }
 
@@ -343,9 +344,11 @@ fn relaxed_key(
         .zip(&slot.counts)
         .map(|(&g, &c)| c * problem.grades[g].min_cost)
         .sum();
-    let bound =
-        group.fixed_cost + resistor_cost + line * (group.fixed_lines + slot.floor_lines) as f64;
-    walk_key(problem, bound, slot.parts)
+    let bound = group.fixed_cost
+        + group.pair_floor.cost
+        + resistor_cost
+        + line * (group.fixed_lines + slot.floor_lines) as f64;
+    walk_key(problem, bound, slot.parts + group.pair_floor.parts)
 }
 
 impl Structures<'_> {
@@ -379,9 +382,10 @@ impl Structures<'_> {
             group: slot.group,
             grades,
             bound: group.fixed_cost
+                + group.pair_floor.cost
                 + resistor_cost
                 + problem.need.search.bom_line_cost * (group.fixed_lines + min_lines) as f64,
-            parts: slot.parts,
+            parts: slot.parts + group.pair_floor.parts,
         }
     }
 }
@@ -461,8 +465,8 @@ mod tests {
     /// here independently: the same set, each once, in non-decreasing
     /// key order, with the bound of the written formula.
     fn check(objective: &str) {
-        let (need, stock) = problem_parts(objective);
-        let stock = augment_stock(&need, &stock);
+        let (need, user_stock) = problem_parts(objective);
+        let stock = augment_stock(&need, &user_stock);
         let (k, b) = need.ideal_transfer();
         let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
         let problem = Problem {
@@ -472,6 +476,7 @@ mod tests {
             signal,
             ideal: [k * signal[0] + b, k * signal[1] + b],
             target_v: need.accuracy.max_error_pct_fs / 100.0 * need.full_scale(),
+            pairs: super::super::pair::FilterPairs::new(&need, &user_stock),
         };
         assert_eq!(problem.grades.len(), 4, "the test stock has four grades");
         let groups = enumerate_groups(&problem, &mut Rejections::default());
@@ -493,7 +498,7 @@ mod tests {
             // The bound written out: resistors at their grade's cheapest
             // price (divider pairs at the divider grade), fixed parts, and
             // one fee per distinct BOM line.
-            let mut cost = group.fixed_cost;
+            let mut cost = group.fixed_cost + group.pair_floor.cost;
             let mut lines: BTreeSet<usize> = BTreeSet::new();
             for stage in 0..n {
                 let dividers = group

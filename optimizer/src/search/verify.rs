@@ -2,7 +2,7 @@
 //! check, and the estimate of a structure's random error from another
 //! structure of its group.
 
-use super::{costing, Candidate, Problem};
+use super::{costing_with, Candidate, Problem};
 use crate::analysis::{Model, RandomSplit};
 use crate::design::{Design, Source};
 use crate::need::Basis;
@@ -52,7 +52,9 @@ pub(super) fn verify_model(
     };
     let analysis = model.report(problem.need, builds, 1).ok()?;
     let built = model.built().clone();
-    let costing = costing(&built, problem.need.search.bom_line_cost);
+    // Costed with the filter pair the report will attach (search/pair.rs).
+    let pair = problem.pairs.share(&built);
+    let costing = costing_with(&built, pair.as_ref(), problem.need.search.bom_line_cost);
     Some(Candidate {
         design,
         built,

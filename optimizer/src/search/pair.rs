@@ -1,0 +1,277 @@
+//! The filter pair at the ADC input in the search's objective.
+//!
+//! Every reported design gets the pair [`crate::filter::attach`] chooses
+//! for it ([`crate::filter::choose`]: the cheapest stocked resistor and
+//! capacitor meeting the rules of `docs/filter.md`), so the search counts
+//! that pair in the objective of every design it verifies (its parts
+//! cost, its two parts, the capacitor's BOM line and the series
+//! resistor's line where no resistor of the design shares it) and in the
+//! lower bounds of both modes. The pair is chosen from the user's stock,
+//! as the report chooses it, not from the search's augmented one.
+//!
+//! What the choice depends on (read from `filter::bounds`, `meets` and
+//! `choose`): the need, the stock, and the driving section (the last
+//! stage's amplifier, whose output is the chain's output): its output
+//! resistance (the phase-margin rule) and, only with a sampling ADC input
+//! (`adc.sample_capacitance_pf`), its gain-bandwidth and noise gain
+//! through the settling rule. So without a sampling input the pair is a
+//! function of the driving part alone, chosen once per part here. With
+//! one, the noise gain `NG` (never below 1) enters only the recovery time
+//! constant `R (C + Cs) + NG / (2 pi GBW)`, which grows with `NG`; a pair
+//! meeting the settling rule at some `NG` meets it at every smaller one.
+//! The pairs allowed at `NG` thus shrink as `NG` grows, and:
+//!
+//! - the cheapest pair at `NG = 1` costs no more (in unit prices, which is
+//!   what `choose` minimises) than the pair chosen at any `NG`;
+//! - where no pair is allowed at `NG` large enough (the pairs left in the
+//!   limit are those whose kickback is under 1/2 LSB before any
+//!   recovery), some design of that part may get no pair at all and add
+//!   nothing, so the floor is zero.
+//!
+//! The floor of a part ([`PairFloor`]) is therefore: nothing when no pair
+//! exists at `NG = 1` or may vanish at a large `NG`; otherwise the unit
+//! prices of the `NG = 1` pair plus one BOM line (the capacitor's, which
+//! no other part shares: the capacitor rows are the filter's alone), and
+//! two parts. The series resistor's line may be shared with a resistor of
+//! the design, so the floor does not count it; the exact share of a
+//! design does ([`FilterPairs::share`]).
+
+use crate::design::Resistor;
+use crate::filter::{choose, driver, Driver, FilterParts};
+use crate::need::Need;
+use crate::stock::{Stock, DEFAULT_OUTPUT_OHMS};
+use crate::topology::{AmplifierKind, Built};
+use std::cell::RefCell;
+use std::collections::BTreeMap;
+
+/// The least the pair adds to any design whose output a given part
+/// drives: cost (parts and the capacitor's BOM line) and parts.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub(crate) struct PairFloor {
+    /// Least cost added, the capacitor's BOM line included.
+    pub(crate) cost: f64,
+    /// Least parts added (0 or 2).
+    pub(crate) parts: usize,
+}
+
+/// The pairs of one search: floors per amplifier part, the exact pair per
+/// part without a sampling input, and a cache of the pairs chosen per
+/// noise gain with one.
+pub(crate) struct FilterPairs<'s> {
+    need: &'s Need,
+    /// The user's stock (the report chooses the pair from it).
+    stock: &'s Stock,
+    /// Whether the ADC input samples (the noise gain then matters).
+    sampling: bool,
+    /// Per op-amp stock index: the floor, and the pair at `NG = 1`.
+    opamps: Vec<(PairFloor, Option<FilterParts>)>,
+    /// Per in-amp stock index: the same.
+    inamps: Vec<(PairFloor, Option<FilterParts>)>,
+    /// Pairs chosen with a sampling input, by part and noise gain.
+    cache: RefCell<BTreeMap<(bool, usize, u64), Option<FilterParts>>>,
+}
+
+/// Most pairs kept in the cache (a sampling input makes one per noise
+/// gain; past this they are chosen again, which is cheap).
+const CACHE_ENTRIES: usize = 4096;
+
+/// Unit prices of a pair (what `choose` minimises).
+fn units(p: &FilterParts) -> f64 {
+    p.series.unit_cost + p.shunt.unit_cost
+}
+
+impl<'s> FilterPairs<'s> {
+    /// The pairs of a need and the user's stock (the op-amp and in-amp
+    /// indices are those of the search's stock too: augmenting adds only
+    /// resistors).
+    pub(crate) fn new(need: &'s Need, stock: &'s Stock) -> FilterPairs<'s> {
+        let sampling = need.adc.sample_capacitance.is_some();
+        let line = need.search.bom_line_cost;
+        let floor_of = |gbw_mhz: f64, output_ohms: f64| {
+            let at = |noise_gain: f64| {
+                choose(
+                    need,
+                    stock,
+                    &Driver {
+                        designator: String::new(),
+                        gbw_hz: gbw_mhz * 1e6,
+                        output_ohms,
+                        noise_gain,
+                    },
+                )
+            };
+            let first = at(1.0);
+            let always = !sampling || at(f64::INFINITY).is_some();
+            let floor = match &first {
+                Some(p) if always => PairFloor {
+                    cost: units(p) + line,
+                    parts: 2,
+                },
+                _ => PairFloor::default(),
+            };
+            (floor, first)
+        };
+        FilterPairs {
+            need,
+            stock,
+            sampling,
+            opamps: stock
+                .opamps
+                .iter()
+                .map(|p| floor_of(p.gbw_mhz, p.output_ohms))
+                .collect(),
+            inamps: stock
+                .inamps
+                .iter()
+                .map(|p| floor_of(p.gbw_mhz, DEFAULT_OUTPUT_OHMS))
+                .collect(),
+            cache: RefCell::new(BTreeMap::new()),
+        }
+    }
+
+    /// The floor of the part driving the output.
+    pub(crate) fn floor(&self, kind: AmplifierKind) -> PairFloor {
+        let entry = match kind {
+            AmplifierKind::OpAmp(i) => self.opamps.get(i),
+            AmplifierKind::InAmp(i) => self.inamps.get(i),
+        };
+        entry.map(|e| e.0).unwrap_or_default()
+    }
+
+    /// The least floor over the parts that may drive (usable op-amps or
+    /// in-amps).
+    pub(crate) fn least_floor(&self, kinds: impl Iterator<Item = AmplifierKind>) -> PairFloor {
+        kinds
+            .map(|k| self.floor(k))
+            .reduce(|a, b| PairFloor {
+                cost: a.cost.min(b.cost),
+                parts: a.parts.min(b.parts),
+            })
+            .unwrap_or_default()
+    }
+
+    /// The least the pair adds to a design of a structure whose output
+    /// `kind` drives, given which resistor part numbers the design places
+    /// (`placed`): exact without a sampling input (the pair is the part's
+    /// own, and its resistor's line is paid unless the design shares it),
+    /// the floor with one.
+    pub(crate) fn least_added(&self, kind: AmplifierKind, placed: &dyn Fn(&str) -> bool) -> f64 {
+        let floor = self.floor(kind);
+        if self.sampling || floor.parts == 0 {
+            return floor.cost;
+        }
+        let pair = match kind {
+            AmplifierKind::OpAmp(i) => self.opamps.get(i).and_then(|e| e.1.as_ref()),
+            AmplifierKind::InAmp(i) => self.inamps.get(i).and_then(|e| e.1.as_ref()),
+        };
+        match pair {
+            Some(p) if !placed(&p.series.part_id) => floor.cost + self.need.search.bom_line_cost,
+            _ => floor.cost,
+        }
+    }
+
+    /// The pair the report will give a built design (without a filter of
+    /// its own), or `None` when it gets none.
+    pub(crate) fn pair_for(&self, built: &Built) -> Option<FilterParts> {
+        let section = built.sections.iter().find(|s| s.out == built.out)?;
+        let (is_opamp, index) = match section.kind {
+            AmplifierKind::OpAmp(i) => (true, i),
+            AmplifierKind::InAmp(i) => (false, i),
+        };
+        if !self.sampling {
+            let entry = if is_opamp {
+                self.opamps.get(index)
+            } else {
+                self.inamps.get(index)
+            };
+            return entry.and_then(|e| e.1.clone());
+        }
+        let d = driver(self.need, self.stock, built)?;
+        let key = (is_opamp, index, d.noise_gain.to_bits());
+        if let Some(hit) = self.cache.borrow().get(&key) {
+            return hit.clone();
+        }
+        let pair = choose(self.need, self.stock, &d);
+        let mut cache = self.cache.borrow_mut();
+        if cache.len() < CACHE_ENTRIES {
+            cache.insert(key, pair.clone());
+        }
+        pair
+    }
+
+    /// The pair's series resistor and capacitor for [`super::costing_with`].
+    pub(crate) fn share(&self, built: &Built) -> Option<(Resistor, crate::stock::CapacitorPart)> {
+        if built.filter.is_some() {
+            return None;
+        }
+        self.pair_for(built).map(|p| (p.series, p.shunt))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The demo need with a sampling input, so the noise gain matters.
+    fn sampling_need() -> (Need, Stock) {
+        let need = crate::demo::NEED_TOML.replacen(
+            "margin_pct = 2.0",
+            "margin_pct = 2.0\nsample_capacitance_pf = 20\nacquisition_time_ns = 2000",
+            1,
+        );
+        crate::api::load(need.as_bytes(), "need.toml", &[]).expect("the test need loads")
+    }
+
+    /// The floor's premise, checked against `choose` itself: the pair
+    /// chosen at any noise gain costs at least the floor's unit prices
+    /// (when the floor is not zero), and where the floor says a pair always
+    /// exists, one is chosen at every noise gain.
+    #[test]
+    fn the_floor_is_below_the_pair_at_every_noise_gain() {
+        for (need, stock) in [
+            crate::api::load(crate::demo::NEED_TOML.as_bytes(), "demo", &[]).unwrap(),
+            sampling_need(),
+        ] {
+            let pairs = FilterPairs::new(&need, &stock);
+            let line = need.search.bom_line_cost;
+            for (i, p) in stock.opamps.iter().enumerate() {
+                let floor = pairs.floor(AmplifierKind::OpAmp(i));
+                for ng in [1.0, 1.5, 3.0, 10.0, 100.0, 1e4, 1e6, 1e9] {
+                    let d = Driver {
+                        designator: String::new(),
+                        gbw_hz: p.gbw_mhz * 1e6,
+                        output_ohms: p.output_ohms,
+                        noise_gain: ng,
+                    };
+                    match choose(&need, &stock, &d) {
+                        Some(pair) => assert!(units(&pair) + line >= floor.cost - 1e-12),
+                        None => assert_eq!(floor.parts, 0, "{} at NG {ng}", p.part_id),
+                    }
+                }
+            }
+        }
+    }
+
+    /// The pair the search counts is the pair the report attaches, for
+    /// every amplifier of the demo stock driving a one-stage design.
+    #[test]
+    fn the_counted_pair_is_the_attached_pair() {
+        for (need, stock) in [
+            crate::api::load(crate::demo::NEED_TOML.as_bytes(), "demo", &[]).unwrap(),
+            sampling_need(),
+        ] {
+            let pairs = FilterPairs::new(&need, &stock);
+            let design = crate::design::parse_design(
+                include_str!("../../../examples/demo-design.json").as_bytes(),
+                "demo-design.json",
+                &stock,
+            )
+            .unwrap();
+            let built = crate::topology::build(&need, &stock, &design).unwrap();
+            let counted = pairs.pair_for(&built);
+            let (attached, _) = crate::filter::attach(&need, &stock, &built);
+            let placed = attached.filter.map(|f| (f.series, f.shunt));
+            assert_eq!(counted.map(|p| (p.series, p.shunt)), placed);
+        }
+    }
+}
