@@ -43,13 +43,16 @@ pub enum Contributor {
     InAmpOutputOffset,
     /// The sensor's own resistance: its tolerance and tempco.
     SourceResistance,
+    /// Gain droop at the signal bandwidth (the chain's poles and the
+    /// filter at the ADC input), as an error at the top of the span.
+    Droop,
     /// Noise over the bandwidth, as the peak (half of 6.6-sigma p-p).
     Noise,
 }
 
 impl Contributor {
     /// Every contributor in report order.
-    pub const ALL: [Contributor; 17] = [
+    pub const ALL: [Contributor; 18] = [
         Contributor::NominalRounding,
         Contributor::OpenLoopGain,
         Contributor::ResistorTolerance,
@@ -66,6 +69,7 @@ impl Contributor {
         Contributor::InAmpGainDrift,
         Contributor::InAmpOutputOffset,
         Contributor::SourceResistance,
+        Contributor::Droop,
         Contributor::Noise,
     ];
 
@@ -88,6 +92,7 @@ impl Contributor {
             Contributor::InAmpGainDrift => "in-amp gain drift",
             Contributor::InAmpOutputOffset => "in-amp output offset",
             Contributor::SourceResistance => "sensor resistance tolerance and tempco",
+            Contributor::Droop => "gain droop at the signal bandwidth",
             Contributor::Noise => "noise (peak, 3.3 sigma)",
         }
     }
@@ -97,7 +102,7 @@ impl Contributor {
     pub fn systematic(self) -> bool {
         matches!(
             self,
-            Contributor::NominalRounding | Contributor::OpenLoopGain
+            Contributor::NominalRounding | Contributor::OpenLoopGain | Contributor::Droop
         )
     }
 }
