@@ -29,10 +29,22 @@ pub const MONTE_CARLO_BUILDS_YIELD: u64 = crate::montecarlo::YIELD_BASIS_BUILDS;
 pub const MONTE_CARLO_SEED: u64 = 1;
 
 /// Give a searched design its filter at the ADC input (the search
-/// analyses designs without one) and cost it with the pair.
+/// analyses designs without one, its noise and droop at the filter rules'
+/// bounds), analyse it again as it is reported, with the pair (or with
+/// none where none fits), and cost it with the pair.
 fn with_filter(need: &Need, stock: &Stock, candidate: &mut Candidate) {
     if candidate.built.filter.is_none() {
-        candidate.built = crate::filter::attach(need, stock, &candidate.built).0;
+        let builds = if candidate.analysis.yield_result.is_some() {
+            monte_carlo_builds(need)
+        } else {
+            0
+        };
+        if let Ok((model, analysis)) =
+            analyze(need, stock, &candidate.design, builds, MONTE_CARLO_SEED)
+        {
+            candidate.built = model.built().clone();
+            candidate.analysis = analysis;
+        }
         candidate.costing = costing(&candidate.built, need.search.bom_line_cost);
     }
 }

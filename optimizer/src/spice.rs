@@ -23,6 +23,7 @@
 
 use crate::design::Design;
 use crate::error::{Error, Result};
+use crate::mna_ac::AcAmplifier;
 use crate::need::{Need, SensorOutput};
 use crate::netlist::{Element, ElementKind, Netlist, Node};
 use crate::stock::Stock;
@@ -55,7 +56,18 @@ pub struct Deck<'a> {
     /// Extra comment lines (sanitised) written in the header, such as the
     /// limits of the error sources from the stock rows.
     pub notes: &'a [String],
+    /// The single-pole model of each op-amp section (its GBW and output
+    /// resistance, [`crate::filter::amplifiers`]); a section without one
+    /// is written as a frequency-independent gain block.
+    pub amplifiers: &'a [AcAmplifier],
 }
+
+/// Inductance across each op-amp's output resistance in the deck, as the
+/// frequency `R / (2 pi L)` above which the resistance is in place, Hz.
+/// At DC the inductor shorts it, so the operating point is the core's DC
+/// model (no output resistance) exactly; from this frequency up the
+/// output is the core's AC model. A model choice of ours.
+pub const OUTPUT_RESISTANCE_FROM_HZ: f64 = 1e-3;
 
 /// The deck of a built design, with `VSENSE` at the value the netlist holds
 /// (the low end of the span, as [`build`] makes it) and a second operating
@@ -73,6 +85,7 @@ pub fn netlist_text(built: &Built, title: &str, signal_high_v: f64) -> String {
             title,
             span_v: [low, signal_high_v],
             notes: &[],
+            amplifiers: &[],
         },
     )
 }
@@ -91,12 +104,14 @@ pub fn export(need: &Need, stock: &Stock, design: &Design) -> Result<String> {
     let shapes: Vec<&str> = design.stages.iter().map(|s| s.shape.name()).collect();
     let title = format!("{} for {}", shapes.join(" + "), need.sensor.label);
     let notes = limit_notes(need, stock, &built);
+    let amplifiers = crate::filter::amplifiers(stock, &built);
     Ok(deck(
         &built,
         &Deck {
             title: &title,
             span_v: span,
             notes: &notes,
+            amplifiers: &amplifiers,
         },
     ))
 }
@@ -270,8 +285,42 @@ fn node_name(n: &Netlist, node: Node) -> &str {
     n.node_names.get(node).map(String::as_str).unwrap_or("0")
 }
 
-/// The element line (no trailing newline), with `name` as written.
-fn element_line(n: &Netlist, e: &Element, name: &str) -> String {
+/// The lines of an op-amp section with its single-pole model (no
+/// trailing newline): a transconductance of `Aol` A/V from the inputs into
+/// a pole node loaded by 1 ohm and `Aol/(2 pi GBW)` farads, so its voltage
+/// is `A(s) (V+ - V-)` with `A(s) = 1/(1/Aol + s/(2 pi GBW))` (the gain in
+/// the transconductance keeps the matrix scaled as a plain gain block's,
+/// so the operating point matches the core's to its precision);
+/// `E<ref>` copies it, and the output resistance (with an inductor across
+/// it, [`OUTPUT_RESISTANCE_FROM_HZ`]) joins it to the output node. The
+/// same model as the core's AC analysis ([`crate::mna_ac`]).
+fn opamp_lines(n: &Netlist, e: &Element, name: &str, aol: f64, model: &AcAmplifier) -> String {
+    let a = node_name(n, e.nodes[0]);
+    let b = node_name(n, e.nodes[1]);
+    let out = node_name(n, e.nodes[2]);
+    let x = name.strip_prefix('E').unwrap_or(name);
+    let pole = format!("pole_{x}");
+    let drive = format!("drive_{x}");
+    let ro = model.output_ohms.max(1e-6);
+    let henries = ro / (2.0 * std::f64::consts::PI * OUTPUT_RESISTANCE_FROM_HZ);
+    [
+        format!("GPOLE_{x} 0 {pole} {a} {b} {}", spice_number(aol)),
+        format!("RPOLE_{x} {pole} 0 1"),
+        format!(
+            "CPOLE_{x} {pole} 0 {}",
+            spice_number(aol / (2.0 * std::f64::consts::PI * model.gbw_hz))
+        ),
+        format!("{name} {drive} 0 {pole} 0 1"),
+        format!("ROUT_{x} {drive} {out} {}", spice_number(ro)),
+        format!("LOUT_{x} {drive} {out} {}", spice_number(henries)),
+    ]
+    .join("\n")
+}
+
+/// The element line (no trailing newline), with `name` as written; an
+/// op-amp with a model in `amplifiers` takes several lines
+/// ([`opamp_lines`]).
+fn element_line(n: &Netlist, e: &Element, name: &str, model: Option<&AcAmplifier>) -> String {
     let a = node_name(n, e.nodes[0]);
     let b = node_name(n, e.nodes[1]);
     match e.kind {
@@ -287,6 +336,9 @@ fn element_line(n: &Netlist, e: &Element, name: &str) -> String {
             } else {
                 IDEAL_OPAMP_GAIN
             };
+            if let Some(m) = model.filter(|m| m.gbw_hz > 0.0 && m.gbw_hz.is_finite()) {
+                return opamp_lines(n, e, name, aol, m);
+            }
             let out = node_name(n, e.nodes[2]);
             format!("{name} {out} 0 {a} {b} {}", spice_number(aol))
         }
@@ -395,6 +447,7 @@ pub fn deck(built: &Built, deck: &Deck<'_>) -> String {
     }
     s.push_str("*\n");
     let groups = groups(built);
+    let model_of = |element: usize| deck.amplifiers.iter().find(|m| m.element == element);
     let mut placed: Vec<&str> = Vec::new();
     for (i, e) in n.elements.iter().enumerate() {
         match &e.group {
@@ -409,7 +462,7 @@ pub fn deck(built: &Built, deck: &Deck<'_>) -> String {
                         continue;
                     }
                 }
-                let _ = writeln!(s, "{}", element_line(n, e, &name));
+                let _ = writeln!(s, "{}", element_line(n, e, &name, model_of(i)));
             }
             Some(g) => {
                 if placed.contains(&g.as_str()) {
@@ -435,7 +488,8 @@ pub fn deck(built: &Built, deck: &Deck<'_>) -> String {
         for e in &grp.elements {
             let local = e.name.strip_prefix(&prefix).unwrap_or(&e.name);
             let name = element_name(local, &e.kind);
-            let _ = writeln!(s, "{}", element_line(n, e, &name));
+            let index = n.elements.iter().position(|o| std::ptr::eq(o, *e));
+            let _ = writeln!(s, "{}", element_line(n, e, &name, index.and_then(model_of)));
         }
         let _ = writeln!(s, ".ends {}", grp.name);
     }
@@ -460,22 +514,26 @@ pub fn deck(built: &Built, deck: &Deck<'_>) -> String {
 
 /// The fixed part of the header: what the deck is and what its sources
 /// mean.
-fn header_lines() -> [&'static str; 16] {
+fn header_lines() -> [&'static str; 20] {
     [
         "Generated by spanfit. Run: ngspice -b FILE",
-        "DC model of the front end, the same netlist the spanfit analysis solves.",
+        "Linear model of the front end, the same netlist the spanfit analysis solves.",
         "VSENSE   the sensor: DC source between inp and inn (single-ended: inp and 0),",
-        "         written at the low end of the span; the .control block also solves the",
-        "         high end and prints out_low_v and out_high_v (the node out).",
+        "         written at the low end of the span with AC 1; the .control block also",
+        "         solves the high end and prints out_low_v and out_high_v (the node out).",
         "VCM      the sensor's common mode (differential sensors); RSENSE* its own resistance.",
-        "E<ref>   each op-amp section: a VCVS out 0 plus minus Aol, Aol the part's minimum.",
+        "E<ref>   each op-amp section: a single pole at its GBW, Aol the part's minimum:",
+        "         GPOLE_<ref> (Aol A/V) into RPOLE_<ref> (1 ohm) and CPOLE_<ref>",
+        "         (Aol/(2 pi GBW) F), E<ref> copies that node, ROUT_<ref> (output_ohms) joins",
+        "         it to the output, with LOUT_<ref> across it so DC sees no output resistance.",
         "VOS_<ref>           input offset, DC 0 V nominal, in series with the + input.",
         "IBP_<ref> IBN_<ref> bias currents into the + and - inputs, DC 0 A nominal.",
         "VOSO_<ref>          output offset of an integrated in-amp, DC 0 V nominal.",
         "VREF_<ref>          a voltage reference at its nominal voltage; VSUP the supply.",
         "Set any of these to a value inside its limit (listed below) to see its effect.",
-        "Limits of this model: DC and linear only. No output swing or common-mode limits,",
-        "no CMRR, noise, drift or bandwidth; those are in the spanfit report.",
+        "Limits of this model: linear only. No output swing or common-mode limits, no",
+        "CMRR, op-amp noise or drift; those are in the spanfit report. .ac, .noise",
+        "(resistors only) and .tran run on it unmodified.",
         "Values are plain numbers (shortest exact decimal of the analysis value).",
         "Resistors are named by reference designator, as in the design's parts list.",
     ]
@@ -557,6 +615,7 @@ mod tests {
                 title: "t\n.end",
                 span_v: [0.0, 1.0],
                 notes: &notes,
+                amplifiers: &[],
             },
         );
         // Exactly one `.end` line, at the end; no injected element line.
@@ -617,7 +676,33 @@ mod tests {
             .iter()
             .any(|l| l.starts_with("XU2 ") && l.ends_with(" SF_INAMP_U2")));
         assert!(lines.iter().any(|l| l.starts_with(".subckt SF_INAMP_U2 ")));
-        assert!(lines.contains(&"EA1 u2_a1 0 u2_pi s1g1 1e7"));
+        // The in-amp's first amplifier with its single pole: Aol A/V into
+        // 1 ohm and Aol/(2 pi GBW) farads, copied by EA1 and joined to its
+        // output through the output resistance.
+        assert!(
+            lines.contains(&"GPOLE_A1 0 pole_A1 u2_pi s1g1 1e7"),
+            "{text}"
+        );
+        assert!(lines.contains(&"RPOLE_A1 pole_A1 0 1"));
+        assert!(lines.contains(&"EA1 drive_A1 0 pole_A1 0 1"));
+        assert!(lines
+            .iter()
+            .any(|l| l.starts_with("ROUT_A1 drive_A1 u2_a1 ")));
+        let farads = lines
+            .iter()
+            .find_map(|l| l.strip_prefix("CPOLE_A1 pole_A1 0 "))
+            .and_then(|v| v.parse::<f64>().ok())
+            .unwrap();
+        let built = crate::topology::build(&need, &stock, &design).unwrap();
+        let gbw = built
+            .sections
+            .iter()
+            .find_map(|s| match s.kind {
+                AmplifierKind::InAmp(i) => Some(stock.inamps[i].gbw_mhz * 1e6),
+                AmplifierKind::OpAmp(_) => None,
+            })
+            .unwrap();
+        assert!((farads * 2.0 * std::f64::consts::PI * gbw / 1e7 - 1.0).abs() < 1e-12);
         // No element inside the subcircuit keeps the `U2.` prefix.
         assert!(!lines.iter().any(|l| l.starts_with("U2.")));
         // Limits from the stock rows, in comments.

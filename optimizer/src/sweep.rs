@@ -81,7 +81,7 @@ pub fn temperature_sweep(
             Some((need.accuracy.temp_max.0 - need.accuracy.temp_min.0).max(0.0));
         // The worst-case basis: a yield basis would start a Monte Carlo run.
         at.accuracy.basis = Basis::WorstCase;
-        let model = Model::new(&at, stock, design)?;
+        let model = Model::reported(&at, stock, design)?;
         let analysis = model.report(&at, 0, 1)?;
         out.push(SweepPoint {
             temp_c: t,

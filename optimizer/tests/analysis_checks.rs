@@ -333,6 +333,9 @@ fn bias_current_line_is_current_through_network_resistance() {
 /// resistance into a near-unity non-inverting stage whose Rf is 10 ohm.
 /// The noise bandwidth of a one-pole roll-off is pi/2 times its corner
 /// (common practice); the peak-to-peak figure is 6.6 sigma (common practice).
+/// The test stock has no capacitors, so the design has no filter at the ADC
+/// input and its noise runs up to the stage's closed-loop pole,
+/// `GBW / NG` (100 MHz over a noise gain of 1 + 10/1e6).
 #[test]
 fn resistor_johnson_noise_appears_in_rms() {
     let rs = 1.0e6;
@@ -344,8 +347,10 @@ fn resistor_johnson_noise_appears_in_rms() {
         non_inverting("TA-IDEAL", rf, rg, ground()),
     );
     let t_kelvin = 27.0 + 273.15;
-    let bw = std::f64::consts::PI / 2.0 * 10.0;
-    close(a.noise.noise_bandwidth_hz, bw, 1e-12, "noise bandwidth");
+    let bw = std::f64::consts::PI / 2.0 * 100e6 / (1.0 + rf / rg);
+    // The noise gain comes from the DC adjoint at the 200 dB open-loop
+    // gain: 1e-10 off the ideal closed form.
+    close(a.noise.noise_bandwidth_hz, bw, 1e-9, "noise bandwidth");
     let gain = 1.0 + rf / rg;
     let want = gain * (4.0 * CODATA_BOLTZMANN * t_kelvin * rs * bw).sqrt();
     // The other two resistors add about (10/1e6) of the power.
@@ -368,6 +373,44 @@ fn resistor_johnson_noise_appears_in_rms() {
         1e-9,
         "noise line",
     );
+}
+
+/// With capacitors on the shelf the design gets its filter pair, and the
+/// noise of the dominant source (a 1 Mohm sensor resistance) runs over the
+/// chain's response: its noise bandwidth, from the adjoint AC solves of the
+/// noise integral, is the filter's own `noise_bandwidth_hz`, from forward
+/// AC solves of the chain (two computations of one integral), and the RMS
+/// is `sqrt(4 k T R B)` (handbook formula) over it.
+#[test]
+fn with_a_filter_the_noise_runs_over_the_chain_response() {
+    let rs = 1.0e6;
+    let n = single_ended(0.0, 1.0, rs, (0.0, 3.0), (0.0, 5.0));
+    let (rf, rg) = (10.0, 1.0e6);
+    let capacitors = "part_id,series,min_farads,max_farads,tolerance_pct,tempco_ppm_per_c,\
+                      dielectric,rated_v,package,unit_cost,stock_qty\n\
+                      TC-1,E12,1e-11,1e-5,5,30,C0G,50,0603,0.01,\n";
+    let file = |name: &str, text: &str| StockFile {
+        name: name.to_string(),
+        bytes: text.as_bytes().to_vec(),
+    };
+    let stock = parse_stock(&[
+        file("resistors.csv", TEST_RESISTORS),
+        file("opamps.csv", TEST_OPAMPS),
+        file("references.csv", TEST_REFERENCES),
+        file("capacitors.csv", capacitors),
+    ])
+    .expect("the test stock parses");
+    let (m, a) = run(&n, &stock, non_inverting("TA-IDEAL", rf, rg, ground()));
+    let filter = m.built().filter.as_ref().expect("a filter pair");
+    let b = filter.report.noise_bandwidth_hz;
+    close(a.noise.noise_bandwidth_hz, b, 2e-3, "noise bandwidth");
+    assert!(b < 1e4, "the pair limits the band: {b} Hz");
+    let t_kelvin = 27.0 + 273.15;
+    let want = (1.0 + rf / rg) * (4.0 * CODATA_BOLTZMANN * t_kelvin * rs * b).sqrt();
+    close(a.noise.rms_v, want, 2e-3, "output RMS noise");
+    // The droop line is the filter's own figure.
+    let droop = line(&a, Contributor::Droop)[1];
+    close(droop, filter.report.droop_pct_fs, 1e-9, "droop line");
 }
 
 /// Quantisation is +/-0.5 LSB with `LSB = FS / 2^bits` (common practice):

@@ -1,15 +1,26 @@
-//! The filter at the ADC input against an outside simulator: ngspice
-//! (Debian package `ngspice`, run as `ngspice -b`) runs `.ac` on the deck
-//! spanfit exports, unmodified except for the `.control` block, which is
-//! replaced by one that prints the response at a few frequencies. The
-//! -3 dB corner must lie within 2 % of the reported `corner_hz`, and the
-//! rejection at half the sample rate within 0.5 dB of the reported
-//! `rejection_at_nyquist_db`, for every design the solve returns (the
-//! chosen one and the alternatives).
+//! The chain's frequency response, noise and ADC drive against an outside
+//! simulator: ngspice (Debian package `ngspice`, run as `ngspice -b`) on
+//! the deck spanfit exports, whose op-amps carry a single pole at their
+//! GBW and their output resistance (`docs/spice.md`). Only the `.control`
+//! block is replaced, and for the noise and settling checks the test adds
+//! elements of its own, named below as what they are: models written in
+//! this test, not parts of the design.
 //!
-//! The deck writes the op-amps as frequency-independent gain blocks, so
-//! the need is chosen with its Nyquist frequency well below the stage
-//! amplifiers' closed-loop poles (docs/filter.md says so).
+//! - `.ac` (source: ngspice on our own exported netlist): the -3 dB corner
+//!   within 2 % of `corner_hz`, the rejection at half the sample rate
+//!   within 0.5 dB of `rejection_at_nyquist_db`, and the whole reported
+//!   Bode curve (stage poles included) within 0.05 dB, for every design
+//!   the solve returns;
+//! - `.noise` (source: ngspice on our own exported netlist, with the
+//!   op-amps' white voltage and current noise added as noise resistors
+//!   seen through controlled sources): the output noise integrated over
+//!   the band within 5 % of the report's noise line;
+//! - `.tran` (source: ngspice on our own exported netlist, with a model of
+//!   a sampling ADC input written here: a capacitor holding the other end
+//!   of the window, switched onto the ADC pin at the start of the
+//!   acquisition): the error at the end of the acquisition time within the
+//!   report's `settling_error_lsb`, and below 1/2 LSB where the report's
+//!   settling check passes.
 
 // Tests run ngspice: they write decks to files and start a process.
 #![allow(clippy::disallowed_methods, clippy::disallowed_types)]
@@ -20,7 +31,14 @@ mod common;
 
 use common::ngspice::ngspice;
 use spanfit::api::{artifacts, solve_bundle, SolveControl};
+use spanfit::need::Need;
+use spanfit::report::types::DesignReport;
+use spanfit::stock::Stock;
+use spanfit::topology::AmplifierKind;
 use std::process::Command;
+
+/// Boltzmann's constant, J/K (SI exact value).
+const BOLTZMANN: f64 = 1.380_649e-23;
 
 /// The demo need with a sample rate and an alias target.
 fn need_text() -> String {
@@ -30,19 +48,26 @@ fn need_text() -> String {
     )
 }
 
-/// The magnitude in dB of v(out) at each frequency, from ngspice `.ac`.
-fn magnitudes_db(deck: &str, frequencies: &[f64], tag: &str) -> Vec<f64> {
+/// The same with a sampling input (10 pF held for 200 us; an invented
+/// converter): the pair is a charge reservoir whose kickback is a little
+/// over 1/2 LSB and recovers through the series resistor.
+fn sampling_need_text() -> String {
+    need_text().replace(
+        "[adc]\n",
+        "[adc]\nsample_capacitance_pf = 10.0\nacquisition_time_ns = 200000.0\n",
+    )
+}
+
+/// Run a deck (everything before its `.control` block, `extra` element
+/// lines, then `control`) and return ngspice's standard output.
+fn run(deck: &str, extra: &str, control: &str, tag: &str) -> String {
     let start = deck
         .find("\n.control\n")
         .expect("the deck has a .control block");
-    let mut text = deck[..start].to_string();
-    text.push_str("\n.control\nset numdgt=12\n");
-    for (i, f) in frequencies.iter().enumerate() {
-        text.push_str(&format!(
-            "ac lin 1 {f:e} {f:e}\nlet m{i} = vdb(out)\nprint m{i}\n"
-        ));
-    }
-    text.push_str(".endc\n.end\n");
+    // The deck's `.op` stays: ngspice in batch mode wants one analysis
+    // outside the control block.
+    let body = &deck[..start];
+    let text = format!("{body}\n{extra}\n.control\nset numdgt=12\n{control}.endc\n.end\n");
     let dir = std::env::temp_dir().join(format!("spanfit-filter-{}-{tag}", std::process::id()));
     std::fs::create_dir_all(&dir).expect("a temporary folder");
     let file = dir.join("deck.cir");
@@ -57,56 +82,89 @@ fn magnitudes_db(deck: &str, frequencies: &[f64], tag: &str) -> Vec<f64> {
     let stderr = String::from_utf8_lossy(&out.stderr).to_string();
     let _ = std::fs::remove_dir_all(&dir);
     assert!(
-        out.status.success(),
+        out.status.success() && !stdout.contains("rror"),
         "ngspice failed on {tag} ({}):\n{stdout}\n{stderr}\n{text}",
         out.status
     );
+    stdout
+}
+
+/// The number ngspice printed as `name = value`.
+fn printed(stdout: &str, name: &str) -> f64 {
+    let prefix = format!("{name} = ");
+    stdout
+        .lines()
+        .find_map(|l| l.trim().strip_prefix(&prefix))
+        .unwrap_or_else(|| panic!("no {name} in:\n{stdout}"))
+        .split_whitespace()
+        .next()
+        .and_then(|v| v.parse::<f64>().ok())
+        .expect("ngspice prints a number")
+}
+
+/// The magnitude in dB of v(out) at each frequency, from ngspice `.ac`.
+fn magnitudes_db(deck: &str, frequencies: &[f64], tag: &str) -> Vec<f64> {
+    let mut control = String::new();
+    for (i, f) in frequencies.iter().enumerate() {
+        control.push_str(&format!(
+            "ac lin 1 {f:e} {f:e}\nlet m{i} = vdb(out)\nprint m{i}\n"
+        ));
+    }
+    let stdout = run(deck, "", &control, tag);
     (0..frequencies.len())
-        .map(|i| {
-            let prefix = format!("m{i} = ");
-            stdout
-                .lines()
-                .find_map(|l| l.trim().strip_prefix(&prefix))
-                .unwrap_or_else(|| panic!("{tag}: no m{i} in:\n{stdout}\n{text}"))
-                .trim()
-                .parse::<f64>()
-                .expect("ngspice prints a number")
-        })
+        .map(|i| printed(&stdout, &format!("m{i}")))
         .collect()
 }
 
-#[test]
-fn corner_and_nyquist_rejection_match_ngspice() {
+/// Solve the need and return it, the stock and every design the solve
+/// reports (the chosen one first).
+fn solved(text: &str) -> (Need, Stock, Vec<DesignReport>) {
     let mut progress = |_: spanfit::api::Progress| true;
     let clock = || 0.0;
     let mut control = SolveControl {
         progress: &mut progress,
         now_ms: &clock,
     };
-    let text = need_text();
-    let bundle = solve_bundle(text.as_bytes(), "need.toml", &[], false, &mut control).unwrap();
-    let (need, stock) = spanfit::api::load(text.as_bytes(), "need.toml", &[]).unwrap();
+    let bundle = solve_bundle(text.as_bytes(), "need.toml", &[], false, &mut control)
+        .expect("the test input is valid");
+    let (need, stock) =
+        spanfit::api::load(text.as_bytes(), "need.toml", &[]).expect("the test input is valid");
     let report = &bundle.report;
     let mut designs = vec![report.design.clone().expect("a design")];
     designs.extend(report.alternatives.iter().map(|a| a.design.clone()));
+    (need, stock, designs)
+}
+
+fn design_of(stock: &Stock, d: &DesignReport) -> spanfit::design::Design {
+    spanfit::api::read_design(
+        serde_json::to_string(&d.file)
+            .expect("the test input is valid")
+            .as_bytes(),
+        "design",
+        stock,
+    )
+    .expect("the test input is valid")
+}
+
+#[test]
+fn corner_nyquist_rejection_and_bode_match_ngspice() {
+    let (need, stock, designs) = solved(&need_text());
     for (k, d) in designs.iter().enumerate() {
         let filter = d.filter.as_ref().expect("a filter");
-        let design = spanfit::api::read_design(
-            serde_json::to_string(&d.file).unwrap().as_bytes(),
-            "design",
-            &stock,
-        )
-        .unwrap();
-        let deck = artifacts(&need, &stock, &design).unwrap().spice.unwrap();
+        let design = design_of(&stock, d);
+        let deck = artifacts(&need, &stock, &design)
+            .expect("the test input is valid")
+            .spice
+            .expect("the test input is valid");
         assert!(deck.contains(" AC 1"), "VSENSE carries AC 1");
         assert!(deck.contains(&format!("{} out 0 ", filter.shunt_ref)));
+        assert!(deck.contains("CPOLE_"), "the op-amps carry their pole");
         let fc = filter.corner_hz;
         let nyquist = 2000.0;
-        let db = magnitudes_db(
-            &deck,
-            &[1e-3 * fc, 0.98 * fc, 1.02 * fc, nyquist],
-            &format!("design{k}"),
-        );
+        let mut frequencies = vec![1e-3 * fc, 0.98 * fc, 1.02 * fc, nyquist];
+        let bode: Vec<_> = filter.bode.iter().step_by(6).collect();
+        frequencies.extend(bode.iter().map(|p| p.frequency_hz));
+        let db = magnitudes_db(&deck, &frequencies, &format!("design{k}"));
         let loss = |m: f64| db[0] - m;
         let half_power_db = 10.0 * 2f64.log10();
         assert!(
@@ -115,11 +173,190 @@ fn corner_and_nyquist_rejection_match_ngspice() {
             loss(db[1]),
             loss(db[2])
         );
-        let reported = filter.rejection_at_nyquist_db.unwrap();
+        let reported = filter
+            .rejection_at_nyquist_db
+            .expect("the test input is valid");
         assert!(
             (loss(db[3]) - reported).abs() < 0.5,
             "design {k}: ngspice rejection {} dB, reported {reported} dB",
             loss(db[3])
         );
+        for (p, got) in bode.iter().zip(&db[4..]) {
+            assert!(
+                (got - p.magnitude_db).abs() < 0.05,
+                "design {k}: at {} Hz ngspice {got} dB, reported {} dB",
+                p.frequency_hz,
+                p.magnitude_db
+            );
+        }
+    }
+}
+
+/// The deck with the op-amps' white noise added, written by this test:
+/// each section's voltage noise `e_n` as a CCVS `HEN_<ref>` in place of
+/// its `VOS_<ref>` (same nodes), reading the noise current of a resistor
+/// `RNEN_<ref> = e_n^2 / (4 k T)` shorted by a 0 V source, so it
+/// reproduces `e_n` with the resistor's own thermal noise; each op-amp
+/// input's current noise `i_n` as a CCCS `FIN<P|N>_<ref>` beside its
+/// `IBP_<ref>` / `IBN_<ref>` (same nodes) from a resistor of
+/// `4 k T / i_n^2`. `T` is the hot end of the range, where the core takes
+/// the resistors' noise.
+fn with_amplifier_noise(
+    deck: &str,
+    need: &Need,
+    stock: &Stock,
+    built: &spanfit::topology::Built,
+) -> (String, String) {
+    let t = need.accuracy.temp_max.0 + 273.15;
+    let four_kt = 4.0 * BOLTZMANN * t;
+    let mut lines: Vec<String> = deck.lines().map(str::to_string).collect();
+    let mut extra = String::new();
+    for s in &built.sections {
+        let d = &s.designator;
+        let (en, inoise) = match s.kind {
+            AmplifierKind::OpAmp(i) => (
+                stock.opamps[i].en_nv_rthz * 1e-9,
+                stock.opamps[i].in_pa_rthz * 1e-12,
+            ),
+            AmplifierKind::InAmp(i) => (stock.inamps[i].en_nv_rthz * 1e-9, 0.0),
+        };
+        let vos = format!("VOS_{d} ");
+        let Some(line) = lines.iter_mut().find(|l| l.starts_with(&vos)) else {
+            panic!("no {vos} in the deck");
+        };
+        let nodes: Vec<String> = line
+            .split_whitespace()
+            .skip(1)
+            .take(2)
+            .map(str::to_string)
+            .collect();
+        if en > 0.0 {
+            *line = format!(
+                "HEN_{d} {} {} VNEN_{d} {:e}",
+                nodes[0],
+                nodes[1],
+                en * en / four_kt
+            );
+            extra.push_str(&format!(
+                "RNEN_{d} nen_{d} 0 {:e}\nVNEN_{d} nen_{d} 0 DC 0\n",
+                en * en / four_kt
+            ));
+        }
+        if inoise > 0.0 {
+            for side in ["P", "N"] {
+                let ib = format!("IB{side}_{d} ");
+                let Some(l) = lines.iter().find(|l| l.starts_with(&ib)) else {
+                    continue;
+                };
+                let n: Vec<&str> = l.split_whitespace().skip(1).take(2).collect();
+                extra.push_str(&format!(
+                    "FIN{side}_{d} {} {} VNIN{side}_{d} 1\nRNIN{side}_{d} nin{side}_{d} 0 {:e}\n\
+                     VNIN{side}_{d} nin{side}_{d} 0 DC 0\n",
+                    n[0],
+                    n[1],
+                    four_kt / (inoise * inoise)
+                ));
+            }
+        }
+    }
+    (lines.join("\n") + "\n", extra)
+}
+
+#[test]
+fn output_noise_matches_ngspice_noise() {
+    let (need, stock, designs) = solved(&need_text());
+    for (k, d) in designs.iter().enumerate() {
+        let design = design_of(&stock, d);
+        let (model, analysis) = spanfit::analysis::analyze(&need, &stock, &design, 0, 1)
+            .expect("the test input is valid");
+        assert!(
+            (analysis.noise.rms_v - d.error.noise.rms_v).abs() <= 1e-12 * d.error.noise.rms_v,
+            "design {k}: the analysis is the report's"
+        );
+        let deck = artifacts(&need, &stock, &design)
+            .expect("the test input is valid")
+            .spice
+            .expect("the test input is valid");
+        let (deck, extra) = with_amplifier_noise(&deck, &need, &stock, model.built());
+        let fc = d.filter.as_ref().expect("a filter").corner_hz;
+        let control = format!(
+            "option temp={}\nnoise v(out) VSENSE dec 40 {:e} {:e}\nsetplot noise2\n\
+             let total = onoise_total\nprint total\n",
+            need.accuracy.temp_max.0,
+            fc * 1e-4,
+            1e10
+        );
+        let stdout = run(&deck, &extra, &control, &format!("noise{k}"));
+        let white = printed(&stdout, "total");
+        // The reference's noise is its stated RMS (no spectrum in the deck).
+        let reference2 = analysis.noise.shares[3] * analysis.noise.rms_v.powi(2);
+        let ngspice_rms = (white * white + reference2).sqrt();
+        let reported = d.error.noise.rms_v;
+        eprintln!("design {k}: noise ngspice {ngspice_rms:e} V rms, reported {reported:e}");
+        assert!(
+            (ngspice_rms / reported - 1.0).abs() < 0.05,
+            "design {k}: ngspice {ngspice_rms:e} V rms, reported {reported:e} V rms"
+        );
+    }
+}
+
+#[test]
+fn kickback_settling_matches_ngspice_transient() {
+    let (need, stock, designs) = solved(&sampling_need_text());
+    let lsb = need.lsb();
+    let cs = need
+        .adc
+        .sample_capacitance
+        .expect("the test input is valid")
+        .0;
+    let t_acq = need
+        .adc
+        .acquisition_time
+        .expect("the test input is valid")
+        .0;
+    for (k, d) in designs.iter().enumerate() {
+        let filter = d.filter.as_ref().expect("a filter");
+        let left = filter.settling_error_lsb.expect("a settling figure");
+        let design = design_of(&stock, d);
+        let deck = artifacts(&need, &stock, &design)
+            .expect("the test input is valid")
+            .spice
+            .expect("the test input is valid");
+        let rest = d.transfer.output_at_ends_v[0];
+        // The sampling capacitor holds the other end of the window (the
+        // report's worst step, the whole full scale) until t = 0, then is
+        // switched onto the ADC pin for the acquisition.
+        let held = rest + need.full_scale();
+        let extra = format!(
+            "* Sampling ADC input: a model written in this test, not part of the design.\n\
+             CSAMPLE smp 0 {cs:e}\n\
+             VHOLD hold 0 DC {held:e}\n\
+             SHOLD hold smp 0 ctl swopen\n\
+             SACQ out smp ctl 0 swclose\n\
+             VCTL ctl 0 PULSE(0 1 0 1e-12 1e-12 1 2)\n\
+             .model swclose sw(vt=0.5 vh=0 ron=1 roff=1e15)\n\
+             .model swopen sw(vt=-0.5 vh=0 ron=1 roff=1e15)\n"
+        );
+        let control = format!(
+            "tran {:e} {:e} 0 {:e}\nlet err = abs(v(out) - {rest:e})\n\
+             meas tran final find err at={t_acq:e}\nprint final\n",
+            t_acq / 2000.0,
+            t_acq,
+            t_acq / 2000.0
+        );
+        let stdout = run(&deck, &extra, &control, &format!("tran{k}"));
+        let error_lsb = printed(&stdout, "final") / lsb;
+        eprintln!("design {k}: kickback left ngspice {error_lsb:e} LSB, reported {left:e}");
+        assert!(
+            error_lsb <= left * 1.000_001 + 1e-6,
+            "design {k}: ngspice leaves {error_lsb:e} LSB, reported {left:e} LSB"
+        );
+        let passes = filter
+            .checks
+            .iter()
+            .any(|c| c.check == "settling" && c.pass);
+        if passes {
+            assert!(error_lsb < 0.5, "design {k}: {error_lsb} LSB left");
+        }
     }
 }

@@ -140,7 +140,9 @@ impl Model {
     /// Systematic error at each end (rounding plus finite gain), volts,
     /// after calibration.
     pub fn systematic_at_ends(&self) -> [f64; 2] {
-        let mut total = [0.0; 2];
+        // The droop at the signal bandwidth is a one-sided loss no trim
+        // removes; it counts at its size at both ends.
+        let mut total = [self.droop; 2];
         for term in &self.systematic {
             total[0] += term.error[0].abs();
             total[1] += term.error[1].abs();
@@ -178,6 +180,9 @@ impl Model {
     fn line_at_ends(&self, line: Contributor) -> Option<[f64; 2]> {
         if line == Contributor::Noise {
             return Some([self.noise_peak; 2]);
+        }
+        if line == Contributor::Droop {
+            return (self.droop > 0.0).then_some([self.droop; 2]);
         }
         let mut at = [0.0f64; 2];
         let mut any = false;

@@ -49,13 +49,16 @@ pub enum Contributor {
     InAmpOutputOffset,
     /// The sensor's own resistance: its tolerance and tempco.
     SourceResistance,
+    /// Gain droop at the signal bandwidth (the chain's poles and the
+    /// filter at the ADC input), as an error at the top of the span.
+    Droop,
     /// Noise over the bandwidth, as the peak (half of 6.6-sigma p-p).
     Noise,
 }
 
 impl Contributor {
     /// Every contributor in report order.
-    pub const ALL: [Contributor; 19] = [
+    pub const ALL: [Contributor; 20] = [
         Contributor::NominalRounding,
         Contributor::OpenLoopGain,
         Contributor::ResistorTolerance,
@@ -74,6 +77,7 @@ impl Contributor {
         Contributor::InAmpGainDrift,
         Contributor::InAmpOutputOffset,
         Contributor::SourceResistance,
+        Contributor::Droop,
         Contributor::Noise,
     ];
 
@@ -98,6 +102,7 @@ impl Contributor {
             Contributor::InAmpGainDrift => "in-amp gain drift",
             Contributor::InAmpOutputOffset => "in-amp output offset",
             Contributor::SourceResistance => "sensor resistance tolerance and tempco",
+            Contributor::Droop => "gain droop at the signal bandwidth",
             Contributor::Noise => "noise (peak, 3.3 sigma)",
         }
     }
@@ -107,7 +112,7 @@ impl Contributor {
     pub fn systematic(self) -> bool {
         matches!(
             self,
-            Contributor::NominalRounding | Contributor::OpenLoopGain
+            Contributor::NominalRounding | Contributor::OpenLoopGain | Contributor::Droop
         )
     }
 }

@@ -309,7 +309,7 @@ impl Model {
     }
 
     /// The worst corner found at `end`, solved exactly: error in volts
-    /// (noise peak added). The first-order corner and its mirror are
+    /// (noise peak and the droop at the signal bandwidth added). The first-order corner and its mirror are
     /// solved; from the worse of the two, every deviation goes to the side
     /// its exact gradient at the current corner says adds to the error; a
     /// step is kept while the error grows (at most [`CLIMB_STEPS`] steps).
@@ -338,7 +338,7 @@ impl Model {
         let (_, x, y) = starts.swap_remove(if first_worse { 0 } else { 1 });
         let start = self.error_and_gradient(&mut scratch, &x, &y, end)?;
         let worst = self.climb(&mut scratch, x, y, start, end)?;
-        Ok(worst + self.noise_peak)
+        Ok(worst + self.noise_peak + self.droop)
     }
 
     /// The greedy climb from one corner (see [`Model::corner_check`]):

@@ -18,7 +18,9 @@
 //!    output adjoint;
 //! 2. `params`: every imperfection as a parameter with its sensitivity;
 //! 3. `systematic`: rounding and finite open-loop gain;
-//! 4. `noise`: output noise;
+//! 4. `noise`: output noise and the gain droop at the signal bandwidth
+//!    (from the AC response of the chain as built, or the bounds the
+//!    filter rules allow for a search candidate);
 //! 5. `ranges`: each stage's gain, offset and output range;
 //! 6. `feasibility`: the checks ([`Check`]), with every node taken at
 //!    its raw extremes (`extremes`: every part at its limits, untrimmed);
@@ -129,6 +131,9 @@ pub struct Model {
     /// Noise peak at the output, volts.
     noise_peak: f64,
     noise: NoiseSummary,
+    /// Gain droop at `accuracy.bandwidth_hz`, as an error at the top of the
+    /// output span, volts (non-negative; a bound for a search candidate).
+    droop: f64,
     /// Output with nominal values, each end.
     nominal_output: [f64; 2],
     /// Half-width of the output's raw range (every part at its limits,
@@ -160,10 +165,33 @@ fn dc_error(failure: DcFailure) -> Error {
 }
 
 impl Model {
-    /// Build the linear model of a design: solve it, then collect its
-    /// parameters, systematic terms, noise, stage ranges and findings.
+    /// Build the linear model of a design as the search sees it: without
+    /// the filter pair at the ADC input, whose noise and droop are taken
+    /// at the bounds the filter rules allow (`noise.rs`). Solve it, then
+    /// collect its parameters, systematic terms, noise, stage ranges and
+    /// findings.
     pub fn new(need: &Need, stock: &Stock, design: &Design) -> Result<Model> {
         let built = build(need, stock, design)?;
+        Model::of_built(need, stock, design, built, noise::Response::Bounded)
+    }
+
+    /// Build the linear model of a design as it is reported: with the
+    /// filter pair at the ADC input chosen for it (`crate::filter`), or
+    /// with none where no pair fits, and its noise and droop from that
+    /// chain's own response.
+    pub fn reported(need: &Need, stock: &Stock, design: &Design) -> Result<Model> {
+        let built = build(need, stock, design)?;
+        let (built, _) = crate::filter::attach(need, stock, &built);
+        Model::of_built(need, stock, design, built, noise::Response::AsBuilt)
+    }
+
+    fn of_built(
+        need: &Need,
+        stock: &Stock,
+        design: &Design,
+        built: Built,
+        response: noise::Response,
+    ) -> Result<Model> {
         let mut netlist = built.netlist.clone();
         let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
         let (k, b) = need.ideal_transfer();
@@ -172,7 +200,8 @@ impl Model {
             DcSolution::solve(&mut netlist, built.vsense, signal, built.out).map_err(dc_error)?;
         let params = params::collect(need, stock, &built, &netlist, &dc);
         let systematic = systematic::terms(need, &built, &netlist, &dc, ideal, signal)?;
-        let noise = noise::output_noise(need, stock, &built, &netlist, &dc);
+        let dynamic = noise::dynamic(need, stock, &built, &netlist, &dc, response);
+        let noise = dynamic.noise;
         let stages = ranges::stage_reports(design, &built, &dc);
         let findings = feasibility::findings(need, stock, &built, &netlist, &dc, &params);
         let raw = extremes::output_half_range(&params);
@@ -183,6 +212,7 @@ impl Model {
             systematic,
             noise_peak: noise.peak_v(),
             noise,
+            droop: dynamic.droop_v,
             nominal_output: dc.output(),
             raw_output_half,
             ideal,
@@ -224,6 +254,12 @@ impl Model {
         self.noise_peak
     }
 
+    /// The gain droop at `accuracy.bandwidth_hz` as an error at the top of
+    /// the output span, volts.
+    pub fn droop_v(&self) -> f64 {
+        self.droop
+    }
+
     /// Full report on a need's basis. `mc_builds` sets the Monte Carlo size
     /// for the yield basis (and is run for every basis when non-zero).
     pub fn report(&self, need: &Need, mc_builds: u64, seed: u64) -> Result<Analysis> {
@@ -254,8 +290,15 @@ impl Model {
         };
         let gain =
             (self.nominal_output[1] - self.nominal_output[0]) / (self.signal[1] - self.signal[0]);
-        let window =
-            feasibility::adc_window(need, self.nominal_output, worst, self.raw_output_half);
+        // The droop at the signal bandwidth shrinks a signal toward its
+        // mean; it never takes the output out of the ADC window, so the
+        // window is widened by the worst case without it.
+        let window = feasibility::adc_window(
+            need,
+            self.nominal_output,
+            worst - self.droop,
+            self.raw_output_half,
+        );
         let feasible = self.feasible() && window.ok();
         let mut findings = self.findings();
         findings.push(window.finding());
@@ -288,7 +331,8 @@ impl Model {
     }
 }
 
-/// Analyse a design against a need: the budget on the need's basis, with a
+/// Analyse a design against a need as it is reported (with its filter
+/// pair, [`Model::reported`]): the budget on the need's basis, with a
 /// Monte Carlo run of `mc_builds` (seeded) when the basis is `yield` or
 /// `mc_builds` is non-zero (a yield basis with `mc_builds` zero runs
 /// [`YIELD_BASIS_BUILDS`]).
@@ -299,7 +343,7 @@ pub fn analyze(
     mc_builds: u64,
     seed: u64,
 ) -> Result<(Model, Analysis)> {
-    let model = Model::new(need, stock, design)?;
+    let model = Model::reported(need, stock, design)?;
     let builds = if need.accuracy.basis == Basis::Yield && mc_builds == 0 {
         YIELD_BASIS_BUILDS
     } else {

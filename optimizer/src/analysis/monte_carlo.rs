@@ -90,11 +90,13 @@ impl Model {
             self.systematic.iter().map(|term| term.error[1]).sum(),
         ];
         let other_end = self.other_end_drift_ratio;
-        let limit = limit_v - self.noise_peak;
+        // The noise peak and the droop at the signal bandwidth are taken
+        // whole, out of the limit, in every build.
+        let limit = limit_v - self.noise_peak - self.droop;
         // The RSS total as reported (the larger end), less the noise peak
-        // each build carries on top of its drawn error.
+        // and the droop each build carries on top of its drawn error.
         let rss = self.rss_at_ends();
-        let rss_limit = rss[0].max(rss[1]) - self.noise_peak;
+        let rss_limit = rss[0].max(rss[1]) - self.noise_peak - self.droop;
         let mut rng = Rng::new(seed);
         let mut pass = 0u64;
         let mut inside_rss = 0u64;

@@ -19,7 +19,7 @@
 
 mod response;
 
-pub use response::{analyse, FilterCheck, FilterReport, FilterStatus};
+pub use response::{amplifiers, analyse, FilterCheck, FilterReport, FilterStatus};
 
 use crate::design::Resistor;
 use crate::mna::DcSolution;
@@ -134,9 +134,11 @@ pub fn kickback(need: &Need, driver: &Driver, ohms: f64, farads: f64) -> Option<
     Some((dv0, tau))
 }
 
-/// The bounds of [`Bounds`] for this need and driver (closed forms; see
-/// the module header and `docs/filter.md`).
-pub fn bounds(need: &Need, driver: &Driver) -> Bounds {
+/// The `R C` limits that depend on the need alone: the droop rule's
+/// largest `R C` (at the pair's upper tolerance limits), the smallest
+/// nominal `R C` (the corner-spread and alias rules) and the alias rule's
+/// smallest `R C` at the lower tolerance limits, seconds.
+pub fn tau_limits(need: &Need) -> (f64, f64, f64) {
     let two_pi = 2.0 * std::f64::consts::PI;
     let bandwidth = need.accuracy.bandwidth.0;
     // Droop of one pole at f: 1 - 1/sqrt(1 + (f/fc)^2) <= d, as a share
@@ -156,6 +158,37 @@ pub fn bounds(need: &Need, driver: &Driver) -> Bounds {
         alias_tau_s = 1.0 / (two_pi * fc_max);
         min_tau_s = min_tau_s.max(alias_tau_s);
     }
+    (max_tau_s, min_tau_s, alias_tau_s)
+}
+
+/// The highest corner any pair the rules allow can have (nominal
+/// values): `1 / (2 pi min R C)`, Hz. A design that gets a pair has its
+/// filter's own corner at or below this.
+pub fn highest_corner_hz(need: &Need) -> f64 {
+    1.0 / (2.0 * std::f64::consts::PI * tau_limits(need).1)
+}
+
+/// The droop the rules allow a pair at `accuracy.bandwidth_hz`, at its
+/// tolerance limits, as an error at the top of the output span, volts
+/// ([`DROOP_SHARE_OF_TARGET`] of the target).
+pub fn droop_allowance_v(need: &Need) -> f64 {
+    let (low, high) = need.target_window();
+    // The rule's relative loss is capped at a half (see `tau_limits`).
+    (DROOP_SHARE_OF_TARGET * need.accuracy.max_error_pct_fs / 100.0 * need.full_scale())
+        .min(0.5 * (high - low).abs())
+}
+
+/// Whether the stock has a capacitor on the shelf, so a pair may be
+/// chosen at all.
+pub fn stock_has_capacitors(stock: &Stock) -> bool {
+    stock.capacitors.iter().any(|c| c.stock_qty != Some(0))
+}
+
+/// The bounds of [`Bounds`] for this need and driver (closed forms; see
+/// the module header and `docs/filter.md`).
+pub fn bounds(need: &Need, driver: &Driver) -> Bounds {
+    let two_pi = 2.0 * std::f64::consts::PI;
+    let (max_tau_s, min_tau_s, alias_tau_s) = tau_limits(need);
     // Phase margin: the load's pole-zero pair lags at most
     // atan(Ro / (2 sqrt(R (R + Ro)))) at any frequency; keeping that lag
     // under 90 - target leaves the target margin over a single-pole
@@ -258,6 +291,9 @@ pub fn choose(need: &Need, stock: &Stock, driver: &Driver) -> Option<FilterParts
 /// The built design with its filter placed and reported, when one can be
 /// chosen; otherwise the design as it is, with the reason.
 pub fn attach(need: &Need, stock: &Stock, built: &Built) -> (Built, Option<String>) {
+    if built.filter.is_some() {
+        return (built.clone(), None);
+    }
     match analyse(need, stock, built) {
         FilterStatus::Designed {
             parts,

@@ -87,8 +87,10 @@ pub enum FilterStatus {
     },
 }
 
-/// The AC model of every amplifier section of a built design.
-fn amplifiers(stock: &Stock, built: &Built) -> Vec<AcAmplifier> {
+/// The AC model of every amplifier section of a built design: its gain
+/// element with the part's GBW and output resistance (an in-amp's on its
+/// first internal amplifier, at [`DEFAULT_OUTPUT_OHMS`]).
+pub fn amplifiers(stock: &Stock, built: &Built) -> Vec<AcAmplifier> {
     built
         .sections
         .iter()

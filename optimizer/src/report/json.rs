@@ -432,6 +432,13 @@ fn infeasible_report(i: &Infeasibility) -> InfeasibleReport {
 /// `alternatives[]`, `search`, `infeasible` (or null) and `reason` (the
 /// binding limit in words, or null).
 pub fn solve_report(need: &Need, stock: &Stock, outcome: &SolveOutcome) -> Report {
+    // The chosen design as reported (with its filter pair, or with none
+    // where none fits) may miss what the search's bounds promised: then
+    // the report says so, as the analysis of a design the user has would.
+    let best_short = outcome
+        .best
+        .as_ref()
+        .and_then(|b| shortfall(need, &b.analysis));
     Report {
         alternatives: outcome
             .alternatives
@@ -446,12 +453,15 @@ pub fn solve_report(need: &Need, stock: &Stock, outcome: &SolveOutcome) -> Repor
         infeasible: outcome.infeasible.as_ref().map(infeasible_report),
         need: need_figures(need),
         reason: match (&outcome.infeasible, outcome.unfinished_reason()) {
+            _ if best_short.is_some() => best_short.clone(),
             (_, Some(why)) => Some(why),
             (Some(i), None) => Some(i.binding.clone()),
             (None, None) => None,
         },
         search: Some(search_report(&outcome.stats)),
-        status: if outcome.best.is_some() {
+        status: if best_short.is_some() {
+            Status::Infeasible
+        } else if outcome.best.is_some() {
             Status::Ok
         } else if outcome.unfinished() {
             Status::Unfinished
