@@ -451,8 +451,14 @@ fn every_infeasibility_field_is_documented_and_every_documented_field_exists() {
         column: "tolerance_pct".into(),
         value: 0.1,
     };
+    // Its keys serialise in sorted order, as every object of the report.
+    let value = serde_json::to_value(&stock_change).expect("a stock change serialises");
+    assert_eq!(
+        serde_json::to_string(&stock_change).expect("a stock change serialises"),
+        value.to_string()
+    );
     key_paths(
-        &serde_json::to_value(stock_change).expect("a stock change serialises"),
+        &value,
         "infeasible.suggestions[].apply_stock[]",
         &mut in_code,
     );

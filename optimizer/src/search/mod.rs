@@ -201,10 +201,10 @@ pub struct NeedChange {
 /// end can apply a suggestion to its shelf.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct StockChange {
-    /// The stock file (`resistors.csv`).
-    pub file: String,
     /// The column (`tolerance_pct`).
     pub column: String,
+    /// The stock file (`resistors.csv`).
+    pub file: String,
     /// The value every row gets.
     pub value: f64,
 }
