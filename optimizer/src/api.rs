@@ -205,6 +205,16 @@ pub fn solve_bundle(
     for alternative in &mut outcome.alternatives {
         with_filter(&need, &stock, alternative);
     }
+    // The best attempt of an infeasible need is reported as a design too,
+    // analysed against this need (the search may have found it under a
+    // looser target) as `analyze` would report it.
+    if let Some(attempt) = outcome
+        .infeasible
+        .as_mut()
+        .and_then(|i| i.best_attempt.as_deref_mut())
+    {
+        *attempt = evaluate(&need, &stock, &attempt.design)?;
+    }
     let report = report::solve_report(&need, &stock, &outcome);
     bundle(
         &need,

@@ -439,10 +439,68 @@ fn every_infeasibility_field_is_documented_and_every_documented_field_exists() {
     // Not proven (the space is too large to finish), so `unfinished`; the
     // explanation is there all the same.
     assert!(report["infeasible"].is_object(), "{}", report["reason"]);
-    let in_code: BTreeSet<String> = report_paths_outside_design(report)
+    // The best attempt is a design object, documented once under `design`.
+    let mut in_code: BTreeSet<String> = report_paths_outside_design(report)
         .into_iter()
-        .filter(|p| p.starts_with("infeasible"))
+        .filter(|p| p.starts_with("infeasible") && !p.starts_with("infeasible.best_attempt."))
         .collect();
+    // The demo shelf has one resistor grade, so no suggestion changes the
+    // stock here: a stock change's members come from the type itself.
+    let stock_change = spanfit::search::StockChange {
+        file: "resistors.csv".into(),
+        column: "tolerance_pct".into(),
+        value: 0.1,
+    };
+    // Its keys serialise in sorted order, as every object of the report.
+    let value = serde_json::to_value(&stock_change).expect("a stock change serialises");
+    assert_eq!(
+        serde_json::to_string(&stock_change).expect("a stock change serialises"),
+        value.to_string()
+    );
+    key_paths(
+        &value,
+        "infeasible.suggestions[].apply_stock[]",
+        &mut in_code,
+    );
     let in_docs = documented_report_paths(|c| c.starts_with("infeasible"));
     assert_same("infeasibility fields", &in_code, &in_docs, "docs/report.md");
+    let attempt = &report["infeasible"]["best_attempt"];
+    assert!(
+        attempt.is_object(),
+        "the search analysed designs: {attempt}"
+    );
+    let mut attempt_paths = BTreeSet::new();
+    key_paths(attempt, "design", &mut attempt_paths);
+    let documented = documented_paths("design");
+    // Role names differ from design to design (docs/report.md documents
+    // one role as the example of all): a role's path counts as documented
+    // when its `resistors` object is.
+    let undocumented: Vec<&String> = attempt_paths
+        .iter()
+        .filter(|p| {
+            let shown = p
+                .split_once(".resistors.")
+                .map_or(p.to_string(), |(head, _)| format!("{head}.resistors"));
+            !documented.contains(&shown)
+        })
+        .collect();
+    assert!(
+        undocumented.is_empty(),
+        "best_attempt paths not documented under design: {undocumented:?}"
+    );
+    // Each suggestion's change, as need keys, names keys of the need.
+    let keys = need_keys_in_code();
+    for s in report["infeasible"]["suggestions"]
+        .as_array()
+        .into_iter()
+        .flatten()
+    {
+        for a in s["apply"].as_array().into_iter().flatten() {
+            let key = a["key"].as_str().unwrap_or_default();
+            assert!(
+                keys.contains(key),
+                "suggestion applies `{key}`, not a need key"
+            );
+        }
+    }
 }

@@ -107,7 +107,7 @@ pub fn stock_files_from_json(stock_json: &str) -> Result<Vec<StockFile>, Error> 
         return Err(Error::input(
             Location::file("stock"),
             format!(
-                "expected a JSON object mapping file names (resistors.csv, opamps.csv, references.csv, inamps.csv) to CSV text, found {}",
+                "expected a JSON object mapping file names (resistors.csv, opamps.csv, references.csv, inamps.csv, capacitors.csv) to CSV text, found {}",
                 json_kind(&value)
             ),
         ));
@@ -196,7 +196,9 @@ fn line_column(text: &str, byte_offset: usize) -> (usize, usize) {
 }
 
 /// Read a stock (the page's JSON object of CSV texts) and count its parts:
-/// `{"resistors": n, "opamps": n, "references": n, "inamps": n}`. The core
+/// `{"resistors": n, "opamps": n, "references": n, "inamps": n,
+/// "capacitors": n}` (resistor and capacitor families count each value).
+/// The core
 /// reports the first problem with file, line and column.
 pub fn check_stock_value(stock_json: &str) -> Result<Value, Error> {
     let files = stock_files_from_json(stock_json)?;
@@ -211,6 +213,7 @@ pub fn check_stock_value(stock_json: &str) -> Result<Value, Error> {
         "opamps": stock.opamps.len(),
         "references": stock.references.len(),
         "inamps": stock.inamps.len(),
+        "capacitors": stock.capacitors.len(),
     }))
 }
 
@@ -517,6 +520,24 @@ mod tests {
     fn empty_stock_object_means_demo_stock() {
         assert!(stock_files_from_json("{}").unwrap().is_empty());
         assert!(stock_files_from_json("  ").unwrap().is_empty());
+    }
+
+    /// The shelf count names every table the core reads, capacitors too,
+    /// and the message for a stock that is not an object lists them all.
+    #[test]
+    fn stock_counts_and_messages_know_every_table() {
+        let counts = check_stock_value("{}").unwrap();
+        for (name, _) in spanfit::demo::STOCK {
+            let key = name.trim_end_matches(".csv");
+            assert!(
+                counts[key].as_u64().is_some_and(|n| n > 0),
+                "{key}: {counts}"
+            );
+        }
+        let message = stock_files_from_json("[]").unwrap_err().to_string();
+        for (name, _) in spanfit::demo::STOCK {
+            assert!(message.contains(name), "{name}: {message}");
+        }
     }
 
     #[test]

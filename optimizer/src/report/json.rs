@@ -402,8 +402,12 @@ fn search_report(s: &SearchStats) -> SearchReport {
     }
 }
 
-fn infeasible_report(i: &Infeasibility) -> InfeasibleReport {
+fn infeasible_report(need: &Need, stock: &Stock, i: &Infeasibility) -> InfeasibleReport {
     InfeasibleReport {
+        best_attempt: i
+            .best_attempt
+            .as_ref()
+            .map(|c| Box::new(design_report(need, stock, c))),
         best_error_pct_fs: i.best_error_pct_fs,
         binding: i.binding.clone(),
         largest: i
@@ -419,6 +423,8 @@ fn infeasible_report(i: &Infeasibility) -> InfeasibleReport {
             .suggestions
             .iter()
             .map(|s| SuggestionEntry {
+                apply: s.apply.clone(),
+                apply_stock: s.apply_stock.clone(),
                 change: s.change.clone(),
                 cost: s.cost,
                 error_pct_fs: s.error_pct_fs,
@@ -450,7 +456,10 @@ pub fn solve_report(need: &Need, stock: &Stock, outcome: &SolveOutcome) -> Repor
             })
             .collect(),
         design: outcome.best.as_ref().map(|c| design_report(need, stock, c)),
-        infeasible: outcome.infeasible.as_ref().map(infeasible_report),
+        infeasible: outcome
+            .infeasible
+            .as_ref()
+            .map(|i| infeasible_report(need, stock, i)),
         need: need_figures(need),
         reason: match (&outcome.infeasible, outcome.unfinished_reason()) {
             _ if best_short.is_some() => best_short.clone(),

@@ -662,6 +662,15 @@ fn write_infeasible(out: &mut String, report: &Report) {
         "         most accurate design found {best}; target {} % FS",
         num(inf.target_pct_fs, 3)
     );
+    if let Some(b) = &inf.best_attempt {
+        let _ = writeln!(
+            out,
+            "         that design: {}, cost {:.3}, {} parts (in full as infeasible.best_attempt in the JSON report)",
+            clean(&b.shapes.join(" + ")),
+            b.cost,
+            b.part_count
+        );
+    }
     if !inf.proven {
         let _ = writeln!(
             out,

@@ -477,6 +477,11 @@ pub struct SearchReport {
 /// Why no design meets the need (proven) or why none was found.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct InfeasibleReport {
+    /// The most accurate design the search analysed that passes every
+    /// check but misses the target, as a full design object (the one
+    /// `best_error_pct_fs` and `largest` describe); null when the search
+    /// analysed none.
+    pub best_attempt: Option<Box<DesignReport>>,
     /// Error of the most accurate design the search analysed, % FS: the
     /// least of the whole space where the search walked all of it
     /// (`binding` then says so), otherwise not a bound on what the stock
@@ -508,6 +513,12 @@ pub struct Contributor {
 /// A verified change.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct SuggestionEntry {
+    /// The change as need keys and their new values, in need-file keys;
+    /// empty for a change of the stock.
+    pub apply: Vec<crate::search::NeedChange>,
+    /// The change as stock columns set in every row of a table; empty for
+    /// a change of the need.
+    pub apply_stock: Vec<crate::search::StockChange>,
     /// What to change.
     pub change: String,
     /// Cost of the cheapest design with it.

@@ -3,8 +3,8 @@
 //! words, and changes to the need or stock verified by solving again.
 
 use super::{
-    solve_with, Candidate, Infeasibility, Progress, SearchMode, SolveControl, Suggestion,
-    Suggestions,
+    solve_with, Candidate, Infeasibility, NeedChange, Progress, SearchMode, SolveControl,
+    StockChange, Suggestion, Suggestions,
 };
 use crate::analysis::Finding;
 use crate::need::{Basis, Calibration, Need, Objective};
@@ -209,6 +209,7 @@ pub(super) fn explain(
         target_pct_fs: need.accuracy.max_error_pct_fs,
         largest,
         suggestions: verified,
+        best_attempt: best_known.map(Box::new),
     }
 }
 
@@ -301,25 +302,62 @@ fn margin_suggestion(
             "leave room at the ends of the ADC window: set adc.margin_pct to {margin} (it is {})",
             need.adc.margin.0
         );
-        if let Some(found) = try_change(change, &changed, stock, budget) {
+        let apply = need_diff(need, &changed);
+        if let Some(found) = try_change(change, &changed, stock, budget, apply, Vec::new()) {
             return Some(found);
         }
     }
     None
 }
 
-/// The cheapest design of a changed need or stock, as a suggestion.
+/// The need keys whose values differ between two needs, with their values
+/// in `changed`, in the need file's keys (from the need's own echo, so
+/// every change `need_changes` makes is carried without a list of its own).
+fn need_diff(need: &Need, changed: &Need) -> Vec<NeedChange> {
+    const SECTIONS: [&str; 6] = ["sensor", "adc", "supply", "accuracy", "search", "stock"];
+    let before = crate::report::need_echo::need_tables(need);
+    let after = crate::report::need_echo::need_tables(changed);
+    let mut out = Vec::new();
+    for ((section, old), new) in SECTIONS.iter().zip(&before).zip(&after) {
+        let (Some(old), Some(new)) = (old.as_object(), new.as_object()) else {
+            continue;
+        };
+        for (key, value) in new {
+            if old.get(key) != Some(value) {
+                out.push(NeedChange {
+                    key: format!("{section}.{key}"),
+                    value: value.clone(),
+                });
+            }
+        }
+        for key in old.keys().filter(|k| !new.contains_key(*k)) {
+            out.push(NeedChange {
+                key: format!("{section}.{key}"),
+                value: serde_json::Value::Null,
+            });
+        }
+    }
+    out
+}
+
+/// The cheapest design of a changed need or stock, as a suggestion
+/// carrying the change as need keys (`apply`) or stock columns
+/// (`apply_stock`).
 fn try_change(
     change: String,
     need: &Need,
     stock: &Stock,
     budget: &mut Budget<'_, '_>,
+    apply: Vec<NeedChange>,
+    apply_stock: Vec<StockChange>,
 ) -> Option<Suggestion> {
     let outcome = budget.solve(need, stock, need.search.time_limit_ms)?;
     outcome.best.map(|b| Suggestion {
         change,
         cost: b.costing.total,
         error_pct_fs: b.analysis.basis_pct_fs,
+        apply,
+        apply_stock,
     })
 }
 
@@ -355,11 +393,33 @@ fn verified_suggestions(
             let change = format!(
                 "stock every resistor value of the design in the best grade on the shelf ({tol} %, {tcr} ppm/degC)"
             );
-            out.extend(try_change(change, need, &tighter, budget));
+            let apply_stock = [("tolerance_pct", tol), ("tcr_ppm_per_c", tcr)]
+                .map(|(column, value)| StockChange {
+                    file: "resistors.csv".into(),
+                    column: column.into(),
+                    value,
+                })
+                .to_vec();
+            out.extend(try_change(
+                change,
+                need,
+                &tighter,
+                budget,
+                Vec::new(),
+                apply_stock,
+            ));
         }
     }
     for (change, changed) in tries {
-        out.extend(try_change(change, &changed, stock, budget));
+        let apply = need_diff(need, &changed);
+        out.extend(try_change(
+            change,
+            &changed,
+            stock,
+            budget,
+            apply,
+            Vec::new(),
+        ));
     }
     if best_error.is_none() {
         out.extend(margin_suggestion(need, stock, budget));
@@ -372,5 +432,41 @@ fn basis_name(b: Basis) -> &'static str {
         Basis::WorstCase => "worst-case",
         Basis::Rss => "RSS",
         Basis::Yield => "yield",
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn demo() -> Need {
+        crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo.toml").unwrap()
+    }
+
+    /// The change of a suggestion is exactly the keys its need changes, in
+    /// need-file keys and values.
+    #[test]
+    fn need_diff_names_the_changed_keys_only() {
+        let need = demo();
+        assert!(need_diff(&need, &need).is_empty());
+        for (change, changed) in need_changes(&need, Some(0.7)) {
+            assert!(
+                !need_diff(&need, &changed).is_empty(),
+                "{change}: no key changed"
+            );
+        }
+        let mut changed = need.clone();
+        changed.accuracy.basis = Basis::Rss;
+        changed.adc.margin = crate::units::Percent(1.0);
+        let diff = need_diff(&need, &changed);
+        let keys: Vec<(&str, &serde_json::Value)> =
+            diff.iter().map(|d| (d.key.as_str(), &d.value)).collect();
+        assert_eq!(
+            keys,
+            [
+                ("adc.margin_pct", &serde_json::json!(1.0)),
+                ("accuracy.basis", &serde_json::json!("rss"))
+            ]
+        );
     }
 }

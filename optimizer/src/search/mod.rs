@@ -207,6 +207,28 @@ pub struct SearchStats {
     pub gap: Option<f64>,
 }
 
+/// One need key set to a new value, in the need file's keys and units
+/// (`accuracy.basis` to `"rss"`), so a front end can apply a suggestion.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct NeedChange {
+    /// The need key, `section.key` as in the need file.
+    pub key: String,
+    /// Its new value as the need file writes it; null takes the key out.
+    pub value: serde_json::Value,
+}
+
+/// One column of a stock table set to one value in every row, so a front
+/// end can apply a suggestion to its shelf.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StockChange {
+    /// The column (`tolerance_pct`).
+    pub column: String,
+    /// The stock file (`resistors.csv`).
+    pub file: String,
+    /// The value every row gets.
+    pub value: f64,
+}
+
 /// A change that would make an infeasible need feasible, verified by
 /// solving again with it.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -217,10 +239,16 @@ pub struct Suggestion {
     pub cost: f64,
     /// Its error on the need's basis, % FS.
     pub error_pct_fs: f64,
+    /// The change as need keys and values (every key the changed need
+    /// holds differently); empty for a change of the stock.
+    pub apply: Vec<NeedChange>,
+    /// The change as stock columns set in every row; empty for a change of
+    /// the need.
+    pub apply_stock: Vec<StockChange>,
 }
 
 /// Why no design meets the need, or why none was found.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone)]
 pub struct Infeasibility {
     /// Whether it is proven that no design in the space meets the need;
     /// `false` when the search found none among those it tried.
@@ -235,6 +263,10 @@ pub struct Infeasibility {
     pub largest: Vec<(String, f64)>,
     /// Verified changes that would make it feasible.
     pub suggestions: Vec<Suggestion>,
+    /// The most accurate design the search analysed that passes every
+    /// check but misses the target (the one `best_error_pct_fs` and
+    /// `largest` describe), when there is one.
+    pub best_attempt: Option<Box<Candidate>>,
 }
 
 /// What stopped a search before it finished its walk or proved its

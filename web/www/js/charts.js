@@ -1,8 +1,9 @@
-// The three charts of a result, drawn as SVG from the report's numbers:
-// the error budget, the cost-against-error front, the Monte Carlo
-// histogram. Text reaches them only as SVG text nodes.
+// The charts of a result, drawn as SVG from the report's numbers: the
+// error budget, the cost-against-error front, the Monte Carlo histogram,
+// the error over temperature and the frequency response (Bode plot). Text
+// reaches them only as SVG text nodes.
 import { $, clear, el, isObject, num, svg } from './dom.js';
-import { fmt } from './format.js';
+import { eng, fmt } from './format.js';
 import { state } from './state.js';
 
 /** The error figures of a design object of the report. */
@@ -322,5 +323,105 @@ export function renderSweep(sweep) {
   chart.append(svg('text', { x: L + 22, y: legendY, class: 'label' }, 'worst case'));
   chart.append(svg('line', { x1: L + 110, x2: L + 128, y1: legendY - 4, y2: legendY - 4, class: 'sweep-rss' }));
   chart.append(svg('text', { x: L + 132, y: legendY, class: 'label' }, 'RSS'));
+  box.append(chart);
+}
+
+/** The Bode points of a design's filter report (`design.filter.bode`), in order of frequency. */
+function bodeOf(design) {
+  const filter = isObject(design) && isObject(design.filter) ? design.filter : null;
+  const points = filter && Array.isArray(filter.bode) ? filter.bode : [];
+  return points.filter((p) => isObject(p) && num(p.frequency_hz) > 0 && num(p.magnitude_db) !== null && num(p.phase_deg) !== null)
+    .sort((a, b) => a.frequency_hz - b.frequency_hz);
+}
+
+/**
+ * The frequency response of the whole chain, sensor to ADC pin: gain (dB)
+ * and phase (degrees) against frequency on a log scale, from the core's AC
+ * analysis (`design.filter.bode`), with the chain's corner and, where the
+ * need gives a sample rate, half of it (Nyquist) marked. Hidden when the
+ * design has no filter report.
+ */
+export function renderBode(design, need) {
+  const box = $('bode-chart');
+  clear(box);
+  const points = bodeOf(design);
+  $('bode-box').hidden = points.length < 2;
+  if (points.length < 2) { $('bode-note').textContent = ''; return; }
+  const filter = design.filter;
+  const corner = num(filter.corner_hz);
+  const rate = num(((need && need.adc) || {}).sample_rate_hz);
+  const nyquist = rate !== null && rate > 0 ? rate / 2 : null;
+  const W = widthOf(box); const L = 64; const R = 16; const T = 26; const gap = 40; const B = 50;
+  const magH = 190; const phaseH = 130; const H = T + magH + gap + phaseH + B;
+  const fLo = points[0].frequency_hz; const fHi = points[points.length - 1].frequency_hz;
+  const lf = (f) => Math.log10(f);
+  const x = (f) => L + ((lf(f) - lf(fLo)) / (lf(fHi) - lf(fLo))) * (W - L - R);
+  const dbs = points.map((p) => p.magnitude_db);
+  let dLo = Math.min(...dbs); let dHi = Math.max(...dbs);
+  const dPad = (dHi - dLo) * 0.06 || 1; dLo -= dPad; dHi += dPad;
+  const magTop = T; const magBottom = T + magH;
+  const phaseTop = magBottom + gap; const phaseBottom = phaseTop + phaseH;
+  const yMag = (v) => magBottom - ((v - dLo) / (dHi - dLo)) * magH;
+  const yPhase = (v) => phaseBottom - ((v + 180) / 360) * phaseH;
+  const chart = svg('svg', { viewBox: `0 0 ${W} ${H}`, width: W, height: H, class: 'chart bode', role: 'img', 'aria-label': 'frequency response of the chain: gain in dB and phase in degrees against frequency, with the corner and the Nyquist frequency marked' });
+  chart.append(svg('title', {}, 'Bode plot of the whole chain from the sensor to the ADC pin'));
+  // Decades on the frequency axis, labelled with SI prefixes.
+  const decades = [];
+  for (let d = Math.ceil(lf(fLo) - 1e-9); d <= lf(fHi) + 1e-9; d += 1) decades.push(10 ** d);
+  const step = decades.length > (W < 480 ? 4 : 7) ? 2 : 1;
+  decades.forEach((f, i) => {
+    for (const [y1, y2] of [[magTop, magBottom], [phaseTop, phaseBottom]]) chart.append(svg('line', { x1: x(f), x2: x(f), y1, y2, class: 'grid' }));
+    if (i % step === 0) chart.append(svg('text', { x: x(f), y: phaseBottom + 16, class: 'tick', 'text-anchor': 'middle' }, eng(f, 'Hz', 3)));
+  });
+  for (const tick of niceTicks(dLo, dHi, 4)) {
+    chart.append(svg('line', { x1: L, x2: W - R, y1: yMag(tick), y2: yMag(tick), class: 'grid' }));
+    chart.append(svg('text', { x: L - 6, y: yMag(tick) + 4, class: 'tick', 'text-anchor': 'end' }, fmt(tick, 3)));
+  }
+  for (const tick of [-180, -90, 0, 90, 180]) {
+    chart.append(svg('line', { x1: L, x2: W - R, y1: yPhase(tick), y2: yPhase(tick), class: 'grid' }));
+    chart.append(svg('text', { x: L - 6, y: yPhase(tick) + 4, class: 'tick', 'text-anchor': 'end' }, String(tick)));
+  }
+  chart.append(svg('text', { x: (L + W - R) / 2, y: H - 8, class: 'axis', 'text-anchor': 'middle' }, 'frequency, Hz (log scale)'));
+  const ylabel = (text, mid) => chart.append(svg('text', { x: 14, y: mid, class: 'axis', 'text-anchor': 'middle', transform: `rotate(-90 14 ${mid})` }, text));
+  ylabel('gain, dB', (magTop + magBottom) / 2);
+  ylabel('phase, °', (phaseTop + phaseBottom) / 2);
+  // The curves: one path each, broken where the phase wraps at ±180°.
+  let magPath = '';
+  let phasePath = '';
+  points.forEach((p, i) => {
+    magPath += `${i ? 'L' : 'M'} ${x(p.frequency_hz).toFixed(2)} ${yMag(p.magnitude_db).toFixed(2)} `;
+    const wraps = i > 0 && Math.abs(p.phase_deg - points[i - 1].phase_deg) > 180;
+    phasePath += `${i && !wraps ? 'L' : 'M'} ${x(p.frequency_hz).toFixed(2)} ${yPhase(p.phase_deg).toFixed(2)} `;
+  });
+  chart.append(svg('path', { d: magPath.trim(), class: 'bode-mag' }));
+  chart.append(svg('path', { d: phasePath.trim(), class: 'bode-phase' }));
+  for (const p of points) {
+    const dot = svg('circle', {
+      cx: x(p.frequency_hz), cy: yMag(p.magnitude_db), r: 1.8, class: 'bode-point',
+      'data-frequency': p.frequency_hz, 'data-db': p.magnitude_db, 'data-deg': p.phase_deg,
+    });
+    dot.append(svg('title', {}, `${eng(p.frequency_hz, 'Hz', 4)}: ${fmt(p.magnitude_db, 4)} dB, ${fmt(p.phase_deg, 4)}°`));
+    chart.append(dot);
+  }
+  // Marks: the corner and Nyquist, each a labelled vertical line.
+  const notes = [];
+  const mark = (f, cls, text, row) => {
+    if (f === null) return;
+    if (f < fLo || f > fHi) { notes.push(`${text} is outside the plotted range.`); return; }
+    chart.append(svg('line', { x1: x(f), x2: x(f), y1: magTop - 4, y2: phaseBottom, class: `mark ${cls}`, 'data-hz': f }));
+    const anchor = x(f) > W - R - 110 ? 'end' : 'start';
+    chart.append(svg('text', { x: x(f) + (anchor === 'end' ? -4 : 4), y: magTop + 12 + row * 15, class: `mark-label ${cls}`, 'text-anchor': anchor }, text));
+  };
+  mark(corner, 'corner', corner === null ? '' : `corner ${eng(corner, 'Hz', 3)}`, 0);
+  mark(nyquist, 'nyquist', nyquist === null ? '' : `Nyquist ${eng(nyquist, 'Hz', 3)}`, 1);
+  const rejection = num(filter.rejection_at_nyquist_db);
+  const said = [
+    corner !== null ? `Corner (−3 dB) of the whole chain: ${eng(corner, 'Hz', 4)}.` : '',
+    nyquist !== null && rejection !== null ? `At half the sample rate (${eng(nyquist, 'Hz', 4)}) the chain is ${fmt(rejection, 3)} dB down.` : '',
+    nyquist === null ? 'No sample rate in the need, so no Nyquist mark.' : '',
+    ...notes,
+    'From the core\'s AC analysis of the whole chain at nominal values (each op-amp section one pole at its gain-bandwidth); the gain includes the chain\'s own gain.',
+  ];
+  $('bode-note').textContent = said.filter(Boolean).join(' ');
   box.append(chart);
 }

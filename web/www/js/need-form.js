@@ -82,13 +82,13 @@ export function buildForm(fields) {
     wrap.append(input);
     wrap.append(el('span', { className: 'unit', text: f.unit ? String(f.unit) : '' }));
     const optional = !f.required && (f.default === null || f.default === undefined);
-    const note = [optional ? 'optional' : '', typeof f.hint === 'string' ? f.hint : ''].filter(Boolean).join('; ');
+    const note = [optional ? 'optional' : '', typeof f.hint === 'string' ? plainKeys(f.hint) : ''].filter(Boolean).join('; ');
     const hint = el('span', { className: 'hint', id: `${id}-hint`, text: note });
     wrap.append(hint);
     wrap.append(el('span', { className: 'understood', id: `${id}-understood`, 'data-testid': `understood-${f.key}` }));
     if (typeof f.help === 'string' && f.help) {
       const more = el('details', { className: 'help' }, el('summary', { text: 'More about this field' }));
-      more.append(el('p', { text: f.help }));
+      more.append(el('p', { text: plainKeys(f.help) }));
       const facts = [
         f.unit ? `Unit: ${f.unit}.` : '',
         f.default !== null && f.default !== undefined ? `Default: ${defaultText(f)}.` : (f.required ? 'Required.' : 'Optional, no default.'),
@@ -116,24 +116,75 @@ export function buildForm(fields) {
 export function fillForm(need) {
   for (const f of state.fields) {
     const [section, name] = split(f.key);
-    const input = $(fieldId(f.key));
     const values = isObject(need[section]) ? need[section] : {};
-    const value = values[name];
-    const shown = value === undefined ? f.default : value;
-    if (f.kind === 'boolean') input.checked = shown === true;
-    else if (f.kind === 'choices') {
-      const chosen = Array.isArray(shown) ? shown.map(String) : [];
-      for (const box of input.querySelectorAll('input')) box.checked = chosen.includes(box.value);
-    } else if (f.kind === 'choice') {
-      const options = [...input.options].map((o) => o.value);
-      if (shown !== undefined && shown !== null && !options.includes(String(shown))) {
-        input.append(el('option', { value: String(shown), text: String(shown) }));
-      }
-      input.value = shown === undefined || shown === null ? (options[0] || '') : String(shown);
-    } else {
-      input.value = value === undefined || value === null ? '' : String(value);
-    }
+    showValue(f, values[name]);
   }
+}
+
+/** Show one key's value in its field (undefined or null: the default). */
+function showValue(f, given) {
+  const value = given === null ? undefined : given;
+  const input = $(fieldId(f.key));
+  const shown = value === undefined ? f.default : value;
+  if (f.kind === 'boolean') input.checked = shown === true;
+  else if (f.kind === 'choices') {
+    const chosen = Array.isArray(shown) ? shown.map(String) : [];
+    for (const box of input.querySelectorAll('input')) box.checked = chosen.includes(box.value);
+  } else if (f.kind === 'choice') {
+    const options = [...input.options].map((o) => o.value);
+    if (shown !== undefined && shown !== null && !options.includes(String(shown))) {
+      input.append(el('option', { value: String(shown), text: String(shown) }));
+    }
+    input.value = shown === undefined || shown === null ? (options[0] || '') : String(shown);
+  } else {
+    input.value = value === undefined ? '' : String(value);
+  }
+}
+
+/**
+ * Set need keys to new values (a suggestion of the core: `{key, value}` in
+ * need-file keys, null taking a key out). Only those fields change; every
+ * other field keeps what the user entered, as typed. Resolves once the
+ * core has checked the need.
+ */
+export async function applyNeedChanges(changes) {
+  for (const { key, value } of changes) {
+    const f = fieldFor(key);
+    if (f) { showValue(f, value); continue; }
+    // A key the form does not show: kept in the need as it is.
+    const [section, name] = split(key);
+    if (!isObject(state.need[section])) state.need[section] = {};
+    if (value === null) delete state.need[section][name];
+    else state.need[section][name] = value;
+  }
+  state.formDirty = true;
+  state.need = collectForm().need;
+  saveSoon();
+  clearTimeout(needTimer);
+  await validateNeed();
+}
+
+/**
+ * A text of the core (a hint, a message, a suggestion) with each need key
+ * it names (`adc.high_v`, or `high_v` alone) replaced by the field's
+ * label in quotes, so the page speaks in the form's words.
+ */
+export function plainKeys(text) {
+  if (typeof text !== 'string' || !state.fields.length) return text;
+  return text.replace(/`?\b(?:(sensor|adc|supply|accuracy|search|stock)\.)?([a-z][a-z0-9]*(?:_[a-z0-9]+)+|[a-z]+)\b`?/g, (whole, section, name) => {
+    const f = section ? fieldFor(`${section}.${name}`) : uniqueField(name);
+    if (!f || !f.label) return whole;
+    // A plain word that happens to be a key's last part (`label`, `bits`)
+    // stays a word unless it was written as a key.
+    if (!section && !name.includes('_') && !whole.startsWith('`')) return whole;
+    return `“${f.label}”`;
+  });
+}
+
+/** The one field whose key ends in `name`, or undefined when none or several do. */
+function uniqueField(name) {
+  const found = state.fields.filter((f) => f.key.slice(f.key.indexOf('.') + 1) === name);
+  return found.length === 1 ? found[0] : undefined;
 }
 
 /**
@@ -221,7 +272,7 @@ function markFields(problems) {
     const input = fieldFor(p.key) && $(fieldId(p.key));
     if (!input) continue;
     input.closest('.field').classList.add('invalid');
-    $(`${fieldId(p.key)}-error`).textContent = p.detail;
+    $(`${fieldId(p.key)}-error`).textContent = plainKeys(p.detail);
   }
 }
 
@@ -245,8 +296,8 @@ function onFormInput() {
  */
 function needMessage(info) {
   const key = typeof info.key === 'string' ? info.key : null;
-  if (key && fieldFor(key) && typeof info.detail === 'string') return `${labelOf(key)}: ${info.detail}`;
-  return String(info.message);
+  if (key && fieldFor(key) && typeof info.detail === 'string') return `${labelOf(key)}: ${plainKeys(info.detail)}`;
+  return plainKeys(String(info.message));
 }
 
 /** Ask the core whether the need is complete and consistent. */
@@ -270,7 +321,7 @@ export async function validateNeed() {
   if (problems.length) {
     markFields(problems);
     state.needValid = false;
-    const list = problems.map((p) => `${labelOf(p.key)}: ${p.detail}`).join('; ');
+    const list = problems.map((p) => `${labelOf(p.key)}: ${plainKeys(p.detail)}`).join('; ');
     setStatus('need-status', `${problems.length === 1 ? 'One value needs' : `${problems.length} values need`} attention: ${list}`, 'bad');
     updateSolveButton();
     return;

@@ -1,20 +1,36 @@
 // The result panel: the banner, what would make an infeasible need
-// possible, the figures, the schematic, the charts, the parts, the bill of
-// materials (the core's `bom_table`), the checks; and the alternatives of
-// the front, each analysed by the core when picked.
-import { $, clear, el, isObject, num } from './dom.js';
+// possible (the binding limit, the verified suggestions, each one click to
+// apply, and the best attempt shown as a design), the warnings, the
+// figures, the schematic, the charts, the parts, the bill of materials (the
+// core's `bom_table`), the checks; and the alternatives of the front, each
+// analysed by the core when picked.
+import { $, clear, el, isObject, num, setStatus } from './dom.js';
 import { eng, fmt } from './format.js';
-import { engines, state } from './state.js';
-import { alternativeDesign, errorOf, money, renderBudget, renderBudgetNotes, renderHistogram, renderPareto, renderSweep } from './charts.js';
+import { engines, hooks, state } from './state.js';
+import { alternativeDesign, errorOf, money, renderBode, renderBudget, renderBudgetNotes, renderHistogram, renderPareto, renderSweep } from './charts.js';
+import { applyNeedChanges, plainKeys } from './need-form.js';
+import { applyStockChanges } from './shelf.js';
+
+/** `state.viewed.index` of the best attempt of an infeasible need. */
+const ATTEMPT = -2;
 
 function reportOf(bundle) {
   return isObject(bundle.report) ? bundle.report : {};
 }
 
+/** The best attempt of an infeasible need (a design object), or null. */
+function bestAttempt(report) {
+  if (report.status === 'ok' || state.result.cancelled || !isObject(report.infeasible)) return null;
+  return isObject(report.infeasible.best_attempt) ? report.infeasible.best_attempt : null;
+}
+
 /** Show a new search result (state.result), its chosen design first. */
 export function showReport() {
   const report = reportOf(state.result.bundle);
-  state.viewed = { design: report.design, artifacts: state.result.bundle.artifacts || {}, label: 'the chosen design', index: -1 };
+  const attempt = isObject(report.design) ? null : bestAttempt(report);
+  state.viewed = attempt
+    ? { design: attempt, artifacts: {}, label: 'the best attempt, which misses the target', index: ATTEMPT }
+    : { design: report.design, artifacts: state.result.bundle.artifacts || {}, label: 'the chosen design', index: -1 };
   $('result').hidden = false;
   const banner = $('result-banner');
   if (report.status === 'ok') {
@@ -30,12 +46,14 @@ export function showReport() {
   } else {
     const why = typeof report.reason === 'string' ? report.reason
       : (isObject(report.infeasible) && typeof report.infeasible.binding === 'string' ? report.infeasible.binding : '');
-    banner.textContent = `No design meets the need${why ? `. ${why}` : '.'}`;
+    banner.textContent = `No design meets the need${why ? `. ${plainKeys(why)}` : '.'}`;
     banner.dataset.tone = 'bad';
   }
+  if (report.status === 'unfinished') banner.textContent = plainKeys(banner.textContent);
   banner.dataset.status = String(report.status);
   renderInfeasible(report);
   renderViewed();
+  if (attempt) analyseViewed(attempt, ATTEMPT);
 }
 
 /** The figures of a design that the comparison shows, from the core's report. */
@@ -89,13 +107,17 @@ export function renderViewed() {
   const { design, artifacts, label } = state.viewed;
   const need = state.result.need;
   $('viewing').textContent = design ? `Showing ${label}.` : '';
+  $('viewing').dataset.attempt = state.viewed.index === ATTEMPT ? 'yes' : 'no';
   $('design-details').hidden = !isObject(design);
+  renderWarnings(design);
   renderFigures(design, report);
   renderSchematic(artifacts.svg);
   renderBudget(design, need);
   renderBudgetNotes(design);
   renderPareto(report, need, state.viewed.index, viewAlternative);
+  $('pareto-box').hidden = state.viewed.index === ATTEMPT;
   renderHistogram(design, need);
+  renderBode(design, need);
   if (state.viewed.sweep) renderSweep(state.viewed.sweep);
   else loadSweep(design);
   renderParts(design);
@@ -209,23 +231,72 @@ function applyZoom() {
   $('zoom-fit').setAttribute('aria-pressed', 'false');
 }
 
-/** Zoom the schematic by `factor` (keeping the middle of the view in place), or fit it. */
-export function zoomSchematic(factor) {
+/**
+ * Zoom the schematic by `factor`, keeping the point `at` of the box (in
+ * box pixels; the middle of the view when not given) in place, or fit it.
+ */
+export function zoomSchematic(factor, at) {
   const box = $('schematic');
   if (factor === 'fit') {
     zoom = Math.max(ZOOM.min, Math.min(ZOOM.max, (box.clientWidth - 4) / schematicSize.w));
     applyZoom();
     return;
   }
-  const cx = (box.scrollLeft + box.clientWidth / 2) / zoom;
-  const cy = (box.scrollTop + box.clientHeight / 2) / zoom;
+  const ax = at ? at.x : box.clientWidth / 2;
+  const ay = at ? at.y : box.clientHeight / 2;
+  const cx = (box.scrollLeft + ax) / zoom;
+  const cy = (box.scrollTop + ay) / zoom;
   zoom = Math.max(ZOOM.min, Math.min(ZOOM.max, zoom * factor));
   applyZoom();
-  box.scrollLeft = cx * zoom - box.clientWidth / 2;
-  box.scrollTop = cy * zoom - box.clientHeight / 2;
+  box.scrollLeft = cx * zoom - ax;
+  box.scrollTop = cy * zoom - ay;
 }
 
-/** Wheel (with Ctrl, as a trackpad pinch sends it), keys and dragging on the schematic. */
+/**
+ * Touch on the schematic: two fingers pinch to zoom about their midpoint
+ * (one finger scrolls the box, as the browser does by itself).
+ */
+function wirePinch(box) {
+  const touches = new Map();
+  let pinch = null;
+  const spread = () => {
+    const [a, b] = [...touches.values()];
+    const r = box.getBoundingClientRect();
+    return { d: Math.hypot(a.x - b.x, a.y - b.y), mid: { x: (a.x + b.x) / 2 - r.left, y: (a.y + b.y) / 2 - r.top } };
+  };
+  box.addEventListener('pointerdown', (e) => {
+    if (e.pointerType !== 'touch') return;
+    touches.set(e.pointerId, { x: e.clientX, y: e.clientY });
+    if (touches.size === 2) {
+      const s = spread();
+      pinch = { d: Math.max(s.d, 1) };
+      box.dataset.pinching = 'yes';
+    }
+  });
+  box.addEventListener('pointermove', (e) => {
+    if (e.pointerType !== 'touch' || !touches.has(e.pointerId)) return;
+    touches.set(e.pointerId, { x: e.clientX, y: e.clientY });
+    if (!pinch || touches.size !== 2) return;
+    e.preventDefault();
+    const s = spread();
+    const factor = Math.max(s.d, 1) / pinch.d;
+    if (Math.abs(factor - 1) < 0.01) return;
+    zoomSchematic(factor, s.mid);
+    pinch.d = Math.max(s.d, 1);
+  });
+  const lift = (e) => {
+    if (e.pointerType !== 'touch') return;
+    touches.delete(e.pointerId);
+    if (touches.size < 2) { pinch = null; delete box.dataset.pinching; }
+  };
+  box.addEventListener('pointerup', lift);
+  box.addEventListener('pointercancel', lift);
+  // Two fingers: keep the browser from taking the gesture as a scroll (which
+  // would cancel the pointers); one finger still scrolls natively.
+  box.addEventListener('touchmove', (e) => { if (e.touches.length > 1) e.preventDefault(); }, { passive: false });
+}
+
+/** Wheel (with Ctrl, as a trackpad pinch sends it), pinch, keys and dragging on the schematic. */
 export function wireSchematic() {
   const box = $('schematic');
   $('zoom-in').addEventListener('click', () => zoomSchematic(ZOOM.step));
@@ -245,6 +316,7 @@ export function wireSchematic() {
     if (e.key === '-') { zoomSchematic(1 / ZOOM.step); e.preventDefault(); }
     if (e.key === '0') { zoom = ZOOM.initial; applyZoom(); e.preventDefault(); }
   });
+  wirePinch(box);
   let drag = null;
   box.addEventListener('pointerdown', (e) => {
     if (e.pointerType !== 'mouse' || e.button !== 0) return;
@@ -325,6 +397,29 @@ function renderParts(design) {
   node.append(body);
 }
 
+/** The changes of a suggestion the page can apply: need keys and shelf columns. */
+function changesOf(tip) {
+  const need = (Array.isArray(tip.apply) ? tip.apply : [])
+    .filter((a) => isObject(a) && typeof a.key === 'string' && a.key.includes('.'));
+  const stock = (Array.isArray(tip.apply_stock) ? tip.apply_stock : [])
+    .filter((a) => isObject(a) && typeof a.file === 'string' && typeof a.column === 'string' && num(a.value) !== null);
+  return { need, stock };
+}
+
+/**
+ * Apply a verified suggestion: only the need keys (or shelf columns) it
+ * names change, everything else the user entered stays; then solve again.
+ */
+async function applySuggestion(tip) {
+  const { need, stock } = changesOf(tip);
+  const what = plainKeys(String(tip.change ?? 'the change'));
+  setStatus('run-status', `Applied: ${what}. Solving again…`, 'good');
+  if (need.length) await applyNeedChanges(need);
+  if (stock.length) await applyStockChanges(stock);
+  $('answer').focus();
+  if (state.needValid && state.stockValid && hooks.solveNow) hooks.solveNow();
+}
+
 function renderInfeasible(report) {
   const box = $('infeasible-box');
   const info = report.status !== 'ok' && !state.result.cancelled && isObject(report.infeasible) ? report.infeasible : null;
@@ -333,21 +428,48 @@ function renderInfeasible(report) {
   const largest = $('largest');
   clear(tips);
   clear(largest);
+  $('binding').textContent = '';
   if (!info) return;
-  for (const tip of Array.isArray(info.suggestions) ? info.suggestions : []) {
-    if (!isObject(tip)) continue;
-    const figures = [num(tip.cost) !== null ? `cost ${fmt(tip.cost)}` : '', num(tip.error_pct_fs) !== null ? `${fmt(tip.error_pct_fs, 3)} % FS` : '']
+  const best = num(info.best_error_pct_fs);
+  const target = num(info.target_pct_fs);
+  $('binding').textContent = typeof info.binding === 'string' ? plainKeys(info.binding) : '';
+  $('binding-figures').textContent = best !== null && target !== null
+    ? `Best attempt ${fmt(best, 3)} % FS against a target of ${fmt(target, 3)} % FS${info.proven ? '' : ' (the search did not prove that no design exists)'}.`
+    : (info.proven ? '' : 'The search did not prove that no design exists.');
+  (Array.isArray(info.suggestions) ? info.suggestions : []).forEach((tip, i) => {
+    if (!isObject(tip)) return;
+    const figures = [num(tip.cost) !== null ? `cost ${money(tip.cost)}` : '', num(tip.error_pct_fs) !== null ? `${fmt(tip.error_pct_fs, 3)} % FS` : '']
       .filter(Boolean).join(', ');
-    tips.append(el('li', {}, el('span', { className: 'change', text: String(tip.change ?? '') }),
-      el('span', { className: 'aside', text: figures ? ` (${figures})` : '' })));
-  }
+    const change = plainKeys(String(tip.change ?? ''));
+    const item = el('li', { 'data-suggestion': i }, el('span', { className: 'change', text: change }),
+      el('span', { className: 'aside', text: figures ? ` (${figures})` : '' }));
+    const { need, stock } = changesOf(tip);
+    if (need.length || stock.length) {
+      const button = el('button', {
+        type: 'button', className: 'apply', 'data-testid': 'apply-suggestion',
+        'aria-label': `${stock.length ? 'Apply to the shelf and solve' : 'Apply and solve'}: ${change}`,
+        text: stock.length ? 'Apply to the shelf and solve' : 'Apply and solve',
+      });
+      button.addEventListener('click', () => applySuggestion(tip));
+      item.append(button);
+    }
+    tips.append(item);
+  });
   for (const item of Array.isArray(info.largest) ? info.largest : []) {
     if (!isObject(item)) continue;
     largest.append(el('li', { text: `${String(item.source ?? '?')}: ${fmt(item.pct_fs, 3)} % FS` }));
   }
-  tips.parentElement.hidden = !tips.childElementCount;
+  $('suggestions-none').hidden = tips.childElementCount > 0;
   largest.parentElement.hidden = !largest.childElementCount;
-  if (!tips.childElementCount && !largest.childElementCount) box.hidden = true;
+}
+
+/** The plain-language warnings of the design on show (`design.warnings`), when it has any. */
+function renderWarnings(design) {
+  const list = $('warnings');
+  clear(list);
+  const warnings = isObject(design) && Array.isArray(design.warnings) ? design.warnings.filter((w) => typeof w === 'string' && w) : [];
+  for (const w of warnings) list.append(el('li', { text: w }));
+  $('warnings-box').hidden = !warnings.length;
 }
 
 function renderFindings(design) {
@@ -371,7 +493,7 @@ function renderBom(table) {
   clear(node);
   const ok = isObject(table) && Array.isArray(table.header) && Array.isArray(table.rows);
   if (!ok) {
-    const waiting = state.viewed.index >= 0 && isObject(state.viewed.design);
+    const waiting = state.viewed.index !== -1 && isObject(state.viewed.design);
     node.append(el('caption', { className: 'empty', text: waiting ? 'The bill of materials comes with this design’s analysis.' : 'No bill of materials for this report.' }));
     return;
   }
@@ -430,12 +552,21 @@ export async function viewAlternative(index) {
   const design = alternativeDesign(report.alternatives[index]);
   state.viewed = { design, artifacts: {}, label: `alternative ${index + 1} of ${report.alternatives.length}`, index };
   renderViewed();
+  await analyseViewed(design, index);
+}
+
+/**
+ * The core's full analysis of the design on show (an alternative, or the
+ * best attempt of an infeasible need): its schematic, BOM and checks.
+ */
+async function analyseViewed(design, index) {
   if (!isObject(design)) return;
+  const result = state.result;
   const designFile = isObject(design.file) ? design.file : design;
   const seq = ++analyzeSeq;
   try {
-    const analysed = await engines.checker.call('analyze', JSON.stringify(state.result.need), 'need', state.result.stock, JSON.stringify(designFile), 'design.json');
-    if (seq !== analyzeSeq || state.viewed.index !== index) return;
+    const analysed = await engines.checker.call('analyze', JSON.stringify(result.need), 'need', result.stock, JSON.stringify(designFile), 'design.json');
+    if (seq !== analyzeSeq || state.result !== result || state.viewed.index !== index) return;
     const analysedReport = reportOf(analysed);
     state.viewed = { design: analysedReport.design || design, artifacts: analysed.artifacts || {}, label: state.viewed.label, index };
     renderViewed();

@@ -63,6 +63,31 @@ export function renderStockTable() {
   node.append(body);
 }
 
+/**
+ * Set columns of shelf tables to one value in every row (a suggestion of
+ * the core: `{file, column, value}`); a column the table lacks is added.
+ * Resolves once the core has checked the shelf.
+ */
+export async function applyStockChanges(changes) {
+  for (const { file, column, value } of changes) {
+    const table = state.stock[file];
+    if (!table) continue;
+    let c = table.header.indexOf(column);
+    if (c < 0) {
+      table.header.push(column);
+      for (const row of table.rows) row.push('');
+      c = table.header.length - 1;
+    }
+    for (const row of table.rows) row[c] = String(value);
+    state.activeTable = file;
+  }
+  saveSoon();
+  buildTabs();
+  renderStockTable();
+  clearTimeout(stockTimer);
+  await validateStock();
+}
+
 /** After any change to the shelf: save, recount, check. */
 export function stockChanged() {
   saveSoon();
@@ -101,7 +126,7 @@ export async function validateStock() {
     if (seq !== stockCheckSeq) return;
     state.stockValid = true;
     state.checkedStock = checked;
-    setStatus('stock-status', `Shelf read: ${counts.resistors} resistor values, ${counts.opamps} op-amps, ${counts.references} references, ${counts.inamps} in-amps.`, 'good');
+    setStatus('stock-status', `Shelf read: ${counts.resistors} resistor values, ${counts.opamps} op-amps, ${counts.references} references, ${counts.inamps} in-amps${typeof counts.capacitors === 'number' ? `, ${counts.capacitors} capacitor values` : ''}.`, 'good');
   } catch (error) {
     if (seq !== stockCheckSeq) return;
     state.stockValid = false;

@@ -8,6 +8,7 @@ import { fmt } from './format.js';
 import { engines, hooks, state, updateSolveButton } from './state.js';
 import { stockJson } from './shelf.js';
 import { setDownloads, showReport } from './results.js';
+import { plainKeys } from './need-form.js';
 
 /** Pause after the last valid edit before the search starts by itself. */
 export const AUTO_PAUSE_MS = 350;
@@ -143,7 +144,7 @@ async function startSolve(options) {
     } else if (error.fatal) {
       setStatus('run-status', `The solver stopped on an internal error (${error.message}; details on the browser console). It has been restarted; please report the need that caused it.`, 'bad');
     } else {
-      setStatus('run-status', error.message, 'bad');
+      setStatus('run-status', plainKeys(error.message), 'bad');
     }
   } finally {
     state.solving = false;

@@ -1,10 +1,11 @@
-// The four shelf tables, by the file names the core reads (the stock CSV
+// The five shelf tables, by the file names the core reads (the stock CSV
 // contract), with the labels of the page's tabs.
 export const TABLES = [
   { file: 'resistors.csv', label: 'Resistors' },
   { file: 'opamps.csv', label: 'Op-amps' },
   { file: 'references.csv', label: 'References' },
   { file: 'inamps.csv', label: 'In-amps' },
+  { file: 'capacitors.csv', label: 'Capacitors' },
 ];
 
 /**
@@ -14,6 +15,7 @@ export const TABLES = [
 export function tableForName(name) {
   const lower = name.toLowerCase().split(/[\\/]/).pop();
   for (const t of TABLES) if (lower === t.file) return t.file;
+  if (lower.includes('capacitor')) return 'capacitors.csv';
   if (lower.includes('inamp') || lower.includes('in-amp')) return 'inamps.csv';
   if (lower.includes('opamp') || lower.includes('op-amp')) return 'opamps.csv';
   if (lower.includes('resist')) return 'resistors.csv';
