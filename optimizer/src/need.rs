@@ -243,6 +243,19 @@ pub struct Accuracy {
     /// keeps the box of the whole range. Not a need key.
     #[serde(skip)]
     pub reference_box_c: Option<f64>,
+    /// The target, % FS, the ADC filter's droop and corner rules are drawn
+    /// from, when it is not `max_error_pct_fs`: the search for the most
+    /// accurate design of an infeasible need loosens the target but keeps
+    /// the filter the need itself would get. Not a need key.
+    #[serde(skip)]
+    pub filter_target_pct_fs: Option<f64>,
+}
+
+impl Accuracy {
+    /// The target, % FS, the ADC filter's rules are drawn from.
+    pub fn filter_target_pct_fs(&self) -> f64 {
+        self.filter_target_pct_fs.unwrap_or(self.max_error_pct_fs)
+    }
 }
 
 /// Topology families (trade names).

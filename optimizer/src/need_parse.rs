@@ -887,6 +887,7 @@ fn accuracy<W: Field>(raw: Option<&RawAccuracy<W>>, ctx: &Ctx<'_>) -> Result<Acc
         calibration,
         bandwidth: Hertz(bandwidth),
         reference_box_c: None,
+        filter_target_pct_fs: None,
     })
 }
 

@@ -234,11 +234,16 @@ fn a_design_of_generic_values_reads_back() {
         .replace("path = \"../parts-data/demo-stock\"\n", "")
         .replace("max_stages = 3", "max_stages = 1")
         .replace("max_error_pct_fs = 0.5", "max_error_pct_fs = 2.5")
+        // One in-amp stage with the rail's tolerance through PSRR and the
+        // reference's load regulation spreads the raw output wider than a
+        // 2 % margin holds; 5 % leaves room for it.
+        .replace("margin_pct = 2.0", "margin_pct = 5.0")
         .replace(
             "topologies = [\"non-inverting\", \"inverting\", \"difference\", \"instrumentation\"]",
             "topologies = [\"instrumentation\"]",
         );
     assert!(need.contains("only = false") && need.contains("max_error_pct_fs = 2.5"));
+    assert!(need.contains("margin_pct = 5.0"));
     assert!(need.contains("topologies = [\"instrumentation\"]"));
     let mut stock = spanfit::demo::stock_files();
     for f in &mut stock {

@@ -145,8 +145,9 @@ pub fn tau_limits(need: &Need) -> (f64, f64, f64) {
     // of the output span of the window.
     let (low, high) = need.target_window();
     let span_share = ((high - low) / need.full_scale()).max(1e-12);
-    let droop =
-        (DROOP_SHARE_OF_TARGET * (need.accuracy.max_error_pct_fs / 100.0) / span_share).min(0.5);
+    let droop = (DROOP_SHARE_OF_TARGET * (need.accuracy.filter_target_pct_fs() / 100.0)
+        / span_share)
+        .min(0.5);
     let ratio = ((1.0 / (1.0 - droop)).powi(2) - 1.0).sqrt();
     let fc_min = bandwidth / ratio;
     let max_tau_s = 1.0 / (two_pi * fc_min);
@@ -174,7 +175,7 @@ pub fn highest_corner_hz(need: &Need) -> f64 {
 pub fn droop_allowance_v(need: &Need) -> f64 {
     let (low, high) = need.target_window();
     // The rule's relative loss is capped at a half (see `tau_limits`).
-    (DROOP_SHARE_OF_TARGET * need.accuracy.max_error_pct_fs / 100.0 * need.full_scale())
+    (DROOP_SHARE_OF_TARGET * need.accuracy.filter_target_pct_fs() / 100.0 * need.full_scale())
         .min(0.5 * (high - low).abs())
 }
 

@@ -252,7 +252,7 @@ pub fn analyse(need: &Need, stock: &Stock, built: &Built) -> FilterStatus {
     let at_band = chain.power(bandwidth).unwrap_or(0.0).sqrt();
     let droop_pct_fs = (1.0 - at_band) * span_share * 100.0;
     let mut checks = Vec::new();
-    let droop_limit = DROOP_SHARE_OF_TARGET * need.accuracy.max_error_pct_fs;
+    let droop_limit = DROOP_SHARE_OF_TARGET * need.accuracy.filter_target_pct_fs();
     checks.push(FilterCheck {
         check: "droop",
         pass: droop_pct_fs <= droop_limit * (1.0 + 1e-9),

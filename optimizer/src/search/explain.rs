@@ -115,6 +115,7 @@ impl Budget<'_, '_> {
 fn most_accurate(need: &Need, stock: &Stock, budget: &mut Budget<'_, '_>) -> Option<Candidate> {
     let mut loose = need.clone();
     loose.search.objective = Objective::Error;
+    loose.accuracy.filter_target_pct_fs = Some(need.accuracy.filter_target_pct_fs());
     loose.accuracy.max_error_pct_fs = 100.0;
     let best_grade = stock
         .resistors

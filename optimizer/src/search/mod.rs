@@ -426,6 +426,7 @@ fn least_error(
 ) -> Option<Option<Candidate>> {
     let mut loose = need.clone();
     loose.search.objective = crate::need::Objective::Error;
+    loose.accuracy.filter_target_pct_fs = Some(need.accuracy.filter_target_pct_fs());
     loose.accuracy.max_error_pct_fs = 100.0;
     let augmented = augment_stock(&loose, stock);
     let problem = Problem::new(&loose, stock, &augmented);
