@@ -208,12 +208,12 @@ pub fn solve_bundle(
     // The best attempt of an infeasible need is reported as a design too,
     // analysed against this need (the search may have found it under a
     // looser target) as `analyze` would report it.
-    if let Some(attempt) = outcome
-        .infeasible
-        .as_mut()
-        .and_then(|i| i.best_attempt.as_deref_mut())
-    {
-        *attempt = evaluate(&need, &stock, &attempt.design)?;
+    if let Some(infeasible) = outcome.infeasible.as_mut() {
+        if let Some(attempt) = infeasible.best_attempt.as_deref_mut() {
+            *attempt = evaluate(&need, &stock, &attempt.design)?;
+            let attempt = attempt.clone();
+            crate::search::explain::restate_best(&need, infeasible, &attempt);
+        }
     }
     let report = report::solve_report(&need, &stock, &outcome);
     bundle(

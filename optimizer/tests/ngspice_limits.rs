@@ -438,12 +438,22 @@ fn check_design(case: &Case, report: &Value, design: &Value, label: &str) -> Ver
         // The section's output node: an op-amp's `E<ref> <out> 0 ...` line;
         // an in-amp drives its stage's output.
         let node = if kind == "opamp" {
-            let prefix = format!("E{r} ");
+            // With the single-pole model the `E` line drives an inner node
+            // that `ROUT_<ref>` (shorted at DC by `LOUT_<ref>`) joins to
+            // the section's output: take the node after that resistor.
+            let first_node = |prefix: String| {
+                deck.lines()
+                    .find_map(|l| l.strip_prefix(&prefix))
+                    .and_then(|rest| rest.split_whitespace().next())
+                    .map(str::to_string)
+            };
+            let inner = first_node(format!("E{r} "))
+                .unwrap_or_else(|| panic!("{label}: no `E{r}` line in:\n{deck}"));
+            let rout = format!("ROUT_{r} {inner} ");
             deck.lines()
-                .find_map(|l| l.strip_prefix(&prefix))
+                .find_map(|l| l.strip_prefix(&rout))
                 .and_then(|rest| rest.split_whitespace().next())
-                .unwrap_or_else(|| panic!("{label}: no `E{r}` line in:\n{deck}"))
-                .to_string()
+                .map_or(inner.clone(), str::to_string)
         } else {
             let stage = p["stage"].as_u64().unwrap_or(0) as usize;
             let stages = design["stages"].as_array().map_or(1, Vec::len);

@@ -131,6 +131,45 @@ fn most_accurate(need: &Need, stock: &Stock, budget: &mut Budget<'_, '_>) -> Opt
     budget.solve(&loose, &precise, 1000).and_then(|o| o.best)
 }
 
+/// The accuracy limit of the most accurate design known: its words, its
+/// error on the need's basis (% FS) and its four largest budget lines.
+fn accuracy_limit(need: &Need, b: &Candidate) -> (String, f64, Vec<(String, f64)>) {
+    let e = b.analysis.basis_pct_fs;
+    let mut lines: Vec<(String, f64)> = b
+        .analysis
+        .budget
+        .iter()
+        .map(|l| (l.source.clone(), l.pct_fs))
+        .collect();
+    lines.sort_by(|x, y| y.1.total_cmp(&x.1));
+    lines.truncate(4);
+    (accuracy_words(need, e), e, lines)
+}
+
+fn accuracy_words(need: &Need, e: f64) -> String {
+    let target = need.accuracy.max_error_pct_fs;
+    format!(
+        "accuracy: the most accurate design found reaches {e:.4} % FS on the {} basis against a target of {target:.4} % FS ({:.4} % FS over)",
+        basis_name(need.accuracy.basis),
+        e - target
+    )
+}
+
+/// Restate an explanation after its best attempt was analysed again as it
+/// is reported (with its filter pair, against the need itself), so the
+/// binding words, the best error and the largest lines are that report's.
+pub(crate) fn restate_best(need: &Need, infeasible: &mut Infeasibility, attempt: &Candidate) {
+    let (words, e, lines) = accuracy_limit(need, attempt);
+    if let Some(old) = infeasible.best_error_pct_fs {
+        let old_words = accuracy_words(need, old);
+        if let Some(rest) = infeasible.binding.strip_prefix(&old_words) {
+            infeasible.binding = format!("{words}{rest}");
+        }
+    }
+    infeasible.best_error_pct_fs = Some(e);
+    infeasible.largest = lines;
+}
+
 /// The binding limit in words, the best error (% FS) and the largest
 /// contributors of the best design known.
 fn binding_limit(
@@ -138,27 +177,10 @@ fn binding_limit(
     diagnosis: &Diagnosis,
     best_known: Option<&Candidate>,
 ) -> (String, Option<f64>, Vec<(String, f64)>) {
-    let target = need.accuracy.max_error_pct_fs;
     match best_known {
         Some(b) => {
-            let e = b.analysis.basis_pct_fs;
-            let mut lines: Vec<(String, f64)> = b
-                .analysis
-                .budget
-                .iter()
-                .map(|l| (l.source.clone(), l.pct_fs))
-                .collect();
-            lines.sort_by(|x, y| y.1.total_cmp(&x.1));
-            lines.truncate(4);
-            (
-                format!(
-                    "accuracy: the most accurate design found reaches {e:.4} % FS on the {} basis against a target of {target:.4} % FS ({:.4} % FS over)",
-                    basis_name(need.accuracy.basis),
-                    e - target
-                ),
-                Some(e),
-                lines,
-            )
+            let (words, e, lines) = accuracy_limit(need, b);
+            (words, Some(e), lines)
         }
         None => {
             let worst = diagnosis.failed_checks.iter().max_by_key(|(_, v)| v.0);

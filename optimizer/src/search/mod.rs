@@ -30,7 +30,7 @@
 
 mod bounds;
 mod exhaustive;
-mod explain;
+pub(crate) mod explain;
 mod groups;
 mod milp;
 mod pair;
