@@ -53,6 +53,9 @@ fn null_allowed(key: &str, parent: &serde_json::Map<String, Value>, _report: &Va
             .get("largest")
             .and_then(Value::as_array)
             .is_some_and(Vec::is_empty),
+        // No best attempt when no design that passes every check was
+        // analysed (then there is no best error either).
+        "best_attempt" => is_null("best_error_pct_fs"),
         // Package text of a part not in the stock tables.
         "footprint" => true,
         // No filter pair from the stock (docs/filter.md).
