@@ -30,6 +30,7 @@ pub mod demo;
 pub mod design;
 pub mod error;
 pub mod filter;
+mod lu;
 pub mod mna;
 pub mod mna_ac;
 pub mod montecarlo;

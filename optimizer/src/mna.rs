@@ -13,6 +13,7 @@
 //! The workspace is allocated once per netlist shape and reused, so the
 //! analysis of many value sets of one structure does not allocate.
 
+use crate::lu::DenseLu;
 use crate::netlist::{ElementKind, Netlist, Node};
 
 /// The solver failed: the circuit has no unique DC solution (a floating
@@ -45,8 +46,7 @@ pub struct Solver {
     folded: Vec<bool>,
     /// For a folded internal node, the + pin it stands for.
     pin_of: Vec<Option<Node>>,
-    lu: Vec<f64>,
-    pivot: Vec<usize>,
+    lu: DenseLu<f64>,
 }
 
 impl Solver {
@@ -127,8 +127,7 @@ impl Solver {
             plus,
             folded,
             pin_of,
-            lu: vec![0.0; n * n],
-            pivot: vec![0; n],
+            lu: DenseLu::new(n),
         }
     }
 
@@ -176,8 +175,7 @@ impl Solver {
 
     /// Stamp and factor the matrix of `netlist` (values as they are now).
     pub fn factor(&mut self, netlist: &Netlist) -> Result<(), Singular> {
-        let n = self.n;
-        self.lu.iter_mut().for_each(|v| *v = 0.0);
+        self.lu.clear();
         let a = &mut self.lu;
         let idx = |node: Node| self.node_map[node];
         for (ei, e) in netlist.elements.iter().enumerate() {
@@ -186,14 +184,14 @@ impl Solver {
                     let g = 1.0 / ohms;
                     let (p, q) = (idx(e.nodes[0]), idx(e.nodes[1]));
                     if let Some(p) = p {
-                        a[p * n + p] += g;
+                        a.add(p, p, g);
                     }
                     if let Some(q) = q {
-                        a[q * n + q] += g;
+                        a.add(q, q, g);
                     }
                     if let (Some(p), Some(q)) = (p, q) {
-                        a[p * n + q] -= g;
-                        a[q * n + p] -= g;
+                        a.add(p, q, -g);
+                        a.add(q, p, -g);
                     }
                 }
                 ElementKind::VoltageSource { .. } => {
@@ -202,12 +200,12 @@ impl Solver {
                     }
                     let k = self.branch[ei].unwrap_or(0);
                     if let Some(p) = idx(e.nodes[0]) {
-                        a[p * n + k] += 1.0;
-                        a[k * n + p] += 1.0;
+                        a.add(p, k, 1.0);
+                        a.add(k, p, 1.0);
                     }
                     if let Some(q) = idx(e.nodes[1]) {
-                        a[q * n + k] -= 1.0;
-                        a[k * n + q] -= 1.0;
+                        a.add(q, k, -1.0);
+                        a.add(k, q, -1.0);
                     }
                 }
                 // Open at DC.
@@ -215,59 +213,22 @@ impl Solver {
                 ElementKind::OpAmp { inverse_gain } => {
                     let k = self.branch[ei].unwrap_or(0);
                     if let Some(o) = idx(e.nodes[2]) {
-                        a[o * n + k] += 1.0;
-                        a[k * n + o] += inverse_gain;
+                        a.add(o, k, 1.0);
+                        a.add(k, o, inverse_gain);
                     }
                     if let Some(p) = idx(self.plus[ei]) {
-                        a[k * n + p] -= 1.0;
+                        a.add(k, p, -1.0);
                     }
                     if let Some(m) = idx(e.nodes[1]) {
-                        a[k * n + m] += 1.0;
+                        a.add(k, m, 1.0);
                     }
                 }
             }
         }
-        // LU with partial pivoting, in place.
-        let mut scale = 0.0f64;
-        for v in a.iter() {
-            scale = scale.max(v.abs());
-        }
-        let tiny = scale * 1e-14;
-        for col in 0..n {
-            let mut best = col;
-            let mut best_val = a[col * n + col].abs();
-            for row in col + 1..n {
-                let v = a[row * n + col].abs();
-                if v > best_val {
-                    best = row;
-                    best_val = v;
-                }
-            }
-            if best_val <= tiny || !best_val.is_finite() {
-                return Err(Singular {
-                    unknown: self.unknown_name(netlist, col),
-                });
-            }
-            self.pivot[col] = best;
-            if best != col {
-                for j in 0..n {
-                    a.swap(col * n + j, best * n + j);
-                }
-            }
-            let d = a[col * n + col];
-            for row in col + 1..n {
-                let f = a[row * n + col] / d;
-                if f != 0.0 {
-                    a[row * n + col] = f;
-                    for j in col + 1..n {
-                        a[row * n + j] -= f * a[col * n + j];
-                    }
-                } else {
-                    a[row * n + col] = 0.0;
-                }
-            }
-        }
-        Ok(())
+        // LU with partial pivoting, in place (the shared dense LU).
+        self.lu.factor().map_err(|col| Singular {
+            unknown: self.unknown_name(netlist, col),
+        })
     }
 
     fn unknown_name(&self, netlist: &Netlist, i: usize) -> String {
@@ -307,49 +268,12 @@ impl Solver {
 
     /// Solve `A x = b` in place with the current factors.
     pub fn solve_in_place(&self, x: &mut [f64]) {
-        let n = self.n;
-        let a = &self.lu;
-        for i in 0..n {
-            x.swap(i, self.pivot[i]);
-        }
-        for i in 0..n {
-            let mut s = x[i];
-            for j in 0..i {
-                s -= a[i * n + j] * x[j];
-            }
-            x[i] = s;
-        }
-        for i in (0..n).rev() {
-            let mut s = x[i];
-            for j in i + 1..n {
-                s -= a[i * n + j] * x[j];
-            }
-            x[i] = s / a[i * n + i];
-        }
+        self.lu.solve_in_place(x);
     }
 
     /// Solve `A^T y = c` in place with the current factors (the adjoint).
     pub fn solve_transposed_in_place(&self, y: &mut [f64]) {
-        let n = self.n;
-        let a = &self.lu;
-        // P A = L U  =>  A^T = U^T L^T P ; solve U^T w = c, L^T z = w, y = P^T z.
-        for i in 0..n {
-            let mut s = y[i];
-            for j in 0..i {
-                s -= a[j * n + i] * y[j];
-            }
-            y[i] = s / a[i * n + i];
-        }
-        for i in (0..n).rev() {
-            let mut s = y[i];
-            for j in i + 1..n {
-                s -= a[j * n + i] * y[j];
-            }
-            y[i] = s;
-        }
-        for i in (0..n).rev() {
-            y.swap(i, self.pivot[i]);
-        }
+        self.lu.solve_transposed_in_place(y);
     }
 
     /// Factor and solve in one call, returning the unknowns.

@@ -17,9 +17,13 @@
 //! - independent sources are zero except the one driven with amplitude 1
 //!   (SPICE's `AC 1`), so a node voltage is the transfer from that source.
 //!
-//! The matrix is dense and factored by LU with partial pivoting, as in
-//! the DC solver, once per frequency.
+//! The matrix is dense and factored by LU with partial pivoting, by the
+//! same code as the DC solver's ([`crate::lu`]), once per frequency; the
+//! element stamps' unknowns are looked up once per solver, and the
+//! workspace is reused, so a frequency costs one stamp, one sparse-aware
+//! elimination and one substitution, without allocation.
 
+use crate::lu::{DenseLu, Scalar};
 use crate::mna::{Singular, Solver};
 use crate::netlist::{ElementKind, Netlist, Node};
 use std::f64::consts::PI;
@@ -66,8 +70,48 @@ impl Complex {
             (self.im * o.re - self.re * o.im) / d,
         )
     }
+    fn neg(self) -> Complex {
+        Complex::new(-self.re, -self.im)
+    }
     fn scale(self, k: f64) -> Complex {
         Complex::new(self.re * k, self.im * k)
+    }
+}
+
+impl Scalar for Complex {
+    const ZERO: Complex = Complex::ZERO;
+    #[inline]
+    fn is_zero(self) -> bool {
+        self.re == 0.0 && self.im == 0.0
+    }
+    /// `hypot(re, im)`, which is exactly `|re|` when `im` is zero and
+    /// `|im|` when `re` is zero (IEEE 754 `hypot`): most entries of a
+    /// circuit matrix are real, and those skip the call.
+    #[inline]
+    fn magnitude(self) -> f64 {
+        if self.im == 0.0 {
+            self.re.abs()
+        } else if self.re == 0.0 {
+            self.im.abs()
+        } else {
+            self.abs()
+        }
+    }
+    #[inline]
+    fn norm_sqr(self) -> f64 {
+        self.re * self.re + self.im * self.im
+    }
+    #[inline]
+    fn plus(self, y: Complex) -> Complex {
+        self.add(y)
+    }
+    #[inline]
+    fn sub_product(self, f: Complex, x: Complex) -> Complex {
+        self.sub(f.mul(x))
+    }
+    #[inline]
+    fn quotient(self, d: Complex) -> Complex {
+        self.div(d)
     }
 }
 
@@ -94,15 +138,55 @@ pub struct BodePoint {
     pub phase_deg: f64,
 }
 
+/// One element's stamp, with its unknowns looked up once (the netlist's
+/// values are read at each solve).
+#[derive(Debug, Clone, Copy)]
+enum Stamp {
+    /// A resistor between two unknowns (`None`: ground).
+    Resistor {
+        element: usize,
+        p: Option<usize>,
+        q: Option<usize>,
+    },
+    /// A capacitor between two unknowns.
+    Capacitor {
+        element: usize,
+        p: Option<usize>,
+        q: Option<usize>,
+    },
+    /// A voltage source with its branch row `k`.
+    Source {
+        k: usize,
+        p: Option<usize>,
+        q: Option<usize>,
+    },
+    /// An op-amp section with its row `k`, output, + and - unknowns, and
+    /// its single-pole model (`None`: the DC model).
+    OpAmp {
+        element: usize,
+        k: usize,
+        out: Option<usize>,
+        plus: Option<usize>,
+        minus: Option<usize>,
+        model: Option<AcAmplifier>,
+    },
+}
+
 /// A reusable AC solver for one netlist shape.
+///
+/// The unknowns of every element are found once, when the solver is made;
+/// the matrix, its pivots and the solution are allocated once and reused
+/// at every frequency, and the factorisation skips the matrix's zeros
+/// ([`crate::lu`]), so a solve does not allocate.
 #[derive(Debug, Clone)]
 pub struct AcSolver {
     numbering: Solver,
-    n: usize,
-    /// Per element: the single-pole model of an op-amp, if given.
-    amplifiers: Vec<Option<AcAmplifier>>,
-    lu: Vec<Complex>,
-    pivot: Vec<usize>,
+    /// The stamps, resistors and capacitors first, then sources and
+    /// op-amps, each group in element order (the order the entries are
+    /// summed in).
+    stamps: Vec<Stamp>,
+    nodes: usize,
+    lu: DenseLu<Complex>,
     x: Vec<Complex>,
 }
 
@@ -118,12 +202,44 @@ impl AcSolver {
                 *slot = Some(*a);
             }
         }
+        let idx = |node: Node| numbering.node_unknown(node);
+        let mut stamps = Vec::with_capacity(netlist.elements.len());
+        for (element, e) in netlist.elements.iter().enumerate() {
+            let (p, q) = (idx(e.nodes[0]), idx(e.nodes[1]));
+            match e.kind {
+                ElementKind::Resistor { .. } => stamps.push(Stamp::Resistor { element, p, q }),
+                ElementKind::Capacitor { .. } => stamps.push(Stamp::Capacitor { element, p, q }),
+                _ => {}
+            }
+        }
+        for (ei, e) in netlist.elements.iter().enumerate() {
+            let Some(k) = numbering.branch_unknown(ei) else {
+                continue;
+            };
+            match e.kind {
+                ElementKind::VoltageSource { .. } if !numbering.is_folded(ei) => {
+                    stamps.push(Stamp::Source {
+                        k,
+                        p: idx(e.nodes[0]),
+                        q: idx(e.nodes[1]),
+                    });
+                }
+                ElementKind::OpAmp { .. } => stamps.push(Stamp::OpAmp {
+                    element: ei,
+                    k,
+                    out: idx(e.nodes[2]),
+                    plus: idx(numbering.plus_node(ei)),
+                    minus: idx(e.nodes[1]),
+                    model: per_element[ei].filter(|m: &AcAmplifier| m.gbw_hz > 0.0),
+                }),
+                _ => {}
+            }
+        }
         AcSolver {
             numbering,
-            n,
-            amplifiers: per_element,
-            lu: vec![Complex::ZERO; n * n],
-            pivot: vec![0; n],
+            stamps,
+            nodes: netlist.node_names.len(),
+            lu: DenseLu::new(n),
             x: vec![Complex::ZERO; n],
         }
     }
@@ -138,12 +254,12 @@ impl AcSolver {
         frequency_hz: f64,
     ) -> Result<(), Singular> {
         self.stamp(netlist, 2.0 * PI * frequency_hz);
-        self.factor(netlist)?;
+        self.factor()?;
         self.x.iter_mut().for_each(|v| *v = Complex::ZERO);
         if let Some(k) = self.numbering.branch_unknown(source) {
             self.x[k] = Complex::new(1.0, 0.0);
         }
-        self.substitute();
+        self.lu.solve_in_place(&mut self.x);
         Ok(())
     }
 
@@ -159,12 +275,12 @@ impl AcSolver {
         frequency_hz: f64,
     ) -> Result<(), Singular> {
         self.stamp(netlist, 2.0 * PI * frequency_hz);
-        self.factor(netlist)?;
+        self.factor()?;
         self.x.iter_mut().for_each(|v| *v = Complex::ZERO);
         if let Some(i) = self.numbering.node_unknown(node) {
             self.x[i] = Complex::new(1.0, 0.0);
         }
-        self.substitute_transposed();
+        self.lu.solve_transposed_in_place(&mut self.x);
         Ok(())
     }
 
@@ -207,174 +323,90 @@ impl AcSolver {
         Ok(self.voltage(node))
     }
 
+    fn factor(&mut self) -> Result<(), Singular> {
+        self.lu.factor().map_err(|col| Singular {
+            unknown: format!("unknown {col} of the AC matrix ({} nodes)", self.nodes),
+        })
+    }
+
+    /// Stamp the matrix at `omega` from the element values of `netlist`
+    /// (the shape the solver was made for).
     fn stamp(&mut self, netlist: &Netlist, omega: f64) {
-        let n = self.n;
-        self.lu.iter_mut().for_each(|v| *v = Complex::ZERO);
-        let numbering = &self.numbering;
+        self.lu.clear();
         let a = &mut self.lu;
-        let idx = |node: Node| numbering.node_unknown(node);
         let mut admittance = |p: Option<usize>, q: Option<usize>, y: Complex| {
             if let Some(p) = p {
-                a[p * n + p] = a[p * n + p].add(y);
+                a.add(p, p, y);
             }
             if let Some(q) = q {
-                a[q * n + q] = a[q * n + q].add(y);
+                a.add(q, q, y);
             }
             if let (Some(p), Some(q)) = (p, q) {
-                a[p * n + q] = a[p * n + q].sub(y);
-                a[q * n + p] = a[q * n + p].sub(y);
+                a.add(p, q, y.neg());
+                a.add(q, p, y.neg());
             }
         };
-        for e in netlist.elements.iter() {
-            match e.kind {
-                ElementKind::Resistor { ohms } => admittance(
-                    idx(e.nodes[0]),
-                    idx(e.nodes[1]),
-                    Complex::new(1.0 / ohms, 0.0),
-                ),
-                ElementKind::Capacitor { farads } => admittance(
-                    idx(e.nodes[0]),
-                    idx(e.nodes[1]),
-                    Complex::new(0.0, omega * farads),
-                ),
+        let kind = |element: usize| netlist.elements.get(element).map(|e| e.kind);
+        for s in &self.stamps {
+            match *s {
+                Stamp::Resistor { element, p, q } => {
+                    if let Some(ElementKind::Resistor { ohms }) = kind(element) {
+                        admittance(p, q, Complex::new(1.0 / ohms, 0.0));
+                    }
+                }
+                Stamp::Capacitor { element, p, q } => {
+                    if let Some(ElementKind::Capacitor { farads }) = kind(element) {
+                        admittance(p, q, Complex::new(0.0, omega * farads));
+                    }
+                }
                 _ => {}
             }
         }
         let one = Complex::new(1.0, 0.0);
-        for (ei, e) in netlist.elements.iter().enumerate() {
-            match e.kind {
-                ElementKind::VoltageSource { .. } if !numbering.is_folded(ei) => {
-                    let Some(k) = numbering.branch_unknown(ei) else {
-                        continue;
-                    };
-                    if let Some(p) = idx(e.nodes[0]) {
-                        a[p * n + k] = a[p * n + k].add(one);
-                        a[k * n + p] = a[k * n + p].add(one);
+        for s in &self.stamps {
+            match *s {
+                Stamp::Source { k, p, q } => {
+                    if let Some(p) = p {
+                        a.add(p, k, one);
+                        a.add(k, p, one);
                     }
-                    if let Some(q) = idx(e.nodes[1]) {
-                        a[q * n + k] = a[q * n + k].sub(one);
-                        a[k * n + q] = a[k * n + q].sub(one);
+                    if let Some(q) = q {
+                        a.add(q, k, one.neg());
+                        a.add(k, q, one.neg());
                     }
                 }
-                ElementKind::OpAmp { inverse_gain } => {
-                    let Some(k) = numbering.branch_unknown(ei) else {
+                Stamp::OpAmp {
+                    element,
+                    k,
+                    out,
+                    plus,
+                    minus,
+                    model,
+                } => {
+                    let Some(ElementKind::OpAmp { inverse_gain }) = kind(element) else {
                         continue;
                     };
-                    let (g, ro) = match self.amplifiers.get(ei).copied().flatten() {
-                        Some(m) if m.gbw_hz > 0.0 => (
+                    let (g, ro) = match model {
+                        Some(m) => (
                             Complex::new(inverse_gain, omega / (2.0 * PI * m.gbw_hz)),
                             m.output_ohms,
                         ),
-                        _ => (Complex::new(inverse_gain, 0.0), 0.0),
+                        None => (Complex::new(inverse_gain, 0.0), 0.0),
                     };
-                    if let Some(o) = idx(e.nodes[2]) {
-                        a[o * n + k] = a[o * n + k].add(one);
-                        a[k * n + o] = a[k * n + o].add(g);
+                    if let Some(o) = out {
+                        a.add(o, k, one);
+                        a.add(k, o, g);
                     }
-                    a[k * n + k] = a[k * n + k].sub(g.scale(ro));
-                    if let Some(p) = idx(numbering.plus_node(ei)) {
-                        a[k * n + p] = a[k * n + p].sub(one);
+                    a.add(k, k, g.scale(ro).neg());
+                    if let Some(p) = plus {
+                        a.add(k, p, one.neg());
                     }
-                    if let Some(m) = idx(e.nodes[1]) {
-                        a[k * n + m] = a[k * n + m].add(one);
+                    if let Some(m) = minus {
+                        a.add(k, m, one);
                     }
                 }
                 _ => {}
             }
-        }
-    }
-
-    fn factor(&mut self, netlist: &Netlist) -> Result<(), Singular> {
-        let n = self.n;
-        let a = &mut self.lu;
-        let scale = a.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-        let tiny = scale * 1e-14;
-        for col in 0..n {
-            let mut best = col;
-            let mut best_val = a[col * n + col].abs();
-            for row in col + 1..n {
-                let v = a[row * n + col].abs();
-                if v > best_val {
-                    best = row;
-                    best_val = v;
-                }
-            }
-            if best_val <= tiny || !best_val.is_finite() {
-                return Err(Singular {
-                    unknown: format!(
-                        "unknown {col} of the AC matrix ({} nodes)",
-                        netlist.node_names.len()
-                    ),
-                });
-            }
-            self.pivot[col] = best;
-            if best != col {
-                for j in 0..n {
-                    a.swap(col * n + j, best * n + j);
-                }
-            }
-            let d = a[col * n + col];
-            for row in col + 1..n {
-                let f = a[row * n + col].div(d);
-                a[row * n + col] = f;
-                if f != Complex::ZERO {
-                    for j in col + 1..n {
-                        a[row * n + j] = a[row * n + j].sub(f.mul(a[col * n + j]));
-                    }
-                }
-            }
-        }
-        Ok(())
-    }
-
-    fn substitute(&mut self) {
-        let n = self.n;
-        let a = &self.lu;
-        let x = &mut self.x;
-        for i in 0..n {
-            x.swap(i, self.pivot[i]);
-        }
-        for i in 0..n {
-            let mut s = x[i];
-            for j in 0..i {
-                s = s.sub(a[i * n + j].mul(x[j]));
-            }
-            x[i] = s;
-        }
-        for i in (0..n).rev() {
-            let mut s = x[i];
-            for j in i + 1..n {
-                s = s.sub(a[i * n + j].mul(x[j]));
-            }
-            x[i] = s.div(a[i * n + i]);
-        }
-    }
-}
-
-impl AcSolver {
-    /// Solve `A^T y = c` in place with the current factors:
-    /// `P A = L U`, so `A^T = U^T L^T P`; solve `U^T w = c`, `L^T z = w`,
-    /// then `y = P^T z` (the swaps undone in reverse).
-    fn substitute_transposed(&mut self) {
-        let n = self.n;
-        let a = &self.lu;
-        let y = &mut self.x;
-        for i in 0..n {
-            let mut s = y[i];
-            for j in 0..i {
-                s = s.sub(a[j * n + i].mul(y[j]));
-            }
-            y[i] = s.div(a[i * n + i]);
-        }
-        for i in (0..n).rev() {
-            let mut s = y[i];
-            for j in i + 1..n {
-                s = s.sub(a[j * n + i].mul(y[j]));
-            }
-            y[i] = s;
-        }
-        for i in (0..n).rev() {
-            y.swap(i, self.pivot[i]);
         }
     }
 }
