@@ -18,50 +18,11 @@
 // A benchmark binary: it prints what it measured.
 #![allow(clippy::print_stderr)]
 
+mod common;
+
+use common::three_stage;
 use criterion::{black_box, criterion_group, criterion_main, Criterion};
 use spanfit::analysis::Model;
-use spanfit::design::{parse_design, Design};
-use spanfit::need::{parse_need, Need};
-use spanfit::stock::{parse_stock, Stock};
-
-fn precise(ohms: f64) -> serde_json::Value {
-    serde_json::json!({"ohms": ohms, "tolerance_pct": 0.1, "tcr_ppm_per_c": 25, "unit_cost": 0.045})
-}
-
-fn three_stage() -> (Need, Stock, Design) {
-    let need = parse_need(spanfit::demo::NEED_TOML.as_bytes(), "demo-need.toml")
-        .expect("the demo need parses");
-    let stock = parse_stock(&spanfit::demo::stock_files()).expect("the demo stock parses");
-    let divider = |source: &str, top: f64, bottom: f64| {
-        serde_json::json!({"kind": "divider", "source": source, "top": precise(top),
-                           "bottom": precise(bottom), "buffered": true})
-    };
-    let design = serde_json::json!({
-        "format": "spanfit-design-1",
-        "stages": [
-            {
-                "shape": "difference", "amplifier": "OA-ZD2",
-                "resistors": {"r1": precise(10_000.0), "r2": precise(40_000.0),
-                              "r3": precise(10_000.0), "r4": precise(40_000.0)},
-                "offset": {"kind": "direct", "source": "VR-125"}
-            },
-            {
-                "shape": "non-inverting", "amplifier": "OA-ZD2",
-                "resistors": {"rf": precise(40_000.0), "rg": precise(10_000.0)},
-                "offset": divider("VR-250", 17_000.0, 23_000.0)
-            },
-            {
-                "shape": "non-inverting", "amplifier": "OA-ZD2",
-                "resistors": {"rf": precise(49_610.0), "rg": precise(10_000.0)},
-                "offset": divider("VR-125", 52_900.0, 47_100.0)
-            }
-        ]
-    })
-    .to_string();
-    let design = parse_design(design.as_bytes(), "bench-design.json", &stock)
-        .expect("the bench design parses");
-    (need, stock, design)
-}
 
 fn benches(c: &mut Criterion) {
     let (need, stock, design) = three_stage();

@@ -7,12 +7,18 @@
 //! in-amps, with the demo's two resistor families replaced by one 1 %
 //! family and one 0.1 % family of the chosen series over 10 ohm to
 //! 1 Mohm (costs and TCRs as in the demo stock), and `max_stages` set.
+//!
+//! Also the one design `analysis.rs` and `filter.rs` analyse
+//! ([`three_stage`]): the demo need's bridge through a difference stage
+//! with its REF pin on a 1.25 V reference, then two non-inverting stages
+//! whose offsets come from buffered dividers.
 
 // Benchmarks read the clock.
 #![allow(clippy::disallowed_methods, clippy::disallowed_types)]
 // Each bench binary uses part of this module.
 #![allow(dead_code)]
 
+use spanfit::design::{parse_design, Design};
 use spanfit::need::{parse_need, Need};
 use spanfit::search::{solve, Progress, SearchMode, SolveControl, SolveOutcome};
 use spanfit::series::Series;
@@ -141,4 +147,45 @@ pub fn small_space(grades: usize, max_parts: usize, calibration: &str, err: f64)
     ])
     .unwrap_or_else(|e| panic!("the small stock does not parse: {e}"));
     (need, stock)
+}
+
+/// A 0.1 %, 25 ppm/C resistor of `ohms` (invented).
+pub fn precise(ohms: f64) -> serde_json::Value {
+    serde_json::json!({"ohms": ohms, "tolerance_pct": 0.1, "tcr_ppm_per_c": 25, "unit_cost": 0.045})
+}
+
+/// The need, the demo stock and the three-stage design.
+pub fn three_stage() -> (Need, Stock, Design) {
+    let need = parse_need(spanfit::demo::NEED_TOML.as_bytes(), "demo-need.toml")
+        .expect("the demo need parses");
+    let stock = parse_stock(&spanfit::demo::stock_files()).expect("the demo stock parses");
+    let divider = |source: &str, top: f64, bottom: f64| {
+        serde_json::json!({"kind": "divider", "source": source, "top": precise(top),
+                           "bottom": precise(bottom), "buffered": true})
+    };
+    let design = serde_json::json!({
+        "format": "spanfit-design-1",
+        "stages": [
+            {
+                "shape": "difference", "amplifier": "OA-ZD2",
+                "resistors": {"r1": precise(10_000.0), "r2": precise(40_000.0),
+                              "r3": precise(10_000.0), "r4": precise(40_000.0)},
+                "offset": {"kind": "direct", "source": "VR-125"}
+            },
+            {
+                "shape": "non-inverting", "amplifier": "OA-ZD2",
+                "resistors": {"rf": precise(40_000.0), "rg": precise(10_000.0)},
+                "offset": divider("VR-250", 17_000.0, 23_000.0)
+            },
+            {
+                "shape": "non-inverting", "amplifier": "OA-ZD2",
+                "resistors": {"rf": precise(49_610.0), "rg": precise(10_000.0)},
+                "offset": divider("VR-125", 52_900.0, 47_100.0)
+            }
+        ]
+    })
+    .to_string();
+    let design = parse_design(design.as_bytes(), "bench-design.json", &stock)
+        .expect("the bench design parses");
+    (need, stock, design)
 }
