@@ -12,11 +12,13 @@
 //! space heuristically, so its `proven_optimal` rests on these bounds
 //! alone; the exhaustive walk (`exhaustive`) proves by walking.
 
+use super::floors;
 use super::groups::shape_sequences;
 use super::pair::PairFloor;
 use super::Problem;
-use crate::design::Shape;
-use crate::need::{Basis, Calibration};
+use crate::design::{Design, Shape};
+use crate::need::{Basis, Calibration, Need};
+use crate::stock::Stock;
 use crate::topology::AmplifierKind;
 
 /// What can be proven of the whole space before any search.
@@ -61,8 +63,13 @@ pub(super) fn wrong_sign_ruled_out(problem: &Problem<'_>) -> bool {
 /// packages, or `None` when no stocked amplifier can serve (proof: the
 /// supply-range check compares the rails with the part's own range, which
 /// no resistor changes, and a part with none on the shelf cannot be
-/// placed).
-fn amplifier_floor(problem: &Problem<'_>, shapes: &[Shape]) -> Option<(f64, usize, usize)> {
+/// placed). With `first`, the first stage's part is fixed: the design
+/// holds at least one whole package of it.
+fn amplifier_floor(
+    problem: &Problem<'_>,
+    shapes: &[Shape],
+    first: Option<AmplifierKind>,
+) -> Option<(f64, usize, usize)> {
     let stock = problem.stock;
     let span = problem.need.supply.positive.0 - problem.need.supply.negative.0;
     let sections: usize = shapes.iter().map(|s| s.sections()).sum();
@@ -84,7 +91,13 @@ fn amplifier_floor(problem: &Problem<'_>, shapes: &[Shape]) -> Option<(f64, usiz
             .reduce(f64::min)?;
         let package = usable.iter().map(|p| p.unit_cost).reduce(f64::min)?;
         let widest = usable.iter().map(|p| p.channels.max(1)).max()? as usize;
-        cost += (per_section * sections as f64).max(package);
+        let first_package = match first {
+            Some(AmplifierKind::OpAmp(i)) => stock.opamps[i].unit_cost,
+            _ => 0.0,
+        };
+        cost += (per_section * sections as f64)
+            .max(package)
+            .max(first_package);
         lines += 1;
         packages += sections.div_ceil(widest);
     }
@@ -95,7 +108,12 @@ fn amplifier_floor(problem: &Problem<'_>, shapes: &[Shape]) -> Option<(f64, usiz
             .filter(|p| p.stock_qty != Some(0) && span >= p.supply_min.0 && span <= p.supply_max.0)
             .map(|p| p.unit_cost)
             .reduce(f64::min)?;
-        cost += least * inamp_stages as f64;
+        cost += match first {
+            Some(AmplifierKind::InAmp(i)) => {
+                stock.inamps[i].unit_cost + least * (inamp_stages - 1) as f64
+            }
+            _ => least * inamp_stages as f64,
+        };
         lines += 1;
         packages += inamp_stages;
     }
@@ -129,6 +147,32 @@ fn driver_floor(problem: &Problem<'_>, shapes: &[Shape]) -> PairFloor {
     }
 }
 
+/// The stocked amplifiers that may serve a first stage of `shape`: in-amps
+/// for the integrated shape, op-amps otherwise, each on the shelf and
+/// running on the rails (the supply-range check).
+fn first_stage_parts(problem: &Problem<'_>, shape: Shape) -> Vec<AmplifierKind> {
+    let stock = problem.stock;
+    let span = problem.need.supply.positive.0 - problem.need.supply.negative.0;
+    let fits = |min: f64, max: f64, qty: Option<u32>| qty != Some(0) && span >= min && span <= max;
+    if shape.integrated() {
+        (0..stock.inamps.len())
+            .filter(|&i| {
+                let p = &stock.inamps[i];
+                fits(p.supply_min.0, p.supply_max.0, p.stock_qty)
+            })
+            .map(AmplifierKind::InAmp)
+            .collect()
+    } else {
+        (0..stock.opamps.len())
+            .filter(|&i| {
+                let p = &stock.opamps[i];
+                fits(p.supply_min.0, p.supply_max.0, p.stock_qty)
+            })
+            .map(AmplifierKind::OpAmp)
+            .collect()
+    }
+}
+
 /// The bounds over the whole space.
 pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
     let need = problem.need;
@@ -150,7 +194,45 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
         if sign * k <= 0.0 && wrong_sign_ruled_out(problem) {
             continue;
         }
-        let Some((amp_cost, amp_lines, packages)) = amplifier_floor(problem, &shapes) else {
+        // The first stage's part is fixed choice by choice: a part whose
+        // accuracy floor (search/floors.rs) is over the target is in no
+        // design that meets the need.
+        let mut least: Option<(f64, usize)> = None;
+        let mut lines_and_parts = None;
+        let Some(&first) = shapes.first() else {
+            continue;
+        };
+        for kind in first_stage_parts(problem, first) {
+            if floors::part_floor_v(need, problem.stock, kind) > problem.target_v {
+                continue;
+            }
+            let Some((amp_cost, amp_lines, packages)) =
+                amplifier_floor(problem, &shapes, Some(kind))
+            else {
+                continue;
+            };
+            // The filter pair the report attaches: the last stage's
+            // amplifier drives it, so it adds at least the least floor over
+            // the parts that may sit there (search/pair.rs proves each
+            // floor); with one stage that is the first stage's part. It is
+            // not in the part-count check, which judges the design without
+            // it.
+            let pair = if shapes.len() == 1 {
+                problem.pairs.least_floor(std::iter::once(kind))
+            } else {
+                driver_floor(problem, &shapes)
+            };
+            let cost = amp_cost + pair.cost;
+            let parts = packages + pair.parts;
+            least = Some(match least {
+                Some((c, p)) => (c.min(cost), p.min(parts)),
+                None => (cost, parts),
+            });
+            lines_and_parts = Some((amp_lines, packages));
+        }
+        let (Some((amp_and_pair, pair_parts)), Some((amp_lines, packages))) =
+            (least, lines_and_parts)
+        else {
             continue;
         };
         // Every required role holds a resistor; offset networks and
@@ -167,13 +249,9 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
             continue;
         }
         let lines = amp_lines + usize::from(resistors > 0);
-        // The filter pair the report attaches: the last stage's amplifier
-        // drives it, so it adds at least the least floor over the parts
-        // that may sit there (search/pair.rs proves each floor). It is
-        // not in the part-count check, which judges the design without it.
-        let pair = driver_floor(problem, &shapes);
-        let cost = amp_cost + resistor_cost + line * lines as f64 + pair.cost;
-        let parts_with_pair = parts + pair.parts;
+        let cost = amp_and_pair + resistor_cost + line * lines as f64;
+        // `pair_parts` holds the least packages plus pair parts.
+        let parts_with_pair = resistors + pair_parts;
         best.cost = Some(best.cost.map_or(cost, |c: f64| c.min(cost)));
         best.parts = Some(
             best.parts
@@ -181,4 +259,38 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
         );
     }
     best
+}
+
+/// The least cost the optimised mode's bound allows any design of the
+/// space of a need and a stock (`None`: the space is proven to hold no
+/// design that meets the need). For checks of the bound against the
+/// exhaustive walk; docs/search.md gives its proof.
+pub fn space_cost_floor(need: &Need, stock: &Stock) -> Option<f64> {
+    let augmented = super::augment_stock(need, stock);
+    let problem = Problem::new(need, stock, &augmented);
+    space_bound(&problem).cost
+}
+
+/// The accuracy floor of a design's first-stage part: the least total
+/// error, % FS on the need's basis, that the analysis can report for any
+/// design whose first stage uses that part (search/floors.rs). `None` when
+/// the design has no stage or its part is not in the stock.
+pub fn first_stage_floor_pct(need: &Need, stock: &Stock, design: &Design) -> Option<f64> {
+    let stage = design.stages.first()?;
+    let kind = if stage.shape.integrated() {
+        AmplifierKind::InAmp(
+            stock
+                .inamps
+                .iter()
+                .position(|p| p.part_id == stage.amplifier)?,
+        )
+    } else {
+        AmplifierKind::OpAmp(
+            stock
+                .opamps
+                .iter()
+                .position(|p| p.part_id == stage.amplifier)?,
+        )
+    };
+    Some(floors::part_floor_v(need, stock, kind) * 100.0 / need.full_scale())
 }

@@ -31,6 +31,7 @@
 mod bounds;
 mod exhaustive;
 pub(crate) mod explain;
+mod floors;
 mod groups;
 mod milp;
 mod pair;
@@ -41,6 +42,7 @@ mod structures;
 mod value_sets;
 mod verify;
 
+pub use bounds::{first_stage_floor_pct, space_cost_floor};
 pub use structures::augment_stock;
 
 use crate::analysis::{part_count, Analysis};
