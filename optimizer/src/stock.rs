@@ -357,4 +357,13 @@ impl Stock {
     pub fn resistor(&self, id: &str) -> Option<&ResistorPart> {
         self.resistors.iter().find(|p| p.part_id == id)
     }
+    /// Look up a resistor by part id among the parts of one value (the
+    /// list is sorted by value, so this is a binary search, not a scan).
+    pub fn resistor_valued(&self, id: &str, ohms: f64) -> Option<&ResistorPart> {
+        let start = self.resistors.partition_point(|p| p.value.0 < ohms);
+        self.resistors[start..]
+            .iter()
+            .take_while(|p| p.value.0 <= ohms)
+            .find(|p| p.part_id == id)
+    }
 }

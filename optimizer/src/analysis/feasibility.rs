@@ -40,13 +40,16 @@ pub enum Check {
     ReferenceLoad,
     /// Parts on the board against the need's limit.
     PartCount,
+    /// How often the design places a part (the filter pair included)
+    /// against the quantity the stock holds of it.
+    StockQuantity,
     /// The output with its worst-case error inside the ADC window.
     AdcWindow,
 }
 
 impl Check {
     /// Every check, in the order findings list them.
-    pub const ALL: [Check; 8] = [
+    pub const ALL: [Check; 9] = [
         Check::SupplyRange,
         Check::CommonMode,
         Check::OutputSwing,
@@ -54,6 +57,7 @@ impl Check {
         Check::ReferenceHeadroom,
         Check::ReferenceLoad,
         Check::PartCount,
+        Check::StockQuantity,
         Check::AdcWindow,
     ];
 
@@ -67,6 +71,7 @@ impl Check {
             Check::ReferenceHeadroom => "reference headroom",
             Check::ReferenceLoad => "reference load",
             Check::PartCount => "part count",
+            Check::StockQuantity => "stock quantity",
             Check::AdcWindow => "ADC window",
         }
     }
@@ -108,6 +113,7 @@ impl Check {
                 "the network draws up to {a:.4} mA untrimmed; the part sources at most {b:.4} mA"
             ),
             Check::PartCount => format!("{a:.0} parts; the need allows {b:.0}"),
+            Check::StockQuantity => format!("{a:.0} placed; the stock holds {b:.0}"),
             Check::AdcWindow => format!(
                 "output reaches {a:.4} V to {b:.4} V untrimmed; the ADC takes {c:.4} V to {d:.4} V"
             ),
@@ -162,9 +168,10 @@ impl Finding {
                 }
             }
             Check::GainBandwidth => ((10.0 * c - b).max(0.0), "low"),
-            Check::ReferenceHeadroom | Check::ReferenceLoad | Check::PartCount => {
-                ((a - b).max(0.0), "high")
-            }
+            Check::ReferenceHeadroom
+            | Check::ReferenceLoad
+            | Check::PartCount
+            | Check::StockQuantity => ((a - b).max(0.0), "high"),
         }
     }
 
@@ -227,6 +234,10 @@ impl Finding {
             Check::PartCount => format!(
                 "the smallest design has {a:.0} parts, {excess:.0} over the need's limit of \
                  {b:.0}; search.max_parts decides it, not the values"
+            ),
+            Check::StockQuantity => format!(
+                "{who} is placed {a:.0} times (the filter pair included), {excess:.0} more than \
+                 the {b:.0} the stock holds; other values, another part or a larger stock_qty can"
             ),
         }
     }
@@ -349,6 +360,7 @@ pub(crate) fn findings(
             });
         }
     }
+    out.extend(stock_findings(stock, built));
     let parts = part_count(built);
     out.push(RawFinding {
         check: Check::PartCount,
@@ -488,6 +500,63 @@ fn section_findings(
         numbers: [noise_gain, closed_loop_hz, need.accuracy.bandwidth.0, 0.0],
         stage: Some(section.stage),
     });
+}
+
+/// How often a built design places each part whose stock quantity is
+/// limited (resistors, amplifier packages, references, and the filter
+/// pair where the design has one), against that quantity: one finding per
+/// such part, in part-id order. Parts without a quantity (families,
+/// inline values) are unlimited and get none.
+pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
+    // (part id, its quantity) for every placed part with a limited one.
+    let mut placed: Vec<(&str, u32)> = Vec::new();
+    let resistor_qty = |r: &crate::design::Resistor| {
+        stock
+            .resistor_valued(&r.part_id, r.ohms)
+            .and_then(|p| p.stock_qty)
+    };
+    for r in &built.resistors {
+        if let Some(q) = resistor_qty(&r.part) {
+            placed.push((&r.part.part_id, q));
+        }
+    }
+    if let Some(f) = &built.filter {
+        if let Some(q) = resistor_qty(&f.series) {
+            placed.push((&f.series.part_id, q));
+        }
+        if let Some(q) = f.shunt.stock_qty {
+            placed.push((&f.shunt.part_id, q));
+        }
+    }
+    for p in &built.packages {
+        let qty = match p.kind {
+            AmplifierKind::OpAmp(i) => stock.opamps.get(i).and_then(|p| p.stock_qty),
+            AmplifierKind::InAmp(i) => stock.inamps.get(i).and_then(|p| p.stock_qty),
+        };
+        if let Some(q) = qty {
+            placed.push((&p.part_id, q));
+        }
+    }
+    for s in &built.sources {
+        if let Some(part) = s.reference.and_then(|i| stock.references.get(i)) {
+            if let Some(q) = part.stock_qty {
+                placed.push((&part.part_id, q));
+            }
+        }
+    }
+    let mut used: BTreeMap<&str, (u32, u32)> = BTreeMap::new();
+    for (id, q) in placed {
+        used.entry(id).or_insert((0, q)).0 += 1;
+    }
+    used.into_iter()
+        .map(|(id, (count, q))| RawFinding {
+            check: Check::StockQuantity,
+            subject: id.to_string(),
+            ok: count <= q,
+            numbers: [f64::from(count), f64::from(q), 0.0, 0.0],
+            stage: None,
+        })
+        .collect()
 }
 
 /// Parts on the board: resistors, amplifier packages, references, and

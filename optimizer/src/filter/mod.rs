@@ -26,6 +26,8 @@ use crate::mna::DcSolution;
 use crate::need::Need;
 use crate::stock::{CapacitorPart, Stock, DEFAULT_OUTPUT_OHMS};
 use crate::topology::{AmplifierKind, Built, PlacedFilter, Section};
+use std::borrow::Cow;
+use std::collections::BTreeMap;
 
 /// Share of the error target the droop at `accuracy.bandwidth_hz` may
 /// take, with the pair at its tolerance limits (our rule: a tenth).
@@ -243,13 +245,44 @@ fn meets(bounds: &Bounds, need: &Need, driver: &Driver, r: &Resistor, c: &Capaci
     true
 }
 
+/// How many of each resistor part a built design places already (its
+/// own resistors, not a filter pair), by part id.
+pub fn resistors_used(built: &Built) -> BTreeMap<&str, u32> {
+    let mut used: BTreeMap<&str, u32> = BTreeMap::new();
+    for r in &built.resistors {
+        *used.entry(r.part.part_id.as_str()).or_default() += 1;
+    }
+    used
+}
+
+/// Whether one more of a part fits on the shelf when `used` are placed
+/// already (`None`: unlimited).
+fn one_more_fits(stock_qty: Option<u32>, used: u32) -> bool {
+    stock_qty.is_none_or(|q| q > used)
+}
+
 /// The cheapest stock pair meeting every bound (ties: the larger `R C`,
-/// then the smaller resistor), or `None` when the stock has none.
+/// then the smaller resistor), or `None` when the stock has none; every
+/// stocked part counts (see [`choose_within`] for a design's own use).
 pub fn choose(need: &Need, stock: &Stock, driver: &Driver) -> Option<FilterParts> {
+    choose_within(need, stock, driver, &BTreeMap::new())
+}
+
+/// The cheapest stock pair meeting every bound, as [`choose`], among the
+/// parts of which one more is on the shelf once the design's own use
+/// (`used`, part id to count) is taken: a part with `stock_qty` 0, or
+/// with as many placed as the stock holds, is not chosen.
+pub fn choose_within(
+    need: &Need,
+    stock: &Stock,
+    driver: &Driver,
+    used: &BTreeMap<&str, u32>,
+) -> Option<FilterParts> {
     let b = bounds(need, driver);
+    let fits = |id: &str, qty: Option<u32>| one_more_fits(qty, used.get(id).copied().unwrap_or(0));
     let mut best: Option<(f64, f64, f64, usize, usize)> = None;
     for (ci, c) in stock.capacitors.iter().enumerate() {
-        if c.stock_qty == Some(0) || c.value.0 < b.min_farads {
+        if !fits(&c.part_id, c.stock_qty) || c.value.0 < b.min_farads {
             continue;
         }
         // R from the R C bounds for this C, widened by the tolerances.
@@ -260,7 +293,7 @@ pub fn choose(need: &Need, stock: &Stock, driver: &Driver) -> Option<FilterParts
             if part.value.0 > r_high {
                 break;
             }
-            if part.stock_qty == Some(0) {
+            if !fits(&part.part_id, part.stock_qty) {
                 continue;
             }
             let r = Resistor::from(part);
@@ -289,13 +322,43 @@ pub fn choose(need: &Need, stock: &Stock, driver: &Driver) -> Option<FilterParts
     })
 }
 
+/// The stock as the pair sees it once a design's own resistors are
+/// placed: each limited resistor's `stock_qty` lowered by the design's use
+/// (so [`choose`] on it is [`choose_within`] with that use). Borrowed
+/// when the design places no limited resistor.
+pub fn stock_left<'s>(stock: &'s Stock, built: &Built) -> Cow<'s, Stock> {
+    let used = resistors_used(built);
+    let limited = |id: &str, ohms: f64| {
+        stock
+            .resistor_valued(id, ohms)
+            .is_some_and(|p| p.stock_qty.is_some())
+    };
+    if !built
+        .resistors
+        .iter()
+        .any(|r| limited(&r.part.part_id, r.part.ohms))
+    {
+        return Cow::Borrowed(stock);
+    }
+    let mut left = stock.clone();
+    for part in &mut left.resistors {
+        if let (Some(q), Some(n)) = (part.stock_qty, used.get(part.part_id.as_str())) {
+            part.stock_qty = Some(q.saturating_sub(*n));
+        }
+    }
+    Cow::Owned(left)
+}
+
 /// The built design with its filter placed and reported, when one can be
 /// chosen; otherwise the design as it is, with the reason.
 pub fn attach(need: &Need, stock: &Stock, built: &Built) -> (Built, Option<String>) {
     if built.filter.is_some() {
         return (built.clone(), None);
     }
-    match analyse(need, stock, built) {
+    // The pair is chosen from what the design's own resistors leave on
+    // the shelf.
+    let left = stock_left(stock, built);
+    match analyse(need, &left, built) {
         FilterStatus::Designed {
             parts,
             built: mut filtered,
