@@ -47,6 +47,13 @@ pub const RESERVOIR_RATIO: f64 = 20.0;
 /// practice: 45 degrees or more).
 pub const PHASE_MARGIN_TARGET_DEG: f64 = 45.0;
 
+/// Share of the driving amplifier's output current (`output_current_ma`)
+/// the recharge of the capacitor may take: the whole ADC window across
+/// the series resistor (the capacitor left at the other extreme) draws at
+/// most this share, the rest stays for the feedback network and what else
+/// the output drives (our rule: a half).
+pub const RECHARGE_SHARE: f64 = 0.5;
+
 /// The amplifier that drives the filter: the section whose output is the
 /// chain's output, with its single-pole model.
 #[derive(Debug, Clone, PartialEq)]
@@ -59,6 +66,37 @@ pub struct Driver {
     pub output_ohms: f64,
     /// Noise gain (1/feedback factor) of the section, from the DC adjoint.
     pub noise_gain: f64,
+    /// Largest output current, amperes (`output_current_ma`).
+    pub output_amps: f64,
+    /// The widest step its output can make in a design that passes the
+    /// ADC-window check: the ADC's input range, volts (the recharge rule).
+    pub step_v: f64,
+}
+
+/// A driving part's figures for [`Driver`] with noise gain 1: its
+/// gain-bandwidth, output resistance, output current and widest step.
+pub fn driver_of(need: &Need, stock: &Stock, kind: AmplifierKind) -> Option<Driver> {
+    let (gbw_mhz, output_ohms, output_ma) = match kind {
+        AmplifierKind::OpAmp(i) => {
+            let p = stock.opamps.get(i)?;
+            (p.gbw_mhz, p.output_ohms, p.output_current_ma)
+        }
+        AmplifierKind::InAmp(i) => {
+            let p = stock.inamps.get(i)?;
+            (p.gbw_mhz, DEFAULT_OUTPUT_OHMS, p.output_current_ma)
+        }
+    };
+    Some(Driver {
+        designator: String::new(),
+        gbw_hz: gbw_mhz * 1e6,
+        output_ohms,
+        noise_gain: 1.0,
+        output_amps: output_ma * 1e-3,
+        // The driver's output equals the ADC pin at DC (the pin draws
+        // nothing), so a design passing the ADC-window check keeps its raw
+        // range inside the window.
+        step_v: need.full_scale(),
+    })
 }
 
 /// The chosen pair.
@@ -87,6 +125,9 @@ pub struct Bounds {
     pub min_farads: f64,
     /// Smallest series resistor, ohms (phase-margin rule).
     pub min_ohms: f64,
+    /// Smallest series resistor at its lower tolerance limit, ohms (the
+    /// recharge rule, [`RECHARGE_SHARE`]; 0 without a current limit).
+    pub min_recharge_ohms: f64,
     /// Largest `R (C + Cs)` for settling in the acquisition time at the
     /// smallest capacitor, seconds (infinite without a sampling input or
     /// when that capacitor's kickback is already under 1/2 LSB; a larger
@@ -98,22 +139,15 @@ pub struct Bounds {
 /// The section driving the chain's output, with its noise gain.
 pub fn driver(need: &Need, stock: &Stock, built: &Built) -> Option<Driver> {
     let section: &Section = built.sections.iter().find(|s| s.out == built.out)?;
-    let (gbw_mhz, output_ohms) = match section.kind {
-        AmplifierKind::OpAmp(i) => {
-            let p = stock.opamps.get(i)?;
-            (p.gbw_mhz, p.output_ohms)
-        }
-        AmplifierKind::InAmp(i) => (stock.inamps.get(i)?.gbw_mhz, DEFAULT_OUTPUT_OHMS),
-    };
+    let part = driver_of(need, stock, section.kind)?;
     let mut netlist = built.netlist.clone();
     let low = need.sensor.signal_low.0;
     let dc = DcSolution::solve(&mut netlist, built.vsense, [low, low], built.out).ok()?;
     let noise_gain = dc.branch_adjoint(section.vos).abs().max(1.0);
     Some(Driver {
         designator: section.designator.clone(),
-        gbw_hz: gbw_mhz * 1e6,
-        output_ohms,
         noise_gain,
+        ..part
     })
 }
 
@@ -198,7 +232,16 @@ pub fn bounds(need: &Need, driver: &Driver) -> Bounds {
     // amplifier's 90 degrees, whatever the crossover.
     let t = (90.0 - PHASE_MARGIN_TARGET_DEG).to_radians().tan();
     let ro = driver.output_ohms;
-    let min_ohms = ro * ((1.0 + 1.0 / (t * t)).sqrt() - 1.0) / 2.0;
+    let phase_ohms = ro * ((1.0 + 1.0 / (t * t)).sqrt() - 1.0) / 2.0;
+    // Recharge: the widest step across the series resistor draws at most
+    // RECHARGE_SHARE of the output current.
+    let recharge_ohms = if driver.output_amps > 0.0 {
+        driver.step_v / (RECHARGE_SHARE * driver.output_amps)
+    } else {
+        0.0
+    };
+    let min_ohms = phase_ohms;
+    let min_recharge_ohms = recharge_ohms;
     let (min_farads, max_settle_tau_s) =
         match (need.adc.sample_capacitance, need.adc.acquisition_time) {
             (Some(cs), Some(t_acq)) => {
@@ -218,6 +261,7 @@ pub fn bounds(need: &Need, driver: &Driver) -> Bounds {
         alias_tau_s,
         min_farads,
         min_ohms,
+        min_recharge_ohms,
         max_settle_tau_s,
     }
 }
@@ -227,7 +271,10 @@ fn meets(bounds: &Bounds, need: &Need, driver: &Driver, r: &Resistor, c: &Capaci
     let (ohms, farads) = (r.ohms, c.value.0);
     let (tr, tc) = (r.tolerance_pct / 100.0, c.tolerance.0 / 100.0);
     let tau = ohms * farads;
-    if ohms < bounds.min_ohms || farads < bounds.min_farads {
+    if ohms < bounds.min_ohms || ohms * (1.0 - tr) < bounds.min_recharge_ohms {
+        return false;
+    }
+    if farads < bounds.min_farads {
         return false;
     }
     if tau * (1.0 + tr) * (1.0 + tc) > bounds.max_tau_s || tau < bounds.min_tau_s {
@@ -286,7 +333,10 @@ pub fn choose_within(
             continue;
         }
         // R from the R C bounds for this C, widened by the tolerances.
-        let r_low = (b.min_tau_s / c.value.0).max(b.min_ohms) * (1.0 - 1e-9);
+        let r_low = (b.min_tau_s / c.value.0)
+            .max(b.min_ohms)
+            .max(b.min_recharge_ohms)
+            * (1.0 - 1e-9);
         let r_high = b.max_tau_s / c.value.0 * (1.0 + 1e-9);
         let start = stock.resistors.partition_point(|r| r.value.0 < r_low);
         for (ri, part) in stock.resistors.iter().enumerate().skip(start) {

@@ -47,9 +47,11 @@
 //! pair where the floor counts one.
 
 use crate::design::Resistor;
-use crate::filter::{choose, choose_within, driver, resistors_used, Driver, FilterParts};
+use crate::filter::{
+    choose, choose_within, driver, driver_of, resistors_used, Driver, FilterParts,
+};
 use crate::need::Need;
-use crate::stock::{Stock, DEFAULT_OUTPUT_OHMS};
+use crate::stock::Stock;
 use crate::topology::{AmplifierKind, Built};
 use std::cell::RefCell;
 use std::collections::BTreeMap;
@@ -106,19 +108,16 @@ impl<'s> FilterPairs<'s> {
             .filter(|r| r.stock_qty.is_some_and(|q| q <= max_parts))
             .map(|r| (r.part_id.as_str(), u32::MAX))
             .collect();
-        let floor_of = |gbw_mhz: f64, output_ohms: f64| {
+        let floor_of = |kind: AmplifierKind| {
+            let Some(part) = driver_of(need, stock, kind) else {
+                return (PairFloor::default(), None);
+            };
             let at = |noise_gain: f64, used: &BTreeMap<&str, u32>| {
-                choose_within(
-                    need,
-                    stock,
-                    &Driver {
-                        designator: String::new(),
-                        gbw_hz: gbw_mhz * 1e6,
-                        output_ohms,
-                        noise_gain,
-                    },
-                    used,
-                )
+                let d = Driver {
+                    noise_gain,
+                    ..part.clone()
+                };
+                choose_within(need, stock, &d, used)
             };
             let first = at(1.0, &BTreeMap::new());
             let worst_gain = if sampling { f64::INFINITY } else { 1.0 };
@@ -136,15 +135,11 @@ impl<'s> FilterPairs<'s> {
             need,
             stock,
             sampling,
-            opamps: stock
-                .opamps
-                .iter()
-                .map(|p| floor_of(p.gbw_mhz, p.output_ohms))
+            opamps: (0..stock.opamps.len())
+                .map(|i| floor_of(AmplifierKind::OpAmp(i)))
                 .collect(),
-            inamps: stock
-                .inamps
-                .iter()
-                .map(|p| floor_of(p.gbw_mhz, DEFAULT_OUTPUT_OHMS))
+            inamps: (0..stock.inamps.len())
+                .map(|i| floor_of(AmplifierKind::InAmp(i)))
                 .collect(),
             cache: RefCell::new(BTreeMap::new()),
         }
@@ -215,19 +210,7 @@ impl<'s> FilterPairs<'s> {
             driver(self.need, self.stock, built)?
         } else {
             // Without a sampling input the noise gain enters no rule.
-            let (gbw_mhz, output_ohms) = match section.kind {
-                AmplifierKind::OpAmp(i) => {
-                    let p = self.stock.opamps.get(i)?;
-                    (p.gbw_mhz, p.output_ohms)
-                }
-                AmplifierKind::InAmp(i) => (self.stock.inamps.get(i)?.gbw_mhz, DEFAULT_OUTPUT_OHMS),
-            };
-            Driver {
-                designator: String::new(),
-                gbw_hz: gbw_mhz * 1e6,
-                output_ohms,
-                noise_gain: 1.0,
-            }
+            driver_of(self.need, self.stock, section.kind)?
         };
         choose_within(self.need, self.stock, &d, &used)
     }
@@ -299,10 +282,8 @@ mod tests {
                 let floor = pairs.floor(AmplifierKind::OpAmp(i));
                 for ng in [1.0, 1.5, 3.0, 10.0, 100.0, 1e4, 1e6, 1e9] {
                     let d = Driver {
-                        designator: String::new(),
-                        gbw_hz: p.gbw_mhz * 1e6,
-                        output_ohms: p.output_ohms,
                         noise_gain: ng,
+                        ..driver_of(&need, &stock, AmplifierKind::OpAmp(i)).unwrap()
                     };
                     match choose(&need, &stock, &d) {
                         Some(pair) => assert!(units(&pair) + line >= floor.cost - 1e-12),
