@@ -134,6 +134,36 @@ pub struct OpAmpPart {
     /// [`DEFAULT_PSRR_DB`] when absent).
     #[serde(default = "default_psrr")]
     pub psrr_min: Decibels,
+    /// Largest current the output may source or sink, mA (optional
+    /// column `output_current_ma`; [`DEFAULT_OUTPUT_CURRENT_MA`] when
+    /// absent).
+    #[serde(default = "default_output_current")]
+    pub output_current_ma: f64,
+    /// Corner of the input voltage noise's 1/f part, Hz: the density is
+    /// `en^2 (1 + fc/f)` (optional column `en_corner_hz`;
+    /// [`DEFAULT_EN_CORNER_HZ`] when absent; 0 for none).
+    #[serde(default = "default_en_corner")]
+    pub en_corner_hz: f64,
+}
+
+/// Output current taken for an amplifier whose row has no
+/// `output_current_ma`: 10 mA, which small-signal op-amps and in-amps
+/// can source and sink while still meeting their swing (common practice,
+/// from memory; our rule).
+pub const DEFAULT_OUTPUT_CURRENT_MA: f64 = 10.0;
+
+fn default_output_current() -> f64 {
+    DEFAULT_OUTPUT_CURRENT_MA
+}
+
+/// 1/f corner of the voltage noise taken for an amplifier whose row has
+/// no `en_corner_hz`: 100 Hz, at the high end of bipolar and JFET inputs
+/// and typical of general-purpose CMOS inputs (common practice, from
+/// memory; our rule; a zero-drift part states its own, near 0).
+pub const DEFAULT_EN_CORNER_HZ: f64 = 100.0;
+
+fn default_en_corner() -> f64 {
+    DEFAULT_EN_CORNER_HZ
 }
 
 /// Power-supply rejection taken for an amplifier whose row has no
@@ -253,6 +283,14 @@ pub struct InAmpPart {
     /// `psrr_min_db`; [`DEFAULT_PSRR_DB`] when absent).
     #[serde(default = "default_psrr")]
     pub psrr_min: Decibels,
+    /// Largest current the output may source or sink, mA (optional
+    /// column `output_current_ma`; as for op-amps).
+    #[serde(default = "default_output_current")]
+    pub output_current_ma: f64,
+    /// Corner of the input voltage noise's 1/f part, Hz (optional column
+    /// `en_corner_hz`; as for op-amps).
+    #[serde(default = "default_en_corner")]
+    pub en_corner_hz: f64,
 }
 
 /// All parts available to a design.
@@ -356,5 +394,14 @@ impl Stock {
     /// Look up a resistor by part id.
     pub fn resistor(&self, id: &str) -> Option<&ResistorPart> {
         self.resistors.iter().find(|p| p.part_id == id)
+    }
+    /// Look up a resistor by part id among the parts of one value (the
+    /// list is sorted by value, so this is a binary search, not a scan).
+    pub fn resistor_valued(&self, id: &str, ohms: f64) -> Option<&ResistorPart> {
+        let start = self.resistors.partition_point(|p| p.value.0 < ohms);
+        self.resistors[start..]
+            .iter()
+            .take_while(|p| p.value.0 <= ohms)
+            .find(|p| p.part_id == id)
     }
 }

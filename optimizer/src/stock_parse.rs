@@ -217,15 +217,27 @@ impl Table {
     /// Columns a file may have in addition (resistors and capacitors: a
     /// single value, or a series family; at least one of the two kinds
     /// must be complete; op-amps: `output_ohms`, `ib_doubling_c`,
-    /// `psrr_min_db`; in-amps: `ib_doubling_c`, `psrr_min_db`; references:
+    /// `psrr_min_db`, `output_current_ma`, `en_corner_hz`; in-amps:
+    /// `ib_doubling_c`, `psrr_min_db`, `output_current_ma`, `en_corner_hz`; references:
     /// `load_regulation_ppm_per_ma`, `max_load_ma`). An absent column or an
     /// empty cell takes the documented default.
     fn optional_columns(self) -> &'static [&'static str] {
         match self {
             Table::Resistors => &["value_ohms", "series", "min_ohms", "max_ohms"],
             Table::Capacitors => &["value_farads", "series", "min_farads", "max_farads"],
-            Table::OpAmps => &["output_ohms", "ib_doubling_c", "psrr_min_db"],
-            Table::InAmps => &["ib_doubling_c", "psrr_min_db"],
+            Table::OpAmps => &[
+                "output_ohms",
+                "ib_doubling_c",
+                "psrr_min_db",
+                "output_current_ma",
+                "en_corner_hz",
+            ],
+            Table::InAmps => &[
+                "ib_doubling_c",
+                "psrr_min_db",
+                "output_current_ma",
+                "en_corner_hz",
+            ],
             Table::References => &["load_regulation_ppm_per_ma", "max_load_ma"],
         }
     }

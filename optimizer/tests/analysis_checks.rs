@@ -406,7 +406,10 @@ fn with_a_filter_the_noise_runs_over_the_chain_response() {
     close(a.noise.noise_bandwidth_hz, b, 2e-3, "noise bandwidth");
     assert!(b < 1e4, "the pair limits the band: {b} Hz");
     let t_kelvin = 27.0 + 273.15;
-    let want = (1.0 + rf / rg) * (4.0 * CODATA_BOLTZMANN * t_kelvin * rs * b).sqrt();
+    // The source's noise through the gain, and the pair's own series
+    // resistor, whose noise sees the same one-pole shape at the pin.
+    let kt4 = 4.0 * CODATA_BOLTZMANN * t_kelvin;
+    let want = (((1.0 + rf / rg).powi(2) * rs + filter.series.ohms) * kt4 * b).sqrt();
     close(a.noise.rms_v, want, 2e-3, "output RMS noise");
     // The droop line is the filter's own figure.
     let droop = line(&a, Contributor::Droop)[1];

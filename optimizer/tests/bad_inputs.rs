@@ -124,7 +124,7 @@ fn resistor_case(what: &'static str, rows: &str, expect: &[&str]) -> Case {
 }
 
 const OPAMP_ROW: &str =
-    "OA-X,1,1.8,5.5,0.0,0.0,0.02,0.02,800,3,0.01,0.01,100,1.0,30,0.005,80,0.35,400,90";
+    "OA-X,1,1.8,5.5,0.0,0.0,0.02,0.02,800,3,0.01,0.01,100,1.0,30,0.005,80,0.35,400,90,25,50";
 
 /// An op-amp row with one cell replaced (by column position).
 fn opamp_row(column: usize, value: &str) -> String {
@@ -516,7 +516,7 @@ fn catalogue() -> Vec<Case> {
         stock_case(
             "zero gain resistor",
             "inamps.csv",
-            "IA-X,0,0.1,25,50,200,0.5,2,90,2.7,5.5,0.1,0.1,0.05,0.05,50,1.0,2.10,80,100\n",
+            "IA-X,0,0.1,25,50,200,0.5,2,90,2.7,5.5,0.1,0.1,0.05,0.05,50,1.0,2.10,80,100,15,10\n",
             &["line 2, column gain_resistor_ohms", "`0`"],
         ),
         Case {

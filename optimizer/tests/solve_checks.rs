@@ -74,7 +74,7 @@ fn demo_stock() -> Stock {
 /// both takes a 10 V supply span and swings to 4 V below a +5 V rail.
 fn stock_with_wide_rail_to_rail() -> Stock {
     let mut files = spanfit::demo::stock_files();
-    let row = "XW-RR2,2,2.7,16.0,0.0,0.0,0.05,0.05,500,2,1,0.5,110,2.0,20,0.1,100,0.60,100,100\n";
+    let row = "XW-RR2,2,2.7,16.0,0.0,0.0,0.05,0.05,500,2,1,0.5,110,2.0,20,0.1,100,0.60,100,100,,\n";
     let Some(f) = files.iter_mut().find(|f| f.name == "opamps.csv") else {
         panic!("the demo stock has no opamps.csv");
     };

@@ -33,6 +33,10 @@ pub enum Check {
     OutputSwing,
     /// Closed-loop bandwidth at least ten times the signal bandwidth.
     GainBandwidth,
+    /// The current a section's output sources or sinks, at its raw
+    /// extremes, into everything it drives (and the filter capacitor's
+    /// recharge peak), within the part's `output_current_ma`.
+    OutputCurrent,
     /// A reference's voltage plus dropout under the positive rail.
     ReferenceHeadroom,
     /// A reference's load current, at its raw extremes, within what it
@@ -40,20 +44,25 @@ pub enum Check {
     ReferenceLoad,
     /// Parts on the board against the need's limit.
     PartCount,
+    /// How often the design places a part (the filter pair included)
+    /// against the quantity the stock holds of it.
+    StockQuantity,
     /// The output with its worst-case error inside the ADC window.
     AdcWindow,
 }
 
 impl Check {
     /// Every check, in the order findings list them.
-    pub const ALL: [Check; 8] = [
+    pub const ALL: [Check; 10] = [
         Check::SupplyRange,
         Check::CommonMode,
         Check::OutputSwing,
         Check::GainBandwidth,
+        Check::OutputCurrent,
         Check::ReferenceHeadroom,
         Check::ReferenceLoad,
         Check::PartCount,
+        Check::StockQuantity,
         Check::AdcWindow,
     ];
 
@@ -64,9 +73,11 @@ impl Check {
             Check::CommonMode => "input common mode",
             Check::OutputSwing => "output swing",
             Check::GainBandwidth => "gain-bandwidth",
+            Check::OutputCurrent => "output current",
             Check::ReferenceHeadroom => "reference headroom",
             Check::ReferenceLoad => "reference load",
             Check::PartCount => "part count",
+            Check::StockQuantity => "stock quantity",
             Check::AdcWindow => "ADC window",
         }
     }
@@ -101,6 +112,19 @@ impl Check {
             Check::GainBandwidth => format!(
                 "noise gain {a:.1} leaves {b:.0} Hz closed-loop bandwidth; the need asks 10 x {c:.1} Hz"
             ),
+            Check::OutputCurrent => {
+                let filter = if d == 1.0 {
+                    format!(" (of which {c:.4} mA recharging the filter capacitor)")
+                } else if d == 2.0 {
+                    format!(" (of which {c:.4} mA the filter pair's recharge rule allows)")
+                } else {
+                    String::new()
+                };
+                format!(
+                    "the output sources or sinks up to {a:.4} mA untrimmed{filter}; the part \
+                     drives at most {b:.4} mA"
+                )
+            }
             Check::ReferenceHeadroom => format!(
                 "the reference needs {a:.3} V above ground; the positive rail is {b:.3} V"
             ),
@@ -108,6 +132,7 @@ impl Check {
                 "the network draws up to {a:.4} mA untrimmed; the part sources at most {b:.4} mA"
             ),
             Check::PartCount => format!("{a:.0} parts; the need allows {b:.0}"),
+            Check::StockQuantity => format!("{a:.0} placed; the stock holds {b:.0}"),
             Check::AdcWindow => format!(
                 "output reaches {a:.4} V to {b:.4} V untrimmed; the ADC takes {c:.4} V to {d:.4} V"
             ),
@@ -162,9 +187,11 @@ impl Finding {
                 }
             }
             Check::GainBandwidth => ((10.0 * c - b).max(0.0), "low"),
-            Check::ReferenceHeadroom | Check::ReferenceLoad | Check::PartCount => {
-                ((a - b).max(0.0), "high")
-            }
+            Check::ReferenceHeadroom
+            | Check::ReferenceLoad
+            | Check::OutputCurrent
+            | Check::PartCount
+            | Check::StockQuantity => ((a - b).max(0.0), "high"),
         }
     }
 
@@ -224,9 +251,19 @@ impl Finding {
                 "{who} would source up to {a:.4} mA into the network it drives, {excess:.4} mA \
                  over its {b:.4} mA limit; larger network resistors or a buffered tap lower it"
             ),
+            Check::OutputCurrent => format!(
+                "the output of {stage}({who}) would source or sink up to {a:.4} mA into its \
+                 feedback network, the next stage and the filter ({c:.4} mA of it recharging \
+                 the capacitor), {excess:.4} mA over the part's {b:.4} mA; larger resistors or \
+                 a part that drives more current can"
+            ),
             Check::PartCount => format!(
                 "the smallest design has {a:.0} parts, {excess:.0} over the need's limit of \
                  {b:.0}; search.max_parts decides it, not the values"
+            ),
+            Check::StockQuantity => format!(
+                "{who} is placed {a:.0} times (the filter pair included), {excess:.0} more than \
+                 the {b:.0} the stock holds; other values, another part or a larger stock_qty can"
             ),
         }
     }
@@ -299,6 +336,7 @@ pub(crate) fn findings(
     netlist: &Netlist,
     dc: &DcSolution,
     params: &[Parameter],
+    pair_pending: bool,
 ) -> Vec<RawFinding> {
     let mut out = Vec::new();
     // The reference hangs from the positive rail at its lowest.
@@ -320,13 +358,23 @@ pub(crate) fn findings(
     // Adjoints of the section outputs, one solve per distinct node.
     let mut adjoints: BTreeMap<usize, Vec<f64>> = BTreeMap::new();
     adjoints.insert(built.out, dc.output_adjoint().to_vec());
+    let recharge = recharge_of(stock, built, netlist, pair_pending);
     for section in &built.sections {
         let raw = RawRanges {
             netlist,
             dc,
             params,
         };
-        section_findings(need, stock, &raw, section, &mut adjoints, &mut out);
+        let recharge = recharge.filter(|r| r.driven == section.out);
+        section_findings(
+            need,
+            stock,
+            &raw,
+            section,
+            recharge,
+            &mut adjoints,
+            &mut out,
+        );
     }
     for source in &built.sources {
         if let Some(i) = source.reference {
@@ -339,7 +387,7 @@ pub(crate) fn findings(
                 numbers: [needs, positive, 0.0, 0.0],
                 stage: None,
             });
-            let load_ma = 1e3 * reference_load_a(netlist, dc, params, source.element);
+            let load_ma = 1e3 * branch_extreme_a(netlist, dc, params, source.element);
             out.push(RawFinding {
                 check: Check::ReferenceLoad,
                 subject: format!("{} ({})", source.designator, reference.part_id),
@@ -349,6 +397,7 @@ pub(crate) fn findings(
             });
         }
     }
+    out.extend(stock_findings(stock, built));
     let parts = part_count(built);
     out.push(RawFinding {
         check: Check::PartCount,
@@ -360,11 +409,11 @@ pub(crate) fn findings(
     out
 }
 
-/// The largest load current a reference's source delivers, amperes: its
-/// branch current at both span ends, widened by the raw range of every
-/// parameter (untrimmed, every part at its limits), from the adjoint of
-/// that branch current.
-fn reference_load_a(
+/// The largest current through a source's branch (a reference's load, an
+/// amplifier's output), amperes: its branch current at both span ends,
+/// widened by the raw range of every parameter (untrimmed, every part at
+/// its limits), from the adjoint of that branch current.
+fn branch_extreme_a(
     netlist: &Netlist,
     dc: &DcSolution,
     params: &[Parameter],
@@ -379,11 +428,55 @@ fn reference_load_a(
         .fold(0.0, f64::max)
 }
 
+/// How the filter capacitor loads the section that drives it: the node
+/// it is driven from, and either the series resistor at its lower
+/// tolerance limit (the pair is placed) or, for a search candidate whose
+/// pair is not chosen yet, nothing but the share of the output current
+/// the pair's recharge rule allows it.
+#[derive(Debug, Clone, Copy)]
+struct Recharge {
+    /// The driving section's output node.
+    driven: usize,
+    /// The series resistor at its lower tolerance limit, ohms (`None`: the
+    /// pair is not placed yet).
+    series_low_ohms: Option<f64>,
+}
+
+/// The filter's load on its driver, where the design has one or, for a
+/// search candidate (`pair_pending`), may get one.
+fn recharge_of(
+    stock: &Stock,
+    built: &Built,
+    netlist: &Netlist,
+    pair_pending: bool,
+) -> Option<Recharge> {
+    match &built.filter {
+        Some(f) => {
+            let e = netlist.elements.get(f.series_element)?;
+            let driven = if e.nodes[0] == built.out {
+                e.nodes[1]
+            } else {
+                e.nodes[0]
+            };
+            Some(Recharge {
+                driven,
+                series_low_ohms: Some(f.series.ohms * (1.0 - f.series.tolerance_pct / 100.0)),
+            })
+        }
+        None if pair_pending && crate::filter::stock_has_capacitors(stock) => Some(Recharge {
+            driven: built.out,
+            series_low_ohms: None,
+        }),
+        None => None,
+    }
+}
+
 /// The input, output and bandwidth limits of one amplifier section.
 struct SectionLimits {
     input_headroom: [f64; 2],
     output_headroom: [f64; 2],
     gbw_hz: f64,
+    output_current_ma: f64,
 }
 
 fn section_limits(stock: &Stock, kind: AmplifierKind) -> SectionLimits {
@@ -394,6 +487,7 @@ fn section_limits(stock: &Stock, kind: AmplifierKind) -> SectionLimits {
                 input_headroom: [part.input_headroom_low.0, part.input_headroom_high.0],
                 output_headroom: [part.output_headroom_low.0, part.output_headroom_high.0],
                 gbw_hz: part.gbw_mhz * 1e6,
+                output_current_ma: part.output_current_ma,
             }
         }
         AmplifierKind::InAmp(i) => {
@@ -402,6 +496,7 @@ fn section_limits(stock: &Stock, kind: AmplifierKind) -> SectionLimits {
                 input_headroom: [part.input_headroom_low.0, part.input_headroom_high.0],
                 output_headroom: [part.output_headroom_low.0, part.output_headroom_high.0],
                 gbw_hz: part.gbw_mhz * 1e6,
+                output_current_ma: part.output_current_ma,
             }
         }
     }
@@ -420,6 +515,7 @@ fn section_findings(
     stock: &Stock,
     raw: &RawRanges<'_>,
     section: &Section,
+    recharge: Option<Recharge>,
     adjoints: &mut BTreeMap<usize, Vec<f64>>,
     out: &mut Vec<RawFinding>,
 ) {
@@ -463,6 +559,42 @@ fn section_findings(
         numbers: [output_min, output_max, swing_low, swing_high],
         stage: Some(section.stage),
     });
+    // Output current: the branch current of the element that drives the
+    // output pin (an op-amp's gain block; an in-amp's output, behind its
+    // internal difference stage) at its raw extremes, from the adjoint of
+    // that current; plus the filter capacitor's recharge peak: the output
+    // at one raw extreme while the capacitor still holds the other.
+    let element = section
+        .inamp
+        .as_ref()
+        .map_or(section.gain_element, |i| i.output_offset);
+    let limit_ma = limits.output_current_ma;
+    let dc_ma = 1e3 * branch_extreme_a(raw.netlist, dc, raw.params, element);
+    let (recharge_ma, recharge_kind) = match recharge {
+        Some(Recharge {
+            series_low_ohms: Some(ohms),
+            ..
+        }) if ohms > 0.0 => {
+            let (low, high) = if section.internal_outputs.is_empty() {
+                (output_min, output_max)
+            } else {
+                range_of(&[section.out])
+            };
+            (1e3 * (high - low).max(0.0) / ohms, 1.0)
+        }
+        // The pair is not chosen yet: its recharge rule keeps it within
+        // this share of the part's current.
+        Some(_) => (crate::filter::RECHARGE_SHARE * limit_ma, 2.0),
+        None => (0.0, 0.0),
+    };
+    let current_ma = dc_ma + recharge_ma;
+    out.push(RawFinding {
+        check: Check::OutputCurrent,
+        subject: section.designator.clone(),
+        ok: current_ma <= limit_ma * (1.0 + 1e-9),
+        numbers: [current_ma, limit_ma, recharge_ma, recharge_kind],
+        stage: Some(section.stage),
+    });
     // Noise gain of this section: its output per volt of its own offset,
     // from the adjoint of its output node (a follower's is 1 without
     // solving).
@@ -488,6 +620,63 @@ fn section_findings(
         numbers: [noise_gain, closed_loop_hz, need.accuracy.bandwidth.0, 0.0],
         stage: Some(section.stage),
     });
+}
+
+/// How often a built design places each part whose stock quantity is
+/// limited (resistors, amplifier packages, references, and the filter
+/// pair where the design has one), against that quantity: one finding per
+/// such part, in part-id order. Parts without a quantity (families,
+/// inline values) are unlimited and get none.
+pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
+    // (part id, its quantity) for every placed part with a limited one.
+    let mut placed: Vec<(&str, u32)> = Vec::new();
+    let resistor_qty = |r: &crate::design::Resistor| {
+        stock
+            .resistor_valued(&r.part_id, r.ohms)
+            .and_then(|p| p.stock_qty)
+    };
+    for r in &built.resistors {
+        if let Some(q) = resistor_qty(&r.part) {
+            placed.push((&r.part.part_id, q));
+        }
+    }
+    if let Some(f) = &built.filter {
+        if let Some(q) = resistor_qty(&f.series) {
+            placed.push((&f.series.part_id, q));
+        }
+        if let Some(q) = f.shunt.stock_qty {
+            placed.push((&f.shunt.part_id, q));
+        }
+    }
+    for p in &built.packages {
+        let qty = match p.kind {
+            AmplifierKind::OpAmp(i) => stock.opamps.get(i).and_then(|p| p.stock_qty),
+            AmplifierKind::InAmp(i) => stock.inamps.get(i).and_then(|p| p.stock_qty),
+        };
+        if let Some(q) = qty {
+            placed.push((&p.part_id, q));
+        }
+    }
+    for s in &built.sources {
+        if let Some(part) = s.reference.and_then(|i| stock.references.get(i)) {
+            if let Some(q) = part.stock_qty {
+                placed.push((&part.part_id, q));
+            }
+        }
+    }
+    let mut used: BTreeMap<&str, (u32, u32)> = BTreeMap::new();
+    for (id, q) in placed {
+        used.entry(id).or_insert((0, q)).0 += 1;
+    }
+    used.into_iter()
+        .map(|(id, (count, q))| RawFinding {
+            check: Check::StockQuantity,
+            subject: id.to_string(),
+            ok: count <= q,
+            numbers: [f64::from(count), f64::from(q), 0.0, 0.0],
+            stage: None,
+        })
+        .collect()
 }
 
 /// Parts on the board: resistors, amplifier packages, references, and

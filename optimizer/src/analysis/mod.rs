@@ -203,7 +203,15 @@ impl Model {
         let dynamic = noise::dynamic(need, stock, &built, &netlist, &dc, response);
         let noise = dynamic.noise;
         let stages = ranges::stage_reports(design, &built, &dc);
-        let findings = feasibility::findings(need, stock, &built, &netlist, &dc, &params);
+        let findings = feasibility::findings(
+            need,
+            stock,
+            &built,
+            &netlist,
+            &dc,
+            &params,
+            response == noise::Response::Bounded,
+        );
         let raw = extremes::output_half_range(&params);
         let raw_output_half = [raw[0] + noise.peak_v(), raw[1] + noise.peak_v()];
         Ok(Model {

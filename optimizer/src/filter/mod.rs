@@ -26,6 +26,8 @@ use crate::mna::DcSolution;
 use crate::need::Need;
 use crate::stock::{CapacitorPart, Stock, DEFAULT_OUTPUT_OHMS};
 use crate::topology::{AmplifierKind, Built, PlacedFilter, Section};
+use std::borrow::Cow;
+use std::collections::BTreeMap;
 
 /// Share of the error target the droop at `accuracy.bandwidth_hz` may
 /// take, with the pair at its tolerance limits (our rule: a tenth).
@@ -45,6 +47,13 @@ pub const RESERVOIR_RATIO: f64 = 20.0;
 /// practice: 45 degrees or more).
 pub const PHASE_MARGIN_TARGET_DEG: f64 = 45.0;
 
+/// Share of the driving amplifier's output current (`output_current_ma`)
+/// the recharge of the capacitor may take: the whole ADC window across
+/// the series resistor (the capacitor left at the other extreme) draws at
+/// most this share, the rest stays for the feedback network and what else
+/// the output drives (our rule: a half).
+pub const RECHARGE_SHARE: f64 = 0.5;
+
 /// The amplifier that drives the filter: the section whose output is the
 /// chain's output, with its single-pole model.
 #[derive(Debug, Clone, PartialEq)]
@@ -57,6 +66,37 @@ pub struct Driver {
     pub output_ohms: f64,
     /// Noise gain (1/feedback factor) of the section, from the DC adjoint.
     pub noise_gain: f64,
+    /// Largest output current, amperes (`output_current_ma`).
+    pub output_amps: f64,
+    /// The widest step its output can make in a design that passes the
+    /// ADC-window check: the ADC's input range, volts (the recharge rule).
+    pub step_v: f64,
+}
+
+/// A driving part's figures for [`Driver`] with noise gain 1: its
+/// gain-bandwidth, output resistance, output current and widest step.
+pub fn driver_of(need: &Need, stock: &Stock, kind: AmplifierKind) -> Option<Driver> {
+    let (gbw_mhz, output_ohms, output_ma) = match kind {
+        AmplifierKind::OpAmp(i) => {
+            let p = stock.opamps.get(i)?;
+            (p.gbw_mhz, p.output_ohms, p.output_current_ma)
+        }
+        AmplifierKind::InAmp(i) => {
+            let p = stock.inamps.get(i)?;
+            (p.gbw_mhz, DEFAULT_OUTPUT_OHMS, p.output_current_ma)
+        }
+    };
+    Some(Driver {
+        designator: String::new(),
+        gbw_hz: gbw_mhz * 1e6,
+        output_ohms,
+        noise_gain: 1.0,
+        output_amps: output_ma * 1e-3,
+        // The driver's output equals the ADC pin at DC (the pin draws
+        // nothing), so a design passing the ADC-window check keeps its raw
+        // range inside the window.
+        step_v: need.full_scale(),
+    })
 }
 
 /// The chosen pair.
@@ -85,6 +125,9 @@ pub struct Bounds {
     pub min_farads: f64,
     /// Smallest series resistor, ohms (phase-margin rule).
     pub min_ohms: f64,
+    /// Smallest series resistor at its lower tolerance limit, ohms (the
+    /// recharge rule, [`RECHARGE_SHARE`]; 0 without a current limit).
+    pub min_recharge_ohms: f64,
     /// Largest `R (C + Cs)` for settling in the acquisition time at the
     /// smallest capacitor, seconds (infinite without a sampling input or
     /// when that capacitor's kickback is already under 1/2 LSB; a larger
@@ -96,22 +139,15 @@ pub struct Bounds {
 /// The section driving the chain's output, with its noise gain.
 pub fn driver(need: &Need, stock: &Stock, built: &Built) -> Option<Driver> {
     let section: &Section = built.sections.iter().find(|s| s.out == built.out)?;
-    let (gbw_mhz, output_ohms) = match section.kind {
-        AmplifierKind::OpAmp(i) => {
-            let p = stock.opamps.get(i)?;
-            (p.gbw_mhz, p.output_ohms)
-        }
-        AmplifierKind::InAmp(i) => (stock.inamps.get(i)?.gbw_mhz, DEFAULT_OUTPUT_OHMS),
-    };
+    let part = driver_of(need, stock, section.kind)?;
     let mut netlist = built.netlist.clone();
     let low = need.sensor.signal_low.0;
     let dc = DcSolution::solve(&mut netlist, built.vsense, [low, low], built.out).ok()?;
     let noise_gain = dc.branch_adjoint(section.vos).abs().max(1.0);
     Some(Driver {
         designator: section.designator.clone(),
-        gbw_hz: gbw_mhz * 1e6,
-        output_ohms,
         noise_gain,
+        ..part
     })
 }
 
@@ -196,7 +232,16 @@ pub fn bounds(need: &Need, driver: &Driver) -> Bounds {
     // amplifier's 90 degrees, whatever the crossover.
     let t = (90.0 - PHASE_MARGIN_TARGET_DEG).to_radians().tan();
     let ro = driver.output_ohms;
-    let min_ohms = ro * ((1.0 + 1.0 / (t * t)).sqrt() - 1.0) / 2.0;
+    let phase_ohms = ro * ((1.0 + 1.0 / (t * t)).sqrt() - 1.0) / 2.0;
+    // Recharge: the widest step across the series resistor draws at most
+    // RECHARGE_SHARE of the output current.
+    let recharge_ohms = if driver.output_amps > 0.0 {
+        driver.step_v / (RECHARGE_SHARE * driver.output_amps)
+    } else {
+        0.0
+    };
+    let min_ohms = phase_ohms;
+    let min_recharge_ohms = recharge_ohms;
     let (min_farads, max_settle_tau_s) =
         match (need.adc.sample_capacitance, need.adc.acquisition_time) {
             (Some(cs), Some(t_acq)) => {
@@ -216,6 +261,7 @@ pub fn bounds(need: &Need, driver: &Driver) -> Bounds {
         alias_tau_s,
         min_farads,
         min_ohms,
+        min_recharge_ohms,
         max_settle_tau_s,
     }
 }
@@ -225,7 +271,10 @@ fn meets(bounds: &Bounds, need: &Need, driver: &Driver, r: &Resistor, c: &Capaci
     let (ohms, farads) = (r.ohms, c.value.0);
     let (tr, tc) = (r.tolerance_pct / 100.0, c.tolerance.0 / 100.0);
     let tau = ohms * farads;
-    if ohms < bounds.min_ohms || farads < bounds.min_farads {
+    if ohms < bounds.min_ohms || ohms * (1.0 - tr) < bounds.min_recharge_ohms {
+        return false;
+    }
+    if farads < bounds.min_farads {
         return false;
     }
     if tau * (1.0 + tr) * (1.0 + tc) > bounds.max_tau_s || tau < bounds.min_tau_s {
@@ -243,24 +292,58 @@ fn meets(bounds: &Bounds, need: &Need, driver: &Driver, r: &Resistor, c: &Capaci
     true
 }
 
+/// How many of each resistor part a built design places already (its
+/// own resistors, not a filter pair), by part id.
+pub fn resistors_used(built: &Built) -> BTreeMap<&str, u32> {
+    let mut used: BTreeMap<&str, u32> = BTreeMap::new();
+    for r in &built.resistors {
+        *used.entry(r.part.part_id.as_str()).or_default() += 1;
+    }
+    used
+}
+
+/// Whether one more of a part fits on the shelf when `used` are placed
+/// already (`None`: unlimited).
+fn one_more_fits(stock_qty: Option<u32>, used: u32) -> bool {
+    stock_qty.is_none_or(|q| q > used)
+}
+
 /// The cheapest stock pair meeting every bound (ties: the larger `R C`,
-/// then the smaller resistor), or `None` when the stock has none.
+/// then the smaller resistor), or `None` when the stock has none; every
+/// stocked part counts (see [`choose_within`] for a design's own use).
 pub fn choose(need: &Need, stock: &Stock, driver: &Driver) -> Option<FilterParts> {
+    choose_within(need, stock, driver, &BTreeMap::new())
+}
+
+/// The cheapest stock pair meeting every bound, as [`choose`], among the
+/// parts of which one more is on the shelf once the design's own use
+/// (`used`, part id to count) is taken: a part with `stock_qty` 0, or
+/// with as many placed as the stock holds, is not chosen.
+pub fn choose_within(
+    need: &Need,
+    stock: &Stock,
+    driver: &Driver,
+    used: &BTreeMap<&str, u32>,
+) -> Option<FilterParts> {
     let b = bounds(need, driver);
+    let fits = |id: &str, qty: Option<u32>| one_more_fits(qty, used.get(id).copied().unwrap_or(0));
     let mut best: Option<(f64, f64, f64, usize, usize)> = None;
     for (ci, c) in stock.capacitors.iter().enumerate() {
-        if c.stock_qty == Some(0) || c.value.0 < b.min_farads {
+        if !fits(&c.part_id, c.stock_qty) || c.value.0 < b.min_farads {
             continue;
         }
         // R from the R C bounds for this C, widened by the tolerances.
-        let r_low = (b.min_tau_s / c.value.0).max(b.min_ohms) * (1.0 - 1e-9);
+        let r_low = (b.min_tau_s / c.value.0)
+            .max(b.min_ohms)
+            .max(b.min_recharge_ohms)
+            * (1.0 - 1e-9);
         let r_high = b.max_tau_s / c.value.0 * (1.0 + 1e-9);
         let start = stock.resistors.partition_point(|r| r.value.0 < r_low);
         for (ri, part) in stock.resistors.iter().enumerate().skip(start) {
             if part.value.0 > r_high {
                 break;
             }
-            if part.stock_qty == Some(0) {
+            if !fits(&part.part_id, part.stock_qty) {
                 continue;
             }
             let r = Resistor::from(part);
@@ -289,13 +372,43 @@ pub fn choose(need: &Need, stock: &Stock, driver: &Driver) -> Option<FilterParts
     })
 }
 
+/// The stock as the pair sees it once a design's own resistors are
+/// placed: each limited resistor's `stock_qty` lowered by the design's use
+/// (so [`choose`] on it is [`choose_within`] with that use). Borrowed
+/// when the design places no limited resistor.
+pub fn stock_left<'s>(stock: &'s Stock, built: &Built) -> Cow<'s, Stock> {
+    let used = resistors_used(built);
+    let limited = |id: &str, ohms: f64| {
+        stock
+            .resistor_valued(id, ohms)
+            .is_some_and(|p| p.stock_qty.is_some())
+    };
+    if !built
+        .resistors
+        .iter()
+        .any(|r| limited(&r.part.part_id, r.part.ohms))
+    {
+        return Cow::Borrowed(stock);
+    }
+    let mut left = stock.clone();
+    for part in &mut left.resistors {
+        if let (Some(q), Some(n)) = (part.stock_qty, used.get(part.part_id.as_str())) {
+            part.stock_qty = Some(q.saturating_sub(*n));
+        }
+    }
+    Cow::Owned(left)
+}
+
 /// The built design with its filter placed and reported, when one can be
 /// chosen; otherwise the design as it is, with the reason.
 pub fn attach(need: &Need, stock: &Stock, built: &Built) -> (Built, Option<String>) {
     if built.filter.is_some() {
         return (built.clone(), None);
     }
-    match analyse(need, stock, built) {
+    // The pair is chosen from what the design's own resistors leave on
+    // the shelf.
+    let left = stock_left(stock, built);
+    match analyse(need, &left, built) {
         FilterStatus::Designed {
             parts,
             built: mut filtered,

@@ -469,6 +469,21 @@ fn write_checks(out: &mut String, d: &DesignReport) {
             );
         }
     }
+    // The drive of each amplifier is shown even when it passes (how close
+    // the output current comes to the part's limit).
+    for f in d
+        .findings
+        .iter()
+        .filter(|f| f.ok && f.check == "output current")
+    {
+        let _ = writeln!(
+            out,
+            "  {} on {}: {}",
+            f.check,
+            clean(&f.subject),
+            clean(&f.detail)
+        );
+    }
 }
 
 fn write_budget(out: &mut String, need: &Need, d: &DesignReport) {

@@ -35,11 +35,23 @@
 //! two parts. The series resistor's line may be shared with a resistor of
 //! the design, so the floor does not count it; the exact share of a
 //! design does ([`FilterPairs::share`]).
+//!
+//! Stock quantities: the report chooses the pair among the parts the
+//! design's own resistors leave on the shelf ([`crate::filter::stock_left`]),
+//! so a design that places the chosen pair's resistor as often as the
+//! stock holds it gets another pair, or none. The pair per part above is
+//! chosen with the whole shelf, so it costs no more than any design's
+//! pair; the floor's "a pair always exists" is decided with every limited
+//! resistor that a design within `search.max_parts` could use up
+//! (`stock_qty` at most `max_parts`) left out, so no design can lose its
+//! pair where the floor counts one.
 
 use crate::design::Resistor;
-use crate::filter::{choose, driver, Driver, FilterParts};
+use crate::filter::{
+    choose, choose_within, driver, driver_of, resistors_used, Driver, FilterParts,
+};
 use crate::need::Need;
-use crate::stock::{Stock, DEFAULT_OUTPUT_OHMS};
+use crate::stock::Stock;
 use crate::topology::{AmplifierKind, Built};
 use std::cell::RefCell;
 use std::collections::BTreeMap;
@@ -87,21 +99,29 @@ impl<'s> FilterPairs<'s> {
     pub(crate) fn new(need: &'s Need, stock: &'s Stock) -> FilterPairs<'s> {
         let sampling = need.adc.sample_capacitance.is_some();
         let line = need.search.bom_line_cost;
-        let floor_of = |gbw_mhz: f64, output_ohms: f64| {
-            let at = |noise_gain: f64| {
-                choose(
-                    need,
-                    stock,
-                    &Driver {
-                        designator: String::new(),
-                        gbw_hz: gbw_mhz * 1e6,
-                        output_ohms,
-                        noise_gain,
-                    },
-                )
+        // Limited resistors a design could use up (left out when deciding
+        // whether a pair always exists).
+        let max_parts = u32::try_from(need.search.max_parts).unwrap_or(u32::MAX);
+        let exhaustible: BTreeMap<&str, u32> = stock
+            .resistors
+            .iter()
+            .filter(|r| r.stock_qty.is_some_and(|q| q <= max_parts))
+            .map(|r| (r.part_id.as_str(), u32::MAX))
+            .collect();
+        let floor_of = |kind: AmplifierKind| {
+            let Some(part) = driver_of(need, stock, kind) else {
+                return (PairFloor::default(), None);
             };
-            let first = at(1.0);
-            let always = !sampling || at(f64::INFINITY).is_some();
+            let at = |noise_gain: f64, used: &BTreeMap<&str, u32>| {
+                let d = Driver {
+                    noise_gain,
+                    ..part.clone()
+                };
+                choose_within(need, stock, &d, used)
+            };
+            let first = at(1.0, &BTreeMap::new());
+            let worst_gain = if sampling { f64::INFINITY } else { 1.0 };
+            let always = at(worst_gain, &exhaustible).is_some();
             let floor = match &first {
                 Some(p) if always => PairFloor {
                     cost: units(p) + line,
@@ -115,15 +135,11 @@ impl<'s> FilterPairs<'s> {
             need,
             stock,
             sampling,
-            opamps: stock
-                .opamps
-                .iter()
-                .map(|p| floor_of(p.gbw_mhz, p.output_ohms))
+            opamps: (0..stock.opamps.len())
+                .map(|i| floor_of(AmplifierKind::OpAmp(i)))
                 .collect(),
-            inamps: stock
-                .inamps
-                .iter()
-                .map(|p| floor_of(p.gbw_mhz, DEFAULT_OUTPUT_OHMS))
+            inamps: (0..stock.inamps.len())
+                .map(|i| floor_of(AmplifierKind::InAmp(i)))
                 .collect(),
             cache: RefCell::new(BTreeMap::new()),
         }
@@ -152,12 +168,13 @@ impl<'s> FilterPairs<'s> {
 
     /// The least the pair adds to a design of a structure whose output
     /// `kind` drives, given which resistor part numbers the design places
-    /// (`placed`): exact without a sampling input (the pair is the part's
-    /// own, and its resistor's line is paid unless the design shares it),
-    /// the floor with one.
+    /// (`placed`): exact without a sampling input when the design does not
+    /// place the part's pair resistor (the pair is then the part's own,
+    /// both BOM lines paid), the floor otherwise (a design that places it
+    /// may use it up and get another pair, or none).
     pub(crate) fn least_added(&self, kind: AmplifierKind, placed: &dyn Fn(&str) -> bool) -> f64 {
         let floor = self.floor(kind);
-        if self.sampling || floor.parts == 0 {
+        if self.sampling {
             return floor.cost;
         }
         let pair = match kind {
@@ -165,14 +182,41 @@ impl<'s> FilterPairs<'s> {
             AmplifierKind::InAmp(i) => self.inamps.get(i).and_then(|e| e.1.as_ref()),
         };
         match pair {
-            Some(p) if !placed(&p.series.part_id) => floor.cost + self.need.search.bom_line_cost,
+            Some(p) if !placed(&p.series.part_id) => {
+                units(p) + 2.0 * self.need.search.bom_line_cost
+            }
             _ => floor.cost,
         }
     }
 
     /// The pair the report will give a built design (without a filter of
-    /// its own), or `None` when it gets none.
+    /// its own), or `None` when it gets none: the pair chosen with the
+    /// whole shelf when one more of its parts is left after the design's
+    /// own resistors, else the pair chosen from what is left (as
+    /// [`crate::filter::attach`] chooses it).
     pub(crate) fn pair_for(&self, built: &Built) -> Option<FilterParts> {
+        let pair = self.pair_whole_shelf(built)?;
+        let used = resistors_used(built);
+        let limit = self
+            .stock
+            .resistor_valued(&pair.series.part_id, pair.series.ohms)
+            .and_then(|p| p.stock_qty);
+        let placed = used.get(pair.series.part_id.as_str()).copied().unwrap_or(0);
+        if limit.is_none_or(|q| q > placed) {
+            return Some(pair);
+        }
+        let section = built.sections.iter().find(|s| s.out == built.out)?;
+        let d = if self.sampling {
+            driver(self.need, self.stock, built)?
+        } else {
+            // Without a sampling input the noise gain enters no rule.
+            driver_of(self.need, self.stock, section.kind)?
+        };
+        choose_within(self.need, self.stock, &d, &used)
+    }
+
+    /// The pair a built design's driving part gets with the whole shelf.
+    fn pair_whole_shelf(&self, built: &Built) -> Option<FilterParts> {
         let section = built.sections.iter().find(|s| s.out == built.out)?;
         let (is_opamp, index) = match section.kind {
             AmplifierKind::OpAmp(i) => (true, i),
@@ -238,10 +282,8 @@ mod tests {
                 let floor = pairs.floor(AmplifierKind::OpAmp(i));
                 for ng in [1.0, 1.5, 3.0, 10.0, 100.0, 1e4, 1e6, 1e9] {
                     let d = Driver {
-                        designator: String::new(),
-                        gbw_hz: p.gbw_mhz * 1e6,
-                        output_ohms: p.output_ohms,
                         noise_gain: ng,
+                        ..driver_of(&need, &stock, AmplifierKind::OpAmp(i)).unwrap()
                     };
                     match choose(&need, &stock, &d) {
                         Some(pair) => assert!(units(&pair) + line >= floor.cost - 1e-12),

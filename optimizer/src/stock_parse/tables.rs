@@ -325,6 +325,8 @@ pub(super) fn opamps(
                 },
                 ib_doubling_c: ib_doubling(&row)?,
                 psrr_min: psrr(&row)?,
+                output_current_ma: output_current(&row)?,
+                en_corner_hz: en_corner(&row)?,
             },
             row.line,
         ));
@@ -409,6 +411,26 @@ fn psrr(row: &Row<'_>) -> Result<Decibels> {
     .map(Decibels)
 }
 
+/// The optional `output_current_ma` of an amplifier row, or the default.
+fn output_current(row: &Row<'_>) -> Result<f64> {
+    row.optional_number(
+        "output_current_ma",
+        "an output current in mA",
+        Bound::AboveZero,
+        crate::stock::DEFAULT_OUTPUT_CURRENT_MA,
+    )
+}
+
+/// The optional `en_corner_hz` of an amplifier row, or the default.
+fn en_corner(row: &Row<'_>) -> Result<f64> {
+    row.optional_number(
+        "en_corner_hz",
+        "a 1/f noise corner in Hz",
+        Bound::ZeroOrMore,
+        crate::stock::DEFAULT_EN_CORNER_HZ,
+    )
+}
+
 pub(super) fn inamps(
     columns: &Columns,
     rows: &[Record],
@@ -455,6 +477,8 @@ pub(super) fn inamps(
                 stock_qty: row.quantity("stock_qty")?,
                 ib_doubling_c: ib_doubling(&row)?,
                 psrr_min: psrr(&row)?,
+                output_current_ma: output_current(&row)?,
+                en_corner_hz: en_corner(&row)?,
             },
             row.line,
         ));
