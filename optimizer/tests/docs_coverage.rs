@@ -20,9 +20,10 @@
 //! file and from a real solve of the demo need; the budget lines from
 //! `spanfit::analysis::Line::ALL`.
 
+mod common;
+use common::solve::{demo_need_with, solve_report, with_still_clock};
 use serde_json::Value;
 use spanfit::analysis::Line;
-use spanfit::search::{Progress, SolveControl};
 use spanfit::stock::{parse_stock, StockFile};
 use std::collections::BTreeSet;
 
@@ -241,19 +242,15 @@ fn every_design_field_is_documented_and_every_documented_field_exists() {
 
 /// The bundle of a real solve of the embedded demo need and stock.
 fn demo_solve_bundle() -> Value {
-    let clock = || 0.0;
-    let mut progress = |_p: Progress| true;
-    let mut control = SolveControl {
-        progress: &mut progress,
-        now_ms: &clock,
-    };
-    let bundle = spanfit::api::solve_bundle(
-        spanfit::demo::NEED_TOML.as_bytes(),
-        "demo-need.toml",
-        &[],
-        false,
-        &mut control,
-    )
+    let bundle = with_still_clock(|control| {
+        spanfit::api::solve_bundle(
+            spanfit::demo::NEED_TOML.as_bytes(),
+            "demo-need.toml",
+            &[],
+            false,
+            control,
+        )
+    })
     .unwrap_or_else(|e| panic!("the demo does not solve: {e}"));
     serde_json::to_value(bundle).expect("a bundle serialises")
 }
@@ -417,25 +414,7 @@ fn every_budget_line_is_documented_and_every_documented_line_exists() {
 fn every_infeasibility_field_is_documented_and_every_documented_field_exists() {
     // The demo need at a target no stocked part can meet, one stage only,
     // so the search and its suggestions stay small.
-    let need = spanfit::demo::NEED_TOML
-        .replace("max_error_pct_fs = 0.5", "max_error_pct_fs = 0.001")
-        .replace("max_stages = 3", "max_stages = 1");
-    assert_ne!(
-        need,
-        spanfit::demo::NEED_TOML,
-        "the demo need changed shape"
-    );
-    let clock = || 0.0;
-    let mut progress = |_p: Progress| true;
-    let mut control = SolveControl {
-        progress: &mut progress,
-        now_ms: &clock,
-    };
-    let bundle =
-        spanfit::api::solve_bundle(need.as_bytes(), "tight.toml", &[], false, &mut control)
-            .unwrap_or_else(|e| panic!("the need does not read: {e}"));
-    let bundle = serde_json::to_value(bundle).expect("a bundle serialises");
-    let report = &bundle["report"];
+    let report = &solve_report(&demo_need_with(0.001, 1), "tight.toml");
     // Not proven (the space is too large to finish), so `unfinished`; the
     // explanation is there all the same.
     assert!(report["infeasible"].is_object(), "{}", report["reason"]);

@@ -25,8 +25,6 @@
 // Tests run ngspice: they write decks to files and start a process.
 #![allow(clippy::disallowed_methods, clippy::disallowed_types)]
 
-// Only `ngspice()` of the shared runner is used here.
-#[allow(dead_code)]
 mod common;
 
 use common::ngspice::ngspice;

@@ -3,35 +3,9 @@
 //! the report echoes gives a need that a solve meets (docs/report.md,
 //! `infeasible`).
 
+mod common;
+use common::solve::{demo_need_with, solve_report};
 use serde_json::Value;
-use spanfit::api::{solve_bundle, Progress, SolveControl};
-
-/// Solve need text with a clock that never moves (no time limit binds, so
-/// the outcome does not depend on the machine's speed).
-fn solve(need: &str) -> Value {
-    let clock = || 0.0;
-    let mut progress = |_p: Progress| true;
-    let mut control = SolveControl {
-        progress: &mut progress,
-        now_ms: &clock,
-    };
-    let bundle = solve_bundle(need.as_bytes(), "need", &[], false, &mut control)
-        .unwrap_or_else(|e| panic!("the need does not read: {e}"));
-    serde_json::to_value(bundle).expect("a bundle serialises")["report"].clone()
-}
-
-/// The demo need at a target its one-stage designs miss.
-fn tight_need() -> String {
-    let need = spanfit::demo::NEED_TOML
-        .replace("max_error_pct_fs = 0.5", "max_error_pct_fs = 0.3")
-        .replace("max_stages = 3", "max_stages = 1");
-    assert_ne!(
-        need,
-        spanfit::demo::NEED_TOML,
-        "the demo need changed shape"
-    );
-    need
-}
 
 /// The need as the report echoes it (`need.sensor` ... `need.stock`), a
 /// JSON need file.
@@ -45,7 +19,8 @@ fn echoed_need(report: &Value) -> Value {
 
 #[test]
 fn the_best_attempt_is_a_design_and_each_suggestion_applies_as_need_keys() {
-    let report = solve(&tight_need());
+    // The demo need at a target its one-stage designs miss.
+    let report = solve_report(&demo_need_with(0.3, 1), "need");
     assert_ne!(
         report["status"], "ok",
         "the tight need was met: {}",
@@ -92,7 +67,7 @@ fn the_best_attempt_is_a_design_and_each_suggestion_applies_as_need_keys() {
             assert_ne!(need[table][name], change["value"], "{key} does not change");
             need[table][name] = change["value"].clone();
         }
-        let again = solve(&need.to_string());
+        let again = solve_report(&need.to_string(), "need");
         assert_eq!(
             again["status"], "ok",
             "`{}` applied as {} does not give a feasible need: {}",

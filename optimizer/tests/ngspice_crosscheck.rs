@@ -26,7 +26,7 @@
 #![allow(clippy::print_stdout)]
 
 mod common;
-use common::ngspice::run_ngspice;
+use common::ngspice::{run_ngspice, set_dc};
 use spanfit::analysis::analyze;
 use spanfit::mna::Solver;
 use spanfit::netlist::ElementKind;
@@ -51,30 +51,6 @@ const SHIFT_FLOOR_V: f64 = 1e-7;
 /// Relative mismatch of `a` against `b`, with the absolute floor.
 fn mismatch(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs().max(a.abs()).max(ABS_FLOOR_V / REL_TOL)
-}
-
-/// The deck with the DC value of the one element `name` set to `value`;
-/// fails unless exactly one such element line exists (the naming contract).
-fn set_dc(deck: &str, name: &str, value: f64) -> String {
-    let prefix = format!("{name} ");
-    let mut found = 0;
-    let lines: Vec<String> = deck
-        .lines()
-        .map(|l| {
-            if l.starts_with(&prefix) && l.contains(" DC ") {
-                found += 1;
-                let head = &l[..l.rfind(" DC ").unwrap_or(l.len())];
-                format!("{head} DC {value:e}")
-            } else {
-                l.to_string()
-            }
-        })
-        .collect();
-    assert_eq!(
-        found, 1,
-        "expected one element line `{name} ... DC <v>` in the deck:\n{deck}"
-    );
-    lines.join("\n") + "\n"
 }
 
 /// Output of the core netlist at both span ends with element `name` (a

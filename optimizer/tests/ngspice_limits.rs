@@ -37,19 +37,15 @@
     clippy::print_stdout
 )]
 
-// Only the ngspice lookup of the shared helpers is used here.
-#[allow(dead_code)]
 mod common;
 
-use common::ngspice::ngspice;
+use common::ngspice::{printed, run_deck, set_dc};
 use serde_json::Value;
 use spanfit::api::{artifacts_for, solve_bundle, Progress, SolveControl};
 use spanfit::mna::Solver;
 use spanfit::netlist::ElementKind;
 use spanfit::stock::{parse_stock, Stock, StockFile};
 use std::path::{Path, PathBuf};
-use std::process::Command;
-use std::sync::atomic::{AtomicUsize, Ordering};
 
 /// Slack on the comparisons, volts (ngspice's own rounding; far below an
 /// LSB of any ADC here).
@@ -218,30 +214,6 @@ struct Checked {
     high: f64,
 }
 
-/// The deck with the DC value of element `name` set to `value`; fails
-/// unless exactly one such element line exists (the naming contract).
-fn set_dc(deck: &str, name: &str, value: f64) -> String {
-    let prefix = format!("{name} ");
-    let mut found = 0;
-    let lines: Vec<String> = deck
-        .lines()
-        .map(|l| {
-            if l.starts_with(&prefix) && l.contains(" DC ") {
-                found += 1;
-                let head = &l[..l.rfind(" DC ").unwrap_or(l.len())];
-                format!("{head} DC {value:e}")
-            } else {
-                l.to_string()
-            }
-        })
-        .collect();
-    assert_eq!(
-        found, 1,
-        "expected one line `{name} ... DC <v>` in:\n{deck}"
-    );
-    lines.join("\n") + "\n"
-}
-
 /// The deck with its `.control` block replaced by one that solves both
 /// span ends and prints every checked node as `lim_<end>_<i> = <v>`.
 fn with_probes(deck: &str, span: [f64; 2], nodes: &[Checked]) -> String {
@@ -263,49 +235,11 @@ fn with_probes(deck: &str, span: [f64; 2], nodes: &[Checked]) -> String {
     s
 }
 
-static RUN: AtomicUsize = AtomicUsize::new(0);
-
 /// ngspice on a deck; the printed `lim_<end>_<i>` values.
 fn run(deck: &str, tag: &str, count: usize) -> Vec<[f64; 2]> {
-    let n = RUN.fetch_add(1, Ordering::SeqCst);
-    let dir = std::env::temp_dir().join(format!("spanfit-limits-{}-{n}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap_or_else(|e| panic!("{}: {e}", dir.display()));
-    let path = dir.join("deck.cir");
-    std::fs::write(&path, deck).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
-    let out = Command::new(ngspice())
-        .arg("-b")
-        .arg(&path)
-        .current_dir(&dir)
-        .output()
-        .unwrap_or_else(|e| panic!("cannot run ngspice: {e}"));
-    if std::env::var_os("SPANFIT_KEEP_DECKS").is_none() {
-        let _ = std::fs::remove_dir_all(&dir);
-    }
-    let stdout = String::from_utf8_lossy(&out.stdout).to_string();
-    let stderr = String::from_utf8_lossy(&out.stderr).to_string();
-    assert!(
-        out.status.success(),
-        "ngspice failed on {tag}:\n{stdout}\n{stderr}\n{deck}"
-    );
-    for bad in ["singular matrix", "Error", "error:"] {
-        assert!(
-            !stdout.contains(bad) && !stderr.contains(bad),
-            "ngspice reported `{bad}` on {tag}:\n{stdout}\n{stderr}\n{deck}"
-        );
-    }
+    let stdout = run_deck(deck, tag);
     (0..count)
-        .map(|i| {
-            [0, 1].map(|end| {
-                let prefix = format!("lim_{end}_{i} = ");
-                let values: Vec<f64> = stdout
-                    .lines()
-                    .filter_map(|l| l.trim().strip_prefix(&prefix))
-                    .filter_map(|v| v.trim().parse().ok())
-                    .collect();
-                assert_eq!(values.len(), 1, "{tag}: `{prefix}` in:\n{stdout}");
-                values[0]
-            })
-        })
+        .map(|i| [0, 1].map(|end| printed(&stdout, tag, &format!("lim_{end}_{i}"))))
         .collect()
 }
 

@@ -4,16 +4,20 @@
 //! disagreed, and the honesty of the optimised mode's claims on a space
 //! too large for it to finish (the demo).
 
+mod common;
+use common::solve::with_still_clock;
 use spanfit::need::Need;
 use spanfit::search::{solve, Progress, SearchMode, SolveControl, SolveOutcome};
 use spanfit::stock::{parse_stock, Stock, StockFile};
 
-fn small_stock() -> Stock {
+/// The small invented stock's files, with an invented capacitor family
+/// or without one.
+fn small_files(caps: bool) -> Vec<StockFile> {
     let f = |name: &str, text: &str| StockFile {
         name: name.into(),
         bytes: text.as_bytes().to_vec(),
     };
-    parse_stock(&[
+    let mut files = vec![
         f(
             "resistors.csv",
             "part_id,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
@@ -29,31 +33,42 @@ fn small_stock() -> Stock {
             "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty\n\
              Y-REF,2.5,0.1,20,0.2,10,0.30,\n",
         ),
-    ])
-    .expect("the invented stock parses")
+    ];
+    if caps {
+        files.push(f(
+            "capacitors.csv",
+            "part_id,value_farads,series,min_farads,max_farads,tolerance_pct,tempco_ppm_per_c,dielectric,rated_v,package,unit_cost,stock_qty\n\
+             Y-C,,E6,1e-9,1e-6,10,1500,X7R,25,0603,0.004,\n",
+        ));
+    }
+    files
+}
+
+fn small_stock() -> Stock {
+    parse_stock(&small_files(false)).expect("the invented stock parses")
 }
 
 /// A single-ended invented need over 0.1..0.3 V into 0..3 V (a negative
-/// ideal offset), one stage, at most `max_parts` parts.
-fn need(err: f64, calibration: &str, max_parts: usize) -> Need {
-    let text = format!(
+/// ideal offset), one stage, at most `max_parts` parts, `line` per BOM
+/// line, as need text.
+fn need_text(err: f64, calibration: &str, max_parts: usize, line: f64) -> String {
+    format!(
         "[sensor]\nsignal_low_v = 0.1\nsignal_high_v = 0.3\noutput = \"single-ended\"\nsource_ohms = 10.0\n\
          [adc]\nlow_v = 0.0\nhigh_v = 3.0\nbits = 12\nmargin_pct = 0.0\n\
          [supply]\npositive_v = 5.0\nnegative_v = 0.0\n\
          [accuracy]\nmax_error_pct_fs = {err}\ncalibration = \"{calibration}\"\ntemp_min_c = 0.0\ntemp_max_c = 50.0\n\
-         [search]\nmax_stages = 1\nmax_parts = {max_parts}\nbom_line_cost = 0.0\ntime_limit_ms = 600000\n"
-    );
+         [search]\nmax_stages = 1\nmax_parts = {max_parts}\nbom_line_cost = {line}\ntime_limit_ms = 600000\n"
+    )
+}
+
+/// The need of [`need_text`] without a BOM-line fee.
+fn need(err: f64, calibration: &str, max_parts: usize) -> Need {
+    let text = need_text(err, calibration, max_parts, 0.0);
     spanfit::need::parse_need(text.as_bytes(), "case.toml").expect("the need parses")
 }
 
 fn run(need: &Need, stock: &Stock, mode: SearchMode) -> SolveOutcome {
-    let clock = || 0.0;
-    let mut progress = |_p: Progress| true;
-    let mut control = SolveControl {
-        progress: &mut progress,
-        now_ms: &clock,
-    };
-    solve(need, stock, mode, &mut control).expect("the search runs")
+    with_still_clock(|control| solve(need, stock, mode, control)).expect("the search runs")
 }
 
 /// The case the property test first found: a two-point trim, where the
@@ -164,59 +179,17 @@ fn the_best_error_of_a_walked_space_is_its_least() {
 /// (its cost is the cost the search ranked).
 #[test]
 fn the_filter_pair_is_inside_the_proof() {
-    let files = |caps: bool| {
-        let mut out: Vec<StockFile> = [
-            (
-                "resistors.csv",
-                "part_id,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
-                 Y-E6,E6,1000,6900,1.0,100,0603,0.003,\n",
-            ),
-            (
-                "opamps.csv",
-                "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
-                 Y-OA1,1,2.7,12,0,0,0.02,0.02,300,2,0.1,0.1,110,2,20,0.1,100,0.40,\n",
-            ),
-            (
-                "references.csv",
-                "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,noise_uv_pp,unit_cost,stock_qty\n\
-                 Y-REF,2.5,0.1,20,0.2,10,0.30,\n",
-            ),
-        ]
-        .iter()
-        .map(|(name, text)| StockFile {
-            name: (*name).into(),
-            bytes: text.as_bytes().to_vec(),
-        })
-        .collect();
-        if caps {
-            out.push(StockFile {
-                name: "capacitors.csv".into(),
-                bytes: b"part_id,value_farads,series,min_farads,max_farads,tolerance_pct,tempco_ppm_per_c,dielectric,rated_v,package,unit_cost,stock_qty\n\
-                         Y-C,,E6,1e-9,1e-6,10,1500,X7R,25,0603,0.004,\n"
-                    .to_vec(),
-            });
-        }
-        out
-    };
-    let need = "[sensor]\nsignal_low_v = 0.1\nsignal_high_v = 0.3\noutput = \"single-ended\"\nsource_ohms = 10.0\n\
-                [adc]\nlow_v = 0.0\nhigh_v = 3.0\nbits = 12\nmargin_pct = 0.0\n\
-                [supply]\npositive_v = 5.0\nnegative_v = 0.0\n\
-                [accuracy]\nmax_error_pct_fs = 0.5\ncalibration = \"two-point\"\ntemp_min_c = 0.0\ntemp_max_c = 50.0\n\
-                [search]\nmax_stages = 1\nmax_parts = 4\nbom_line_cost = 0.05\ntime_limit_ms = 600000\n";
+    let need = need_text(0.5, "two-point", 4, 0.05);
     let solve = |caps: bool, exhaustive: bool| {
-        let clock = || 0.0;
-        let mut progress = |_p: Progress| true;
-        let mut control = SolveControl {
-            progress: &mut progress,
-            now_ms: &clock,
-        };
-        spanfit::api::solve_bundle(
-            need.as_bytes(),
-            "case.toml",
-            &files(caps),
-            exhaustive,
-            &mut control,
-        )
+        with_still_clock(|control| {
+            spanfit::api::solve_bundle(
+                need.as_bytes(),
+                "case.toml",
+                &small_files(caps),
+                exhaustive,
+                control,
+            )
+        })
         .expect("the search runs")
         .report
     };

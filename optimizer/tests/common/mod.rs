@@ -1,3 +1,7 @@
 //! Helpers shared by the integration tests.
 
+// Each test that includes these helpers uses only some of them.
+#![allow(dead_code)]
+
 pub mod ngspice;
+pub mod solve;
