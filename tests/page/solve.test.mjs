@@ -200,10 +200,35 @@ test('a need the search finds no design for shows why, what to relax, and claims
     assert.equal(banner.startsWith('Not finished: no design found yet, and none shown impossible. '), true, banner);
     assert.equal(banner.includes(report.reason.slice(0, 80)), true, `${banner}\nagainst\n${report.reason}`);
     assert.doesNotMatch(banner, /\b(adc|sensor|supply|accuracy|search)\.[a-z_]+_[a-z_]+/);
+    // No advice for the command line: the page offers its own search of
+    // every design instead, which Stop ends.
+    assert.doesNotMatch(banner, /--|exhaustive/);
+    assert.equal(await page.isVisible('[data-testid=every-offer]'), true);
+    assert.match(await page.textContent('[data-testid=every-offer]'), /every design/);
     const tips = await page.$$eval('[data-testid=suggestions] li .change', (li) => li.map((x) => x.textContent));
     assert.equal(tips.length, (report.infeasible.suggestions || []).length);
     for (const tip of tips) assert.equal(tip.length > 5, true, tip);
     await shot(page, 'solve-infeasible');
+    await page.click('[data-testid=solve-every]');
+    await page.waitForFunction(() => window.spanfitPage.state.solving
+      && document.querySelector('[data-testid=progress-text]').textContent !== 'searching…');
+    assert.equal(await page.isEnabled('[data-testid=cancel]'), true);
+    await page.click('[data-testid=cancel]');
+    // The walk of this space ends at the stop with its report, or (when it
+    // does not reach a point where it can stop within seconds) the solver
+    // is restarted; either way the page says so and offers the walk again.
+    await page.waitForFunction(() => !window.spanfitPage.state.solving
+      && document.querySelector('[data-testid=run-status]').dataset.cancelled === 'yes', null, { timeout: 20000 });
+    const walked = await page.evaluate(() => window.spanfitPage.state.result.bundle.report);
+    if (walked.search.mode === 'exhaustive') {
+      assert.equal(walked.status, 'unfinished', 'a stopped walk of this space proves nothing');
+      assert.match(await page.textContent('[data-testid=result-banner]'), /^Stopped before any design was found/);
+    } else {
+      assert.match(await page.textContent('[data-testid=run-status]'), /^Stopped\. The search did not reach a point where it could stop/);
+      await page.waitForFunction(() => document.querySelector('[data-testid=engine-state]').dataset.state === 'ready');
+    }
+    assert.equal(await page.isVisible('[data-testid=every-offer]'), true, 'offered again after a stop');
+    assert.equal(await page.isEnabled('[data-testid=solve-every]'), true);
     assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
   });
 });

@@ -238,9 +238,29 @@ pub fn solve_value(
     progress: &mut dyn FnMut(Progress) -> bool,
     now_ms: &dyn Fn() -> f64,
 ) -> Result<spanfit::report::Bundle, Error> {
+    solve_mode_value(need_text, need_name, stock_json, false, progress, now_ms)
+}
+
+/// As [`solve_value`], with the search mode chosen: `exhaustive` walks
+/// every design of the space (no time limit of its own; only a stop ends
+/// it early), as the command line's `--exhaustive` does.
+pub fn solve_mode_value(
+    need_text: &str,
+    need_name: &str,
+    stock_json: &str,
+    exhaustive: bool,
+    progress: &mut dyn FnMut(Progress) -> bool,
+    now_ms: &dyn Fn() -> f64,
+) -> Result<spanfit::report::Bundle, Error> {
     let files = stock_files_from_json(stock_json)?;
     let mut control = SolveControl { progress, now_ms };
-    spanfit::api::solve_bundle(need_text.as_bytes(), need_name, &files, false, &mut control)
+    spanfit::api::solve_bundle(
+        need_text.as_bytes(),
+        need_name,
+        &files,
+        exhaustive,
+        &mut control,
+    )
 }
 
 /// Analyse a design the user already has (a design file, or a design
@@ -396,6 +416,29 @@ pub fn solve(
     stock_json: &str,
     progress_callback: &js_sys::Function,
 ) -> String {
+    solve_in_mode(need_text, need_name, stock_json, false, progress_callback)
+}
+
+/// Solve a need by walking every design of the space (the exhaustive
+/// search); arguments and answer as [`solve()`]. It has no time limit of
+/// its own: only `false` from the callback (a stop) ends it early.
+#[wasm_bindgen]
+pub fn solve_exhaustive(
+    need_text: &str,
+    need_name: &str,
+    stock_json: &str,
+    progress_callback: &js_sys::Function,
+) -> String {
+    solve_in_mode(need_text, need_name, stock_json, true, progress_callback)
+}
+
+fn solve_in_mode(
+    need_text: &str,
+    need_name: &str,
+    stock_json: &str,
+    exhaustive: bool,
+    progress_callback: &js_sys::Function,
+) -> String {
     let mut progress = |p: Progress| -> bool {
         let best = p.best_cost.map_or(JsValue::NULL, JsValue::from_f64);
         match progress_callback.call3(
@@ -409,7 +452,16 @@ pub fn solve(
         }
     };
     let now_ms = js_sys::Date::now;
-    guarded(|| solve_value(need_text, need_name, stock_json, &mut progress, &now_ms))
+    guarded(|| {
+        solve_mode_value(
+            need_text,
+            need_name,
+            stock_json,
+            exhaustive,
+            &mut progress,
+            &now_ms,
+        )
+    })
 }
 
 /// Analyse a given design against a need and stock; see
