@@ -382,8 +382,10 @@ test('axe-core finds no violations: on load, solved, stale during an edit, inval
     assert.deepEqual(await axeViolations(page), [], 'after a solve');
     // Stale during an edit: the edit's search is held in the worker, so
     // the dimmed, out-of-date answer is what axe sees.
-    await page.fill('#f-adc-high_v', '2.9');
-    await page.waitForFunction(() => window.spanfitPage.state.need.adc.high_v === 2.9 && window.spanfitPage.state.needValid);
+    // (A new sensor name: the same design, surely found, but new inputs.)
+    await page.fill('#f-sensor-label', 'bench under edit');
+    await page.waitForFunction(() => window.spanfitPage.state.need.sensor.label === 'bench under edit' && window.spanfitPage.state.needValid
+      && window.spanfitPage.state.checkedNeed === JSON.stringify(window.spanfitPage.state.need));
     await page.evaluate(() => { window.__held = window.spanfitPage.solve({ debugPauseMs: 6000 }); });
     await page.waitForFunction(() => document.querySelector('#result').dataset.stale === 'yes' && window.spanfitPage.state.solving);
     assert.equal(await page.isDisabled('#dl-bom'), true);
@@ -392,7 +394,8 @@ test('axe-core finds no violations: on load, solved, stale during an edit, inval
     await waitCurrent(page);
     // Pinned against the current design.
     await page.click('[data-testid=pin]');
-    await page.fill('#f-adc-high_v', '3');
+    await page.fill('#f-sensor-label', 'bench compared');
+    await page.waitForFunction(() => window.spanfitPage.state.need.sensor.label === 'bench compared');
     await waitCurrent(page);
     await page.waitForSelector('[data-testid=compare]:not([hidden])');
     assert.deepEqual(await axeViolations(page), [], 'compare');
@@ -658,7 +661,7 @@ test('every budget line the core can report explains itself on the page: what it
     const all = await shown();
     lines.forEach(({ line, systematic }, i) => {
       const note = all[i];
-      assert.match(note, /^line \d+: .{10,}; .*[×=−/].* \((fixed|random); parts: .{4,}\)\.$/, `${line}: ${note}`);
+      assert.match(note, /^line \d+: .{10,}; .{10,} \((fixed|random); parts: .{4,}\)\.$/, `${line}: ${note}`);
       assert.equal(note.includes(systematic ? '(fixed;' : '(random;'), true, `${line}: ${note}`);
     });
   });
@@ -723,7 +726,10 @@ test('keyboard, theme and touch: skip link, Enter solves at once, focus to the a
     assert.deepEqual(small, [], 'controls smaller than 24 px');
     // The dark theme follows the system setting.
     const luminance = () => page.evaluate(() => {
-      const [r, g, b] = getComputedStyle(document.body).backgroundColor.match(/\d+(\.\d+)?/g).map(Number);
+      // The page's background: the body's, or the root's where the body has none.
+      const paint = (n) => getComputedStyle(n).backgroundColor.match(/\d+(\.\d+)?/g).map(Number);
+      const body = paint(document.body);
+      const [r, g, b] = body.length === 4 && body[3] === 0 ? paint(document.documentElement) : body;
       return (0.2126 * r + 0.7152 * g + 0.0722 * b) / 255;
     });
     assert.equal(await luminance() > 0.6, true, 'light by default');
@@ -733,4 +739,38 @@ test('keyboard, theme and touch: skip link, Enter solves at once, focus to the a
     await shot(page, 'bench-dark');
     assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
   });
+});
+
+test('chart labels never overlap each other or cross the target line, at a wide and a phone width', async () => {
+  for (const viewport of [{ width: 1440, height: 900 }, { width: 360, height: 740 }]) {
+    await withPage(async ({ page }) => {
+      await waitCurrent(page);
+      await page.waitForSelector('[data-testid=sweep-chart] svg');
+      await page.waitForSelector('#bode-box:not([hidden]) svg');
+      const clashes = await page.evaluate(() => {
+        const out = [];
+        const hit = (a, b) => a.left < b.right - 1 && b.left < a.right - 1 && a.top < b.bottom - 1 && b.top < a.bottom - 1;
+        for (const chart of document.querySelectorAll('#result svg.chart')) {
+          const name = chart.closest('[data-testid]').dataset.testid;
+          const texts = [...chart.querySelectorAll('text')].filter((t) => t.textContent.trim()).map((t) => ({ t: t.textContent, r: t.getBoundingClientRect() }));
+          for (let i = 0; i < texts.length; i += 1) {
+            for (let j = i + 1; j < texts.length; j += 1) {
+              if (hit(texts[i].r, texts[j].r)) out.push(`${name}: "${texts[i].t}" over "${texts[j].t}"`);
+            }
+          }
+          // A target line passes no label but its own.
+          for (const line of chart.querySelectorAll('line.target')) {
+            const r = line.getBoundingClientRect();
+            const band = { left: r.left - 1, right: r.right + 1, top: r.top, bottom: r.bottom };
+            for (const { t, r: tr } of texts) {
+              if (/target/.test(t)) continue;
+              if (hit(band, tr)) out.push(`${name}: the target line crosses "${t}"`);
+            }
+          }
+        }
+        return out;
+      });
+      assert.deepEqual(clashes, [], `at ${viewport.width} px`);
+    }, viewport);
+  }
 });

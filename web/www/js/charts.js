@@ -115,10 +115,24 @@ export function renderBudget(design, need) {
     ].filter(Boolean).join(', ');
     bar.append(svg('title', {}, `${r.label}: ${fmt(r.value, 4)} % FS${extra ? `, ${extra}` : ''}`));
     chart.append(bar);
-    chart.append(svg('text', { x: x(r.value) + 5, y: y + barTop + barH - 3, class: 'value' }, `${r.value < 0 ? '−' : ''}${fmt(Math.abs(r.value), 3)}`));
+    // The value beside its bar, moved past the target line where it would cross it.
+    const value = `${r.value < 0 ? '−' : ''}${fmt(Math.abs(r.value), 3)}`;
+    let vx = x(r.value) + 5;
+    const guess = value.length * 7.5;
+    if (target !== null && vx < x(target) + 3 && vx + guess > x(target) - 3) vx = x(target) + 5;
+    chart.append(svg('text', { x: vx, y: y + barTop + barH - 3, class: 'value' }, value));
   });
-  if (target !== null) {
+  if (target !== null && !narrow) {
     chart.append(svg('line', { x1: x(target), x2: x(target), y1: top - 8, y2: H - 34, class: 'target', 'data-target': target }));
+  } else if (target !== null) {
+    // Narrow: each label has a line of its own above its bar, so the
+    // target is drawn through the bars' bands only, never through a label.
+    rows.forEach((r, i) => {
+      const y = top + i * rowH;
+      chart.append(svg('line', { x1: x(target), x2: x(target), y1: y + barTop - 3, y2: y + barTop + barH + 3, class: 'target', 'data-target': target }));
+    });
+  }
+  if (target !== null) {
     const anchor = x(target) > W - 90 ? 'end' : (x(target) < left + 60 ? 'start' : 'middle');
     chart.append(svg('text', { x: x(target), y: top - 14, class: 'target-label', 'text-anchor': anchor }, `target ${fmt(target, 3)} % FS`));
   }
@@ -300,7 +314,7 @@ export function renderSweep(sweep) {
   const chart = svg('svg', { viewBox: `0 0 ${W} ${H}`, width: W, height: H, class: 'chart', role: 'img', 'aria-label': 'error against temperature, worst case and RSS, with the target' });
   for (const tick of niceTicks(tLo, tHi, W < 480 ? 4 : 6)) {
     chart.append(svg('line', { x1: x(tick), x2: x(tick), y1: T, y2: H - B, class: 'grid' }));
-    chart.append(svg('text', { x: x(tick), y: H - B + 16, class: 'tick', 'text-anchor': 'middle' }, fmt(tick, 3)));
+    chart.append(svg('text', { x: x(tick), y: H - B + 19, class: 'tick', 'text-anchor': 'middle' }, fmt(tick, 3)));
   }
   for (const tick of niceTicks(0, eHi, 4)) {
     chart.append(svg('line', { x1: L, x2: W - R, y1: y(tick), y2: y(tick), class: 'grid' }));
