@@ -33,6 +33,24 @@ async function waitCurrent(page, timeout = 20000) {
   await page.waitForFunction(() => document.querySelector('[data-testid=freshness]').dataset.fresh === 'current', null, { timeout });
 }
 
+/**
+ * Wait until the answer is current and holds a design with its sweep. The
+ * demo's search has a 2 s time limit; on a machine under heavy load it can
+ * run out before the first design, so the search is run again (said on the
+ * test log) up to twice.
+ */
+async function waitDesign(page) {
+  for (let attempt = 0; ; attempt += 1) {
+    await waitCurrent(page, 30000);
+    const status = await page.evaluate(() => window.spanfitPage.state.result.bundle.report.status);
+    if (status === 'ok') break;
+    assert.equal(attempt < 2, true, `the demo solved as ${status} ${attempt + 1} times`);
+    console.log(`the demo solved as ${status} (machine under load?); solving again`);
+    await page.evaluate(() => window.spanfitPage.solve());
+  }
+  await page.waitForSelector('[data-testid=sweep-chart] svg', { timeout: 30000 });
+}
+
 async function worstRaw(page) {
   return Number(await page.getAttribute('[data-figure="worst"]', 'data-raw'));
 }
@@ -70,8 +88,7 @@ test('on a wide screen the solved demo is in the first view without a click; on 
   // screen at 360 px and at 390 x 844.
   for (const viewport of [{ width: 360, height: 740 }, { width: 390, height: 844 }]) {
     await withPage(async ({ page, problems }) => {
-      await waitCurrent(page);
-      await page.waitForSelector('[data-testid=sweep-chart] svg');
+      await waitDesign(page);
       const fits = () => page.evaluate(() => ({
         doc: document.documentElement.scrollWidth,
         body: document.body.scrollWidth,
@@ -182,8 +199,7 @@ test('SI input: "25 mV" and "25m" give the design of 0.025, solved again, and sa
 test('charts and schematic keep text at 11 px or more; the schematic zooms and opens full size; costs take a currency', async () => {
   for (const viewport of [{ width: 1440, height: 900 }, { width: 390, height: 844 }]) {
     await withPage(async ({ page }) => {
-      await waitCurrent(page);
-      await page.waitForSelector('[data-testid=sweep-chart] svg');
+      await waitDesign(page);
       await page.waitForTimeout(400);
       const smallest = await page.evaluate(() => {
         let min = Infinity;
@@ -231,8 +247,7 @@ test('charts and schematic keep text at 11 px or more; the schematic zooms and o
 
 test('the sweep is the core analysis over temperature; the yield histogram marks the target and says what it counts', async () => {
   await withPage(async ({ page }) => {
-    await waitCurrent(page);
-    await page.waitForSelector('[data-testid=sweep-chart] svg');
+    await waitDesign(page);
     const temps = await page.$$eval('[data-testid=sweep-chart] circle.sweep-worst-dot', (c) => c.map((x) => Number(x.dataset.temp)));
     const need = await page.evaluate(() => window.spanfitPage.state.need.accuracy);
     assert.equal(temps[0], need.temp_min_c);
@@ -328,8 +343,7 @@ const A4_CONTENT = { width: Math.floor(((210 - 24) / 25.4) * 96), height: Math.f
 
 test('printing gives at most two pages holding the need, the schematic, the budget, the BOM and the cautions', async () => {
   await withPage(async ({ page }) => {
-    await waitCurrent(page);
-    await page.waitForSelector('[data-testid=sweep-chart] svg');
+    await waitDesign(page);
     const pdf = await page.pdf({ format: 'A4', printBackground: false });
     const text = pdf.toString('latin1');
     const pages = (text.match(/\/Type\s*\/Page[^s]/g) || []).length;
@@ -386,12 +400,16 @@ test('axe-core finds no violations: on load, solved, stale during an edit, inval
     await page.fill('#f-sensor-label', 'bench under edit');
     await page.waitForFunction(() => window.spanfitPage.state.need.sensor.label === 'bench under edit' && window.spanfitPage.state.needValid
       && window.spanfitPage.state.checkedNeed === JSON.stringify(window.spanfitPage.state.need));
-    await page.evaluate(() => { window.__held = window.spanfitPage.solve({ debugPauseMs: 6000 }); });
+    // (Held once a design is found: the hold counts against the search's
+    // time limit, so a hold before the first design would leave none.)
+    await page.evaluate(() => { window.__held = window.spanfitPage.solve({ debugPauseMs: 5000, debugPauseOnBest: true }); });
     await page.waitForFunction(() => document.querySelector('#result').dataset.stale === 'yes' && window.spanfitPage.state.solving);
     assert.equal(await page.isDisabled('#dl-bom'), true);
     assert.deepEqual(await axeViolations(page), [], 'stale during an edit');
     await page.evaluate(() => window.__held);
+    await page.evaluate(() => window.spanfitPage.solve());
     await waitCurrent(page);
+    assert.equal(await page.evaluate(() => window.spanfitPage.state.result.bundle.report.status), 'ok');
     // Pinned against the current design.
     await page.click('[data-testid=pin]');
     await page.fill('#f-sensor-label', 'bench compared');
@@ -744,8 +762,7 @@ test('keyboard, theme and touch: skip link, Enter solves at once, focus to the a
 test('chart labels never overlap each other or cross the target line, at a wide and a phone width', async () => {
   for (const viewport of [{ width: 1440, height: 900 }, { width: 360, height: 740 }]) {
     await withPage(async ({ page }) => {
-      await waitCurrent(page);
-      await page.waitForSelector('[data-testid=sweep-chart] svg');
+      await waitDesign(page);
       await page.waitForSelector('#bode-box:not([hidden]) svg');
       const clashes = await page.evaluate(() => {
         const out = [];
@@ -773,4 +790,50 @@ test('chart labels never overlap each other or cross the target line, at a wide 
       assert.deepEqual(clashes, [], `at ${viewport.width} px`);
     }, viewport);
   }
+});
+
+test('every example of the gallery loads its need and shelf and is solved to a design that meets it', async () => {
+  await withPage(async ({ page, problems }) => {
+    await waitCurrent(page);
+    const examples = await page.evaluate(() => window.spanfitPage.call('gallery_examples').then((t) => JSON.parse(t)));
+    assert.equal(examples.length >= 6, true);
+    const outcomes = [];
+    for (const example of examples) {
+      await page.click('#gallery-open');
+      await page.waitForSelector('#gallery[open] #gallery-list li');
+      await page.evaluate(() => { window.__before = window.spanfitPage.state.result; });
+      await page.click(`button[data-example="${example.id}"]`);
+      await page.waitForFunction(() => {
+        const { result, need } = window.spanfitPage.state;
+        return result && result !== window.__before && document.querySelector('[data-testid=freshness]').dataset.fresh === 'current'
+          && JSON.stringify(result.need) === JSON.stringify(need);
+      }, null, { timeout: 30000 });
+      const report = await page.evaluate(() => window.spanfitPage.state.result.bundle.report);
+      outcomes.push(`${example.id}: ${report.status}${report.status === 'ok' ? ` ${report.design.error.basis_pct_fs.toPrecision(3)} of ${report.need.accuracy ? report.need.accuracy.max_error_pct_fs : '?'} % FS` : ` (${report.reason})`}`);
+      assert.equal(report.status, 'ok', `${example.id}: ${report.reason}`);
+      assert.equal(report.design.error.meets_target, true, example.id);
+    }
+    console.log(outcomes.join('\n'));
+    assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
+  });
+});
+
+test('typing while searches run keeps the main thread free: no task over 200 ms, the searches stay in the worker', async () => {
+  await withPage(async ({ page }) => {
+    await waitCurrent(page);
+    await page.evaluate(() => {
+      window.__long = [];
+      new PerformanceObserver((list) => { for (const e of list.getEntries()) window.__long.push(Math.round(e.duration)); }).observe({ type: 'longtask' });
+    });
+    // Keys 120 ms apart: each pause after a valid value starts a search,
+    // which the next keys replace; the last one lands and is drawn.
+    await page.fill('#f-sensor-signal_high_v', '');
+    await page.type('#f-sensor-signal_high_v', '0.0275', { delay: 120 });
+    await page.waitForFunction(() => window.spanfitPage.state.result.need.sensor.signal_high_v === 0.0275
+      && document.querySelector('[data-testid=freshness]').dataset.fresh === 'current', null, { timeout: 20000 });
+    await page.waitForSelector('[data-testid=sweep-chart] svg');
+    const long = await page.evaluate(() => window.__long);
+    console.log(`main-thread tasks over 50 ms while typing and redrawing: ${long.length ? long.join(', ') : 'none'} ms`);
+    assert.equal(Math.max(0, ...long) < 200, true, `longest main-thread task ${Math.max(...long)} ms`);
+  });
 });
