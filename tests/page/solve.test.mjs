@@ -152,11 +152,15 @@ test('changing the ADC window and solving again changes the result to fit', asyn
 
 test('clicking a point of the trade-off plot shows that design', async () => {
   await withPage(async ({ page, problems }) => {
-    // A looser target gives a front of several designs.
+    // A looser target gives a front of several designs (with time for the
+    // search to reach them on a busy machine: the wasm search is slower
+    // than the native one, and the demo's limit is 2 s).
+    await page.fill('#f-search-time_limit_ms', '20000');
     await page.fill('#f-accuracy-max_error_pct_fs', '2');
     await page.waitForFunction(() => {
       const s = window.spanfitPage.state;
-      return s.needValid && s.need.accuracy.max_error_pct_fs === 2 && s.checkedNeed === JSON.stringify(s.need);
+      return s.needValid && s.need.accuracy.max_error_pct_fs === 2 && s.need.search.time_limit_ms === 20000
+        && s.checkedNeed === JSON.stringify(s.need);
     });
     await solveAndWait(page);
     const report = await page.evaluate(() => window.spanfitPage.state.result.bundle.report);
