@@ -66,7 +66,7 @@ async function axeViolations(page) {
 
 test('on a wide screen the solved demo is in the first view without a click; on phones nothing overflows', async () => {
   await withPage(async ({ page, problems }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     const box = await page.locator('[data-figure="worst"]').boundingBox();
     assert.ok(box, 'the worst-case figure is shown');
     assert.equal(box.y + box.height <= 900 && box.x + box.width <= 1440, true, `worst-case figure at ${JSON.stringify(box)}`);
@@ -118,7 +118,7 @@ test('on a wide screen the solved demo is in the first view without a click; on 
 
 test('an edit re-solves by itself; meanwhile the answer is marked out of date and its downloads are off', async () => {
   await withPage(async ({ page, problems }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     const before = await worstRaw(page);
     const gainBefore = Number(await page.getAttribute('[data-figure="gain"]', 'data-raw'));
     assert.equal(await page.isEnabled('#dl-bom'), true);
@@ -154,7 +154,7 @@ test('an edit re-solves by itself; meanwhile the answer is marked out of date an
 
 test('SI input: "25 mV" and "25m" give the design of 0.025, solved again, and say what was understood', async () => {
   await withPage(async ({ page }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     const signal = '#f-sensor-signal_high_v';
     const shownNeed = () => page.evaluate(() => window.spanfitPage.state.result.need.sensor.signal_high_v);
     await page.fill(signal, '0.025');
@@ -196,7 +196,34 @@ test('SI input: "25 mV" and "25m" give the design of 0.025, solved again, and sa
   });
 });
 
-test('charts and schematic keep text at 11 px or more; the schematic zooms and opens full size; costs take a currency', async () => {
+/** Pairs of chart labels that overlap, and labels a target line crosses. */
+function labelClashes(page) {
+  return page.evaluate(() => {
+    const out = [];
+    const hit = (a, b) => a.left < b.right - 1 && b.left < a.right - 1 && a.top < b.bottom - 1 && b.top < a.bottom - 1;
+    for (const chart of document.querySelectorAll('#result svg.chart')) {
+      const name = chart.closest('[data-testid]').dataset.testid;
+      const texts = [...chart.querySelectorAll('text')].filter((t) => t.textContent.trim()).map((t) => ({ t: t.textContent, r: t.getBoundingClientRect() }));
+      for (let i = 0; i < texts.length; i += 1) {
+        for (let j = i + 1; j < texts.length; j += 1) {
+          if (hit(texts[i].r, texts[j].r)) out.push(`${name}: "${texts[i].t}" over "${texts[j].t}"`);
+        }
+      }
+      // A target line passes no label but its own.
+      for (const line of chart.querySelectorAll('line.target')) {
+        const r = line.getBoundingClientRect();
+        const band = { left: r.left - 1, right: r.right + 1, top: r.top, bottom: r.bottom };
+        for (const { t, r: tr } of texts) {
+          if (/target/.test(t)) continue;
+          if (hit(band, tr)) out.push(`${name}: the target line crosses "${t}"`);
+        }
+      }
+    }
+    return out;
+  });
+}
+
+test('charts and schematic keep text at 11 px or more, labels clear of each other and of the target; the schematic zooms and opens full size; costs take a currency', async () => {
   for (const viewport of [{ width: 1440, height: 900 }, { width: 390, height: 844 }]) {
     await withPage(async ({ page }) => {
       await waitDesign(page);
@@ -211,6 +238,8 @@ test('charts and schematic keep text at 11 px or more; the schematic zooms and o
         return min;
       });
       assert.equal(smallest >= 10.95, true, `smallest chart text ${smallest} px at ${viewport.width} px`);
+      // Labels never collide with each other or with the target line.
+      assert.deepEqual(await labelClashes(page), [], `at ${viewport.width} px`);
       const img = page.locator('[data-testid=schematic-img]');
       const zoom = Number(await img.getAttribute('data-zoom'));
       const natural = await img.evaluate((i) => i.naturalWidth);
@@ -267,7 +296,7 @@ test('the sweep is the core analysis over temperature; the yield histogram marks
 
 test('the gallery offers at least six invented examples; one loads its need and its own shelf and solves', async () => {
   await withPage(async ({ page, problems }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     await page.click('#gallery-open');
     await page.waitForSelector('#gallery[open] #gallery-list li');
     const items = page.locator('#gallery-list li');
@@ -454,7 +483,7 @@ async function showInfeasible(page) {
 test('an infeasible need shows its best attempt beside the binding limit; a suggestion applies with one click and keeps the rest', async () => {
   for (const viewport of [{ width: 1440, height: 900 }, { width: 390, height: 844 }]) {
     await withPage(async ({ page, problems }) => {
-      await waitCurrent(page);
+      await waitDesign(page);
       // Something the user typed their own way, which the change must keep.
       await page.fill('#f-sensor-signal_high_v', '25 mV');
       await page.waitForFunction(() => window.spanfitPage.state.need.sensor.signal_high_v === 0.025
@@ -513,7 +542,7 @@ test('an infeasible need shows its best attempt beside the binding limit; a sugg
 
 test('the Bode plot is drawn from the report\'s filter.bode, labelled with units, with the corner and Nyquist marked', async () => {
   await withPage(async ({ page }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     const filter = await page.evaluate(() => window.spanfitPage.state.result.bundle.report.design.filter);
     assert.equal(Array.isArray(filter.bode) && filter.bode.length > 10, true, 'the demo design has a filter report');
     await page.waitForSelector('#bode-box:not([hidden]) [data-testid=bode-chart] svg');
@@ -563,7 +592,7 @@ async function pinchTouch(page, cdp, from, to, steps = 6) {
 
 test('two fingers (real touch input) pinch the schematic in and out; one finger does not zoom', async () => {
   await withPage(async ({ page, problems }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     const img = page.locator('[data-testid=schematic-img]');
     await img.waitFor();
     await page.locator('[data-testid=schematic]').scrollIntoViewIfNeeded();
@@ -598,7 +627,7 @@ test('two fingers (real touch input) pinch the schematic in and out; one finger 
 
 test('the design\'s warnings show as text when the report has them, and nothing shows when it has none', async () => {
   await withPage(async ({ page }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     const warnings = await page.evaluate(() => window.spanfitPage.state.result.bundle.report.design.warnings);
     const shown = () => page.$$eval('[data-testid=warnings] li', (li) => li.map((x) => x.textContent));
     if (Array.isArray(warnings) && warnings.length) {
@@ -621,7 +650,7 @@ test('the design\'s warnings show as text when the report has them, and nothing 
 
 test('hints, help and messages use the fields\' labels, never need keys; the shelf shows the capacitors', async () => {
   await withPage(async ({ page }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     const keys = await page.evaluate(() => window.spanfitPage.state.fields.map((f) => f.key));
     const names = keys.map((k) => k.split('.')[1]).filter((n) => n.includes('_'));
     const keyLike = new RegExp(`\\b(${[...keys.map((k) => k.replace('.', '\\.')), ...names].join('|')})\\b`);
@@ -663,7 +692,7 @@ test('every budget line the core can report explains itself on the page: what it
   const lines = [...doc.matchAll(/^\|[^|]+\| `([a-z-]+)` \| (systematic|random) \|/gm)].map((m) => ({ line: m[1], systematic: m[2] === 'systematic' }));
   assert.equal(lines.length >= 20, true, `${lines.length} budget lines in docs/error-budget.md`);
   await withPage(async ({ page }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     // The demo's own lines first, as the core reported them.
     const demo = await page.evaluate(() => window.spanfitPage.state.result.bundle.report.design.error.budget.map((b) => b.source));
     const shown = () => page.$$eval('[data-testid=budget-notes] li', (li) => li.map((x) => x.textContent));
@@ -687,7 +716,7 @@ test('every budget line the core can report explains itself on the page: what it
 
 test('keyboard, theme and touch: skip link, Enter solves at once, focus to the answer on request, visible focus, dark theme, 24 px targets', async () => {
   await withPage(async ({ page, problems }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     // The first Tab reaches the skip link, shown; following it focuses the answer.
     await page.keyboard.press('Tab');
     assert.equal(await page.evaluate(() => document.activeElement.className), 'skip-link');
@@ -759,42 +788,9 @@ test('keyboard, theme and touch: skip link, Enter solves at once, focus to the a
   });
 });
 
-test('chart labels never overlap each other or cross the target line, at a wide and a phone width', async () => {
-  for (const viewport of [{ width: 1440, height: 900 }, { width: 360, height: 740 }]) {
-    await withPage(async ({ page }) => {
-      await waitDesign(page);
-      await page.waitForSelector('#bode-box:not([hidden]) svg');
-      const clashes = await page.evaluate(() => {
-        const out = [];
-        const hit = (a, b) => a.left < b.right - 1 && b.left < a.right - 1 && a.top < b.bottom - 1 && b.top < a.bottom - 1;
-        for (const chart of document.querySelectorAll('#result svg.chart')) {
-          const name = chart.closest('[data-testid]').dataset.testid;
-          const texts = [...chart.querySelectorAll('text')].filter((t) => t.textContent.trim()).map((t) => ({ t: t.textContent, r: t.getBoundingClientRect() }));
-          for (let i = 0; i < texts.length; i += 1) {
-            for (let j = i + 1; j < texts.length; j += 1) {
-              if (hit(texts[i].r, texts[j].r)) out.push(`${name}: "${texts[i].t}" over "${texts[j].t}"`);
-            }
-          }
-          // A target line passes no label but its own.
-          for (const line of chart.querySelectorAll('line.target')) {
-            const r = line.getBoundingClientRect();
-            const band = { left: r.left - 1, right: r.right + 1, top: r.top, bottom: r.bottom };
-            for (const { t, r: tr } of texts) {
-              if (/target/.test(t)) continue;
-              if (hit(band, tr)) out.push(`${name}: the target line crosses "${t}"`);
-            }
-          }
-        }
-        return out;
-      });
-      assert.deepEqual(clashes, [], `at ${viewport.width} px`);
-    }, viewport);
-  }
-});
-
 test('every example of the gallery loads its need and shelf and is solved to a design that meets it', async () => {
   await withPage(async ({ page, problems }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     const examples = await page.evaluate(() => window.spanfitPage.call('gallery_examples').then((t) => JSON.parse(t)));
     assert.equal(examples.length >= 6, true);
     const outcomes = [];
@@ -820,7 +816,7 @@ test('every example of the gallery loads its need and shelf and is solved to a d
 
 test('typing while searches run keeps the main thread free: no task over 200 ms, the searches stay in the worker', async () => {
   await withPage(async ({ page }) => {
-    await waitCurrent(page);
+    await waitDesign(page);
     await page.evaluate(() => {
       window.__long = [];
       new PerformanceObserver((list) => { for (const e of list.getEntries()) window.__long.push(Math.round(e.duration)); }).observe({ type: 'longtask' });

@@ -263,9 +263,9 @@ test('Stop during a search returns the best design found so far', async () => {
   await withPage(async ({ page, problems }) => {
     await page.waitForFunction(() => !document.querySelector('[data-testid=solve]').disabled);
     const full = await page.evaluate(() => window.spanfitPage.solve().then(() => window.spanfitPage.state.result.bundle.report));
-    // The worker holds 1.5 s at the first progress report that has a design,
+    // The worker holds 4 s at the first progress report that has a design,
     // so the click lands while the search is running.
-    await page.evaluate(() => { window.__run = window.spanfitPage.solve({ debugPauseMs: 1500, debugPauseOnBest: true }); });
+    await page.evaluate(() => { window.__run = window.spanfitPage.solve({ debugPauseMs: 4000, debugPauseOnBest: true }); });
     await page.waitForFunction(() => /best cost so far/.test(document.querySelector('[data-testid=progress-text]').textContent));
     assert.equal(await page.isEnabled('[data-testid=cancel]'), true);
     await shot(page, 'solve-running');

@@ -822,6 +822,31 @@ mod tests {
         assert_eq!(ours, core.unwrap_err());
     }
 
+    /// The search mode the page asks for is the one the core runs: a
+    /// search stopped at its first progress report still says its mode.
+    #[test]
+    fn solve_mode_value_runs_the_mode_asked_for() {
+        let clock = || 0.0;
+        for (exhaustive, mode) in [(true, "exhaustive"), (false, "optimised")] {
+            let mut stop = |_: Progress| false;
+            let bundle = solve_mode_value(
+                &demo_need(),
+                "demo.toml",
+                "{}",
+                exhaustive,
+                &mut stop,
+                &clock,
+            )
+            .unwrap();
+            let value = serde_json::to_value(&bundle).unwrap();
+            assert_eq!(
+                value["report"]["search"]["mode"], mode,
+                "{}",
+                value["report"]["search"]
+            );
+        }
+    }
+
     /// `analyze` returns the bundle shape of `solve`: `{report, artifacts,
     /// text}`, artifacts with the BOM table.
     #[test]
