@@ -130,7 +130,20 @@ test('the form has one field per need key of need_fields, with its label, unit a
         const boxes = await wrap.locator('input[type=checkbox]').evaluateAll((b) => b.map((x) => x.value));
         assert.deepEqual(boxes, f.choices, f.key);
       }
+      // A one-line hint and a longer explanation on demand, both the
+      // core's (need_fields `hint` and `help`), with the unit, the default
+      // and a typical value where the core gives them.
+      assert.equal(typeof f.hint === 'string' && f.hint.length > 10, true, `${f.key} has a hint in need_fields`);
+      assert.equal(typeof f.help === 'string' && f.help.length > 10, true, `${f.key} has help in need_fields`);
+      const hint = await wrap.locator('.hint').textContent();
+      assert.equal(hint.length > 10 && !hint.includes('\n'), true, `${f.key} hint: ${hint}`);
+      const help = await wrap.locator('details.help').textContent();
+      if (f.unit) assert.equal(help.includes(`Unit: ${f.unit}.`), true, `${f.key}: ${help}`);
+      if (f.default !== null && f.default !== undefined) assert.equal(help.includes('Default: '), true, `${f.key}: ${help}`);
+      if (typeof f.typical === 'string' && f.typical) assert.equal(help.includes(`Typical: ${f.typical}.`), true, `${f.key}: ${help}`);
     }
+    const typical = fields.filter((f) => typeof f.typical === 'string' && f.typical).length;
+    console.log(`${fields.length} fields, ${typical} with a typical value from the core`);
   });
 });
 

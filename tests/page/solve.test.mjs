@@ -152,11 +152,15 @@ test('changing the ADC window and solving again changes the result to fit', asyn
 
 test('clicking a point of the trade-off plot shows that design', async () => {
   await withPage(async ({ page, problems }) => {
-    // A looser target gives a front of several designs.
+    // A looser target gives a front of several designs (with time for the
+    // search to reach them on a busy machine: the wasm search is slower
+    // than the native one, and the demo's limit is 2 s).
+    await page.fill('#f-search-time_limit_ms', '20000');
     await page.fill('#f-accuracy-max_error_pct_fs', '2');
     await page.waitForFunction(() => {
       const s = window.spanfitPage.state;
-      return s.needValid && s.need.accuracy.max_error_pct_fs === 2 && s.checkedNeed === JSON.stringify(s.need);
+      return s.needValid && s.need.accuracy.max_error_pct_fs === 2 && s.need.search.time_limit_ms === 20000
+        && s.checkedNeed === JSON.stringify(s.need);
     });
     await solveAndWait(page);
     const report = await page.evaluate(() => window.spanfitPage.state.result.bundle.report);
@@ -200,10 +204,35 @@ test('a need the search finds no design for shows why, what to relax, and claims
     assert.equal(banner.startsWith('Not finished: no design found yet, and none shown impossible. '), true, banner);
     assert.equal(banner.includes(report.reason.slice(0, 80)), true, `${banner}\nagainst\n${report.reason}`);
     assert.doesNotMatch(banner, /\b(adc|sensor|supply|accuracy|search)\.[a-z_]+_[a-z_]+/);
+    // No advice for the command line: the page offers its own search of
+    // every design instead, which Stop ends.
+    assert.doesNotMatch(banner, /--|exhaustive/);
+    assert.equal(await page.isVisible('[data-testid=every-offer]'), true);
+    assert.match(await page.textContent('[data-testid=every-offer]'), /every design/);
     const tips = await page.$$eval('[data-testid=suggestions] li .change', (li) => li.map((x) => x.textContent));
     assert.equal(tips.length, (report.infeasible.suggestions || []).length);
     for (const tip of tips) assert.equal(tip.length > 5, true, tip);
     await shot(page, 'solve-infeasible');
+    await page.click('[data-testid=solve-every]');
+    await page.waitForFunction(() => window.spanfitPage.state.solving
+      && document.querySelector('[data-testid=progress-text]').textContent !== 'searching…');
+    assert.equal(await page.isEnabled('[data-testid=cancel]'), true);
+    await page.click('[data-testid=cancel]');
+    // The walk of this space ends at the stop with its report, or (when it
+    // does not reach a point where it can stop within seconds) the solver
+    // is restarted; either way the page says so and offers the walk again.
+    await page.waitForFunction(() => !window.spanfitPage.state.solving
+      && document.querySelector('[data-testid=run-status]').dataset.cancelled === 'yes', null, { timeout: 20000 });
+    const walked = await page.evaluate(() => window.spanfitPage.state.result.bundle.report);
+    if (walked.search.mode === 'exhaustive') {
+      assert.equal(walked.status, 'unfinished', 'a stopped walk of this space proves nothing');
+      assert.match(await page.textContent('[data-testid=result-banner]'), /^Stopped before any design was found/);
+    } else {
+      assert.match(await page.textContent('[data-testid=run-status]'), /^Stopped\. The search did not reach a point where it could stop/);
+      await page.waitForFunction(() => document.querySelector('[data-testid=engine-state]').dataset.state === 'ready');
+    }
+    assert.equal(await page.isVisible('[data-testid=every-offer]'), true, 'offered again after a stop');
+    assert.equal(await page.isEnabled('[data-testid=solve-every]'), true);
     assert.deepEqual(unexpected(problems), { consoleErrors: [], pageErrors: [], remote: [] });
   });
 });
@@ -234,9 +263,9 @@ test('Stop during a search returns the best design found so far', async () => {
   await withPage(async ({ page, problems }) => {
     await page.waitForFunction(() => !document.querySelector('[data-testid=solve]').disabled);
     const full = await page.evaluate(() => window.spanfitPage.solve().then(() => window.spanfitPage.state.result.bundle.report));
-    // The worker holds 1.5 s at the first progress report that has a design,
+    // The worker holds 4 s at the first progress report that has a design,
     // so the click lands while the search is running.
-    await page.evaluate(() => { window.__run = window.spanfitPage.solve({ debugPauseMs: 1500, debugPauseOnBest: true }); });
+    await page.evaluate(() => { window.__run = window.spanfitPage.solve({ debugPauseMs: 4000, debugPauseOnBest: true }); });
     await page.waitForFunction(() => /best cost so far/.test(document.querySelector('[data-testid=progress-text]').textContent));
     assert.equal(await page.isEnabled('[data-testid=cancel]'), true);
     await shot(page, 'solve-running');

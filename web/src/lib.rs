@@ -238,9 +238,29 @@ pub fn solve_value(
     progress: &mut dyn FnMut(Progress) -> bool,
     now_ms: &dyn Fn() -> f64,
 ) -> Result<spanfit::report::Bundle, Error> {
+    solve_mode_value(need_text, need_name, stock_json, false, progress, now_ms)
+}
+
+/// As [`solve_value`], with the search mode chosen: `exhaustive` walks
+/// every design of the space (no time limit of its own; only a stop ends
+/// it early), as the command line's `--exhaustive` does.
+pub fn solve_mode_value(
+    need_text: &str,
+    need_name: &str,
+    stock_json: &str,
+    exhaustive: bool,
+    progress: &mut dyn FnMut(Progress) -> bool,
+    now_ms: &dyn Fn() -> f64,
+) -> Result<spanfit::report::Bundle, Error> {
     let files = stock_files_from_json(stock_json)?;
     let mut control = SolveControl { progress, now_ms };
-    spanfit::api::solve_bundle(need_text.as_bytes(), need_name, &files, false, &mut control)
+    spanfit::api::solve_bundle(
+        need_text.as_bytes(),
+        need_name,
+        &files,
+        exhaustive,
+        &mut control,
+    )
 }
 
 /// Analyse a design the user already has (a design file, or a design
@@ -396,6 +416,29 @@ pub fn solve(
     stock_json: &str,
     progress_callback: &js_sys::Function,
 ) -> String {
+    solve_in_mode(need_text, need_name, stock_json, false, progress_callback)
+}
+
+/// Solve a need by walking every design of the space (the exhaustive
+/// search); arguments and answer as [`solve()`]. It has no time limit of
+/// its own: only `false` from the callback (a stop) ends it early.
+#[wasm_bindgen]
+pub fn solve_exhaustive(
+    need_text: &str,
+    need_name: &str,
+    stock_json: &str,
+    progress_callback: &js_sys::Function,
+) -> String {
+    solve_in_mode(need_text, need_name, stock_json, true, progress_callback)
+}
+
+fn solve_in_mode(
+    need_text: &str,
+    need_name: &str,
+    stock_json: &str,
+    exhaustive: bool,
+    progress_callback: &js_sys::Function,
+) -> String {
     let mut progress = |p: Progress| -> bool {
         let best = p.best_cost.map_or(JsValue::NULL, JsValue::from_f64);
         match progress_callback.call3(
@@ -409,7 +452,16 @@ pub fn solve(
         }
     };
     let now_ms = js_sys::Date::now;
-    guarded(|| solve_value(need_text, need_name, stock_json, &mut progress, &now_ms))
+    guarded(|| {
+        solve_mode_value(
+            need_text,
+            need_name,
+            stock_json,
+            exhaustive,
+            &mut progress,
+            &now_ms,
+        )
+    })
 }
 
 /// Analyse a given design against a need and stock; see
@@ -768,6 +820,31 @@ mod tests {
         };
         let core = spanfit::api::solve_bundle(b"[adc]\n", "bad.toml", &[], false, &mut control);
         assert_eq!(ours, core.unwrap_err());
+    }
+
+    /// The search mode the page asks for is the one the core runs: a
+    /// search stopped at its first progress report still says its mode.
+    #[test]
+    fn solve_mode_value_runs_the_mode_asked_for() {
+        let clock = || 0.0;
+        for (exhaustive, mode) in [(true, "exhaustive"), (false, "optimised")] {
+            let mut stop = |_: Progress| false;
+            let bundle = solve_mode_value(
+                &demo_need(),
+                "demo.toml",
+                "{}",
+                exhaustive,
+                &mut stop,
+                &clock,
+            )
+            .unwrap();
+            let value = serde_json::to_value(&bundle).unwrap();
+            assert_eq!(
+                value["report"]["search"]["mode"], mode,
+                "{}",
+                value["report"]["search"]
+            );
+        }
     }
 
     /// `analyze` returns the bundle shape of `solve`: `{report, artifacts,

@@ -12,7 +12,7 @@
 use serde_json::Value;
 use spanfit_web::{
     analyze, check_need, check_stock, demo_need, demo_stock, need_fields, need_keys,
-    read_stock_table, solve,
+    read_stock_table, solve, solve_exhaustive,
 };
 use wasm_bindgen::prelude::*;
 use wasm_bindgen_test::*;
@@ -214,4 +214,23 @@ fn a_callback_that_says_stop_or_throws_ends_the_search_without_an_error() {
         assert_eq!(search["proven_optimal"], false, "after `{body}`: {search}");
         assert!(calls.length() >= 1);
     }
+}
+
+#[wasm_bindgen_test]
+fn solve_exhaustive_walks_every_design_and_stops_when_asked() {
+    let make =
+        js_sys::Function::new_with_args("calls", "return () => { calls.push(1); return false; };");
+    let calls = js_sys::Array::new();
+    let progress: js_sys::Function = make.call1(&JsValue::NULL, &calls).unwrap().into();
+    let bundle = open(&solve_exhaustive(
+        &demo_need(),
+        "demo.toml",
+        "{}",
+        &progress,
+    ))
+    .unwrap();
+    let search = &bundle["report"]["search"];
+    assert_eq!(search["mode"], "exhaustive", "{search}");
+    assert_eq!(search["proven_optimal"], false, "{search}");
+    assert!(calls.length() >= 1, "the walk reports progress");
 }

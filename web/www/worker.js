@@ -4,7 +4,8 @@
 // Protocol (page -> worker):
 //   {type: 'init', wasm: ArrayBuffer}
 //   {type: 'call', id, fn, args}           fn: one of ENVELOPED or PLAIN below
-//   {type: 'solve', id, need, needName, stock, cancelToken, debugPauseMs, debugPauseOnBest}
+//   {type: 'solve', id, need, needName, stock, exhaustive, cancelToken, debugPauseMs, debugPauseOnBest}
+//     (exhaustive: walk every design, solve_exhaustive; else the optimised search)
 // (worker -> page):
 //   {type: 'ready', version} | {type: 'init-failed', message}
 //   {type: 'progress', id, done, total, best, cancellable}
@@ -108,7 +109,8 @@ function runSolve(job) {
   };
   const start = performance.now();
   try {
-    const text = wasm_bindgen.solve(job.need, job.needName, job.stock, progress);
+    const solve = job.exhaustive === true ? wasm_bindgen.solve_exhaustive : wasm_bindgen.solve;
+    const text = solve(job.need, job.needName, job.stock, progress);
     const elapsedMs = performance.now() - start;
     postMessage({ ...unwrap(job.id, text), elapsedMs, cancelled, cancellable });
   } catch (error) {

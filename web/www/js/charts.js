@@ -115,10 +115,24 @@ export function renderBudget(design, need) {
     ].filter(Boolean).join(', ');
     bar.append(svg('title', {}, `${r.label}: ${fmt(r.value, 4)} % FS${extra ? `, ${extra}` : ''}`));
     chart.append(bar);
-    chart.append(svg('text', { x: x(r.value) + 5, y: y + barTop + barH - 3, class: 'value' }, `${r.value < 0 ? '−' : ''}${fmt(Math.abs(r.value), 3)}`));
+    // The value beside its bar, moved past the target line where it would cross it.
+    const value = `${r.value < 0 ? '−' : ''}${fmt(Math.abs(r.value), 3)}`;
+    let vx = x(r.value) + 5;
+    const guess = value.length * 7.5;
+    if (target !== null && vx < x(target) + 3 && vx + guess > x(target) - 3) vx = x(target) + 5;
+    chart.append(svg('text', { x: vx, y: y + barTop + barH - 3, class: 'value' }, value));
   });
-  if (target !== null) {
+  if (target !== null && !narrow) {
     chart.append(svg('line', { x1: x(target), x2: x(target), y1: top - 8, y2: H - 34, class: 'target', 'data-target': target }));
+  } else if (target !== null) {
+    // Narrow: each label has a line of its own above its bar, so the
+    // target is drawn through the bars' bands only, never through a label.
+    rows.forEach((r, i) => {
+      const y = top + i * rowH;
+      chart.append(svg('line', { x1: x(target), x2: x(target), y1: y + barTop - 3, y2: y + barTop + barH + 3, class: 'target', 'data-target': target }));
+    });
+  }
+  if (target !== null) {
     const anchor = x(target) > W - 90 ? 'end' : (x(target) < left + 60 ? 'start' : 'middle');
     chart.append(svg('text', { x: x(target), y: top - 14, class: 'target-label', 'text-anchor': anchor }, `target ${fmt(target, 3)} % FS`));
   }
@@ -132,20 +146,25 @@ export function renderBudget(design, need) {
  */
 const LINE_NOTES = {
   'nominal-rounding': ['the stocked values give a gain and offset slightly off the ideal', 'output with ideal op-amps minus the ideal K·Vsensor + B', 'resistors, references'],
-  'open-loop-gain': ['op-amps at their minimum open-loop gain instead of an infinite one', 'output at aol_min_db minus output with ideal op-amps', 'op-amps'],
-  'resistor-tolerance': ['each resistor off its nominal value', 'Σ |sensitivity to R| × tolerance_pct / 100', 'resistors'],
-  'resistor-tcr': ['each resistor drifting with temperature', 'Σ |sensitivity to R| × tcr_ppm_per_c × 10⁻⁶ × ΔT', 'resistors'],
-  'offset-voltage': ['input offset of each amplifier times its gain to the output', 'Σ |sensitivity to Vos| × vos_max_uv × 10⁻⁶', 'op-amps, in-amps'],
-  'offset-drift': ['drift of those offsets', 'Σ |sensitivity to Vos| × drift × 10⁻⁶ × ΔT', 'op-amps, in-amps'],
-  'bias-current': ['input bias currents through the resistances the inputs see', 'Σ |sensitivity to Ib+ + Ib−| × ib_max_na × 10⁻⁹', 'op-amps, in-amps, resistors, sensor'],
-  'offset-current': ['the difference between the two bias currents', 'Σ |(s+ − s−) / 2| × ios_max_na × 10⁻⁹', 'op-amps'],
-  cmrr: ['finite common-mode rejection acting as an input offset', 'Σ |sensitivity to Vos| × (Vcm − Vmid) / CMRR', 'op-amps, in-amps'],
-  'reference-initial': ['each voltage reference off its nominal voltage', 'Σ |sensitivity to Vref| × volts × initial_pct / 100', 'references'],
-  'reference-tempco': ['each reference drifting with temperature', 'Σ |sensitivity to Vref| × volts × tempco × 10⁻⁶ × ΔT', 'references'],
-  'supply-tolerance': ['the positive rail off nominal where it sets an offset or the ADC scale', '|sensitivity to Vsupply| × positive_v × tolerance_pct / 100', 'supply'],
-  'in-amp-gain-error': ['gain error of an integrated in-amp', 'sensitivity to its gain × gain_error_pct / 100', 'in-amps'],
-  'in-amp-gain-drift': ['drift of that gain', 'sensitivity to its gain × drift × 10⁻⁶ × ΔT', 'in-amps'],
-  'in-amp-output-offset': ['output-referred offset of an integrated in-amp', 'sensitivity × output_offset_uv × 10⁻⁶', 'in-amps'],
+  'open-loop-gain': ['op-amps at their minimum open-loop gain instead of an infinite one', 'output at the minimum open-loop gain minus output with ideal op-amps', 'op-amps'],
+  'resistor-tolerance': ['each resistor off its nominal value', 'Σ |sensitivity to R| × tolerance % / 100', 'resistors'],
+  'resistor-tcr': ['each resistor drifting with temperature', 'Σ |sensitivity to R| × TCR ppm/°C × 10⁻⁶ × ΔT', 'resistors'],
+  'offset-voltage': ['input offset of each amplifier times its gain to the output', 'Σ |sensitivity to Vos| × Vos max µV × 10⁻⁶', 'op-amps, in-amps'],
+  'offset-drift': ['drift of those offsets', 'Σ |sensitivity to Vos| × drift µV/°C × 10⁻⁶ × ΔT', 'op-amps, in-amps'],
+  'bias-current': ['input bias currents through the resistances the inputs see (the sensor\'s own included)', 'Σ |sensitivity to Ib+ + Ib−| × Ib max nA × 10⁻⁹', 'op-amps, in-amps, resistors, sensor'],
+  'offset-current': ['the difference between the two bias currents', 'Σ |(s+ − s−) / 2| × Ios max nA × 10⁻⁹', 'op-amps, resistors'],
+  cmrr: ['finite common-mode rejection: the input common mode away from mid-supply acts as an input offset', 'Σ |sensitivity to Vos| × (Vcm − Vmid) / CMRR, CMRR = 10^(CMRR dB / 20)', 'op-amps, in-amps, sensor common mode'],
+  'reference-initial': ['each voltage reference off its nominal voltage', 'Σ |sensitivity to Vref| × volts × initial % / 100', 'references'],
+  'reference-tempco': ['each reference drifting with temperature, its tempco read as a box over the whole range', 'Σ |sensitivity to Vref| × volts × tempco ppm/°C × 10⁻⁶ × (highest − lowest temperature)', 'references'],
+  'reference-load': ['each reference\'s output moved by the current the network it drives draws', 'Σ |sensitivity to Vref| × volts × load regulation ppm/mA × 10⁻⁶ × load mA', 'references, the resistors they drive'],
+  'supply-tolerance': ['the positive rail off nominal where it sets an offset, excites the sensor or is the ADC\'s scale', '|sensitivity to Vsupply| × positive rail × tolerance % / 100', 'supply'],
+  psrr: ['finite supply rejection: the rail\'s tolerance acts as an input offset of each amplifier', 'Σ |sensitivity to Vos| × positive rail × tolerance % / 100 / PSRR, PSRR = 10^(PSRR dB / 20)', 'op-amps, in-amps, supply'],
+  'in-amp-gain-error': ['gain error of an integrated in-amp', 'sensitivity to its gain × gain error % / 100', 'in-amps'],
+  'in-amp-gain-drift': ['drift of that gain', 'sensitivity to its gain × drift ppm/°C × 10⁻⁶ × ΔT', 'in-amps'],
+  'in-amp-output-offset': ['output-referred offset of an integrated in-amp', 'sensitivity × output offset µV × 10⁻⁶', 'in-amps'],
+  'source-resistance': ['the sensor\'s own resistance off its nominal and drifting', '|sensitivity to Rsensor| × tolerance % / 100 at 25 °C, and |sensitivity to Rsensor| × tempco ppm/°C × 10⁻⁶ × ΔT as drift', 'sensor'],
+  droop: ['the chain\'s response at the signal bandwidth below its DC gain, at the top of the span', '(1 − |H(f bandwidth) / H(0)|) × output window', 'amplifier sections, filter resistor and capacitor'],
+  noise: ['output noise over the noise bandwidth, as its peak', '½ × 6.6 × RMS noise (Johnson noise of the resistors, amplifier voltage and current noise, reference noise)', 'resistors, op-amps, in-amps, references, sensor'],
 };
 
 /** Under the budget chart: each line of this budget, what it is and its formula. */
@@ -295,7 +314,7 @@ export function renderSweep(sweep) {
   const chart = svg('svg', { viewBox: `0 0 ${W} ${H}`, width: W, height: H, class: 'chart', role: 'img', 'aria-label': 'error against temperature, worst case and RSS, with the target' });
   for (const tick of niceTicks(tLo, tHi, W < 480 ? 4 : 6)) {
     chart.append(svg('line', { x1: x(tick), x2: x(tick), y1: T, y2: H - B, class: 'grid' }));
-    chart.append(svg('text', { x: x(tick), y: H - B + 16, class: 'tick', 'text-anchor': 'middle' }, fmt(tick, 3)));
+    chart.append(svg('text', { x: x(tick), y: H - B + 19, class: 'tick', 'text-anchor': 'middle' }, fmt(tick, 3)));
   }
   for (const tick of niceTicks(0, eHi, 4)) {
     chart.append(svg('line', { x1: L, x2: W - R, y1: y(tick), y2: y(tick), class: 'grid' }));

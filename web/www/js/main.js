@@ -231,7 +231,9 @@ function wire() {
     renderStockTable();
     stockChanged();
   });
-  $('solve').addEventListener('click', () => runSolve());
+  // Asked for by a click: once the answer lands, focus moves to it.
+  $('solve').addEventListener('click', () => runSolve().then((reply) => { if (reply) $('answer').focus(); }));
+  $('solve-every').addEventListener('click', () => { setStatus('run-status', 'Searching every design; Stop ends the search.', 'warn'); runSolve({ exhaustive: true }); });
   $('cancel').addEventListener('click', onCancel);
   $('project-import').addEventListener('click', () => $('project-file').click());
   $('project-file').addEventListener('change', onFile(importProject));

@@ -40,7 +40,7 @@ export function showReport() {
     banner.textContent = 'Stopped before any design was found. Run it again and let the search go on longer.';
     banner.dataset.tone = 'warn';
   } else if (report.status === 'unfinished') {
-    const why = typeof report.reason === 'string' ? ` ${report.reason}.` : '';
+    const why = typeof report.reason === 'string' ? ` ${pageReason(report.reason)}.` : '';
     banner.textContent = `Not finished: no design found yet, and none shown impossible.${why}`;
     banner.dataset.tone = 'warn';
   } else {
@@ -51,9 +51,23 @@ export function showReport() {
   }
   if (report.status === 'unfinished') banner.textContent = plainKeys(banner.textContent);
   banner.dataset.status = String(report.status);
+  // What the page offers where the command line would take --exhaustive:
+  // a search of every design (shown while nothing is found and nothing
+  // proven, unless that search itself ran to its end).
+  const walkedAll = isObject(report.search) && report.search.mode === 'exhaustive' && !state.result.cancelled;
+  $('every-offer').hidden = report.status !== 'unfinished' || walkedAll;
   renderInfeasible(report);
   renderViewed();
   if (attempt) analyseViewed(attempt, ATTEMPT);
+}
+
+/**
+ * The core's reason for an unfinished search in the page's words: its
+ * advice for the command line (`solve with --exhaustive ...`) is left out,
+ * as the page offers "Search every design" beside the banner instead.
+ */
+export function pageReason(reason) {
+  return reason.replace(/;?\s*solve with --exhaustive to search every design/, '');
 }
 
 /** The figures of a design that the comparison shows, from the core's report. */
@@ -121,6 +135,7 @@ export function renderViewed() {
   if (state.viewed.sweep) renderSweep(state.viewed.sweep);
   else loadSweep(design);
   renderParts(design);
+  renderPrintNeed(need);
   renderBom(artifacts.bom_table);
   renderFindings(design);
   const extra = { stages: design && design.stages, transfer: design && design.transfer, search: report.search };
@@ -484,6 +499,28 @@ function renderFindings(design) {
       el('span', { className: 'subject', text: String(f.subject ?? '') }),
       el('span', { className: 'check-name', text: String(f.check ?? '') }),
       el('span', { className: 'detail', text: String(f.detail ?? '') })));
+  }
+}
+
+/** Need sections the printed report lists (search and stock settings stay off paper). */
+const PRINTED_SECTIONS = ['sensor', 'adc', 'supply', 'accuracy'];
+
+/**
+ * The need of the answer on show, for the printed report only: each field
+ * of those sections that has a value (given, or its default), under the
+ * core's label and unit.
+ */
+function renderPrintNeed(need) {
+  const list = $('print-need');
+  clear(list);
+  for (const f of state.fields) {
+    const [section, name] = [f.key.slice(0, f.key.indexOf('.')), f.key.slice(f.key.indexOf('.') + 1)];
+    if (!PRINTED_SECTIONS.includes(section)) continue;
+    const given = isObject(need[section]) ? need[section][name] : undefined;
+    const value = given === undefined || given === null ? f.default : given;
+    if (value === undefined || value === null || value === '' || (Array.isArray(value) && !value.length)) continue;
+    const text = Array.isArray(value) ? value.join(', ') : String(value);
+    list.append(el('div', {}, el('dt', { text: String(f.label || f.key) }), el('dd', { text: f.unit && typeof value === 'number' ? `${text} ${f.unit}` : text })));
   }
 }
 

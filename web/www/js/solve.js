@@ -86,6 +86,7 @@ hooks.solveNow = () => runSolve();
  * Search for a design of the current need on the current shelf. Resolves
  * with the worker's reply (null when the search failed, was ended, or was
  * replaced by a newer one). A call while a search runs replaces it.
+ * `options.exhaustive`: walk every design (no time limit; Stop ends it).
  * `options.debugPauseMs` / `debugPauseOnBest`: a test hook that holds the
  * worker once, so a test can press Stop during the search.
  */
@@ -122,7 +123,7 @@ async function startSolve(options) {
   let answer = null;
   try {
     const reply = await engines.solver.solve(
-      { need: needText, needName: 'need', stock, debugPauseMs: options.debugPauseMs || 0, debugPauseOnBest: !!options.debugPauseOnBest },
+      { need: needText, needName: 'need', stock, exhaustive: !!options.exhaustive, debugPauseMs: options.debugPauseMs || 0, debugPauseOnBest: !!options.debugPauseOnBest },
       onProgress,
     );
     if (!replacing) {
@@ -140,7 +141,9 @@ async function startSolve(options) {
       // replaced by a newer search: nothing to say
     } else if (error.stopped) {
       $('run-status').dataset.cancelled = 'yes';
-      setStatus('run-status', 'Stopped. A page opened from a file cannot keep a partial result; the search was ended and nothing changed.', 'warn');
+      setStatus('run-status', error.late
+        ? 'Stopped. The search did not reach a point where it could stop within a few seconds, so it was ended and the solver restarted; nothing changed.'
+        : 'Stopped. A page opened from a file cannot keep a partial result; the search was ended and nothing changed.', 'warn');
     } else if (error.fatal) {
       setStatus('run-status', `The solver stopped on an internal error (${error.message}; details on the browser console). It has been restarted; please report the need that caused it.`, 'bad');
     } else {

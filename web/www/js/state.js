@@ -46,6 +46,7 @@ export const hooks = { settled: null, solveNow: null };
 export function updateSolveButton() {
   const ready = engines.solver && engines.solverReady;
   $('solve').disabled = !ready || !state.needValid || !state.stockValid;
+  $('solve-every').disabled = $('solve').disabled;
   $('cancel').disabled = !state.solving;
   if (hooks.settled) hooks.settled();
 }

@@ -125,7 +125,10 @@ export class Engine {
   restart() {
     this.worker.terminate();
     for (const job of this.pending.values()) {
-      job.reject(new SpanfitError(internal('the solver was restarted'), { stopped: true }));
+      const error = new SpanfitError(internal('the solver was restarted'), { stopped: true });
+      // A search that could be asked to stop but did not end in time.
+      error.late = job.cancellable === true;
+      job.reject(error);
     }
     this.pending.clear();
     this.restarts += 1;
