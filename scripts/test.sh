@@ -46,6 +46,9 @@ step native-tests cargo test --workspace --no-fail-fast
 # A minute of mutation fuzzing per target (need, stock, design, solve,
 # analyze; the targets run side by side), release build, fixed seed.
 step fuzz env SPANFIT_FUZZ_SECONDS=60 cargo test -p spanfit-optimizer --release --test fuzz
+# The optimiser against the exhaustive walk, and the space bound against
+# the walk's optima: release only (ignored in the debug run above).
+step release-walks cargo test -p spanfit-optimizer --release --test exhaustive_agreement --test space_bound
 step wasm-browser-tests cargo test -p spanfit-web --target wasm32-unknown-unknown --no-fail-fast
 if step build bash -c 'bash scripts/build-web.sh && cargo build --release -p spanfit-cli'; then
   step page-tests node --test tests/page/

@@ -710,6 +710,10 @@ fn runner(cases: u32) -> proptest::test_runner::TestRunner {
 /// either side, and every trait of the generator met by a feasible and an
 /// infeasible case.
 #[test]
+#[cfg_attr(
+    debug_assertions,
+    ignore = "release only: scripts/test.sh runs it in its release step (a debug walk is too slow)"
+)]
 fn optimiser_agrees_with_the_exhaustive_walk() {
     let seen = std::cell::RefCell::new(Vec::new());
     let strategy = (stock_case(), need_case()).prop_map(|(s, n)| fit(s, n));

@@ -158,6 +158,10 @@ fn least_error(case: &Case, stock: &Stock) -> Option<SolveOutcome> {
 /// least the floor. The floor must also bind somewhere, or this proves
 /// nothing.
 #[test]
+#[cfg_attr(
+    debug_assertions,
+    ignore = "release only: scripts/test.sh runs it in its release step (a debug walk is too slow)"
+)]
 fn part_floor_is_below_every_design_of_the_part() {
     let mut binding = 0;
     let mut checked = 0;
@@ -203,6 +207,10 @@ fn part_floor_is_below_every_design_of_the_part() {
 /// targets around the least error of the space; and no false proof from
 /// the optimised mode.
 #[test]
+#[cfg_attr(
+    debug_assertions,
+    ignore = "release only: scripts/test.sh runs it in its release step (a debug walk is too slow)"
+)]
 fn cost_floor_never_exceeds_the_true_optimum() {
     let mut ruled_out = 0;
     let mut compared = 0;
