@@ -553,11 +553,8 @@ fn a_need_proven_infeasible_exits_1_with_the_reason() {
 fn no_design_found_without_a_proof_exits_3_not_1() {
     let dir = scratch("unproven");
     let need = dir.join("tight.toml");
-    let text = demo_need_embedded_stock().replacen(
-        "max_error_pct_fs = 0.5",
-        "max_error_pct_fs = 0.001",
-        1,
-    );
+    let text =
+        demo_need_embedded_stock().replacen("max_error_pct_fs = 0.5", "max_error_pct_fs = 0.01", 1);
     std::fs::write(&need, text).unwrap();
     let o = spanfit(&["solve", need.to_str().unwrap(), "--json"]);
     assert_eq!(code(&o), 3, "stderr:\n{}", stderr(&o));
@@ -571,6 +568,27 @@ fn no_design_found_without_a_proof_exits_3_not_1() {
         "{}",
         stdout(&o)
     );
+    let _ = std::fs::remove_dir_all(dir);
+}
+
+/// Far below what any stocked first-stage part's offset drift allows
+/// (the least, 0.05 uV/degC over 35 degC at K = 115.2, is about 0.0067 %
+/// FS), the space bound proves that no design exists: exit 1, proven.
+#[test]
+fn a_target_below_every_parts_drift_floor_is_proven_infeasible() {
+    let dir = scratch("drift-floor");
+    let need = dir.join("tighter.toml");
+    let text = demo_need_embedded_stock().replacen(
+        "max_error_pct_fs = 0.5",
+        "max_error_pct_fs = 0.001",
+        1,
+    );
+    std::fs::write(&need, text).unwrap();
+    let o = spanfit(&["solve", need.to_str().unwrap(), "--json"]);
+    assert_eq!(code(&o), 1, "stderr:\n{}", stderr(&o));
+    let v = json(&o);
+    assert_eq!(v["status"], "infeasible");
+    assert_eq!(v["infeasible"]["proven"], true);
     let _ = std::fs::remove_dir_all(dir);
 }
 
