@@ -237,6 +237,9 @@ pub struct Accuracy {
     pub calibration: Calibration,
     /// Signal bandwidth (noise bandwidth and gain-bandwidth check).
     pub bandwidth: Hertz,
+    /// Lowest frequency the noise line counts (`noise_low_hz`): slower
+    /// changes are drift, seen over the measurement's own time scale.
+    pub noise_low: Hertz,
     /// Width of the temperature range a reference's box-method tempco
     /// covers, degC, when it is not `temp_max - temp_min`: an analysis at
     /// one temperature of a wider range (the error-over-temperature sweep)

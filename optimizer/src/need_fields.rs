@@ -181,6 +181,7 @@ fn help_of(key: &str) -> (&'static str, Option<&'static str>) {
         "accuracy.temp_max_c" => ("The highest operating temperature.", Some("70 degC or 85 degC")),
         "accuracy.calibration" => ("What is trimmed on the finished board at room temperature. Offset removes the error at the low end of the span; two-point removes the fixed errors at both ends, leaving drift and noise. The supply's tolerance is never trimmed away.", Some("none")),
         "accuracy.bandwidth_hz" => ("How fast the signal changes. It sets the noise bandwidth and the gain-bandwidth the amplifiers must have.", Some("10 Hz for a slow sensor")),
+        "accuracy.noise_low_hz" => ("The slowest change the noise line counts as noise. Amplifier noise rises below its 1/f corner; what changes more slowly than this looks like drift over your measurement. Roughly one over the longest time you compare readings over.", Some("0.1 Hz (readings compared over about 10 s)")),
         "search.max_stages" => ("The most amplifier stages a design may use. More stages allow more gain per design but add parts and error sources.", Some("2 or 3")),
         "search.topologies" => ("The amplifier families the search may try. Leave them all ticked unless you want to rule one out.", None),
         "search.resistor_series" => ("The standard value series the search may use for resistors where the shelf does not fix the values.", Some("E96")),
@@ -309,6 +310,10 @@ fn field_list() -> Vec<NeedField> {
         field("accuracy.bandwidth_hz", "Signal bandwidth", Some("Hz"), Number,
             "Bandwidth of the signal, for noise and gain-bandwidth; above 0.")
             .default(json!(10.0))
+            .range(Some((0.0, OPEN)), None),
+        field("accuracy.noise_low_hz", "Lowest noise frequency", Some("Hz"), Number,
+            "Lowest frequency the noise line integrates from (1/f noise below it is drift); above 0.")
+            .default(json!(0.1))
             .range(Some((0.0, OPEN)), None),
         field("search.max_stages", "Most stages", None, Integer,
             "Largest number of amplifier stages a design may have, 1 to 3.")

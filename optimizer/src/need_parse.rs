@@ -49,6 +49,10 @@ mod defaults {
     pub const TEMP_MIN_C: f64 = 0.0;
     pub const TEMP_MAX_C: f64 = 70.0;
     pub const BANDWIDTH_HZ: f64 = 10.0;
+    /// Lowest frequency of the noise line, Hz: the low end of the
+    /// 0.1 Hz to 10 Hz band low-frequency noise is stated over (common
+    /// practice); slower changes count as drift.
+    pub const NOISE_LOW_HZ: f64 = 0.1;
     pub const MAX_STAGES: i128 = 3;
     pub const BOM_LINE_COST: f64 = 0.0;
     pub const MAX_PARTS: i128 = 30;
@@ -87,6 +91,7 @@ mod defaults {
 /// | `accuracy.temp_min_c`, `temp_max_c` | 0, 70 |
 /// | `accuracy.calibration` | `"none"` |
 /// | `accuracy.bandwidth_hz` | 10 |
+/// | `accuracy.noise_low_hz` | 0.1 |
 /// | `search.max_stages` | 3 |
 /// | `search.topologies` | all four |
 /// | `search.resistor_series` | `["E96"]` |
@@ -106,7 +111,7 @@ mod defaults {
 /// `source_ohms` 0 to 1e9; `bits` 1 to 32; `margin_pct` 0 to under 50;
 /// `tolerance_pct` 0 to under 100; `max_error_pct_fs` 1e-6 to 100;
 /// `yield_pct` above 0 and under 100; temperatures -273.15 to 1000 degC;
-/// `bandwidth_hz` 1e-6 to 1e9; `max_stages` 1 to 3; `bom_line_cost` 0 to
+/// `bandwidth_hz` 1e-6 to 1e9; `noise_low_hz` 1e-9 to 1e6; `max_stages` 1 to 3; `bom_line_cost` 0 to
 /// 1e6; `max_parts` 1 to 10,000; `time_limit_ms` 1 to 3,600,000. The
 /// sensor span `|signal_high_v - signal_low_v|` is at least 1 uV and the
 /// ADC window `high_v - low_v` at least 1 mV. A value outside is refused
@@ -241,6 +246,7 @@ struct RawAccuracy<W> {
     temp_max_c: Option<W>,
     calibration: Option<W>,
     bandwidth_hz: Option<W>,
+    noise_low_hz: Option<W>,
 }
 
 /// `[search]`.
@@ -878,6 +884,14 @@ fn accuracy<W: Field>(raw: Option<&RawAccuracy<W>>, ctx: &Ctx<'_>) -> Result<Acc
         bandwidth > 0.0,
         "a bandwidth above 0 Hz",
     )?;
+    let low_key = key!(ctx, accuracy, raw, noise_low_hz);
+    let noise_low = low_key.number("hertz")?.unwrap_or(defaults::NOISE_LOW_HZ);
+    check(
+        &low_key,
+        noise_low,
+        noise_low > 0.0,
+        "a lowest noise frequency above 0 Hz",
+    )?;
     Ok(Accuracy {
         max_error_pct_fs: max_error,
         basis,
@@ -886,6 +900,7 @@ fn accuracy<W: Field>(raw: Option<&RawAccuracy<W>>, ctx: &Ctx<'_>) -> Result<Acc
         temp_max: Celsius(temp_max),
         calibration,
         bandwidth: Hertz(bandwidth),
+        noise_low: Hertz(noise_low),
         reference_box_c: None,
         filter_target_pct_fs: None,
     })

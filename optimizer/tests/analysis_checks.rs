@@ -416,6 +416,106 @@ fn with_a_filter_the_noise_runs_over_the_chain_response() {
     close(droop, filter.report.droop_pct_fs, 1e-9, "droop line");
 }
 
+/// An invented op-amp whose voltage noise dominates (100 nV/rtHz white,
+/// its 1/f corner at 1 kHz, no current noise) and an invented capacitor
+/// family.
+const NOISY_OPAMP: &str = "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty,psrr_min_db,en_corner_hz\n\
+TA-NOISY,1,1,40,0,0,0,0,0,0,0,0,200,100,100,0,200,1,100,400,1000\n";
+
+/// The closed forms of one pole `p` from `f_L` up (handbook integrals,
+/// common practice): white `p (pi/2 - atan(f_L/p))`, and the 1/f weight
+/// `ln(1 + (p/f_L)^2) / 2` (about `ln(p/f_L)`, the handbook's
+/// `fc ln(fH/fL)` with `fH` the pole).
+fn one_pole(p: f64, low: f64) -> (f64, f64) {
+    (
+        p * (std::f64::consts::FRAC_PI_2 - (low / p).atan()),
+        0.5 * (p / low).powi(2).ln_1p(),
+    )
+}
+
+/// 1/f noise: an op-amp of 100 nV/rtHz with a 1 kHz corner as a near-unity
+/// follower. Without a filter (no capacitors) its output power is the one
+/// pole at `GBW / NG` from `accuracy.noise_low_hz` up, `en^2 (p (pi/2 -
+/// atan(f_L/p)) + fc ln(1 + (p/f_L)^2)/2)` (handbook closed form). With a
+/// filter pair the chain's response is the pair's pole (the stage pole
+/// far above), and the integral over the real response meets the same
+/// closed form at the chain's corner within 0.5 %, at two low limits
+/// (the noise line grows by `en^2 fc ln 10` from 0.1 Hz to 0.01 Hz).
+#[test]
+fn flicker_noise_meets_the_one_pole_closed_form() {
+    let file = |name: &str, text: &str| StockFile {
+        name: name.to_string(),
+        bytes: text.as_bytes().to_vec(),
+    };
+    let capacitors = "part_id,series,min_farads,max_farads,tolerance_pct,tempco_ppm_per_c,\
+                      dielectric,rated_v,package,unit_cost,stock_qty\n\
+                      TC-1,E12,1e-11,1e-5,5,30,C0G,50,0603,0.01,\n";
+    let with_pair = parse_stock(&[
+        file("resistors.csv", TEST_RESISTORS),
+        file("opamps.csv", NOISY_OPAMP),
+        file("references.csv", TEST_REFERENCES),
+        file("capacitors.csv", capacitors),
+    ])
+    .expect("the test stock parses");
+    let without = parse_stock(&[
+        file("resistors.csv", TEST_RESISTORS),
+        file("opamps.csv", NOISY_OPAMP),
+        file("references.csv", TEST_REFERENCES),
+    ])
+    .expect("the test stock parses");
+    let (rf, rg) = (1.0, 1.0e6);
+    let gain = 1.0 + rf / rg;
+    let (en, fc) = (100e-9, 1000.0);
+    let kt4 = 4.0 * CODATA_BOLTZMANN * (27.0 + 273.15);
+    for low in [0.1, 0.01] {
+        let text = format!(
+            "[sensor]\nsignal_low_v = 0\nsignal_high_v = 1\n\
+             [adc]\nlow_v = 0\nhigh_v = 3\nbits = 12\nmargin_pct = 0\n\
+             [supply]\npositive_v = 5\n\
+             [accuracy]\nmax_error_pct_fs = 1\ntemp_min_c = 27\ntemp_max_c = 27\n\
+             bandwidth_hz = 10\nnoise_low_hz = {low}\n"
+        );
+        let n = need(&text);
+        // No pair: the stage pole.
+        let (_, a) = run(&n, &without, non_inverting("TA-NOISY", rf, rg, ground()));
+        let (white, flicker) = one_pole(100e6 / gain, low);
+        let want = (gain * en).powi(2) * (white + fc * flicker);
+        // The 1 ohm feedback resistor adds 4 k T / en^2, under 2e-6.
+        close(
+            a.noise.rms_v.powi(2),
+            want,
+            1e-5,
+            "output power, stage pole",
+        );
+        close(
+            a.noise.flicker_share,
+            (gain * en).powi(2) * fc * flicker / want,
+            1e-5,
+            "1/f share, stage pole",
+        );
+        // With the pair: the chain's corner; the pair's series resistor
+        // adds its own white noise through the same pole.
+        let (m, a) = run(&n, &with_pair, non_inverting("TA-NOISY", rf, rg, ground()));
+        let filter = m.built().filter.as_ref().expect("a filter pair");
+        let corner = filter.report.corner_hz;
+        assert!(corner < 1e3, "the pair limits the band: {corner} Hz");
+        let (white, flicker) = one_pole(corner, low);
+        let amp = (gain * en).powi(2) * (white + fc * flicker);
+        let want = amp + kt4 * filter.series.ohms * white;
+        close(
+            a.noise.rms_v.powi(2),
+            want,
+            5e-3,
+            "output power over the chain",
+        );
+        assert!(
+            a.noise.flicker_share > 0.5,
+            "the 1/f part dominates below a 1 kHz corner: {}",
+            a.noise.flicker_share
+        );
+    }
+}
+
 /// Quantisation is +/-0.5 LSB with `LSB = FS / 2^bits` (common practice):
 /// 12 bits over 3 V gives 0.5/4096 of full scale.
 #[test]

@@ -12,9 +12,11 @@
 //!   Bode curve (stage poles included) within 0.05 dB, for every design
 //!   the solve returns;
 //! - `.noise` (source: ngspice on our own exported netlist, with the
-//!   op-amps' white voltage and current noise added as noise resistors
-//!   seen through controlled sources): the output noise integrated over
-//!   the band within 5 % of the report's noise line;
+//!   op-amps' voltage noise, white and 1/f, and their white current noise
+//!   added as noise resistors seen through controlled sources; the 1/f part
+//!   is the flicker noise ngspice computes natively for a resistor that
+//!   carries a DC current, `KF I^AF / f`): the output noise integrated from
+//!   `accuracy.noise_low_hz` up within 5 % of the report's noise line;
 //! - `.tran` (source: ngspice on our own exported netlist, with a model of
 //!   a sampling ADC input written here: a capacitor holding the other end
 //!   of the window, switched onto the ADC pin at the start of the
@@ -190,13 +192,69 @@ fn corner_nyquist_rejection_and_bode_match_ngspice() {
     }
 }
 
-/// The deck with the op-amps' white noise added, written by this test:
-/// each section's voltage noise `e_n` as a CCVS `HEN_<ref>` in place of
-/// its `VOS_<ref>` (same nodes), reading the noise current of a resistor
-/// `RNEN_<ref> = e_n^2 / (4 k T)` shorted by a 0 V source, so it
-/// reproduces `e_n` with the resistor's own thermal noise; each op-amp
-/// input's current noise `i_n` as a CCCS `FIN<P|N>_<ref>` beside its
-/// `IBP_<ref>` / `IBN_<ref>` (same nodes) from a resistor of
+/// The demo's in-amp design (`examples/demo-design.json`), whose in-amp
+/// model carries the part's GBW on both input amplifiers (a pole at
+/// `GBW / G`) and its output amplifier (a pole at the GBW): the deck's
+/// `.ac` response agrees with the reported Bode curve within 0.05 dB and
+/// with the corner within 2 % (source: ngspice on our own exported
+/// netlist); the Bode curve reaches a thousand times the corner, past the
+/// in-amp's own pole.
+#[test]
+fn in_amp_response_matches_ngspice() {
+    let (need, stock) = spanfit::api::load(need_text().as_bytes(), "need.toml", &[])
+        .expect("the test input is valid");
+    let design = spanfit::design::parse_design(
+        include_str!("../../examples/demo-design.json").as_bytes(),
+        "demo-design.json",
+        &stock,
+    )
+    .expect("the test input is valid");
+    let model = spanfit::analysis::Model::reported(&need, &stock, &design)
+        .expect("the test input is valid");
+    let filter = &model.built().filter.as_ref().expect("a filter").report;
+    let deck = artifacts(&need, &stock, &design)
+        .expect("the test input is valid")
+        .spice
+        .expect("the test input is valid");
+    assert!(deck.contains("GPOLE_A2") && deck.contains("GPOLE_A3"));
+    let fc = filter.corner_hz;
+    let mut frequencies = vec![1e-3 * fc, 0.98 * fc, 1.02 * fc];
+    let bode: Vec<_> = filter.bode.iter().step_by(6).collect();
+    frequencies.extend(bode.iter().map(|p| p.frequency_hz));
+    let db = magnitudes_db(&deck, &frequencies, "inamp");
+    let loss = |m: f64| db[0] - m;
+    let half_power_db = 10.0 * 2f64.log10();
+    assert!(
+        loss(db[1]) < half_power_db && loss(db[2]) > half_power_db,
+        "ngspice loss {} dB at 0.98 fc and {} dB at 1.02 fc (fc = {fc} Hz)",
+        loss(db[1]),
+        loss(db[2])
+    );
+    for (p, got) in bode.iter().zip(&db[3..]) {
+        assert!(
+            (got - p.magnitude_db).abs() < 0.05,
+            "at {} Hz ngspice {got} dB, reported {} dB",
+            p.frequency_hz,
+            p.magnitude_db
+        );
+    }
+}
+
+/// Volts across each voltage-noise resistor of [`with_amplifier_noise`],
+/// so it carries the DC current its flicker noise needs.
+const FLICKER_BIAS_V: f64 = 1.0;
+
+/// The deck with the op-amps' noise added, written by this test: each
+/// section's voltage noise `e_n` as a CCVS `HEN_<ref>` in place of its
+/// `VOS_<ref>` (same nodes), reading the noise current of a resistor
+/// `RNEN_<ref> = e_n^2 / (4 k T)` whose far end `VBN_<ref>` holds at
+/// [`FLICKER_BIAS_V`], its near end a 0 V source `VNEN_<ref>` (the DC
+/// current `I = V / R` returned by `ICAN_<ref>`, so the sensing source
+/// carries none), so it reproduces `e_n` with the resistor's own thermal
+/// noise and the 1/f part with its flicker noise, `KF I^2 / f` with
+/// `KF = 4 k T fc / (R I^2)` (`fc` the part's `en_corner_hz`); each
+/// op-amp input's white current noise `i_n` as a CCCS `FIN<P|N>_<ref>`
+/// beside its `IBP_<ref>` / `IBN_<ref>` (same nodes) from a resistor of
 /// `4 k T / i_n^2`. `T` is the hot end of the range, where the core takes
 /// the resistors' noise.
 fn with_amplifier_noise(
@@ -211,12 +269,17 @@ fn with_amplifier_noise(
     let mut extra = String::new();
     for s in &built.sections {
         let d = &s.designator;
-        let (en, inoise) = match s.kind {
+        let (en, corner, inoise) = match s.kind {
             AmplifierKind::OpAmp(i) => (
                 stock.opamps[i].en_nv_rthz * 1e-9,
+                stock.opamps[i].en_corner_hz,
                 stock.opamps[i].in_pa_rthz * 1e-12,
             ),
-            AmplifierKind::InAmp(i) => (stock.inamps[i].en_nv_rthz * 1e-9, 0.0),
+            AmplifierKind::InAmp(i) => (
+                stock.inamps[i].en_nv_rthz * 1e-9,
+                stock.inamps[i].en_corner_hz,
+                0.0,
+            ),
         };
         let vos = format!("VOS_{d} ");
         let Some(line) = lines.iter_mut().find(|l| l.starts_with(&vos)) else {
@@ -229,15 +292,16 @@ fn with_amplifier_noise(
             .map(str::to_string)
             .collect();
         if en > 0.0 {
-            *line = format!(
-                "HEN_{d} {} {} VNEN_{d} {:e}",
-                nodes[0],
-                nodes[1],
-                en * en / four_kt
-            );
+            let r = en * en / four_kt;
+            let amps = FLICKER_BIAS_V / r;
+            let kf = four_kt * corner / (r * amps * amps);
+            *line = format!("HEN_{d} {} {} VNEN_{d} {r:e}", nodes[0], nodes[1]);
             extra.push_str(&format!(
-                "RNEN_{d} nen_{d} 0 {:e}\nVNEN_{d} nen_{d} 0 DC 0\n",
-                en * en / four_kt
+                "RNEN_{d} nbn_{d} nen_{d} {r:e} rflicker_{d}\n\
+                 .model rflicker_{d} R(kf={kf:e} af=2)\n\
+                 VBN_{d} nbn_{d} 0 DC {FLICKER_BIAS_V:e}\n\
+                 VNEN_{d} nen_{d} 0 DC 0\n\
+                 ICAN_{d} nen_{d} 0 DC {amps:e}\n"
             ));
         }
         if inoise > 0.0 {
@@ -260,41 +324,94 @@ fn with_amplifier_noise(
     (lines.join("\n") + "\n", extra)
 }
 
+/// ngspice's `.noise` total from `accuracy.noise_low_hz` to 10 GHz on the
+/// exported deck of `design` with the amplifiers' noise added
+/// ([`with_amplifier_noise`]), against the analysis: the part ngspice
+/// computes (every source but the references, whose noise is a stated RMS
+/// with no spectrum in the deck) within 5 %, and the whole noise line.
+/// Returns the analysis's 1/f share and a line with the figures.
+fn noise_against_ngspice(
+    need: &Need,
+    stock: &Stock,
+    design: &spanfit::design::Design,
+    tag: &str,
+) -> (f64, String) {
+    let (model, analysis) =
+        spanfit::analysis::analyze(need, stock, design, 0, 1).expect("the test input is valid");
+    let deck = artifacts(need, stock, design)
+        .expect("the test input is valid")
+        .spice
+        .expect("the test input is valid");
+    let (deck, extra) = with_amplifier_noise(&deck, need, stock, model.built());
+    let control = format!(
+        "option temp={}\nnoise v(out) VSENSE dec 40 {:e} {:e}\nsetplot noise2\n\
+         let total = onoise_total\nprint total\n",
+        need.accuracy.temp_max.0, need.accuracy.noise_low.0, 1e10
+    );
+    let stdout = run(&deck, &extra, &control, tag);
+    let spectrum = printed(&stdout, "total");
+    let rms = analysis.noise.rms_v;
+    let reference2 = analysis.noise.shares[3] * rms * rms;
+    let ours = (rms * rms - reference2).max(0.0).sqrt();
+    let ngspice_rms = (spectrum * spectrum + reference2).sqrt();
+    let line = format!(
+        "{tag}: without the references ngspice {spectrum:e} V rms, ours {ours:e}; whole line \
+         ngspice {ngspice_rms:e}, ours {rms:e} (1/f share {})",
+        analysis.noise.flicker_share
+    );
+    assert!(
+        (spectrum / ours - 1.0).abs() < 0.05,
+        "{tag}: ngspice {spectrum:e} V rms, ours {ours:e} V rms (references apart)"
+    );
+    assert!(
+        (ngspice_rms / rms - 1.0).abs() < 0.05,
+        "{tag}: ngspice {ngspice_rms:e} V rms, ours {rms:e} V rms"
+    );
+    (analysis.noise.flicker_share, line)
+}
+
 #[test]
 fn output_noise_matches_ngspice_noise() {
     let (need, stock, designs) = solved(&need_text());
     for (k, d) in designs.iter().enumerate() {
         let design = design_of(&stock, d);
-        let (model, analysis) = spanfit::analysis::analyze(&need, &stock, &design, 0, 1)
+        let (_, analysis) = spanfit::analysis::analyze(&need, &stock, &design, 0, 1)
             .expect("the test input is valid");
         assert!(
             (analysis.noise.rms_v - d.error.noise.rms_v).abs() <= 1e-12 * d.error.noise.rms_v,
             "design {k}: the analysis is the report's"
         );
-        let deck = artifacts(&need, &stock, &design)
-            .expect("the test input is valid")
-            .spice
-            .expect("the test input is valid");
-        let (deck, extra) = with_amplifier_noise(&deck, &need, &stock, model.built());
-        let fc = d.filter.as_ref().expect("a filter").corner_hz;
-        let control = format!(
-            "option temp={}\nnoise v(out) VSENSE dec 40 {:e} {:e}\nsetplot noise2\n\
-             let total = onoise_total\nprint total\n",
-            need.accuracy.temp_max.0,
-            fc * 1e-4,
-            1e10
+        let (_, line) = noise_against_ngspice(&need, &stock, &design, &format!("noise{k}"));
+        eprintln!("{line}");
+    }
+}
+
+/// The 1/f part against ngspice: the demo's in-amp design (an in-amp and
+/// a buffer op-amp, each with a 1/f corner) with the in-amp's corner
+/// raised to 1 kHz, so the 1/f noise is most of the line, at two low
+/// limits of the noise line.
+#[test]
+fn flicker_noise_matches_ngspice_noise() {
+    for low in [0.1, 0.001] {
+        let text = need_text().replace(
+            "[accuracy]\n",
+            &format!("[accuracy]\nnoise_low_hz = {low}\n"),
         );
-        let stdout = run(&deck, &extra, &control, &format!("noise{k}"));
-        let white = printed(&stdout, "total");
-        // The reference's noise is its stated RMS (no spectrum in the deck).
-        let reference2 = analysis.noise.shares[3] * analysis.noise.rms_v.powi(2);
-        let ngspice_rms = (white * white + reference2).sqrt();
-        let reported = d.error.noise.rms_v;
-        eprintln!("design {k}: noise ngspice {ngspice_rms:e} V rms, reported {reported:e}");
-        assert!(
-            (ngspice_rms / reported - 1.0).abs() < 0.05,
-            "design {k}: ngspice {ngspice_rms:e} V rms, reported {reported:e} V rms"
-        );
+        let (need, mut stock) =
+            spanfit::api::load(text.as_bytes(), "need.toml", &[]).expect("the test input is valid");
+        assert_eq!(need.accuracy.noise_low.0, low);
+        for part in &mut stock.inamps {
+            part.en_corner_hz = 1000.0;
+        }
+        let design = spanfit::design::parse_design(
+            include_str!("../../examples/demo-design.json").as_bytes(),
+            "demo-design.json",
+            &stock,
+        )
+        .expect("the test input is valid");
+        let (share, line) = noise_against_ngspice(&need, &stock, &design, &format!("flicker{low}"));
+        eprintln!("{line}");
+        assert!(share > 0.5, "the 1/f part is most of the line: {share}");
     }
 }
 

@@ -118,6 +118,10 @@ pub struct Analysis {
     pub binding_end: usize,
 }
 
+/// Whether a built design gets a filter pair when reported, given its DC
+/// solution (see [`Model::candidate`]).
+pub(crate) type GetsPair<'a> = dyn Fn(&Built, &DcSolution) -> bool + 'a;
+
 /// The linear error model of a design (kept for fast re-use: Monte Carlo,
 /// the optimiser's verification).
 #[derive(Debug, Clone)]
@@ -170,9 +174,26 @@ impl Model {
     /// at the bounds the filter rules allow (`noise.rs`). Solve it, then
     /// collect its parameters, systematic terms, noise, stage ranges and
     /// findings.
+    ///
+    /// The noise bound counts on the pair's pole only when the design gets
+    /// a pair once reported ([`crate::filter::gets_pair`], decided here);
+    /// the search, which knows its pairs, calls [`Model::candidate`].
     pub fn new(need: &Need, stock: &Stock, design: &Design) -> Result<Model> {
+        let gets_pair =
+            |built: &Built, dc: &DcSolution| crate::filter::gets_pair(need, stock, built, dc);
+        Model::candidate(need, stock, design, &gets_pair)
+    }
+
+    /// [`Model::new`] with whether the design gets a pair decided by
+    /// `gets_pair` (given the built design and its DC solution).
+    pub(crate) fn candidate(
+        need: &Need,
+        stock: &Stock,
+        design: &Design,
+        gets_pair: &GetsPair<'_>,
+    ) -> Result<Model> {
         let built = build(need, stock, design)?;
-        Model::of_built(need, stock, design, built, noise::Response::Bounded)
+        Model::of_built(need, stock, design, built, Some(gets_pair))
     }
 
     /// Build the linear model of a design as it is reported: with the
@@ -182,15 +203,17 @@ impl Model {
     pub fn reported(need: &Need, stock: &Stock, design: &Design) -> Result<Model> {
         let built = build(need, stock, design)?;
         let (built, _) = crate::filter::attach(need, stock, &built);
-        Model::of_built(need, stock, design, built, noise::Response::AsBuilt)
+        Model::of_built(need, stock, design, built, None)
     }
 
+    /// The model of a built design: a search candidate when `gets_pair`
+    /// is given (the noise and droop at bounds), else as built.
     fn of_built(
         need: &Need,
         stock: &Stock,
         design: &Design,
         built: Built,
-        response: noise::Response,
+        gets_pair: Option<&GetsPair<'_>>,
     ) -> Result<Model> {
         let mut netlist = built.netlist.clone();
         let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
@@ -198,6 +221,12 @@ impl Model {
         let ideal = [k * signal[0] + b, k * signal[1] + b];
         let dc =
             DcSolution::solve(&mut netlist, built.vsense, signal, built.out).map_err(dc_error)?;
+        let response = match gets_pair {
+            Some(f) => noise::Response::Bounded {
+                pair: f(&built, &dc),
+            },
+            None => noise::Response::AsBuilt,
+        };
         let params = params::collect(need, stock, &built, &netlist, &dc);
         let systematic = systematic::terms(need, &built, &netlist, &dc, ideal, signal)?;
         let dynamic = noise::dynamic(need, stock, &built, &netlist, &dc, response);
@@ -210,7 +239,7 @@ impl Model {
             &netlist,
             &dc,
             &params,
-            response == noise::Response::Bounded,
+            response != noise::Response::AsBuilt,
         );
         let raw = extremes::output_half_range(&params);
         let raw_output_half = [raw[0] + noise.peak_v(), raw[1] + noise.peak_v()];

@@ -1,10 +1,13 @@
 //! Noise at the output and the gain droop at the signal bandwidth: the
 //! two budget lines that depend on the chain's frequency response.
 //!
-//! The white noise sources are resistor Johnson noise at the hot end of
-//! the temperature range, op-amp voltage and current noise; each is
-//! referred to the output and summed in power. Reference noise is taken
-//! as its stated RMS, referred to the output at DC.
+//! The sources are resistor Johnson noise at the hot end of the
+//! temperature range (white), op-amp and in-amp voltage noise with its 1/f
+//! part, density squared `en^2 (1 + fc/f)` (`fc` the part's
+//! `en_corner_hz`), and op-amp current noise (white); each is referred to
+//! the output and summed in power, from the need's lowest noise frequency
+//! `f_L` (`accuracy.noise_low_hz`) up. Reference noise is taken as its
+//! stated RMS, referred to the output at DC.
 //!
 //! How far up in frequency each source counts depends on what is known of
 //! the response ([`Response`]):
@@ -20,11 +23,16 @@
 //!   the noise of the design once it gets its pair: every source passes
 //!   through the last section's closed-loop pole (at most `GBW / NG`, its
 //!   noise gain from the DC adjoint; the output resistance only lowers
-//!   it) and through the filter, whose corner is at most the highest the
-//!   filter rules allow ([`crate::filter::highest_corner_hz`]); a chain of
-//!   real poles passes at most what its lowest pole passes, so the noise
-//!   bandwidth is at most `pi/2` times the lower of the two (handbook
-//!   closed form of one pole).
+//!   it) and, when the design will get a pair (the caller says so,
+//!   [`Response::Bounded`]), through the filter, whose corner is at most
+//!   the highest the filter rules allow
+//!   ([`crate::filter::highest_corner_hz`]); a chain of real poles passes
+//!   at most what its lowest pole `p` passes, `|H(f)|^2 <= |H(0)|^2 / (1 +
+//!   (f/p)^2)`. Over one pole, from `f_L` up (handbook closed forms):
+//!   white `en^2 p (pi/2 - atan(f_L/p))` (`pi/2 p` for `f_L` far below
+//!   `p`), 1/f `en^2 fc ln(1 + (p/f_L)^2) / 2` (`en^2 fc ln(p/f_L)` for
+//!   `f_L` far below `p`); both grow with `p`, so the lower of the two
+//!   poles' bounds is a bound.
 //!
 //! The droop: as built, `1 - |H(f_b)/H(0)|` from the AC solver at
 //! `accuracy.bandwidth_hz`; for a search candidate, the droop the filter
@@ -50,13 +58,17 @@ pub struct NoiseSummary {
     pub rms_v: f64,
     /// Peak-to-peak (6.6 sigma), volts.
     pub peak_to_peak_v: f64,
-    /// The noise bandwidth the white sources saw, Hz: their output noise
-    /// power over their output density at DC (for a chain of one pole,
-    /// `pi/2` times its corner).
+    /// The noise bandwidth the white parts of the sources saw, Hz: their
+    /// output noise power over their output density at DC (for a chain of
+    /// one pole, `pi/2` times its corner, less the band below
+    /// `accuracy.noise_low_hz`).
     pub noise_bandwidth_hz: f64,
     /// Share of the RMS power from resistor thermal noise, op-amp voltage
-    /// noise, op-amp current noise and reference noise (fractions).
+    /// noise (its 1/f part included), op-amp current noise and reference
+    /// noise (fractions).
     pub shares: [f64; 4],
+    /// Share of the RMS power from the amplifiers' 1/f noise (fraction).
+    pub flicker_share: f64,
 }
 
 impl NoiseSummary {
@@ -70,7 +82,12 @@ impl NoiseSummary {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub(crate) enum Response {
     /// A search candidate: the filter pair is not chosen yet; bounds.
-    Bounded,
+    /// `pair`: whether the design will get one when reported (only then
+    /// may the bound count on the filter's pole).
+    Bounded {
+        /// The design gets a pair when reported.
+        pair: bool,
+    },
     /// The design as built (with its pair if it has one): the response
     /// itself.
     AsBuilt,
@@ -86,7 +103,7 @@ pub(crate) struct Dynamic {
     pub droop_v: f64,
 }
 
-/// Where a white source enters the circuit.
+/// Where a source enters the circuit.
 #[derive(Debug, Clone, Copy)]
 enum Entry {
     /// A current between two nodes (a resistor's noise current).
@@ -97,15 +114,32 @@ enum Entry {
     Branch(usize),
 }
 
-/// One white source: its category (0 resistor, 1 op-amp voltage, 2 op-amp
-/// current), where it enters, its density, and its transfer to the output
-/// at DC.
+/// One source: its category (0 resistor, 1 op-amp voltage, 2 op-amp
+/// current), where it enters, its white density, its 1/f corner (Hz, 0
+/// for none: density squared `density^2 (1 + corner_hz / f)`), and its
+/// transfer to the output at DC.
 #[derive(Debug, Clone, Copy)]
 struct WhiteSource {
     category: usize,
     entry: Entry,
     density: f64,
+    corner_hz: f64,
     dc_gain: f64,
+}
+
+/// `integral from low to infinity of df / (1 + (f/pole)^2)`, Hz: the
+/// white noise bandwidth of one pole counted from `low` (handbook closed
+/// form; `pi/2 pole` from 0).
+pub(crate) fn white_band_hz(pole: f64, low: f64) -> f64 {
+    pole * (FRAC_PI_2 - (low / pole).atan())
+}
+
+/// `integral from low to infinity of df / (f (1 + (f/pole)^2))`: the
+/// weight of a 1/f corner over one pole counted from `low` (handbook
+/// closed form, `ln(pole/low)` for `low` far below the pole). Times
+/// `en^2 fc` it is the 1/f part of the output power.
+pub(crate) fn flicker_band(pole: f64, low: f64) -> f64 {
+    0.5 * (pole / low).powi(2).ln_1p()
 }
 
 /// Points a decade of the noise integral (trapezoids in `ln f`; for one
@@ -138,21 +172,28 @@ fn white_sources(
             category: 0,
             entry: Entry::Across(a, b),
             density: johnson_noise_density(Ohms(ohms), t_hot) / ohms,
+            corner_hz: 0.0,
             dc_gain: dc.node_adjoint(a) - dc.node_adjoint(b),
         });
     }
     for section in &built.sections {
-        let (voltage_density, current_density) = match section.kind {
+        let (voltage_density, corner_hz, current_density) = match section.kind {
             AmplifierKind::OpAmp(i) => (
                 stock.opamps[i].en_nv_rthz * 1e-9,
+                stock.opamps[i].en_corner_hz,
                 stock.opamps[i].in_pa_rthz * 1e-12,
             ),
-            AmplifierKind::InAmp(i) => (stock.inamps[i].en_nv_rthz * 1e-9, 0.0),
+            AmplifierKind::InAmp(i) => (
+                stock.inamps[i].en_nv_rthz * 1e-9,
+                stock.inamps[i].en_corner_hz,
+                0.0,
+            ),
         };
         sources.push(WhiteSource {
             category: 1,
             entry: Entry::Branch(section.vos),
             density: voltage_density,
+            corner_hz: corner_hz.max(0.0),
             dc_gain: dc.branch_adjoint(section.vos),
         });
         for node in [section.plus, section.minus] {
@@ -161,6 +202,7 @@ fn white_sources(
                     category: 2,
                     entry: Entry::Into(node),
                     density: current_density,
+                    corner_hz: 0.0,
                     dc_gain: dc.node_adjoint(node),
                 });
             }
@@ -239,7 +281,9 @@ pub(crate) fn dynamic(
 ) -> Dynamic {
     let sources = white_sources(need, stock, built, netlist, dc);
     let reference2 = reference_power(stock, built, dc);
+    let low = need.accuracy.noise_low.0;
     let mut white = [0.0f64; 3];
+    let mut flicker = [0.0f64; 3];
     let mut dc_density2 = 0.0;
     for s in &sources {
         dc_density2 += (s.dc_gain * s.density).powi(2);
@@ -250,11 +294,11 @@ pub(crate) fn dynamic(
     };
     let bandwidth = need.accuracy.bandwidth.0;
     let integrated = match response {
-        Response::AsBuilt if built.filter.is_some() => integrate(stock, built, &sources),
+        Response::AsBuilt if built.filter.is_some() => integrate(stock, built, &sources, low),
         _ => None,
     };
     let droop_v = match response {
-        Response::Bounded => {
+        Response::Bounded { .. } => {
             let filter = if crate::filter::stock_has_capacitors(stock) {
                 crate::filter::droop_allowance_v(need)
             } else {
@@ -265,11 +309,13 @@ pub(crate) fn dynamic(
         Response::AsBuilt => as_built_droop(stock, built, bandwidth) * span,
     };
     match integrated {
-        Some(powers) => white = powers,
+        Some(powers) => (white, flicker) = powers,
         None => {
             // One bound for every source: the lowest pole all of them pass.
             let mut corner = driver_pole_hz(stock, built, dc);
-            if response == Response::Bounded && crate::filter::stock_has_capacitors(stock) {
+            if response == (Response::Bounded { pair: true })
+                && crate::filter::stock_has_capacitors(stock)
+            {
                 corner = corner.min(crate::filter::highest_corner_hz(need));
             }
             if !corner.is_finite() {
@@ -285,16 +331,24 @@ pub(crate) fn dynamic(
                     corner = need.accuracy.bandwidth.0;
                 }
             }
-            let enbw = FRAC_PI_2 * corner;
+            let enbw = white_band_hz(corner, low);
+            let weight = flicker_band(corner, low);
             for s in &sources {
-                white[s.category] += (s.dc_gain * s.density).powi(2) * enbw;
+                let p = (s.dc_gain * s.density).powi(2);
+                white[s.category] += p * enbw;
+                flicker[s.category] += p * s.corner_hz * weight;
             }
         }
+    }
+    let flicker_total: f64 = flicker.iter().sum();
+    for (w, f) in white.iter_mut().zip(flicker) {
+        // From here on a category's power holds its 1/f part.
+        *w += f;
     }
     let total2 = white.iter().sum::<f64>() + reference2;
     let rms = total2.sqrt();
     let share = |x: f64| if total2 > 0.0 { x / total2 } else { 0.0 };
-    let white_total: f64 = white.iter().sum();
+    let white_total: f64 = white.iter().sum::<f64>() - flicker_total;
     let noise = NoiseSummary {
         rms_v: rms,
         peak_to_peak_v: rms * PEAK_TO_PEAK_PER_RMS,
@@ -309,6 +363,7 @@ pub(crate) fn dynamic(
             share(white[2]),
             share(reference2),
         ],
+        flicker_share: share(flicker_total),
     };
     Dynamic {
         noise,
@@ -318,7 +373,8 @@ pub(crate) fn dynamic(
 
 /// The droop of every section's closed-loop pole at `frequency`, each at
 /// no lower than `GBW / NG` with its own noise gain (one more adjoint solve
-/// of the DC factors a section), as a fraction of the signal:
+/// of the DC factors a section; an in-amp's `NG` is its gain, and its
+/// output amplifier adds a pole at its GBW), as a fraction of the signal:
 /// `1 - prod 1/sqrt(1 + (f NG / GBW)^2)`.
 fn stage_droop(stock: &Stock, built: &Built, dc: &DcSolution, frequency: f64) -> f64 {
     let mut pass = 1.0f64;
@@ -339,6 +395,12 @@ fn stage_droop(stock: &Stock, built: &Built, dc: &DcSolution, frequency: f64) ->
         .max(1.0);
         let x = frequency * noise_gain / gbw;
         pass /= (1.0 + x * x).sqrt();
+        if let AmplifierKind::InAmp(_) = s.kind {
+            // The in-amp's output amplifier: a second pole at its GBW
+            // (`crate::filter::amplifiers`).
+            let y = frequency / gbw;
+            pass /= (1.0 + y * y).sqrt();
+        }
     }
     1.0 - pass
 }
@@ -362,10 +424,16 @@ fn as_built_droop(stock: &Stock, built: &Built, frequency: f64) -> f64 {
     }
 }
 
-/// Integrate every white source's output density over the chain's AC
-/// response (with the filter pair): per category, the output power,
-/// volts squared. Returns `None` when the AC solve fails.
-fn integrate(stock: &Stock, built: &Built, sources: &[WhiteSource]) -> Option<[f64; 3]> {
+/// Integrate every source's output density over the chain's AC response
+/// (with the filter pair) from `low` up: per category, the output power of
+/// the white parts and of the 1/f parts, volts squared. Returns `None`
+/// when the AC solve fails.
+fn integrate(
+    stock: &Stock,
+    built: &Built,
+    sources: &[WhiteSource],
+    low: f64,
+) -> Option<([f64; 3], [f64; 3])> {
     let amplifiers = crate::filter::amplifiers(stock, built);
     let netlist = &built.netlist;
     let mut solver = AcSolver::new(netlist, &amplifiers);
@@ -373,13 +441,17 @@ fn integrate(stock: &Stock, built: &Built, sources: &[WhiteSource]) -> Option<[f
     let rc = filter.series.ohms * filter.shunt.value.0;
     let filter_corner = 1.0 / (2.0 * PI * rc);
     let top_gbw = amplifiers.iter().map(|a| a.gbw_hz).fold(0.0, f64::max);
-    let low = filter_corner * 1e-3;
-    let high = top_gbw.max(filter_corner) * 10.0;
-    let count = ((high / low).log10() * POINTS_PER_DECADE).ceil().max(2.0) as usize + 1;
-    let grid = crate::mna_ac::log_frequencies(low, high, count);
-    let density = |solver: &mut AcSolver, f: f64| -> Option<[f64; 3]> {
+    // The grid starts a thousandth of the pair's corner down, or at the
+    // low limit when that is higher.
+    let start = (filter_corner * 1e-3).max(low);
+    let high = top_gbw.max(filter_corner).max(start) * 10.0;
+    let count = ((high / start).log10() * POINTS_PER_DECADE).ceil().max(2.0) as usize + 1;
+    let grid = crate::mna_ac::log_frequencies(start, high, count);
+    // Per category: the white density at the output, and the 1/f
+    // density times f (each source's `|h|^2 density^2 corner_hz`).
+    let density = |solver: &mut AcSolver, f: f64| -> Option<[[f64; 3]; 2]> {
         solver.solve_adjoint(netlist, built.out, f).ok()?;
-        let mut p = [0.0; 3];
+        let mut p = [[0.0; 3]; 2];
         for s in sources {
             let h = match s.entry {
                 Entry::Across(a, b) => {
@@ -389,28 +461,36 @@ fn integrate(stock: &Stock, built: &Built, sources: &[WhiteSource]) -> Option<[f
                 Entry::Into(n) => solver.node_transfer(n).abs(),
                 Entry::Branch(e) => solver.branch_transfer(e).abs(),
             };
-            p[s.category] += (h * s.density).powi(2);
+            let g = (h * s.density).powi(2);
+            p[0][s.category] += g;
+            p[1][s.category] += g * s.corner_hz;
         }
         Some(p)
     };
-    // Below the grid the response is flat (no coupling capacitors).
+    // From `low` to the grid the response is flat (no coupling
+    // capacitors): white `g (start - low)`, 1/f `g fc ln(start/low)`.
     let first = density(&mut solver, grid[0])?;
-    let mut total = first.map(|p| p * grid[0]);
+    let mut white = first[0].map(|p| p * (grid[0] - low));
+    let mut flicker = first[1].map(|p| p * (grid[0] / low).ln());
     let mut last = (grid[0], first);
+    // Trapezoids in ln f: white `g f`, 1/f `g fc`.
     for &f in &grid[1..] {
         let p = density(&mut solver, f)?;
         let step = (f / last.0).ln();
-        for ((t, now), before) in total.iter_mut().zip(p).zip(last.1) {
-            *t += 0.5 * (now * f + before * last.0) * step;
+        for c in 0..3 {
+            white[c] += 0.5 * (p[0][c] * f + last.1[0][c] * last.0) * step;
+            flicker[c] += 0.5 * (p[1][c] + last.1[1][c]) * step;
         }
         last = (f, p);
     }
     // Above the grid every path ends in the pair's pole: the density falls
-    // at least as 1/f^2, so the tail is at most g(b) b.
-    for (t, end) in total.iter_mut().zip(last.1) {
-        *t += end * last.0;
+    // at least as 1/f^2, so the white tail is at most g(b) b and the 1/f
+    // tail at most g(b) fc / 2.
+    for c in 0..3 {
+        white[c] += last.1[0][c] * last.0;
+        flicker[c] += 0.5 * last.1[1][c];
     }
-    Some(total)
+    Some((white, flicker))
 }
 
 #[cfg(test)]
@@ -434,5 +514,34 @@ mod tests {
         total += g(high) * high;
         let want = FRAC_PI_2 * fc;
         assert!((total / want - 1.0).abs() < 5e-3, "{total} against {want}");
+    }
+
+    /// The same rule for the 1/f part over one pole, as [`integrate`] runs
+    /// it (a flat part from `f_L` to the grid, trapezoids of `g fc` in
+    /// `ln f`, the `g(b) fc / 2` tail), against the closed form
+    /// `fc ln(1 + (p/f_L)^2) / 2`, and that against the handbook's
+    /// `fc ln(p/f_L)` (common practice) for `f_L` far below the pole.
+    #[test]
+    fn the_flicker_rule_meets_the_handbook_closed_form() {
+        let (p, fc, low): (f64, f64, f64) = (1234.0, 100.0, 0.1);
+        let (start, high) = (p * 1e-3, p * 1e4);
+        let count = ((high / start).log10() * POINTS_PER_DECADE).ceil() as usize + 1;
+        let grid = crate::mna_ac::log_frequencies(start, high, count);
+        let g = |f: f64| 1.0 / (1.0 + (f / p).powi(2));
+        let mut total = g(start) * fc * (start / low).ln();
+        for w in grid.windows(2) {
+            total += 0.5 * (g(w[1]) + g(w[0])) * fc * (w[1] / w[0]).ln();
+        }
+        total += 0.5 * g(high) * fc;
+        let want = fc * flicker_band(p, low);
+        assert!((total / want - 1.0).abs() < 1e-3, "{total} against {want}");
+        let handbook = fc * (p / low).ln();
+        assert!(
+            (want / handbook - 1.0).abs() < 1e-6,
+            "{want} against {handbook}"
+        );
+        // The white band from f_L: pi/2 p less about f_L.
+        let white = white_band_hz(p, low);
+        assert!((white - (FRAC_PI_2 * p - low)).abs() < 1e-6 * p, "{white}");
     }
 }

@@ -19,7 +19,9 @@
 
 mod response;
 
-pub use response::{amplifiers, analyse, FilterCheck, FilterReport, FilterStatus};
+pub use response::{
+    amplifiers, analyse, FilterCheck, FilterReport, FilterStatus, INAMP_OUTPUT_GBW_FACTOR,
+};
 
 use crate::design::Resistor;
 use crate::mna::DcSolution;
@@ -74,7 +76,10 @@ pub struct Driver {
 }
 
 /// A driving part's figures for [`Driver`] with noise gain 1: its
-/// gain-bandwidth, output resistance, output current and widest step.
+/// gain-bandwidth, output resistance, output current and widest step. An
+/// in-amp drives through its output amplifier, whose loop gain
+/// (`INAMP_OUTPUT_GBW_FACTOR` GBW over its noise gain of 2) is the part's
+/// GBW over `f` whatever the in-amp's gain: its driver keeps noise gain 1.
 pub fn driver_of(need: &Need, stock: &Stock, kind: AmplifierKind) -> Option<Driver> {
     let (gbw_mhz, output_ohms, output_ma) = match kind {
         AmplifierKind::OpAmp(i) => {
@@ -138,17 +143,41 @@ pub struct Bounds {
 
 /// The section driving the chain's output, with its noise gain.
 pub fn driver(need: &Need, stock: &Stock, built: &Built) -> Option<Driver> {
-    let section: &Section = built.sections.iter().find(|s| s.out == built.out)?;
-    let part = driver_of(need, stock, section.kind)?;
     let mut netlist = built.netlist.clone();
     let low = need.sensor.signal_low.0;
     let dc = DcSolution::solve(&mut netlist, built.vsense, [low, low], built.out).ok()?;
-    let noise_gain = dc.branch_adjoint(section.vos).abs().max(1.0);
+    driver_from(need, stock, built, &dc)
+}
+
+/// [`driver`] from a DC solution of the design already at hand (its
+/// output adjoint gives the noise gain; an in-amp's stays 1, see
+/// [`driver_of`]).
+pub fn driver_from(need: &Need, stock: &Stock, built: &Built, dc: &DcSolution) -> Option<Driver> {
+    let section: &Section = built.sections.iter().find(|s| s.out == built.out)?;
+    let part = driver_of(need, stock, section.kind)?;
+    let noise_gain = match section.kind {
+        AmplifierKind::OpAmp(_) => dc.branch_adjoint(section.vos).abs().max(1.0),
+        AmplifierKind::InAmp(_) => 1.0,
+    };
     Some(Driver {
         designator: section.designator.clone(),
         noise_gain,
         ..part
     })
+}
+
+/// Whether a built design without a pair gets one when reported, as
+/// [`attach`] chooses it (the driver from `dc`, the parts the design's own
+/// resistors leave on the shelf).
+pub fn gets_pair(need: &Need, stock: &Stock, built: &Built, dc: &DcSolution) -> bool {
+    if built.filter.is_some() {
+        return true;
+    }
+    if stock.capacitors.is_empty() {
+        return false;
+    }
+    driver_from(need, stock, built, dc)
+        .is_some_and(|d| choose_within(need, stock, &d, &resistors_used(built)).is_some())
 }
 
 /// The worst-case step a sampling capacitor meets at the start of an

@@ -87,28 +87,59 @@ pub enum FilterStatus {
     },
 }
 
+/// The unity-gain frequency of an in-amp model's output (difference)
+/// amplifier, as a multiple of the part's `gbw_mhz`: its noise gain is 2
+/// (four equal resistors), so its closed-loop pole sits at `gbw_mhz`, the
+/// part's bandwidth at gain 1 (our model of a three-amplifier in-amp, from
+/// memory: the output stage is as fast as the input stage at unity gain).
+pub const INAMP_OUTPUT_GBW_FACTOR: f64 = 2.0;
+
 /// The AC model of every amplifier section of a built design: its gain
-/// element with the part's GBW and output resistance (an in-amp's on its
-/// first internal amplifier, at [`DEFAULT_OUTPUT_OHMS`]).
+/// element with the part's GBW and output resistance. An in-amp's model
+/// has three: both input amplifiers at the part's GBW with no output
+/// resistance (in differential mode each has noise gain `G`, so the input
+/// stage's closed-loop pole is at `GBW / G`, falling with the gain as a
+/// real in-amp's bandwidth does), and the output amplifier at
+/// [`INAMP_OUTPUT_GBW_FACTOR`] times it behind [`DEFAULT_OUTPUT_OHMS`]
+/// (a second pole at the GBW).
 pub fn amplifiers(stock: &Stock, built: &Built) -> Vec<AcAmplifier> {
-    built
-        .sections
-        .iter()
-        .filter_map(|s| {
-            let (gbw_mhz, output_ohms) = match s.kind {
-                AmplifierKind::OpAmp(i) => {
-                    let p = stock.opamps.get(i)?;
-                    (p.gbw_mhz, p.output_ohms)
+    let mut out = Vec::with_capacity(built.sections.len());
+    for s in &built.sections {
+        match s.kind {
+            AmplifierKind::OpAmp(i) => {
+                if let Some(p) = stock.opamps.get(i) {
+                    out.push(AcAmplifier {
+                        element: s.gain_element,
+                        gbw_hz: p.gbw_mhz * 1e6,
+                        output_ohms: p.output_ohms,
+                    });
                 }
-                AmplifierKind::InAmp(i) => (stock.inamps.get(i)?.gbw_mhz, DEFAULT_OUTPUT_OHMS),
-            };
-            Some(AcAmplifier {
-                element: s.gain_element,
-                gbw_hz: gbw_mhz * 1e6,
-                output_ohms,
-            })
-        })
-        .collect()
+            }
+            AmplifierKind::InAmp(i) => {
+                let Some(p) = stock.inamps.get(i) else {
+                    continue;
+                };
+                let gbw_hz = p.gbw_mhz * 1e6;
+                let inside =
+                    |name: &str| built.netlist.element(&format!("{}.{name}", s.designator));
+                for element in [Some(s.gain_element), inside("EA2")].into_iter().flatten() {
+                    out.push(AcAmplifier {
+                        element,
+                        gbw_hz,
+                        output_ohms: 0.0,
+                    });
+                }
+                if let Some(element) = inside("EA3") {
+                    out.push(AcAmplifier {
+                        element,
+                        gbw_hz: INAMP_OUTPUT_GBW_FACTOR * gbw_hz,
+                        output_ohms: DEFAULT_OUTPUT_OHMS,
+                    });
+                }
+            }
+        }
+    }
+    out
 }
 
 /// The chain's response, normalised to DC: `|H(f)/H(0)|^2`.

@@ -199,6 +199,12 @@ pub(crate) const NUMBER_RANGES: &[NumberRange] = &[
         unit: "hertz",
     },
     NumberRange {
+        key: "accuracy.noise_low_hz",
+        min: 1e-9,
+        max: 1e6,
+        unit: "hertz",
+    },
+    NumberRange {
         key: "search.max_stages",
         min: 1.0,
         max: 3.0,

@@ -269,6 +269,7 @@ fn error_figures(need: &Need, a: &Analysis) -> ErrorFigures {
         }),
         meets_target: a.meets_target,
         noise: NoiseReport {
+            flicker_share: a.noise.flicker_share,
             noise_bandwidth_hz: a.noise.noise_bandwidth_hz,
             pct_fs_pp: if fs > 0.0 {
                 100.0 * a.noise.peak_to_peak_v / fs

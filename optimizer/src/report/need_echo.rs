@@ -78,6 +78,7 @@ pub fn need_tables(need: &Need) -> [Value; 6] {
         ("temp_max_c", Some(json!(c.temp_max.0))),
         ("calibration", Some(json!(c.calibration.name()))),
         ("bandwidth_hz", Some(json!(c.bandwidth.0))),
+        ("noise_low_hz", Some(json!(c.noise_low.0))),
     ]);
     let o = &need.search;
     let search = table(vec![

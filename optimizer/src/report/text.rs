@@ -561,7 +561,10 @@ fn write_budget(out: &mut String, need: &Need, d: &DesignReport) {
     ));
     if fs > 0.0 {
         table.row(row(
-            "noise, peak to peak (6.6 sigma)",
+            &format!(
+                "noise, peak to peak (6.6 sigma; 1/f {} % of the power)",
+                num(100.0 * e.noise.flicker_share, 2)
+            ),
             e.noise.pct_fs_pp,
             "apart",
         ));

@@ -423,6 +423,9 @@ pub struct BudgetEntry {
 /// Output noise figures.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct NoiseReport {
+    /// Share of the RMS power from the amplifiers' 1/f noise, counted
+    /// from `accuracy.noise_low_hz` (fraction).
+    pub flicker_share: f64,
     /// Noise bandwidth, Hz.
     pub noise_bandwidth_hz: f64,
     /// Peak to peak, % FS (null when the full scale is not positive).

@@ -493,7 +493,10 @@ fn search_structure(
         };
         if !skip {
             let design = walk.design(problem, shapes, options, &picks);
-            if let Ok(model) = Model::new(problem.need, stock, &design) {
+            let gets_pair = |b: &crate::topology::Built, dc: &crate::mna::DcSolution| {
+                problem.pairs.gets_pair(b, dc)
+            };
+            if let Ok(model) = Model::candidate(problem.need, stock, &design, &gets_pair) {
                 if fixed.is_none() {
                     let c = costing(model.built(), line);
                     let resistor_lines = model

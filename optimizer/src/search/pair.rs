@@ -48,8 +48,9 @@
 
 use crate::design::Resistor;
 use crate::filter::{
-    choose, choose_within, driver, driver_of, resistors_used, Driver, FilterParts,
+    choose, choose_within, driver, driver_from, driver_of, resistors_used, Driver, FilterParts,
 };
+use crate::mna::DcSolution;
 use crate::need::Need;
 use crate::stock::Stock;
 use crate::topology::{AmplifierKind, Built};
@@ -195,7 +196,39 @@ impl<'s> FilterPairs<'s> {
     /// own resistors, else the pair chosen from what is left (as
     /// [`crate::filter::attach`] chooses it).
     pub(crate) fn pair_for(&self, built: &Built) -> Option<FilterParts> {
-        let pair = self.pair_whole_shelf(built)?;
+        let sampled = if self.sampling {
+            Some(driver(self.need, self.stock, built)?)
+        } else {
+            None
+        };
+        self.pair_with(built, sampled)
+    }
+
+    /// Whether a built design (without a filter of its own) gets a pair
+    /// when reported: [`FilterPairs::pair_for`] with the driver's noise
+    /// gain from the design's own DC solution. The noise bound of a
+    /// search candidate counts on the pair's pole only when it does
+    /// (`analysis/noise.rs`): a design no pair fits is reported without
+    /// one, its noise then through the stage poles alone.
+    pub(crate) fn gets_pair(&self, built: &Built, dc: &DcSolution) -> bool {
+        if built.filter.is_some() {
+            return true;
+        }
+        let sampled = if self.sampling {
+            match driver_from(self.need, self.stock, built, dc) {
+                Some(d) => Some(d),
+                None => return false,
+            }
+        } else {
+            None
+        };
+        self.pair_with(built, sampled).is_some()
+    }
+
+    /// [`FilterPairs::pair_for`] with the driver of a sampling input given
+    /// (`None` without one).
+    fn pair_with(&self, built: &Built, sampled: Option<Driver>) -> Option<FilterParts> {
+        let pair = self.pair_whole_shelf(built, sampled.as_ref())?;
         let used = resistors_used(built);
         let limit = self
             .stock
@@ -206,17 +239,17 @@ impl<'s> FilterPairs<'s> {
             return Some(pair);
         }
         let section = built.sections.iter().find(|s| s.out == built.out)?;
-        let d = if self.sampling {
-            driver(self.need, self.stock, built)?
-        } else {
+        let d = match sampled {
+            Some(d) => d,
             // Without a sampling input the noise gain enters no rule.
-            driver_of(self.need, self.stock, section.kind)?
+            None => driver_of(self.need, self.stock, section.kind)?,
         };
         choose_within(self.need, self.stock, &d, &used)
     }
 
-    /// The pair a built design's driving part gets with the whole shelf.
-    fn pair_whole_shelf(&self, built: &Built) -> Option<FilterParts> {
+    /// The pair a built design's driving part gets with the whole shelf
+    /// (`sampled`: its driver, with a sampling input).
+    fn pair_whole_shelf(&self, built: &Built, sampled: Option<&Driver>) -> Option<FilterParts> {
         let section = built.sections.iter().find(|s| s.out == built.out)?;
         let (is_opamp, index) = match section.kind {
             AmplifierKind::OpAmp(i) => (true, i),
@@ -230,12 +263,12 @@ impl<'s> FilterPairs<'s> {
             };
             return entry.and_then(|e| e.1.clone());
         }
-        let d = driver(self.need, self.stock, built)?;
+        let d = sampled?;
         let key = (is_opamp, index, d.noise_gain.to_bits());
         if let Some(hit) = self.cache.borrow().get(&key) {
             return hit.clone();
         }
-        let pair = choose(self.need, self.stock, &d);
+        let pair = choose(self.need, self.stock, d);
         let mut cache = self.cache.borrow_mut();
         if cache.len() < CACHE_ENTRIES {
             cache.insert(key, pair.clone());
@@ -315,5 +348,42 @@ mod tests {
             let placed = attached.filter.map(|f| (f.series, f.shunt));
             assert_eq!(counted.map(|p| (p.series, p.shunt)), placed);
         }
+    }
+
+    /// Capacitors on the shelf, but none that any pair can use (1 fF: the
+    /// `R C` the rules ask would need a resistor far beyond the stock), so
+    /// the design is reported without a pair and its noise runs up to the
+    /// stage pole. The search's noise bound must then not count on the
+    /// pair's pole: the candidate's noise peak is at least the reported
+    /// one (here equal: the same closed form), while a bound that assumed
+    /// a pair would fall below it.
+    #[test]
+    fn without_a_pair_the_noise_bound_stays_above_the_reported_noise() {
+        let (need, mut stock) =
+            crate::api::load(crate::demo::NEED_TOML.as_bytes(), "demo", &[]).unwrap();
+        let mut tiny = stock.capacitors[0].clone();
+        tiny.value = crate::units::Farads(1e-15);
+        stock.capacitors = vec![tiny];
+        let design = crate::design::parse_design(
+            include_str!("../../../examples/demo-design.json").as_bytes(),
+            "demo-design.json",
+            &stock,
+        )
+        .unwrap();
+        let built = crate::topology::build(&need, &stock, &design).unwrap();
+        let pairs = FilterPairs::new(&need, &stock);
+        assert!(pairs.pair_for(&built).is_none(), "no pair fits");
+        let reported = crate::analysis::Model::reported(&need, &stock, &design).unwrap();
+        assert!(reported.built().filter.is_none());
+        let gets_pair = |b: &Built, dc: &DcSolution| pairs.gets_pair(b, dc);
+        let candidate =
+            crate::analysis::Model::candidate(&need, &stock, &design, &gets_pair).unwrap();
+        let (bound, real) = (candidate.noise_peak_v(), reported.noise_peak_v());
+        assert!(bound >= real * (1.0 - 1e-12), "{bound} < {real}");
+        let alone = crate::analysis::Model::new(&need, &stock, &design).unwrap();
+        assert!((alone.noise_peak_v() / bound - 1.0).abs() < 1e-12);
+        let assumed = |_: &Built, _: &DcSolution| true;
+        let assuming = crate::analysis::Model::candidate(&need, &stock, &design, &assumed).unwrap();
+        assert!(assuming.noise_peak_v() < real, "the case this guards");
     }
 }

@@ -173,7 +173,11 @@ impl Optimised {
     ) -> Option<ReferenceBounds> {
         let picks: Vec<&ValueSet> = value_sets.iter().map(|sets| &sets[0]).collect();
         let reference_design = problem.design(group, &structure.grades, &picks);
-        let model = Model::new(problem.need, problem.stock, &reference_design).ok()?;
+        let gets_pair = |b: &crate::topology::Built, dc: &crate::mna::DcSolution| {
+            problem.pairs.gets_pair(b, dc)
+        };
+        let model =
+            Model::candidate(problem.need, problem.stock, &reference_design, &gets_pair).ok()?;
         state.evaluated += 1;
         self.splits
             .entry(structure.group)
@@ -276,7 +280,11 @@ impl Optimised {
             // that misses by it is cut without the corner solves of a full
             // report (the worst case is never below the first-order sum).
             let design = problem.design(group, &structure.grades, &picks);
-            let Ok(pick_model) = Model::new(problem.need, problem.stock, &design) else {
+            let gets_pair = |b: &crate::topology::Built, dc: &crate::mna::DcSolution| {
+                problem.pairs.gets_pair(b, dc)
+            };
+            let Ok(pick_model) = Model::candidate(problem.need, problem.stock, &design, &gets_pair)
+            else {
                 cuts.push(selection);
                 continue;
             };
