@@ -13,7 +13,7 @@ const NEED_KEYS = {
   sensor: ['label', 'signal_low_v', 'signal_high_v', 'quantity_low', 'quantity_high', 'quantity_unit', 'output', 'common_mode_v', 'source_ohms', 'source_tolerance_pct', 'source_tempco_ppm_per_c', 'excitation', 'common_mode_tolerance_pct'],
   adc: ['low_v', 'high_v', 'bits', 'margin_pct', 'sample_rate_hz', 'alias_rejection_db', 'sample_capacitance_pf', 'acquisition_time_ns'],
   supply: ['positive_v', 'negative_v', 'tolerance_pct', 'ratiometric'],
-  accuracy: ['max_error_pct_fs', 'basis', 'yield_pct', 'temp_min_c', 'temp_max_c', 'calibration', 'bandwidth_hz'],
+  accuracy: ['max_error_pct_fs', 'basis', 'yield_pct', 'temp_min_c', 'temp_max_c', 'calibration', 'bandwidth_hz', 'noise_low_hz'],
   search: ['max_stages', 'topologies', 'resistor_series', 'objective', 'bom_line_cost', 'max_parts', 'time_limit_ms'],
   stock: ['path', 'only'],
 };

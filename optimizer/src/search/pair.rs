@@ -214,6 +214,33 @@ impl<'s> FilterPairs<'s> {
         if built.filter.is_some() {
             return true;
         }
+        if !self.sampling {
+            // The part's own pair, without a clone, when one more of its
+            // resistor is left on the shelf (else the full choice below).
+            let Some(section) = built.sections.iter().find(|s| s.out == built.out) else {
+                return false;
+            };
+            let entry = match section.kind {
+                AmplifierKind::OpAmp(i) => self.opamps.get(i),
+                AmplifierKind::InAmp(i) => self.inamps.get(i),
+            };
+            let Some(pair) = entry.and_then(|e| e.1.as_ref()) else {
+                return false;
+            };
+            let id = pair.series.part_id.as_str();
+            let limit = self
+                .stock
+                .resistor_valued(id, pair.series.ohms)
+                .and_then(|p| p.stock_qty);
+            let placed = built
+                .resistors
+                .iter()
+                .filter(|r| r.part.part_id == id)
+                .count();
+            if limit.is_none_or(|q| usize::try_from(q).is_ok_and(|q| q > placed)) {
+                return true;
+            }
+        }
         let sampled = if self.sampling {
             match driver_from(self.need, self.stock, built, dc) {
                 Some(d) => Some(d),
