@@ -242,6 +242,7 @@ fn stages(candidate: &Candidate) -> Vec<StageEntry> {
 fn budget_entry(need: &Need, line: &BudgetLine) -> BudgetEntry {
     BudgetEntry {
         at_ends_pct_fs: line.at_ends_pct_fs,
+        explain: line.explain.clone(),
         line: line.line,
         lsb: line.lsb,
         pct_fs: line.pct_fs,

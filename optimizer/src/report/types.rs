@@ -404,6 +404,9 @@ pub struct ErrorFigures {
 pub struct BudgetEntry {
     /// Contribution at the low and high end of the span, % FS.
     pub at_ends_pct_fs: [f64; 2],
+    /// How the line is worked out: a formula over named inputs whose value
+    /// is `pct_fs`, with the parts behind each input.
+    pub explain: crate::analysis::LineExplain,
     /// Which contributor.
     pub line: Line,
     /// The same in LSB.
