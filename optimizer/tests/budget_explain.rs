@@ -246,3 +246,32 @@ fn the_explanations_follow_each_calibration() {
         "a two-point trim removes something and says so"
     );
 }
+
+#[test]
+fn the_totals_come_in_lsb_and_in_the_sensors_unit_from_the_core() {
+    let report = solve_report(spanfit::demo::NEED_TOML, "demo-need.toml");
+    let need = &report["need"];
+    let (fs, lsb) = (
+        need["full_scale_v"].as_f64().expect("full scale"),
+        need["lsb_v"].as_f64().expect("lsb"),
+    );
+    let per_unit = need["volts_per_unit"]
+        .as_f64()
+        .expect("the demo has a unit")
+        .abs();
+    let e = &report["design"]["error"];
+    for total in ["worst_case", "rss"] {
+        let pct = e[format!("{total}_pct_fs")].as_f64().expect("pct");
+        let in_lsb = e[format!("{total}_lsb")].as_f64().expect("lsb figure");
+        let in_units = e[format!("{total}_units")].as_f64().expect("unit figure");
+        let volts = pct / 100.0 * fs;
+        assert!(
+            (in_lsb * lsb - volts).abs() <= 1e-9 * volts,
+            "{total}: {in_lsb} LSB"
+        );
+        assert!(
+            (in_units * per_unit - volts).abs() <= 1e-9 * volts,
+            "{total}: {in_units} units"
+        );
+    }
+}
