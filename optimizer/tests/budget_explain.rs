@@ -275,3 +275,41 @@ fn the_totals_come_in_lsb_and_in_the_sensors_unit_from_the_core() {
         );
     }
 }
+
+#[test]
+fn the_text_explanation_shows_every_line_its_formula_and_inputs() {
+    let bundle = spanfit::api::analyze_bundle(
+        spanfit::demo::NEED_TOML.as_bytes(),
+        "demo-need.toml",
+        &[],
+        include_str!("../../examples/demo-design.json").as_bytes(),
+        "demo-design.json",
+    )
+    .unwrap_or_else(|e| panic!("the demo design does not analyse: {e}"));
+    let design = bundle.report.design.as_ref().expect("a design");
+    let text = spanfit::report::text::explain_text(design);
+    assert!(
+        !bundle.text.contains("How each budget line is worked out"),
+        "the plain report stays short"
+    );
+    for line in &design.error.budget {
+        assert!(
+            text.contains(&format!("  {} = ", line.source)),
+            "{}",
+            line.source
+        );
+        assert!(
+            text.contains(&format!("    = {}\n", line.explain.formula)),
+            "{}",
+            line.source
+        );
+        for input in &line.explain.inputs {
+            assert!(
+                text.contains(&format!("    {} = ", input.name)),
+                "{} {}",
+                line.source,
+                input.name
+            );
+        }
+    }
+}
