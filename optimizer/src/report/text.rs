@@ -643,12 +643,18 @@ pub fn explain_text(design: &DesignReport) -> String {
             } else {
                 format!(" [{}]", parts.join(" "))
             };
+            // A fraction (unit `1`) is shown as a bare number.
+            let unit = if i.unit == "1" {
+                String::new()
+            } else {
+                format!(" {}", i.unit)
+            };
             let _ = writeln!(
                 out,
-                "    {} = {} {}: {}{}",
+                "    {} = {}{}: {}{}",
                 clean(&i.name),
                 num(i.value, 4),
-                i.unit,
+                unit,
                 clean(&i.what),
                 parts
             );

@@ -152,7 +152,7 @@ function partsText(input) {
  * Under the budget chart: each line of this budget as the core worked it
  * out (`explain` of each budget line: its formula over named inputs, their
  * values and units, and the parts behind them). Nothing is computed here;
- * numbers are only shown to four figures.
+ * numbers are only shown to four figures, and a fraction (unit `1`) bare.
  */
 export function renderBudgetNotes(design) {
   const list = $('budget-notes');
@@ -175,7 +175,7 @@ export function renderBudgetNotes(design) {
           el('code', { text: String(i.name ?? '?') }),
           document.createTextNode(' = '),
           el('span', { className: 'explain-value', 'data-value': String(i.value), text: fmt(i.value, 4) }),
-          document.createTextNode(` ${String(i.unit ?? '')}: ${String(i.what ?? '')}${partsText(i)}`)));
+          document.createTextNode(`${i.unit === '1' ? '' : ` ${String(i.unit ?? '')}`}: ${String(i.what ?? '')}${partsText(i)}`)));
       }
       item.append(inputs);
       if (typeof ex.note === 'string') item.append(el('p', { className: 'explain-note', text: ex.note }));
