@@ -28,9 +28,9 @@ const USAGE: &str = "\
 spanfit: op-amp interfaces between small-span transducers and ADCs
 
 usage:
-  spanfit solve NEED [--json] [--exhaustive] [--progress] [--spice FILE] [--bom FILE] [--svg FILE]
-  spanfit analyze NEED --design DESIGN.json [--json] [--spice FILE] [--bom FILE] [--svg FILE]
-  spanfit demo [--json] [--progress] [--spice FILE] [--bom FILE] [--svg FILE]
+  spanfit solve NEED [--json] [--explain] [--exhaustive] [--progress] [--spice FILE] [--bom FILE] [--svg FILE]
+  spanfit analyze NEED --design DESIGN.json [--json] [--explain] [--spice FILE] [--bom FILE] [--svg FILE]
+  spanfit demo [--json] [--explain] [--progress] [--spice FILE] [--bom FILE] [--svg FILE]
   spanfit help
 
 verbs:
@@ -44,6 +44,8 @@ names a folder of stock CSV files, relative to the folder NEED is in; every
 
 options:
   --json         print the report as one JSON object instead of text
+  --explain      after the text report, how each budget line is worked out
+                 (its formula, inputs and parts; the JSON always has it)
   --exhaustive   enumerate the whole space without pruning (solve; slow)
   --progress     show search progress on stderr
   --design FILE  the design to analyse (a design file, or a reported design)
@@ -83,6 +85,7 @@ struct Options {
     need_path: Option<PathBuf>,
     design: Option<PathBuf>,
     json: bool,
+    explain: bool,
     exhaustive: bool,
     progress: bool,
     spice: Option<PathBuf>,
@@ -156,6 +159,7 @@ fn parse_args(args: &[OsString]) -> std::result::Result<Command, UsageError> {
         match (name, verb) {
             ("-h" | "--help", _) => return Ok(Command::Help),
             ("--json", _) => flag_only(&mut o.json)?,
+            ("--explain", _) => flag_only(&mut o.explain)?,
             ("--exhaustive", Verb::Solve) => flag_only(&mut o.exhaustive)?,
             ("--progress", Verb::Solve | Verb::Demo) => flag_only(&mut o.progress)?,
             ("--design", Verb::Analyze) => o.design = Some(value("design file")?),
@@ -364,6 +368,9 @@ fn run(verb: Verb, o: &Options) -> Result<u8> {
         print(&s)?;
     } else {
         print(&bundle.text)?;
+        if let (true, Some(design)) = (o.explain, report.design.as_ref()) {
+            print(&spanfit::report::text::explain_text(design))?;
+        }
     }
     let reason = report.reason.as_deref().unwrap_or("no reason given");
     match report.status {

@@ -5,6 +5,7 @@
 
 use super::accuracy::Spread;
 use super::contributor::Contributor;
+use super::explain::LineExplain;
 use super::params::Target;
 use super::Model;
 use crate::need::{Basis, Need};
@@ -27,6 +28,9 @@ pub struct BudgetLine {
     pub at_ends_pct_fs: [f64; 2],
     /// Systematic or random.
     pub systematic: bool,
+    /// How the line is worked out at the binding end: a formula over
+    /// named inputs whose value is `pct_fs`.
+    pub explain: LineExplain,
 }
 
 /// Per-unit resistor sums of one stage (see [`Model::random_split`]).
@@ -170,6 +174,7 @@ impl Model {
                 units: volts_per_unit.map(|per_unit| volts / per_unit),
                 at_ends_pct_fs: [at[0] * pct, at[1] * pct],
                 systematic: line.systematic(),
+                explain: self.explain_line(need, line, binding_end),
             });
         }
         budget

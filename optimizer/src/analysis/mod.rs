@@ -34,6 +34,7 @@ mod accuracy;
 mod budget;
 mod contributor;
 mod corners;
+mod explain;
 mod extremes;
 mod feasibility;
 mod monte_carlo;
@@ -47,6 +48,7 @@ pub use budget::{BudgetLine, RandomSplit, StageUnitSums};
 pub use contributor::Contributor;
 /// The former name of [`Contributor`], kept for existing callers.
 pub use contributor::Contributor as Line;
+pub use explain::{ExplainInput, LineExplain};
 pub use feasibility::{part_count, Check, Finding, RawFinding};
 pub use monte_carlo::{Histogram, YieldResult};
 pub use noise::NoiseSummary;

@@ -18,6 +18,8 @@ pub(crate) struct SystematicTerm {
     pub contributor: Contributor,
     /// Signed error at the low and high end, volts, after calibration.
     pub error: [f64; 2],
+    /// The same before calibration (for the line's explanation).
+    pub raw: [f64; 2],
 }
 
 /// Rounding and finite-gain terms of a solved design. `netlist` is the
@@ -62,10 +64,12 @@ pub(crate) fn terms(
         SystematicTerm {
             contributor: Contributor::NominalRounding,
             error: calibration.apply(rounding),
+            raw: rounding,
         },
         SystematicTerm {
             contributor: Contributor::OpenLoopGain,
             error: calibration.apply(open_loop),
+            raw: open_loop,
         },
     ])
 }

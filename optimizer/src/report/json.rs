@@ -242,6 +242,7 @@ fn stages(candidate: &Candidate) -> Vec<StageEntry> {
 fn budget_entry(need: &Need, line: &BudgetLine) -> BudgetEntry {
     BudgetEntry {
         at_ends_pct_fs: line.at_ends_pct_fs,
+        explain: line.explain.clone(),
         line: line.line,
         lsb: line.lsb,
         pct_fs: line.pct_fs,
@@ -255,6 +256,13 @@ fn budget_entry(need: &Need, line: &BudgetLine) -> BudgetEntry {
 fn error_figures(need: &Need, a: &Analysis) -> ErrorFigures {
     let fs = need.full_scale();
     let mc = a.yield_result.as_ref();
+    // A total in % FS as LSB and in the sensor's unit (a size, so the
+    // volts per unit counts by its magnitude).
+    let lsb = |pct: f64| pct / 100.0 * fs / need.lsb();
+    let units = |pct: f64| {
+        need.volts_per_unit()
+            .map(|per_unit| pct / 100.0 * fs / per_unit.abs())
+    };
     ErrorFigures {
         basis: enum_name(&need.accuracy.basis),
         basis_pct_fs: a.basis_pct_fs,
@@ -282,10 +290,14 @@ fn error_figures(need: &Need, a: &Analysis) -> ErrorFigures {
         quantisation_lsb: 0.5,
         quantisation_pct_fs: a.quantisation_pct_fs,
         rss_coverage_pct: mc.map(|y| y.rss_coverage_pct),
+        rss_lsb: lsb(a.rss_pct_fs),
         rss_pct_fs: a.rss_pct_fs,
+        rss_units: units(a.rss_pct_fs),
         sigma_pct_fs: mc.map(|y| y.sigma_pct_fs),
         target_pct_fs: need.accuracy.max_error_pct_fs,
+        worst_case_lsb: lsb(a.worst_case_pct_fs),
         worst_case_pct_fs: a.worst_case_pct_fs,
+        worst_case_units: units(a.worst_case_pct_fs),
         yield_builds: mc.map(|y| y.builds),
         yield_confidence_pct: mc.map(|y| y.confidence_pct),
         yield_pct: mc.map(|y| y.yield_pct),

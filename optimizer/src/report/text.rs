@@ -618,6 +618,57 @@ pub fn design_text(need: &Need, design: &DesignReport) -> String {
     out
 }
 
+/// How each budget line of a design is worked out, for people (the CLI's
+/// `--explain`): per line its value, its formula and every input with its
+/// value, unit, meaning and the parts behind it, all as the analysis
+/// wrote them (`design.error.budget[].explain`).
+pub fn explain_text(design: &DesignReport) -> String {
+    let e = &design.error;
+    let mut out = String::new();
+    let _ = writeln!(out);
+    let _ = writeln!(
+        out,
+        "How each budget line is worked out (% FS, at the {} end of the span)",
+        e.binding_end
+    );
+    for l in &e.budget {
+        let _ = writeln!(out, "  {} = {} % FS", clean(&l.source), num(l.pct_fs, 4));
+        let _ = writeln!(out, "    = {}", clean(&l.explain.formula));
+        for i in &l.explain.inputs {
+            let parts: Vec<String> = i
+                .refs
+                .iter()
+                .chain(i.part_ids.iter())
+                .map(|p| clean(p))
+                .collect();
+            let parts = if parts.is_empty() {
+                String::new()
+            } else {
+                format!(" [{}]", parts.join(" "))
+            };
+            // A fraction (unit `1`) is shown as a bare number.
+            let unit = if i.unit == "1" {
+                String::new()
+            } else {
+                format!(" {}", i.unit)
+            };
+            let _ = writeln!(
+                out,
+                "    {} = {}{}: {}{}",
+                clean(&i.name),
+                num(i.value, 4),
+                unit,
+                clean(&i.what),
+                parts
+            );
+        }
+        if let Some(note) = &l.explain.note {
+            let _ = writeln!(out, "    ({})", clean(note));
+        }
+    }
+    out
+}
+
 /// A plain-text report of a whole report: the job, the search counters
 /// (when there was a search), the design (or why there is none, with the
 /// verified suggestions), the alternatives, and the cautions.

@@ -376,16 +376,24 @@ pub struct ErrorFigures {
     /// Share of Monte Carlo builds whose error is inside the RSS total, %,
     /// where run.
     pub rss_coverage_pct: Option<f64>,
+    /// The RSS total in LSB.
+    pub rss_lsb: f64,
     /// Root-sum-square total of the limits, % FS.
     pub rss_pct_fs: f64,
+    /// The RSS total in the sensor's unit, where the need gives one.
+    pub rss_units: Option<f64>,
     /// Standard deviation of the Monte Carlo builds' error at each build's
     /// worst condition (both span ends, both temperature ends), % FS,
     /// where run.
     pub sigma_pct_fs: Option<f64>,
     /// The need's target, % FS.
     pub target_pct_fs: f64,
+    /// The worst-case total in LSB.
+    pub worst_case_lsb: f64,
     /// Worst-case total, % FS.
     pub worst_case_pct_fs: f64,
+    /// The worst-case total in the sensor's unit, where the need gives one.
+    pub worst_case_units: Option<f64>,
     /// Monte Carlo builds, where run.
     pub yield_builds: Option<u64>,
     /// 95 % interval of the yield, %, where run.
@@ -404,6 +412,9 @@ pub struct ErrorFigures {
 pub struct BudgetEntry {
     /// Contribution at the low and high end of the span, % FS.
     pub at_ends_pct_fs: [f64; 2],
+    /// How the line is worked out: a formula over named inputs whose value
+    /// is `pct_fs`, with the parts behind each input.
+    pub explain: crate::analysis::LineExplain,
     /// Which contributor.
     pub line: Line,
     /// The same in LSB.

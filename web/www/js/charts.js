@@ -15,6 +15,7 @@ export function errorOf(design) {
     yieldPct: num(e.yield_pct),
     budget: Array.isArray(e.budget) ? e.budget : [],
     histogram: isObject(e.histogram) ? e.histogram : null,
+    builds: num(e.yield_builds),
   };
 }
 
@@ -139,46 +140,47 @@ export function renderBudget(design, need) {
   box.append(chart);
 }
 
-/**
- * What each budget line is and how it is worked out (docs/error-budget.md,
- * in short); the parts behind a line are those of its kind in the parts
- * table.
- */
-const LINE_NOTES = {
-  'nominal-rounding': ['the stocked values give a gain and offset slightly off the ideal', 'output with ideal op-amps minus the ideal K·Vsensor + B', 'resistors, references'],
-  'open-loop-gain': ['op-amps at their minimum open-loop gain instead of an infinite one', 'output at the minimum open-loop gain minus output with ideal op-amps', 'op-amps'],
-  'resistor-tolerance': ['each resistor off its nominal value', 'Σ |sensitivity to R| × tolerance % / 100', 'resistors'],
-  'resistor-tcr': ['each resistor drifting with temperature', 'Σ |sensitivity to R| × TCR ppm/°C × 10⁻⁶ × ΔT', 'resistors'],
-  'offset-voltage': ['input offset of each amplifier times its gain to the output', 'Σ |sensitivity to Vos| × Vos max µV × 10⁻⁶', 'op-amps, in-amps'],
-  'offset-drift': ['drift of those offsets', 'Σ |sensitivity to Vos| × drift µV/°C × 10⁻⁶ × ΔT', 'op-amps, in-amps'],
-  'bias-current': ['input bias currents through the resistances the inputs see (the sensor\'s own included)', 'Σ |sensitivity to Ib+ + Ib−| × Ib max nA × 10⁻⁹', 'op-amps, in-amps, resistors, sensor'],
-  'offset-current': ['the difference between the two bias currents', 'Σ |(s+ − s−) / 2| × Ios max nA × 10⁻⁹', 'op-amps, resistors'],
-  cmrr: ['finite common-mode rejection: the input common mode away from mid-supply acts as an input offset', 'Σ |sensitivity to Vos| × (Vcm − Vmid) / CMRR, CMRR = 10^(CMRR dB / 20)', 'op-amps, in-amps, sensor common mode'],
-  'reference-initial': ['each voltage reference off its nominal voltage', 'Σ |sensitivity to Vref| × volts × initial % / 100', 'references'],
-  'reference-tempco': ['each reference drifting with temperature, its tempco read as a box over the whole range', 'Σ |sensitivity to Vref| × volts × tempco ppm/°C × 10⁻⁶ × (highest − lowest temperature)', 'references'],
-  'reference-load': ['each reference\'s output moved by the current the network it drives draws', 'Σ |sensitivity to Vref| × volts × load regulation ppm/mA × 10⁻⁶ × load mA', 'references, the resistors they drive'],
-  'supply-tolerance': ['the positive rail off nominal where it sets an offset, excites the sensor or is the ADC\'s scale', '|sensitivity to Vsupply| × positive rail × tolerance % / 100', 'supply'],
-  psrr: ['finite supply rejection: the rail\'s tolerance acts as an input offset of each amplifier', 'Σ |sensitivity to Vos| × positive rail × tolerance % / 100 / PSRR, PSRR = 10^(PSRR dB / 20)', 'op-amps, in-amps, supply'],
-  'in-amp-gain-error': ['gain error of an integrated in-amp', 'sensitivity to its gain × gain error % / 100', 'in-amps'],
-  'in-amp-gain-drift': ['drift of that gain', 'sensitivity to its gain × drift ppm/°C × 10⁻⁶ × ΔT', 'in-amps'],
-  'in-amp-output-offset': ['output-referred offset of an integrated in-amp', 'sensitivity × output offset µV × 10⁻⁶', 'in-amps'],
-  'source-resistance': ['the sensor\'s own resistance off its nominal and drifting', '|sensitivity to Rsensor| × tolerance % / 100 at 25 °C, and |sensitivity to Rsensor| × tempco ppm/°C × 10⁻⁶ × ΔT as drift', 'sensor'],
-  droop: ['the chain\'s response at the signal bandwidth below its DC gain, at the top of the span', '(1 − |H(f bandwidth) / H(0)|) × output window', 'amplifier sections, filter resistor and capacitor'],
-  noise: ['output noise over the noise bandwidth, as its peak', '½ × 6.6 × RMS noise (Johnson noise of the resistors, amplifier voltage and current noise, reference noise)', 'resistors, op-amps, in-amps, references, sensor'],
-};
+/** The parts behind an input of a line's explanation, as the core named them. */
+function partsText(input) {
+  const refs = Array.isArray(input.refs) ? input.refs.map(String) : [];
+  const ids = Array.isArray(input.part_ids) ? input.part_ids.map(String) : [];
+  if (!refs.length && !ids.length) return '';
+  return ` (${[refs.join(', '), ids.join(', ')].filter(Boolean).join(': ')})`;
+}
 
-/** Under the budget chart: each line of this budget, what it is and its formula. */
+/**
+ * Under the budget chart: each line of this budget as the core worked it
+ * out (`explain` of each budget line: its formula over named inputs, their
+ * values and units, and the parts behind them). Nothing is computed here;
+ * numbers are only shown to four figures, and a fraction (unit `1`) bare.
+ */
 export function renderBudgetNotes(design) {
   const list = $('budget-notes');
   clear(list);
   for (const b of errorOf(design).budget) {
     if (!isObject(b)) continue;
-    const note = LINE_NOTES[b.line];
     const kind = b.systematic ? 'fixed' : 'random';
-    const text = note
-      ? `${note[0]}; ${note[1]} (${kind}; parts: ${note[2]}).`
-      : `${kind} line.`;
-    list.append(el('li', {}, el('strong', { text: `${String(b.source ?? b.line ?? '?')}: ` }), document.createTextNode(text)));
+    const head = el('p', { className: 'explain-head' },
+      el('strong', { text: `${String(b.source ?? b.line ?? '?')}: ` }),
+      el('span', { className: 'explain-value', 'data-value': String(b.pct_fs), text: fmt(b.pct_fs, 4) }),
+      document.createTextNode(` % FS (${kind})`));
+    const item = el('li', { 'data-line': String(b.line ?? '') }, head);
+    const ex = isObject(b.explain) ? b.explain : null;
+    if (ex && typeof ex.formula === 'string') {
+      item.append(el('p', { className: 'explain-formula' }, document.createTextNode('= '), el('code', { text: ex.formula })));
+      const inputs = el('ul', { className: 'explain-inputs' });
+      for (const i of Array.isArray(ex.inputs) ? ex.inputs : []) {
+        if (!isObject(i)) continue;
+        inputs.append(el('li', { 'data-name': String(i.name ?? '') },
+          el('code', { text: String(i.name ?? '?') }),
+          document.createTextNode(' = '),
+          el('span', { className: 'explain-value', 'data-value': String(i.value), text: fmt(i.value, 4) }),
+          document.createTextNode(`${i.unit === '1' ? '' : ` ${String(i.unit ?? '')}`}: ${String(i.what ?? '')}${partsText(i)}`)));
+      }
+      item.append(inputs);
+      if (typeof ex.note === 'string') item.append(el('p', { className: 'explain-note', text: ex.note }));
+    }
+    list.append(item);
   }
 }
 
@@ -287,7 +289,7 @@ export function renderHistogram(design, need) {
   }
   chart.append(svg('text', { x: (L + W - R) / 2, y: H - 8, class: 'axis', 'text-anchor': 'middle' }, 'largest error of a build, % FS (signed)'));
   chart.append(svg('text', { x: 14, y: (T + H - B) / 2, class: 'axis', 'text-anchor': 'middle', transform: `rotate(-90 14 ${(T + H - B) / 2})` }, 'builds'));
-  const total = counts.reduce((a, c) => a + c, 0);
+  const total = num(errorOf(design).builds) ?? counts.reduce((a, c) => a + c, 0);
   $('histogram-note').textContent = `Each of the ${total} simulated builds is counted once, at its largest error (by size, with its sign) over both ends of the span and both ends of the temperature range. Taking the largest pulls builds away from zero, which is why the counts form two humps rather than one peak.`;
   box.append(chart);
 }

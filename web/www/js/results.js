@@ -162,17 +162,19 @@ export function setDownloads(stale) {
   for (const id of ['dl-bom', 'dl-spice', 'dl-svg', 'dl-design', 'dl-json']) $(id).title = why;
 }
 
-function inUnits(pct) {
-  const report = reportOf(state.result.bundle);
-  const d = isObject(report.need) && num(report.need.lsb_v) ? report.need : state.result.derived;
-  const need = state.result.need;
+/**
+ * A total as the core gave it: % FS, LSB and the sensor's unit
+ * (`<name>_pct_fs`, `<name>_lsb`, `<name>_units` of `design.error`).
+ */
+function inUnits(err, name) {
+  const pct = num(err[`${name}_pct_fs`]);
   const out = { pct: `${fmt(pct, 3)} % FS` };
   if (pct === null) return out;
-  if (d && num(d.full_scale_v) && num(d.lsb_v)) out.lsb = `${fmt((pct / 100) * d.full_scale_v / d.lsb_v, 3)} LSB`;
-  const unit = need.sensor && need.sensor.quantity_unit;
-  if (d && num(d.volts_per_unit) && unit) {
-    out.unit = `${fmt((pct / 100) * d.full_scale_v / Math.abs(d.volts_per_unit), 3)} ${unit}`;
-  }
+  const lsb = num(err[`${name}_lsb`]);
+  if (lsb !== null) out.lsb = `${fmt(lsb, 3)} LSB`;
+  const unit = state.result.need.sensor && state.result.need.sensor.quantity_unit;
+  const units = num(err[`${name}_units`]);
+  if (units !== null && unit) out.unit = `${fmt(units, 3)} ${unit}`;
   return out;
 }
 
@@ -192,11 +194,11 @@ function renderFigures(design, report) {
   const e = errorOf(design);
   const target = state.result.need.accuracy || {};
   figure(list, 'cost', 'Cost', money(design.cost), design.cost, `${design.part_count ?? '—'} parts · ${design.bom_lines ?? '—'} BOM lines`);
-  const worst = inUnits(e.worst);
-  figure(list, 'worst', 'Worst-case error', worst.pct, e.worst, [worst.lsb, worst.unit].filter(Boolean).join(' · '));
-  const rss = inUnits(e.rss);
-  figure(list, 'rss', 'RSS error', rss.pct, e.rss, [rss.lsb, rss.unit].filter(Boolean).join(' · '));
   const err = isObject(design.error) ? design.error : {};
+  const worst = inUnits(err, 'worst_case');
+  figure(list, 'worst', 'Worst-case error', worst.pct, e.worst, [worst.lsb, worst.unit].filter(Boolean).join(' · '));
+  const rss = inUnits(err, 'rss');
+  figure(list, 'rss', 'RSS error', rss.pct, e.rss, [rss.lsb, rss.unit].filter(Boolean).join(' · '));
   if (num(err.corner_check_pct_fs) !== null) {
     figure(list, 'corner', 'Corner check', `${fmt(err.corner_check_pct_fs, 3)} % FS`, err.corner_check_pct_fs, 'every part at a limit, both span ends');
   }
