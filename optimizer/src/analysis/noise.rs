@@ -373,7 +373,7 @@ fn integrate(stock: &Stock, built: &Built, sources: &[WhiteSource]) -> Option<[f
     let rc = filter.series.ohms * filter.shunt.value.0;
     let filter_corner = 1.0 / (2.0 * PI * rc);
     let top_gbw = amplifiers.iter().map(|a| a.gbw_hz).fold(0.0, f64::max);
-    let low = filter_corner * 1e-3;
+    let low = filter_corner.min(crate::filter::feedback::lowest_corner_hz(built)) * 1e-3;
     let high = top_gbw.max(filter_corner) * 10.0;
     let count = ((high / low).log10() * POINTS_PER_DECADE).ceil().max(2.0) as usize + 1;
     let grid = crate::mna_ac::log_frequencies(low, high, count);
