@@ -31,7 +31,7 @@ pub const HEADER: &str = "refs,kind,value,part_id,quantity,unit_cost,line_cost";
 pub struct BomRow {
     /// Reference designators, in natural order (`R2`, `R10`).
     pub refs: Vec<String>,
-    /// `resistor`, `op-amp`, `in-amp` or `reference`.
+    /// `resistor`, `capacitor`, `op-amp`, `in-amp` or `reference`.
     pub kind: String,
     /// Value as shown to people (`10.0k`, `1.25 V`, `dual`, `Rk 49.4k`).
     pub value: String,
@@ -166,21 +166,31 @@ pub fn rows(built: &Built, stock: &Stock) -> Vec<BomRow> {
     }
     // The filter at the ADC input: its resistor joins the resistor rows
     // (one row per part id and grade), its capacitor a row of its own.
+    // Capacitors (the filter's and those across a stage's `rf`): one row
+    // per part id and value.
     let mut capacitors: Vec<BomRow> = Vec::new();
+    let mut add_capacitor = |designator: &str, c: &crate::stock::CapacitorPart| {
+        let value = format!("{} {}", format_quantity(c.value.0, "F"), c.dielectric);
+        push(
+            &mut capacitors,
+            |row| row.part_id == c.part_id && row.value == value && row.unit_cost == c.unit_cost,
+            designator,
+            BomRow {
+                refs: vec![designator.to_string()],
+                kind: "capacitor".into(),
+                value: value.clone(),
+                part_id: c.part_id.clone(),
+                quantity: 1,
+                unit_cost: c.unit_cost,
+            },
+        );
+    };
+    for c in &built.feedback_capacitors {
+        add_capacitor(&c.designator, &c.part);
+    }
     if let Some(f) = &built.filter {
         add_resistor(&mut resistors, &f.series_ref, &f.series);
-        capacitors.push(BomRow {
-            refs: vec![f.shunt_ref.clone()],
-            kind: "capacitor".into(),
-            value: format!(
-                "{} {}",
-                format_quantity(f.shunt.value.0, "F"),
-                f.shunt.dielectric
-            ),
-            part_id: f.shunt.part_id.clone(),
-            quantity: 1,
-            unit_cost: f.shunt.unit_cost,
-        });
+        add_capacitor(&f.shunt_ref, &f.shunt);
     }
     let mut out: Vec<BomRow> = Vec::new();
     for mut group in [

@@ -9,8 +9,9 @@
 
 use crate::error::{Error, Location, Result};
 use crate::need_parse::{decode_utf8, listed, short_number, shown};
-use crate::stock::{generic_resistor_by_id, ResistorPart, Stock};
+use crate::stock::{generic_resistor_by_id, CapacitorPart, ResistorPart, Stock};
 use crate::stock_parse::{MAX_ID_CHARS, MAX_TCR_PPM_PER_C, MAX_UNIT_COST, OHMS_RANGE};
+use crate::units::{Farads, Percent, PpmPerC, Volts};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
@@ -113,6 +114,11 @@ pub struct Stage {
     /// stage's own amplifier is not an op-amp (an integrated in-amp);
     /// op-amp stages use a section of their own part.
     pub buffer: Option<String>,
+    /// A capacitor across the stage's feedback resistor `rf` (a pole in
+    /// the stage's feedback; shapes with an `rf` role only). Designators
+    /// `C2`, `C3`, ... in stage order (`C1` is the filter at the ADC input).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub feedback_capacitor: Option<CapacitorPart>,
 }
 
 impl Stage {
@@ -179,6 +185,8 @@ struct RawStage {
     bias: Option<RawInjection>,
     #[serde(default)]
     buffer: Option<String>,
+    #[serde(default)]
+    feedback_capacitor: Option<serde_json::Value>,
 }
 
 #[derive(Deserialize)]
@@ -400,6 +408,128 @@ fn resolve_resistor(raw: &serde_json::Value, stock: &Stock, at: &Location) -> Re
     }
 }
 
+/// The keys an inline capacitor object may hold.
+const INLINE_CAPACITOR_KEYS: [&str; 6] = [
+    "farads",
+    "tolerance_pct",
+    "tempco_ppm_per_c",
+    "dielectric",
+    "unit_cost",
+    "part_id",
+];
+
+/// What a capacitor entry may be, for messages.
+const CAPACITOR_FORMS: &str = "a stock capacitor part id in quotes, or an inline capacitor \
+     {\"farads\": .., \"tolerance_pct\": .., and optionally \"tempco_ppm_per_c\": .., \
+     \"dielectric\": .., \"unit_cost\": .. and \"part_id\": ..}";
+
+/// Largest capacitance an inline capacitor may have, farads (1 F; a
+/// signal-path part is far below).
+const MAX_INLINE_FARADS: f64 = 1.0;
+
+/// A capacitor entry of a design file (`feedback_capacitor`): a stock
+/// capacitor part id, or an inline object (see [`CAPACITOR_FORMS`]).
+fn resolve_capacitor(
+    raw: &serde_json::Value,
+    stock: &Stock,
+    at: &Location,
+) -> Result<CapacitorPart> {
+    let map = match raw {
+        serde_json::Value::String(id) => {
+            return stock.capacitor(id).cloned().ok_or_else(|| {
+                Error::input(
+                    at.clone(),
+                    format!(
+                        "capacitor part `{}` is not in stock; expected {CAPACITOR_FORMS}",
+                        shown(id)
+                    ),
+                )
+            })
+        }
+        serde_json::Value::Object(map) => map,
+        other => {
+            return Err(Error::input(
+                at.clone(),
+                format!("expected {CAPACITOR_FORMS}; found {}", json_kind(other)),
+            ))
+        }
+    };
+    let unknown: Vec<&String> = map
+        .keys()
+        .filter(|k| !INLINE_CAPACITOR_KEYS.contains(&k.as_str()))
+        .collect();
+    if !unknown.is_empty() {
+        return Err(Error::input(
+            at.clone(),
+            format!(
+                "unknown key{} {} in an inline capacitor; its keys are: {}",
+                if unknown.len() > 1 { "s" } else { "" },
+                listed(&unknown),
+                INLINE_CAPACITOR_KEYS.join(", ")
+            ),
+        ));
+    }
+    let farads = inline_number(map, "farads", (1e-15, MAX_INLINE_FARADS, false), None, at)?;
+    let tolerance = inline_number(map, "tolerance_pct", (0.0, 100.0, true), None, at)?;
+    let tempco = inline_number(
+        map,
+        "tempco_ppm_per_c",
+        (0.0, MAX_TCR_PPM_PER_C, false),
+        Some(0.0),
+        at,
+    )?;
+    let unit_cost = inline_number(map, "unit_cost", (0.0, MAX_UNIT_COST, false), Some(0.0), at)?;
+    let text = |name: &str, default: &str| -> Result<String> {
+        match map.get(name) {
+            None => Ok(default.to_string()),
+            Some(serde_json::Value::String(t))
+                if !t.trim().is_empty()
+                    && t.chars().count() <= MAX_ID_CHARS
+                    && !t.chars().any(char::is_control) =>
+            {
+                Ok(t.clone())
+            }
+            Some(other) => {
+                let mut at = at.clone();
+                at.key = at.key.map(|k| format!("{k}.{name}"));
+                Err(Error::input(
+                    at,
+                    format!(
+                        "expected a text of 1 to {MAX_ID_CHARS} characters with no control \
+                         characters, found {}",
+                        json_kind(other)
+                    ),
+                ))
+            }
+        }
+    };
+    let part_id = text("part_id", "custom")?;
+    if stock.capacitor(&part_id).is_some() {
+        let mut at = at.clone();
+        at.key = at.key.map(|k| format!("{k}.part_id"));
+        return Err(Error::input(
+            at,
+            format!(
+                "inline part_id `{}` is a stock capacitor; expected the stock id alone, or \
+                 another part_id for an inline part",
+                shown(&part_id)
+            ),
+        ));
+    }
+    Ok(CapacitorPart {
+        part_id,
+        value: Farads(farads),
+        tolerance: Percent(tolerance),
+        tempco: PpmPerC(tempco),
+        dielectric: text("dielectric", "unspecified")?,
+        rated: Volts(0.0),
+        package: String::new(),
+        unit_cost,
+        stock_qty: None,
+        family: None,
+    })
+}
+
 fn resolve_injection(
     raw: &Option<RawInjection>,
     stock: &Stock,
@@ -556,6 +686,24 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
         }
         let offset = resolve_injection(&s.offset, stock, file, &format!("{key}.offset"))?;
         let bias = resolve_injection(&s.bias, stock, file, &format!("{key}.bias"))?;
+        let feedback_capacitor = match &s.feedback_capacitor {
+            None | Some(serde_json::Value::Null) => None,
+            Some(raw) => {
+                let at = Location::key(file, &format!("{key}.feedback_capacitor"));
+                if !s.shape.required_roles().contains(&Role::Rf) {
+                    return Err(Error::input(
+                        at,
+                        format!(
+                            "a {} stage has no feedback resistor `rf` to put a capacitor \
+                             across; a feedback capacitor goes on a non-inverting, \
+                             non-inverting-summed or inverting stage",
+                            s.shape.name()
+                        ),
+                    ));
+                }
+                Some(resolve_capacitor(raw, stock, &at)?)
+            }
+        };
         stages.push(Stage {
             shape: s.shape,
             amplifier: s.amplifier.clone(),
@@ -563,6 +711,7 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
             offset,
             bias,
             buffer: s.buffer.clone(),
+            feedback_capacitor,
         });
         if let Some(b) = &s.buffer {
             if stock.opamp(b).is_none() {
@@ -581,14 +730,31 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
 /// stock (or generic) part of its id is written as the bare id, any other
 /// inline, with its `part_id` unless that is `custom`.
 pub fn design_file_json(design: &Design, stock: &Stock) -> serde_json::Value {
-    write_design_file(design, &|r: &Resistor| {
-        stock_resistor(&r.part_id, stock).as_ref() == Some(r)
-    })
+    write_design_file(
+        design,
+        &|r: &Resistor| stock_resistor(&r.part_id, stock).as_ref() == Some(r),
+        &|c: &CapacitorPart| stock.capacitor(&c.part_id) == Some(c),
+    )
+}
+
+/// An inline capacitor as a design file writes it.
+fn capacitor_entry(c: &CapacitorPart) -> serde_json::Value {
+    use serde_json::json;
+    let mut o = json!({"farads": c.value.0, "tolerance_pct": c.tolerance.0,
+        "tempco_ppm_per_c": c.tempco.0, "dielectric": c.dielectric, "unit_cost": c.unit_cost});
+    if c.part_id != "custom" {
+        o["part_id"] = json!(c.part_id);
+    }
+    o
 }
 
 /// The writer behind [`design_file_json`];
 /// `by_id(r)` says a resistor may be written as its bare part id.
-fn write_design_file(design: &Design, by_id: &dyn Fn(&Resistor) -> bool) -> serde_json::Value {
+fn write_design_file(
+    design: &Design,
+    by_id: &dyn Fn(&Resistor) -> bool,
+    capacitor_by_id: &dyn Fn(&CapacitorPart) -> bool,
+) -> serde_json::Value {
     use serde_json::json;
     let res = |r: &Resistor| {
         if r.part_id == "custom" {
@@ -629,6 +795,13 @@ fn write_design_file(design: &Design, by_id: &dyn Fn(&Resistor) -> bool) -> serd
             }
             if let Some(b) = &s.buffer {
                 o["buffer"] = json!(b);
+            }
+            if let Some(c) = &s.feedback_capacitor {
+                o["feedback_capacitor"] = if capacitor_by_id(c) {
+                    json!(c.part_id)
+                } else {
+                    capacitor_entry(c)
+                };
             }
             o
         }).collect::<Vec<_>>()

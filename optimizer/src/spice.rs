@@ -205,6 +205,26 @@ pub fn limit_notes(need: &Need, stock: &Stock, built: &Built) -> Vec<String> {
             r.role
         ));
     }
+    if !built.feedback_capacitors.is_empty() {
+        notes.push(
+            "Feedback capacitors (designator, part, value, tolerance, across, stage):".into(),
+        );
+        for c in &built.feedback_capacitors {
+            let across = built
+                .resistors
+                .iter()
+                .find(|r| r.element == c.across)
+                .map_or("rf", |r| r.designator.as_str());
+            notes.push(format!(
+                "  {} {} {} F +/-{} %, across {across}, stage {}",
+                c.designator,
+                c.part.part_id,
+                spice_number(c.part.value.0),
+                c.part.tolerance.0,
+                c.stage + 1
+            ));
+        }
+    }
     if need.sensor.output == SensorOutput::Differential {
         notes.push(format!(
             "Sensor: differential, {} V to {} V between inp and inn, common mode {} V (VCM), \
@@ -583,6 +603,7 @@ mod tests {
             sources: Vec::new(),
             stage_outputs: vec![out],
             filter: None,
+            feedback_capacitors: Vec::new(),
         }
     }
 

@@ -154,6 +154,24 @@ pub struct Built {
     /// ([`crate::filter::attach`]; designs analysed by the search have
     /// none).
     pub filter: Option<PlacedFilter>,
+    /// Capacitors across a stage's feedback resistor `rf`, in stage order.
+    pub feedback_capacitors: Vec<PlacedCapacitor>,
+}
+
+/// A capacitor across a stage's feedback resistor (a pole in the stage's
+/// feedback, [`crate::design::Stage::feedback_capacitor`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct PlacedCapacitor {
+    /// Element index.
+    pub element: usize,
+    /// Designator (`C2`, `C3`, ...; `C1` is the filter at the ADC input).
+    pub designator: String,
+    /// Stage index (0-based).
+    pub stage: usize,
+    /// Element index of the resistor it is across (`rf`).
+    pub across: usize,
+    /// The part.
+    pub part: crate::stock::CapacitorPart,
 }
 
 /// The filter pair placed at the ADC input, with its figures.
@@ -479,6 +497,7 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
     let last = design.stages.len() - 1;
     let mut vin = (sp, sn);
     let mut stage_outputs = Vec::new();
+    let mut feedback_capacitors = Vec::new();
     for (i, stage) in design.stages.iter().enumerate() {
         if i == 0 && differential && !stage.shape.differential_input() {
             return Err(Error::design(format!(
@@ -497,6 +516,30 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
             out,
         };
         builder.stage(i, stage, nodes)?;
+        if let Some(part) = &stage.feedback_capacitor {
+            let across = builder
+                .resistors
+                .iter()
+                .find(|r| r.stage == i && r.role == Role::Rf)
+                .map(|r| r.element)
+                .ok_or_else(|| {
+                    Error::design(format!(
+                        "stage {} ({}) has a feedback capacitor but no feedback resistor `rf`",
+                        i + 1,
+                        stage.shape.name()
+                    ))
+                })?;
+            let [a, b, _] = builder.netlist.elements[across].nodes;
+            let designator = format!("C{}", feedback_capacitors.len() + 2);
+            let element = builder.netlist.capacitor(&designator, a, b, part.value.0);
+            feedback_capacitors.push(PlacedCapacitor {
+                element,
+                designator,
+                stage: i,
+                across,
+                part: part.clone(),
+            });
+        }
         stage_outputs.push(out);
         vin = (out, 0);
     }
@@ -514,5 +557,6 @@ pub fn build(need: &Need, stock: &Stock, design: &Design) -> Result<Built> {
         sources: builder.sources,
         stage_outputs,
         filter: None,
+        feedback_capacitors,
     })
 }

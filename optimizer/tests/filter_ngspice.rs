@@ -23,6 +23,10 @@
 //!   acquisition): the error at the end of the acquisition time within the
 //!   report's `settling_error_lsb`, and below 1/2 LSB where the report's
 //!   settling check passes.
+//! - designs with a capacitor across a stage's `rf` (written in the test):
+//!   the `.ac` and `.noise` checks above, and the stage's own fall at the
+//!   stage output against the handbook closed form (common practice) of
+//!   `rf` parallel to `C` in a single-pole loop.
 
 // Tests run ngspice: they write decks to files and start a process.
 #![allow(clippy::disallowed_methods, clippy::disallowed_types)]
@@ -473,5 +477,240 @@ fn kickback_settling_matches_ngspice_transient() {
         if passes {
             assert!(error_lsb < 0.5, "design {k}: {error_lsb} LSB left");
         }
+    }
+}
+
+/// A single-ended need on the embedded demo stock, with a sample rate and
+/// an alias target: a 4-20 mA loop read across 100 ohm (an invented
+/// scenario).
+const LOOP_NEED: &str = r#"
+[sensor]
+label = "invented 4-20 mA loop across 100 ohm"
+signal_low_v = 0.4
+signal_high_v = 2.0
+source_ohms = 100.0
+
+[adc]
+low_v = 0.0
+high_v = 3.3
+bits = 12
+margin_pct = 2.0
+sample_rate_hz = 4000.0
+alias_rejection_db = 10.0
+
+[supply]
+positive_v = 5.0
+
+[accuracy]
+max_error_pct_fs = 1.0
+temp_min_c = -20.0
+temp_max_c = 60.0
+"#;
+
+/// Designs with a capacitor across a stage's `rf` (written here, on the
+/// demo stock): a non-inverting stage with a stock capacitor, the same
+/// with an inline one, and an inverting stage. Each with how its stage's
+/// transfer falls, by the handbook closed form (common practice): a
+/// non-inverting stage `1 + Zf/rg'` (`rg'` the resistance from the -
+/// input to ground: `rg` plus the offset divider's Thevenin), an inverting
+/// one `-Zf/ri'` (`ri'` with the sensor's resistance), with
+/// `Zf = rf / (1 + j f/f_p)` and `f_p = 1/(2 pi rf C)`, each through a
+/// single-pole amplifier's closed loop.
+fn feedback_designs() -> Vec<(&'static str, &'static str)> {
+    let non_inverting = r#"{"format": "spanfit-design-1", "stages": [{"shape": "non-inverting",
+        "amplifier": "OA-RR1", "resistors": {"rf": "HR-F01-1K13", "rg": "HR-F01-340R"},
+        "offset": {"kind": "divider", "source": "VR-125", "top": "HR-F1-1K37",
+                   "bottom": "HR-F1-2K00", "buffered": false},
+        "feedback_capacitor": "HC-X1-150n"}]}"#;
+    let inline = r#"{"format": "spanfit-design-1", "stages": [{"shape": "non-inverting",
+        "amplifier": "OA-RR1", "resistors": {"rf": "HR-F01-1K13", "rg": "HR-F01-340R"},
+        "offset": {"kind": "divider", "source": "VR-125", "top": "HR-F1-1K37",
+                   "bottom": "HR-F1-2K00", "buffered": false},
+        "feedback_capacitor": {"farads": 4.7e-8, "tolerance_pct": 5, "dielectric": "C0G"}}]}"#;
+    let inverting = r#"{"format": "spanfit-design-1", "stages": [{"shape": "inverting",
+        "amplifier": "OA-RR1", "resistors": {"ri": "HR-F1-10K0", "rf": "HR-F1-10K0"},
+        "bias": {"kind": "direct", "source": "VR-125"},
+        "feedback_capacitor": "HC-N1-10n0"}]}"#;
+    vec![
+        ("non-inverting", non_inverting),
+        ("inline", inline),
+        ("inverting", inverting),
+    ]
+}
+
+/// With a capacitor across `rf`: the whole chain's corner, rejection at
+/// half the sample rate and Bode curve against ngspice `.ac` on the
+/// exported deck; the stage's own fall against the handbook closed form
+/// (common practice), measured by ngspice at the stage output (`drv`);
+/// and the noise line against ngspice `.noise`, lower than the same
+/// design's without the capacitor (the capacitor narrows the noise
+/// bandwidth). The element is in the deck, named by its ref.
+#[test]
+fn feedback_capacitor_designs_match_ngspice_and_the_closed_form() {
+    let (need, stock) = spanfit::api::load(LOOP_NEED.as_bytes(), "need.toml", &[])
+        .expect("the test input is valid");
+    for (tag, text) in feedback_designs() {
+        let design = spanfit::api::read_design(text.as_bytes(), tag, &stock)
+            .expect("the test input is valid");
+        let candidate =
+            spanfit::api::evaluate(&need, &stock, &design).expect("the test input is valid");
+        let placed = &candidate.built.feedback_capacitors;
+        assert_eq!(placed.len(), 1, "{tag}");
+        let filter = &candidate
+            .built
+            .filter
+            .as_ref()
+            .expect("the demo stock gives a pair")
+            .report;
+        let pole = &filter.feedback_poles[0];
+        assert_eq!(pole.reference, "C2");
+        let deck = artifacts(&need, &stock, &design)
+            .expect("the test input is valid")
+            .spice
+            .expect("the test input is valid");
+        let c_line = deck
+            .lines()
+            .find(|l| l.starts_with("C2 "))
+            .unwrap_or_else(|| panic!("{tag}: no C2 in the deck:\n{deck}"));
+        let farads: f64 = c_line
+            .split_whitespace()
+            .nth(3)
+            .and_then(|v| v.parse().ok())
+            .expect("a value");
+        assert_eq!(farads, placed[0].part.value.0);
+        // The handbook corner of rf with C.
+        let rf = candidate
+            .built
+            .resistors
+            .iter()
+            .find(|r| r.element == placed[0].across)
+            .expect("rf is placed");
+        let fp = 1.0 / (2.0 * std::f64::consts::PI * rf.part.ohms * farads);
+        assert!((pole.corner_hz / fp - 1.0).abs() < 1e-12, "{tag}");
+        assert!(
+            pole.phase_margin_deg >= 90.0 && pole.noise_gain_dc > 1.0,
+            "{tag}: {pole:?}"
+        );
+        // ngspice: the whole chain at the reported corner, Nyquist and Bode
+        // points, and the stage output at fp/3, fp and 3 fp.
+        let fc = filter.corner_hz;
+        let mut frequencies = vec![1e-3 * fc.min(fp), 0.98 * fc, 1.02 * fc, 2000.0];
+        let bode: Vec<_> = filter.bode.iter().step_by(6).collect();
+        frequencies.extend(bode.iter().map(|p| p.frequency_hz));
+        let db = magnitudes_db(&deck, &frequencies, &format!("fb-{tag}"));
+        let loss = |m: f64| db[0] - m;
+        let half_power_db = 10.0 * 2f64.log10();
+        assert!(
+            loss(db[1]) < half_power_db && loss(db[2]) > half_power_db,
+            "{tag}: ngspice loss {} dB at 0.98 fc and {} dB at 1.02 fc (fc = {fc} Hz)",
+            loss(db[1]),
+            loss(db[2])
+        );
+        let reported = filter.rejection_at_nyquist_db.expect("a sample rate");
+        assert!(
+            (loss(db[3]) - reported).abs() < 0.5,
+            "{tag}: ngspice rejection {} dB, reported {reported} dB",
+            loss(db[3])
+        );
+        for (p, got) in bode.iter().zip(&db[4..]) {
+            assert!(
+                (got - p.magnitude_db).abs() < 0.05,
+                "{tag}: at {} Hz ngspice {got} dB, reported {} dB",
+                p.frequency_hz,
+                p.magnitude_db
+            );
+        }
+        let stage_at = [fp * 1e-3, fp / 3.0, fp, 3.0 * fp];
+        let mut control = String::new();
+        for (i, f) in stage_at.iter().enumerate() {
+            control.push_str(&format!(
+                "ac lin 1 {f:e} {f:e}\nlet s{i} = vdb(drv)\nprint s{i}\n"
+            ));
+        }
+        let stdout = run(&deck, "", &control, &format!("fb-stage-{tag}"));
+        let stage_db: Vec<f64> = (0..4).map(|i| printed(&stdout, &format!("s{i}"))).collect();
+        // The resistance from the - input to AC ground besides rf: rg plus
+        // the offset divider's Thevenin (non-inverting), or ri plus the
+        // sensor's own 100 ohm (inverting).
+        let non_inverting = design.stages[0].shape == spanfit::shape::Shape::NonInverting;
+        let leg = if non_inverting {
+            let (top, bottom) = (1370.0, 2000.0);
+            design.stages[0].ohms(spanfit::shape::Role::Rg) + top * bottom / (top + bottom)
+        } else {
+            design.stages[0].ohms(spanfit::shape::Role::Ri) + 100.0
+        };
+        let gbw = stock
+            .opamp(&design.stages[0].amplifier)
+            .expect("the part is in stock")
+            .gbw_mhz
+            * 1e6;
+        // Complex numbers as (re, im).
+        let mul = |a: (f64, f64), b: (f64, f64)| (a.0 * b.0 - a.1 * b.1, a.0 * b.1 + a.1 * b.0);
+        let div = |a: (f64, f64), b: (f64, f64)| {
+            let d = b.0 * b.0 + b.1 * b.1;
+            ((a.0 * b.0 + a.1 * b.1) / d, (a.1 * b.0 - a.0 * b.1) / d)
+        };
+        let abs = |a: (f64, f64)| a.0.hypot(a.1);
+        // The stage's gain at f with a single-pole amplifier
+        // `A = GBW / (j f)`: `H = H_ideal / (1 + (1/beta) / A)`, where
+        // `1/beta = 1 + Zf/leg` and `H_ideal` is `1/beta` (non-inverting)
+        // or `-Zf/leg` (inverting; magnitude only).
+        let gain = |f: f64| -> f64 {
+            let zf = div((rf.part.ohms, 0.0), (1.0, f / fp));
+            let noise_gain = (1.0 + zf.0 / leg, zf.1 / leg);
+            let ideal = if non_inverting {
+                noise_gain
+            } else {
+                (zf.0 / leg, zf.1 / leg)
+            };
+            let inverse_a = (0.0, f / gbw);
+            let loop_term = (
+                1.0 + mul(noise_gain, inverse_a).0,
+                mul(noise_gain, inverse_a).1,
+            );
+            abs(div(ideal, loop_term))
+        };
+        let closed = |f: f64| 20.0 * (gain(f) / gain(fp * 1e-3)).log10();
+        for (k, f) in stage_at.iter().enumerate().skip(1) {
+            let got = stage_db[k] - stage_db[0];
+            let want = closed(*f);
+            assert!(
+                (got - want).abs() < 0.005,
+                "{tag}: the stage at {f} Hz falls {got} dB in ngspice, {want} dB by the \
+                 closed form"
+            );
+        }
+        // The noise line against ngspice `.noise`, and below the design's
+        // without the capacitor.
+        let (model, analysis) = spanfit::analysis::analyze(&need, &stock, &design, 0, 1)
+            .expect("the test input is valid");
+        let (noisy, extra) = with_amplifier_noise(&deck, &need, &stock, model.built());
+        let control = format!(
+            "option temp={}\nnoise v(out) VSENSE dec 40 {:e} {:e}\nsetplot noise2\n\
+             let total = onoise_total\nprint total\n",
+            need.accuracy.temp_max.0,
+            fc.min(fp) * 1e-4,
+            1e10
+        );
+        let stdout = run(&noisy, &extra, &control, &format!("fb-noise-{tag}"));
+        let white = printed(&stdout, "total");
+        let reference2 = analysis.noise.shares[3] * analysis.noise.rms_v.powi(2);
+        let ngspice_rms = (white * white + reference2).sqrt();
+        let reported = analysis.noise.rms_v;
+        eprintln!("{tag}: noise ngspice {ngspice_rms:e} V rms, reported {reported:e}");
+        assert!(
+            (ngspice_rms / reported - 1.0).abs() < 0.05,
+            "{tag}: ngspice {ngspice_rms:e} V rms, reported {reported:e} V rms"
+        );
+        let mut plain = design.clone();
+        plain.stages[0].feedback_capacitor = None;
+        let (_, without) = spanfit::analysis::analyze(&need, &stock, &plain, 0, 1)
+            .expect("the test input is valid");
+        assert!(
+            analysis.noise.noise_bandwidth_hz < without.noise.noise_bandwidth_hz,
+            "{tag}: noise bandwidth {} Hz with the capacitor, {} Hz without",
+            analysis.noise.noise_bandwidth_hz,
+            without.noise.noise_bandwidth_hz
+        );
     }
 }

@@ -1,7 +1,8 @@
 //! Golden test of the report a user or the page depends on: the key paths
 //! and value kinds of `spanfit::report::design_json` for the demo design
 //! (`examples/demo-design.json` against the demo need and stock), pinned in
-//! `tests/data/demo-design.keys`. Float values are not pinned; the
+//! `tests/data/demo-design.keys` (with the keys of the same design given a
+//! second stage with a feedback capacitor). Float values are not pinned; the
 //! engine's own tests check them. Refresh after a deliberate change with
 //!
 //! ```text
@@ -79,11 +80,44 @@ fn render(paths: &BTreeMap<String, BTreeSet<&'static str>>) -> String {
     s
 }
 
+/// The demo design with a second, non-inverting stage carrying a
+/// capacitor across its `rf` (a design file's `feedback_capacitor`), so
+/// the pinned keys cover the fields only such a design has.
+const DESIGN_WITH_FEEDBACK_CAPACITOR: &str = r#"{
+  "format": "spanfit-design-1",
+  "stages": [
+    {
+      "shape": "instrumentation-integrated",
+      "amplifier": "IA-3",
+      "resistors": { "rg": "HR-F01-432R" },
+      "offset": { "kind": "divider", "source": "VR-125", "top": "HR-F1-20K0",
+                  "bottom": "HR-F1-1K10", "buffered": true },
+      "buffer": "OA-RR1"
+    },
+    {
+      "shape": "non-inverting",
+      "amplifier": "OA-RR1",
+      "resistors": { "rf": "HR-F1-1K00", "rg": "HR-F1-20K0" },
+      "feedback_capacitor": "HC-N1-1n00"
+    }
+  ]
+}"#;
+
 #[test]
 fn design_object_keys_are_pinned() {
     let (need, stock, c) = demo();
     let v = spanfit::report::design_json(&need, &stock, &c);
     let mut paths = BTreeMap::new();
+    key_paths(&v, "design", &mut paths);
+    let design = parse_design(
+        DESIGN_WITH_FEEDBACK_CAPACITOR.as_bytes(),
+        "feedback.json",
+        &stock,
+    )
+    .unwrap();
+    let with_feedback = spanfit::api::evaluate(&need, &stock, &design).unwrap();
+    let v = spanfit::report::design_json(&need, &stock, &with_feedback);
+    assert_eq!(v["filter"]["feedback_poles"][0]["ref"], "C2");
     key_paths(&v, "design", &mut paths);
     let actual = render(&paths);
     let file: PathBuf = [

@@ -219,6 +219,7 @@ impl Case {
                 offset,
                 bias: Injection::Ground,
                 buffer: None,
+                feedback_capacitor: None,
             }],
         }
     }

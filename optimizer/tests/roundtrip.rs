@@ -143,6 +143,32 @@ fn random_design(seed: u64, stock: &Stock, kinds: &[Kind]) -> (Design, Vec<Kind>
         };
         let buffer = (shape == Shape::InstrumentationIntegrated && rng.below(2) == 0)
             .then(|| stock.opamps[rng.below(stock.opamps.len())].part_id.clone());
+        // A capacitor across `rf` on half the stages that have one: a stock
+        // part, or an inline one with random values.
+        let feedback_capacitor = (shape.required_roles().contains(&spanfit::shape::Role::Rf)
+            && rng.below(2) == 0)
+            .then(|| {
+                if !stock.capacitors.is_empty() && rng.below(2) == 0 {
+                    stock.capacitors[rng.below(stock.capacitors.len())].clone()
+                } else {
+                    spanfit::stock::CapacitorPart {
+                        part_id: if rng.below(2) == 0 {
+                            "custom".to_string()
+                        } else {
+                            format!("MY-C{}", rng.below(1000))
+                        },
+                        value: spanfit::units::Farads(1e-12 * 10f64.powf(6.0 * rng.unit())),
+                        tolerance: spanfit::units::Percent(20.0 * rng.unit()),
+                        tempco: spanfit::units::PpmPerC(100.0 * rng.unit()),
+                        dielectric: "C0G".to_string(),
+                        rated: spanfit::units::Volts(0.0),
+                        package: String::new(),
+                        unit_cost: 0.1 * rng.unit(),
+                        stock_qty: None,
+                        family: None,
+                    }
+                }
+            });
         stages.push(Stage {
             shape,
             amplifier,
@@ -150,6 +176,7 @@ fn random_design(seed: u64, stock: &Stock, kinds: &[Kind]) -> (Design, Vec<Kind>
             offset,
             bias,
             buffer,
+            feedback_capacitor,
         });
     }
     (Design { stages }, used)

@@ -623,8 +623,8 @@ fn section_findings(
 }
 
 /// How often a built design places each part whose stock quantity is
-/// limited (resistors, amplifier packages, references, and the filter
-/// pair where the design has one), against that quantity: one finding per
+/// limited (resistors, amplifier packages, references, feedback
+/// capacitors, and the filter pair where the design has one), against that quantity: one finding per
 /// such part, in part-id order. Parts without a quantity (families,
 /// inline values) are unlimited and get none.
 pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
@@ -638,6 +638,11 @@ pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
     for r in &built.resistors {
         if let Some(q) = resistor_qty(&r.part) {
             placed.push((&r.part.part_id, q));
+        }
+    }
+    for c in &built.feedback_capacitors {
+        if let Some(q) = c.part.stock_qty {
+            placed.push((&c.part.part_id, q));
         }
     }
     if let Some(f) = &built.filter {
@@ -679,11 +684,12 @@ pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
         .collect()
 }
 
-/// Parts on the board: resistors, amplifier packages, references, and
-/// the filter pair where the design has one.
+/// Parts on the board: resistors, amplifier packages, references, the
+/// feedback capacitors, and the filter pair where the design has one.
 pub fn part_count(built: &Built) -> usize {
     built.resistors.len()
         + if built.filter.is_some() { 2 } else { 0 }
+        + built.feedback_capacitors.len()
         + built.packages.len()
         + built
             .sources

@@ -441,9 +441,11 @@ fn integrate(
     let rc = filter.series.ohms * filter.shunt.value.0;
     let filter_corner = 1.0 / (2.0 * PI * rc);
     let top_gbw = amplifiers.iter().map(|a| a.gbw_hz).fold(0.0, f64::max);
-    // The grid starts a thousandth of the pair's corner down, or at the
+    // The grid starts a thousandth of the lowest corner (the pair's or
+    // a feedback capacitor's) down, or at the
     // low limit when that is higher.
-    let start = (filter_corner * 1e-3).max(low);
+    let start =
+        (filter_corner.min(crate::filter::feedback::lowest_corner_hz(built)) * 1e-3).max(low);
     let high = top_gbw.max(filter_corner).max(start) * 10.0;
     let count = ((high / start).log10() * POINTS_PER_DECADE).ceil().max(2.0) as usize + 1;
     let grid = crate::mna_ac::log_frequencies(start, high, count);

@@ -17,8 +17,10 @@
 //! of the last op-amp into the capacitor, kickback and settling of a
 //! sampling input). `docs/filter.md` gives every rule and its source.
 
+pub mod feedback;
 mod response;
 
+pub use feedback::FeedbackPole;
 pub use response::{
     amplifiers, analyse, FilterCheck, FilterReport, FilterStatus, INAMP_OUTPUT_GBW_FACTOR,
 };
@@ -321,12 +323,16 @@ fn meets(bounds: &Bounds, need: &Need, driver: &Driver, r: &Resistor, c: &Capaci
     true
 }
 
-/// How many of each resistor part a built design places already (its
-/// own resistors, not a filter pair), by part id.
+/// How many of each resistor and capacitor part a built design places
+/// already (its own resistors and feedback capacitors, not a filter
+/// pair), by part id.
 pub fn resistors_used(built: &Built) -> BTreeMap<&str, u32> {
     let mut used: BTreeMap<&str, u32> = BTreeMap::new();
     for r in &built.resistors {
         *used.entry(r.part.part_id.as_str()).or_default() += 1;
+    }
+    for c in &built.feedback_capacitors {
+        *used.entry(c.part.part_id.as_str()).or_default() += 1;
     }
     used
 }
@@ -401,8 +407,9 @@ pub fn choose_within(
     })
 }
 
-/// The stock as the pair sees it once a design's own resistors are
-/// placed: each limited resistor's `stock_qty` lowered by the design's use
+/// The stock as the pair sees it once a design's own resistors (and
+/// feedback capacitors) are placed: each limited part's `stock_qty`
+/// lowered by the design's use
 /// (so [`choose`] on it is [`choose_within`] with that use). Borrowed
 /// when the design places no limited resistor.
 pub fn stock_left<'s>(stock: &'s Stock, built: &Built) -> Cow<'s, Stock> {
@@ -412,15 +419,25 @@ pub fn stock_left<'s>(stock: &'s Stock, built: &Built) -> Cow<'s, Stock> {
             .resistor_valued(id, ohms)
             .is_some_and(|p| p.stock_qty.is_some())
     };
-    if !built
-        .resistors
+    let limited_capacitor = built
+        .feedback_capacitors
         .iter()
-        .any(|r| limited(&r.part.part_id, r.part.ohms))
+        .any(|c| c.part.stock_qty.is_some());
+    if !limited_capacitor
+        && !built
+            .resistors
+            .iter()
+            .any(|r| limited(&r.part.part_id, r.part.ohms))
     {
         return Cow::Borrowed(stock);
     }
     let mut left = stock.clone();
     for part in &mut left.resistors {
+        if let (Some(q), Some(n)) = (part.stock_qty, used.get(part.part_id.as_str())) {
+            part.stock_qty = Some(q.saturating_sub(*n));
+        }
+    }
+    for part in &mut left.capacitors {
         if let (Some(q), Some(n)) = (part.stock_qty, used.get(part.part_id.as_str())) {
             part.stock_qty = Some(q.saturating_sub(*n));
         }

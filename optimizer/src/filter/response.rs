@@ -23,8 +23,8 @@ const NOISE_POINTS_PER_DECADE: usize = 20;
 /// One check of the filter and drive.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct FilterCheck {
-    /// `droop`, `alias-rejection`, `reservoir`, `settling` or
-    /// `phase-margin`.
+    /// `droop`, `alias-rejection`, `reservoir`, `settling`,
+    /// `phase-margin` or `feedback-pole`.
     pub check: &'static str,
     /// What was found against what was asked.
     pub detail: String,
@@ -46,6 +46,9 @@ pub struct FilterReport {
     /// Loss of gain at `accuracy.bandwidth_hz`, as an error at the top of
     /// the output span, % of full scale.
     pub droop_pct_fs: f64,
+    /// The poles in stages' feedback (a capacitor across `rf`), with their
+    /// stability figures; empty when the design has none.
+    pub feedback_poles: Vec<super::feedback::FeedbackPole>,
     /// The kickback droop on the capacitor at the start of an
     /// acquisition, volts.
     pub kickback_v: Option<f64>,
@@ -270,7 +273,10 @@ pub fn analyse(need: &Need, stock: &Stock, built: &Built) -> FilterStatus {
     chain.dc = dc;
     let bandwidth = need.accuracy.bandwidth.0;
     let Some(corner) = chain.corner(
-        bandwidth.min(1.0 / (2.0 * PI * parts.series.ohms * parts.shunt.value.0)) * 1e-3,
+        bandwidth
+            .min(1.0 / (2.0 * PI * parts.series.ohms * parts.shunt.value.0))
+            .min(super::feedback::lowest_corner_hz(&filtered))
+            * 1e-3,
         1e12,
     ) else {
         return not("the chain's response does not fall to -3 dB below 1 THz");
@@ -343,6 +349,8 @@ pub fn analyse(need: &Need, stock: &Stock, built: &Built) -> FilterStatus {
             ),
         });
     }
+    let (feedback_poles, feedback_checks) = super::feedback::feedback_poles(need, stock, &filtered);
+    checks.extend(feedback_checks);
     let margin = phase_margin_deg(&driver, ohms, farads);
     checks.push(FilterCheck {
         check: "phase-margin",
@@ -369,6 +377,7 @@ pub fn analyse(need: &Need, stock: &Stock, built: &Built) -> FilterStatus {
         corner_hz: corner,
         noise_bandwidth_hz: noise_bandwidth,
         droop_pct_fs,
+        feedback_poles,
         rejection_at_nyquist_db,
         settling_ns,
         settling_error_lsb,

@@ -196,3 +196,165 @@ fn the_in_amp_bandwidth_falls_with_its_gain() {
         );
     }
 }
+
+/// A one-stage non-inverting design of the demo stock (invented values)
+/// with `feedback` as its `feedback_capacitor` entry.
+fn with_feedback(stock: &Stock, feedback: &str) -> crate::Result<crate::design::Design> {
+    let json = format!(
+        r#"{{"format": "spanfit-design-1", "stages": [{{"shape": "non-inverting",
+        "amplifier": "OA-RR1", "resistors": {{"rf": "HR-F1-10K0", "rg": "HR-F1-10K0"}},
+        "feedback_capacitor": {feedback}}}]}}"#
+    );
+    crate::design::parse_design(json.as_bytes(), "fb.json", stock)
+}
+
+/// The phase margin of a single-pole amplifier with a capacitor pole in
+/// its feedback is `90 + atan(f/fp) - atan(f/(NG fp))` at crossover: 90
+/// degrees at a noise gain of 1 (no pole-zero pair), more above it, and
+/// the crossover of `GBW/f |beta(f)| = 1` closed form (handbook
+/// single-pole loop) agrees with the bisection.
+#[test]
+fn a_feedback_pole_only_adds_phase_margin() {
+    use super::feedback::phase_margin_deg;
+    let gbw = 1e6;
+    assert!((phase_margin_deg(gbw, 1.0, 1e3) - 90.0).abs() < 1e-9);
+    for (ng, fp) in [(2.0, 1e3), (10.0, 1e4), (100.0, 50.0), (3.0, 3e5)] {
+        let m = phase_margin_deg(gbw, ng, fp);
+        assert!(m > 90.0 && m < 180.0, "NG {ng}, fp {fp}: {m}");
+        // Far above the corner and its zero the loop is the follower's:
+        // crossover near GBW, margin 90 + atan(GBW/fp) - atan(GBW/(NG fp)).
+        if fp * ng * 100.0 < gbw {
+            let x = gbw / fp;
+            let want = 90.0 + (x.atan() - (x / ng).atan()).to_degrees();
+            assert!(
+                (m - want).abs() < 0.5,
+                "NG {ng}, fp {fp}: {m} against {want}"
+            );
+        }
+    }
+}
+
+/// A capacitor across `rf` is in the netlist across `rf`'s two nodes as
+/// `C2` (after the pair's `C1`), in the BOM, the schematic, the SPICE deck,
+/// the cost, the part count and the BOM lines, and its reported corner is
+/// `1 / (2 pi rf C)` (handbook closed form); the chain's corner falls.
+#[test]
+fn a_feedback_capacitor_is_placed_counted_and_reported() {
+    let (_, stock, _) = demo();
+    // A single-ended sensor (invented): 0.4 V to 2.0 V from 100 ohm.
+    let need = crate::need::parse_need(
+        b"[sensor]\nsignal_low_v = 0.4\nsignal_high_v = 2.0\nsource_ohms = 100.0\n\
+          [adc]\nlow_v = 0.0\nhigh_v = 3.3\nbits = 12\n[supply]\npositive_v = 5.0\n\
+          [accuracy]\nmax_error_pct_fs = 1.0\n",
+        "se.toml",
+    )
+    .unwrap();
+    let with = with_feedback(&stock, "\"HC-N1-1n00\"").unwrap();
+    let mut without = with.clone();
+    without.stages[0].feedback_capacitor = None;
+    let built = crate::topology::build(&need, &stock, &with).unwrap();
+    let (filtered, _) = attach(&need, &stock, &built);
+    let c = &filtered.feedback_capacitors[0];
+    assert_eq!(c.designator, "C2");
+    let rf = filtered
+        .resistors
+        .iter()
+        .find(|r| r.role == crate::shape::Role::Rf)
+        .unwrap();
+    assert_eq!(c.across, rf.element);
+    let cap_nodes = &filtered.netlist.elements[c.element].nodes[..2];
+    let rf_nodes = &filtered.netlist.elements[rf.element].nodes[..2];
+    assert_eq!(cap_nodes, rf_nodes);
+    let report = &filtered.filter.as_ref().unwrap().report;
+    let pole = &report.feedback_poles[0];
+    let fp = 1.0 / (2.0 * std::f64::consts::PI * 10e3 * 1e-9);
+    assert!((pole.corner_hz / fp - 1.0).abs() < 1e-12);
+    assert!((pole.noise_gain_dc - 2.0).abs() < 1e-3, "{pole:?}");
+    assert!(report
+        .checks
+        .iter()
+        .any(|k| k.check == "feedback-pole" && k.pass));
+    // Counted like any part.
+    let plain = attach(
+        &need,
+        &stock,
+        &crate::topology::build(&need, &stock, &without).unwrap(),
+    )
+    .0;
+    let (a, b) = (
+        crate::search::costing(&filtered, need.search.bom_line_cost),
+        crate::search::costing(&plain, need.search.bom_line_cost),
+    );
+    assert_eq!(a.part_count, b.part_count + 1);
+    let cap_cost = stock.capacitor("HC-N1-1n00").unwrap().unit_cost;
+    assert!((a.parts_cost - b.parts_cost - cap_cost).abs() < 1e-12);
+    // HC-N1-1n00 is not the pair's capacitor, so it is a BOM line of its own.
+    assert_ne!(
+        filtered.filter.as_ref().unwrap().shunt.part_id,
+        "HC-N1-1n00"
+    );
+    assert_eq!(a.bom_lines, b.bom_lines + 1);
+    let rows = crate::bom::rows(&filtered, &stock);
+    assert!(rows
+        .iter()
+        .any(|r| r.kind == "capacitor" && r.refs == ["C2"] && r.part_id == "HC-N1-1n00"));
+    let svg = crate::schematic::svg(&filtered, &with, "t");
+    assert!(svg.contains("data-ref=\"C2\""));
+    assert!(!svg.contains("also in the netlist"));
+    let deck = crate::spice::export(&need, &stock, &with).unwrap();
+    assert!(deck
+        .lines()
+        .any(|l| l.starts_with("C2 ") && l.ends_with(" 1e-9")));
+    // The pole lowers the chain's corner.
+    assert!(report.corner_hz < plain.filter.as_ref().unwrap().report.corner_hz);
+}
+
+/// A feedback capacitor goes only on a shape with `rf`, and must be a
+/// stock capacitor or a complete inline one; each refusal names the key.
+#[test]
+fn bad_feedback_capacitors_are_refused_by_key() {
+    let (_, stock, _) = demo();
+    let difference = r#"{"stages": [{"shape": "difference", "amplifier": "OA-RR1",
+        "resistors": {"r1": "HR-F1-10K0", "r2": "HR-F1-10K0", "r3": "HR-F1-10K0",
+        "r4": "HR-F1-10K0"}, "feedback_capacitor": "HC-N1-1n00"}]}"#;
+    let e = crate::design::parse_design(difference.as_bytes(), "d.json", &stock).unwrap_err();
+    let text = e.to_string();
+    assert!(
+        text.contains("stages[0].feedback_capacitor") && text.contains("rf"),
+        "{text}"
+    );
+    for (entry, says) in [
+        ("\"NO-SUCH-CAP\"", "not in stock"),
+        ("{\"farads\": 1e-9}", "tolerance_pct"),
+        ("{\"farads\": -1, \"tolerance_pct\": 5}", "farads"),
+        (
+            "{\"farads\": 1e-9, \"tolerance_pct\": 5, \"volts\": 3}",
+            "unknown key",
+        ),
+        (
+            "{\"farads\": 1e-9, \"tolerance_pct\": 5, \"part_id\": \"HC-F47\"}",
+            "stock capacitor",
+        ),
+        ("12", "the number"),
+    ] {
+        let e = with_feedback(&stock, entry).unwrap_err().to_string();
+        assert!(
+            e.contains("stages[0].feedback_capacitor") && e.contains(says),
+            "{entry}: {e}"
+        );
+    }
+    // An inline one reads back through the design file writer.
+    let inline = with_feedback(
+        &stock,
+        "{\"farads\": 2.2e-9, \"tolerance_pct\": 5, \"dielectric\": \"C0G\", \"part_id\": \"MY-C\"}",
+    )
+    .unwrap();
+    let file = crate::design::design_file_json(&inline, &stock);
+    let again =
+        crate::design::parse_design(file.to_string().as_bytes(), "again.json", &stock).unwrap();
+    assert_eq!(again, inline);
+    assert_eq!(
+        again.stages[0].feedback_capacitor.as_ref().unwrap().value.0,
+        2.2e-9
+    );
+}

@@ -121,6 +121,24 @@ pub fn parts(stock: &Stock, built: &Built) -> Vec<PartEntry> {
             value_text: format_quantity(r.volts.0, "V"),
         }));
     }
+    for f in &built.feedback_capacitors {
+        let c = &f.part;
+        parts.push(PartEntry::Capacitor(CapacitorEntry {
+            dielectric: c.dielectric.clone(),
+            footprint: (!c.package.is_empty()).then(|| c.package.clone()),
+            kind: "capacitor",
+            part_id: c.part_id.clone(),
+            rated_v: c.rated.0,
+            reference: f.designator.clone(),
+            role: "feedback".to_string(),
+            stage: f.stage,
+            tempco_ppm_per_c: c.tempco.0,
+            tolerance_pct: c.tolerance.0,
+            unit_cost: c.unit_cost,
+            value: c.value.0,
+            value_text: format_quantity(c.value.0, "F"),
+        }));
+    }
     if let Some(f) = &built.filter {
         let stage = built.stage_outputs.len().saturating_sub(1);
         parts.push(PartEntry::Resistor(ResistorEntry {

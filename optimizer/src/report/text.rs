@@ -341,6 +341,22 @@ fn write_filter(out: &mut String, d: &DesignReport) {
             num(m, 3)
         );
     }
+    for p in &f.feedback_poles {
+        let _ = writeln!(
+            out,
+            "         feedback pole: {} {} F across {} (stage {}), corner {} Hz; noise gain of \
+             {} {} to {}, phase margin {} degrees",
+            p.reference,
+            num(p.farads, 3),
+            p.across,
+            p.stage + 1,
+            num(p.corner_hz, 4),
+            p.section,
+            num(p.noise_gain_dc, 4),
+            num(p.noise_gain_hf, 3),
+            num(p.phase_margin_deg, 3)
+        );
+    }
     for c in &f.checks {
         let _ = writeln!(
             out,

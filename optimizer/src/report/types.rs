@@ -204,7 +204,8 @@ pub enum PartEntry {
     Amplifier(AmplifierEntry),
     /// A voltage reference.
     Reference(ReferenceEntry),
-    /// A capacitor (the filter at the ADC input).
+    /// A capacitor (the filter at the ADC input, or across a stage's
+    /// `rf`).
     Capacitor(CapacitorEntry),
 }
 
@@ -224,9 +225,11 @@ pub struct CapacitorEntry {
     /// Designator.
     #[serde(rename = "ref")]
     pub reference: String,
-    /// Its place: `filter` (shunt capacitor at the ADC input).
+    /// Its place: `filter` (shunt capacitor at the ADC input) or
+    /// `feedback` (across the stage's `rf`).
     pub role: String,
-    /// 0-based index of the stage it follows (the last).
+    /// 0-based index of its stage (for `filter`: the last, which it
+    /// follows).
     pub stage: usize,
     /// Temperature coefficient, ppm/degC.
     pub tempco_ppm_per_c: f64,

@@ -2,7 +2,7 @@
 //! fit, wires, dots, labels, resistors, op-amp triangles and grounds.
 
 use super::xml_escape;
-use std::collections::BTreeSet;
+use std::collections::{BTreeMap, BTreeSet};
 use std::fmt::Write as _;
 
 /// The signal line of every stage.
@@ -27,6 +27,9 @@ pub(crate) struct Canvas {
     pub(crate) max_x: f64,
     pub(crate) max_y: f64,
     pub(crate) drawn: BTreeSet<String>,
+    /// Where each horizontal resistor was drawn, by designator: its ends
+    /// `(x1, x2, y)` (a feedback capacitor is drawn beside its `rf`).
+    pub(crate) horizontal: BTreeMap<String, (f64, f64, f64)>,
 }
 
 pub(crate) fn num(v: f64) -> String {
@@ -45,6 +48,7 @@ impl Canvas {
             max_x: 0.0,
             max_y: 0.0,
             drawn: BTreeSet::new(),
+            horizontal: BTreeMap::new(),
         }
     }
 
@@ -160,6 +164,7 @@ impl Canvas {
 
     /// A horizontal resistor between `x1` and `x2` on `y`.
     pub(crate) fn resistor_h(&mut self, x1: f64, x2: f64, y: f64, r: &Labelled, side: Side) {
+        self.horizontal.insert(r.designator.clone(), (x1, x2, y));
         self.open_part(&r.designator, &r.hover);
         let cx = (x1 + x2) / 2.0;
         self.wire(&[(x1, y), (cx - 18.0, y)]);
@@ -196,6 +201,28 @@ impl Canvas {
         } else {
             self.text(x + 12.0, cy + 4.0, "start", "lbl", &r.label);
         }
+        self.close_part();
+    }
+
+    /// A horizontal capacitor between `x1` and `x2` on `y`: two plates
+    /// across the wire at the middle, the label to the right of `x2`.
+    pub(crate) fn capacitor_h(&mut self, x1: f64, x2: f64, y: f64, c: &Labelled) {
+        self.open_part(&c.designator, &c.hover);
+        let cx = (x1 + x2) / 2.0;
+        self.wire(&[(x1, y), (cx - 4.0, y)]);
+        self.wire(&[(cx + 4.0, y), (x2, y)]);
+        for px in [cx - 4.0, cx + 4.0] {
+            let _ = writeln!(
+                self.body,
+                "<line class=\"g\" x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\"/>",
+                num(px),
+                num(y - 8.0),
+                num(px),
+                num(y + 8.0)
+            );
+        }
+        self.extend(x2, y + 8.0);
+        self.text(x2 + 6.0, y + 4.0, "start", "lbl", &c.label);
         self.close_part();
     }
 

@@ -467,6 +467,7 @@ pub fn svg(built: &Built, design: &Design, title: &str) -> String {
             &format!("stage {}: {}", i + 1, stage.shape.name()),
         );
         let outline = stage.shape.behaviour().draw(&mut canvas, &sheet, i, x, out);
+        draw_feedback_capacitors(&mut canvas, &sheet, i);
         collect_networks(&sheet, i, &mut nets);
         let mut end = outline.out;
         if i == last {
@@ -521,6 +522,40 @@ pub fn svg(built: &Built, design: &Design, title: &str) -> String {
 
 /// Anything a template did not place (a role it does not know) is still
 /// listed, so no part goes missing from the drawing; then the footnote.
+/// The capacitors across stage `index`'s feedback resistor, drawn beside
+/// it: a line parallel to `rf`, part of the way towards the signal line,
+/// joining the two wires that already run from `rf`'s ends (its ends are
+/// the op-amp's - input and output, each wired towards the amplifier by
+/// every shape's drawing), with the plates at the middle.
+fn draw_feedback_capacitors(canvas: &mut Canvas, sheet: &Sheet<'_>, index: usize) {
+    for c in sheet
+        .built
+        .feedback_capacitors
+        .iter()
+        .filter(|c| c.stage == index)
+    {
+        let Some(rf) = sheet.built.resistors.iter().find(|r| r.element == c.across) else {
+            continue;
+        };
+        let Some(&(x1, x2, y)) = canvas.horizontal.get(&rf.designator) else {
+            continue;
+        };
+        let yc = y + (Y0 - y) * 0.45;
+        let label = Labelled {
+            designator: c.designator.clone(),
+            label: format!("{} {}", c.designator, format_quantity(c.part.value.0, "F")),
+            hover: format!(
+                "{}: feedback capacitor across {}, {} ({})",
+                c.designator, rf.designator, c.part.part_id, c.part.dielectric
+            ),
+        };
+        let (left, right) = (x1.min(x2), x1.max(x2));
+        canvas.dot(left, yc);
+        canvas.dot(right, yc);
+        canvas.capacitor_h(left, right, yc, &label);
+    }
+}
+
 fn list_undrawn(canvas: &mut Canvas, sheet: &Sheet<'_>) {
     let built = sheet.built;
     let mut missing: Vec<String> = Vec::new();
@@ -531,6 +566,15 @@ fn list_undrawn(canvas: &mut Canvas, sheet: &Sheet<'_>) {
                 r.designator,
                 format_ohms(r.part.ohms),
                 r.role
+            ));
+        }
+    }
+    for c in &built.feedback_capacitors {
+        if !canvas.drawn.contains(&c.designator) {
+            missing.push(format!(
+                "{} {} (feedback)",
+                c.designator,
+                format_quantity(c.part.value.0, "F")
             ));
         }
     }

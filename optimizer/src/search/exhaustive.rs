@@ -403,6 +403,7 @@ impl Walk {
                 offset: injection(option.offset, Role::OffsetTop, Role::OffsetBottom),
                 bias: injection(option.bias, Role::BiasTop, Role::BiasBottom),
                 buffer: option.buffer.map(|o| stock.opamps[o].part_id.clone()),
+                feedback_capacitor: None,
             });
         }
         Design { stages }

@@ -150,6 +150,11 @@ pub(crate) fn costing_with(
             ids.insert(format!("v:{id}"));
         }
     }
+    // Capacitors across a stage's feedback resistor.
+    for c in &built.feedback_capacitors {
+        parts_cost += c.part.unit_cost;
+        ids.insert(format!("c:{}", c.part.part_id));
+    }
     // The filter at the ADC input, where a reported design has one.
     if let Some(f) = &built.filter {
         parts_cost += f.series.unit_cost + f.shunt.unit_cost;

@@ -260,6 +260,7 @@ impl Problem<'_> {
                 offset,
                 bias,
                 buffer,
+                feedback_capacitor: None,
             });
         }
         Design { stages }

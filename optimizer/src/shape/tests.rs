@@ -137,6 +137,7 @@ fn check(shape: Shape, network: Option<OffsetNetwork>) {
             offset,
             bias,
             buffer,
+            feedback_capacitor: None,
         }],
     };
     // The closed form's drive: the source, or its divider's Thevenin
