@@ -171,7 +171,7 @@ impl Model {
                 source: line.label().to_string(),
                 pct_fs: volts * pct,
                 lsb: volts / lsb,
-                units: volts_per_unit.map(|per_unit| volts / per_unit),
+                units: volts_per_unit.map(|per_unit| volts / per_unit.abs()),
                 at_ends_pct_fs: [at[0] * pct, at[1] * pct],
                 systematic: line.systematic(),
                 explain: self.explain_line(need, line, binding_end),
