@@ -636,8 +636,18 @@ pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
             .and_then(|p| p.stock_qty)
     };
     for r in &built.resistors {
+        if r.part.network.is_some() {
+            continue;
+        }
         if let Some(q) = resistor_qty(&r.part) {
             placed.push((&r.part.part_id, q));
+        }
+    }
+    // A matched network: one part per package.
+    let packages = crate::design::network_packages(built.resistors.iter().map(|r| &r.part));
+    for package in &packages {
+        if let Some(q) = stock.network(&package.part_id).and_then(|p| p.stock_qty) {
+            placed.push((&package.part_id, q));
         }
     }
     if let Some(f) = &built.filter {
@@ -679,10 +689,14 @@ pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
         .collect()
 }
 
-/// Parts on the board: resistors, amplifier packages, references, and
-/// the filter pair where the design has one.
+/// Parts on the board: resistors (a matched network package counting
+/// once, however many of its elements are used), amplifier packages,
+/// references, and the filter pair where the design has one.
 pub fn part_count(built: &Built) -> usize {
-    built.resistors.len()
+    let packages = crate::design::network_packages(built.resistors.iter().map(|r| &r.part));
+    let elements: usize = packages.iter().map(|p| p.elements.len()).sum();
+    built.resistors.len() - elements
+        + packages.len()
         + if built.filter.is_some() { 2 } else { 0 }
         + built.packages.len()
         + built
