@@ -15,6 +15,9 @@
 //! one difference stage of gain 100, an invented network part
 //! `RN-T1K-100K` (elements 1 and 3: 1 kohm, 2 and 4: 100 kohm).
 
+mod common;
+
+use common::ngspice::run_ngspice;
 use spanfit::analysis::{analyze, Analysis, Contributor};
 use spanfit::design::{design_file_json, parse_design, Design};
 use spanfit::need::{parse_need, Need};
@@ -458,4 +461,82 @@ fn bad_network_elements_in_a_design_are_located() {
     let rows = spanfit::bom::rows(&c.built, &stock);
     let net = rows.iter().find(|r| r.kind == "resistor network");
     assert_eq!(net.map(|r| r.quantity), Some(2), "{rows:?}");
+}
+
+/// The deck with resistor element `name` set to `ohms`; fails unless
+/// exactly one such element line exists (the naming contract).
+fn set_resistor(deck: &str, name: &str, ohms: f64) -> String {
+    let prefix = format!("{name} ");
+    let mut found = 0;
+    let lines: Vec<String> = deck
+        .lines()
+        .map(|l| {
+            if l.starts_with(&prefix) {
+                found += 1;
+                let fields: Vec<&str> = l.split_whitespace().collect();
+                format!("{} {} {} {ohms:e}", fields[0], fields[1], fields[2])
+            } else {
+                l.to_string()
+            }
+        })
+        .collect();
+    assert_eq!(found, 1, "element {name} in\n{deck}");
+    lines.join("\n") + "\n"
+}
+
+/// ngspice on our own exported netlist of the network design: at nominal
+/// it reads the analysis's output at both span ends; with the four
+/// elements at the ratio corner that passes the most common mode (a common
+/// deviation at the absolute limit, each element half the ratio tolerance
+/// against the others) the output at zero signal moves by the tolerance
+/// line, the absolute part cancelling (first order: within 1 %).
+#[test]
+fn ngspice_reads_the_ratio_corner_of_the_network_design() {
+    let stock = stock();
+    let need = need("none");
+    let d = design(&stock, true);
+    let (_, a) = analyze(&need, &stock, &d, 0, 1).unwrap_or_else(|e| panic!("{e}"));
+    let deck = spanfit::spice::export(&need, &stock, &d).unwrap_or_else(|e| panic!("{e}"));
+    let nominal = run_ngspice(&deck, "network-nominal");
+    for end in 0..2 {
+        let want = a.transfer.output_at_ends_v[end];
+        assert!(
+            (nominal[end] - want).abs() <= 1e-6 + 1e-6 * want.abs(),
+            "end {end}: ngspice {} V, analysis {want} V",
+            nominal[end]
+        );
+    }
+    let (abs_tol, ratio, _, _) = NETWORK;
+    let common = 1.0 + abs_tol / 100.0;
+    let e = 0.5 * ratio / 100.0;
+    // At zero signal the output moves by `Vcm G/(1+G) ((x4 - x3) - (x2 -
+    // x1))`: r4 and r1 up, r3 and r2 down.
+    let built = spanfit::api::evaluate(&need, &stock, &d)
+        .unwrap_or_else(|e| panic!("{e}"))
+        .built;
+    let designator = |role: &str| {
+        built
+            .resistors
+            .iter()
+            .find(|r| r.stage == 0 && r.role.name() == role)
+            .map(|r| r.designator.clone())
+            .unwrap_or_else(|| panic!("no {role}"))
+    };
+    let corner = [
+        ("r1", 1000.0 * common * (1.0 + e)),
+        ("r2", 100_000.0 * common * (1.0 - e)),
+        ("r3", 1000.0 * common * (1.0 - e)),
+        ("r4", 100_000.0 * common * (1.0 + e)),
+    ];
+    let mut moved = deck.clone();
+    for (role, ohms) in corner {
+        moved = set_resistor(&moved, &designator(role), ohms);
+    }
+    let at_corner = run_ngspice(&moved, "network-corner");
+    let shift_pct = 100.0 * (at_corner[0] - nominal[0]).abs() / FULL_SCALE_V;
+    let line_pct = line(&a, Contributor::ResistorTolerance)[0].abs();
+    assert!(
+        (shift_pct - line_pct).abs() <= 0.01 * line_pct,
+        "ngspice shift {shift_pct} % FS, tolerance line {line_pct} % FS"
+    );
 }
