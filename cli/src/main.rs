@@ -248,7 +248,7 @@ fn read_stock(need_path: &Path, need_bytes: &[u8]) -> Result<Vec<StockFile>> {
     paths.sort();
     if paths.is_empty() {
         bail!(
-            "{at}: the stock folder `{}` holds no *.csv stock files (expected resistors.csv, opamps.csv, references.csv, inamps.csv, capacitors.csv)",
+            "{at}: the stock folder `{}` holds no *.csv stock files (expected resistors.csv, opamps.csv, references.csv, inamps.csv, capacitors.csv, networks.csv)",
             folder.display()
         );
     }

@@ -31,7 +31,9 @@ pub const HEADER: &str = "refs,kind,value,part_id,quantity,unit_cost,line_cost";
 pub struct BomRow {
     /// Reference designators, in natural order (`R2`, `R10`).
     pub refs: Vec<String>,
-    /// `resistor`, `capacitor`, `op-amp`, `in-amp` or `reference`.
+    /// `resistor`, `resistor network`, `capacitor`, `op-amp`, `in-amp` or
+    /// `reference`. A network row lists the designators of the elements
+    /// used and counts packages in `quantity`.
     pub kind: String,
     /// Value as shown to people (`10.0k`, `1.25 V`, `dual`, `Rk 49.4k`).
     pub value: String,
@@ -107,8 +109,35 @@ fn add_resistor(rows: &mut Vec<(BomRow, [u64; 3])>, designator: &str, p: &Resist
 // packages, references) in one pass over the built design.
 pub fn rows(built: &Built, stock: &Stock) -> Vec<BomRow> {
     let mut resistors: Vec<(BomRow, [u64; 3])> = Vec::new();
-    for r in &built.resistors {
+    for r in built.resistors.iter().filter(|r| r.part.network.is_none()) {
         add_resistor(&mut resistors, &r.designator, &r.part);
+    }
+    // A matched network: one row per part id, one part per package, the
+    // designators of its elements listed.
+    let mut networks: Vec<BomRow> = Vec::new();
+    for package in crate::design::network_packages(built.resistors.iter().map(|r| &r.part)) {
+        let refs: Vec<String> = package
+            .elements
+            .iter()
+            .map(|&i| built.resistors[i].designator.clone())
+            .collect();
+        match networks.iter_mut().find(|r| r.part_id == package.part_id) {
+            Some(row) => {
+                row.refs.extend(refs);
+                row.quantity += 1;
+            }
+            None => networks.push(BomRow {
+                refs,
+                kind: "resistor network".into(),
+                value: stock
+                    .network(&package.part_id)
+                    .map(network_value)
+                    .unwrap_or_default(),
+                part_id: package.part_id.clone(),
+                quantity: 1,
+                unit_cost: package.unit_cost,
+            }),
+        }
     }
     let mut amplifiers: Vec<BomRow> = Vec::new();
     for pkg in &built.packages {
@@ -195,6 +224,7 @@ pub fn rows(built: &Built, stock: &Stock) -> Vec<BomRow> {
     let mut out: Vec<BomRow> = Vec::new();
     for mut group in [
         resistors.into_iter().map(|(r, _)| r).collect::<Vec<_>>(),
+        networks,
         capacitors,
         amplifiers,
         references,
@@ -210,6 +240,22 @@ pub fn rows(built: &Built, stock: &Stock) -> Vec<BomRow> {
         out.extend(group);
     }
     out
+}
+
+/// The value text of a network: each value of its elements with how many
+/// elements have it, in order of first appearance (`2 x 10.0k + 2 x 100k`).
+fn network_value(part: &crate::stock::NetworkPart) -> String {
+    let mut runs: Vec<(f64, usize)> = Vec::new();
+    for v in &part.values {
+        match runs.iter_mut().find(|(value, _)| *value == v.0) {
+            Some((_, n)) => *n += 1,
+            None => runs.push((v.0, 1)),
+        }
+    }
+    runs.iter()
+        .map(|&(v, n)| format!("{n} x {}", format_ohms(v)))
+        .collect::<Vec<_>>()
+        .join(" + ")
 }
 
 /// One CSV field: `'` before a leading `=`, `+`, `-`, `@`, tab or carriage

@@ -8,7 +8,7 @@ use crate::stock::StockFile;
 pub const NEED_TOML: &str = include_str!("../../examples/demo-need.toml");
 
 /// The demo stock tables, by file name.
-pub const STOCK: [(&str, &str); 5] = [
+pub const STOCK: [(&str, &str); 6] = [
     (
         "resistors.csv",
         include_str!("../../parts-data/demo-stock/resistors.csv"),
@@ -28,6 +28,10 @@ pub const STOCK: [(&str, &str); 5] = [
     (
         "capacitors.csv",
         include_str!("../../parts-data/demo-stock/capacitors.csv"),
+    ),
+    (
+        "networks.csv",
+        include_str!("../../parts-data/demo-stock/networks.csv"),
     ),
 ];
 

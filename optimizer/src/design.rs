@@ -5,11 +5,13 @@
 //!
 //! The file format (JSON, `"format": "spanfit-design-1"`) is documented in
 //! `examples/README.md`; a resistor is named by a stock part id, or given
-//! inline as `{"ohms": .., "tolerance_pct": .., "tcr_ppm_per_c": ..}`.
+//! inline as `{"ohms": .., "tolerance_pct": .., "tcr_ppm_per_c": ..}`, or
+//! as an element of a matched network package
+//! `{"network": "NET-x", "element": 2, "package": 1}`.
 
 use crate::error::{Error, Location, Result};
 use crate::need_parse::{decode_utf8, listed, short_number, shown};
-use crate::stock::{generic_resistor_by_id, CapacitorPart, ResistorPart, Stock};
+use crate::stock::{generic_resistor_by_id, CapacitorPart, NetworkPart, ResistorPart, Stock};
 use crate::stock_parse::{MAX_ID_CHARS, MAX_TCR_PPM_PER_C, MAX_UNIT_COST, OHMS_RANGE};
 use crate::units::{Farads, Percent, PpmPerC, Volts};
 use serde::{Deserialize, Serialize};
@@ -28,8 +30,34 @@ pub struct Resistor {
     pub tolerance_pct: f64,
     /// TCR in ppm/degC.
     pub tcr_ppm_per_c: f64,
-    /// Price of one.
+    /// Price of one (0 for an element of a network: its package is
+    /// priced once, [`NetworkElement::package_cost`]).
     pub unit_cost: f64,
+    /// The network package this resistor is an element of, if any; its
+    /// `tolerance_pct` and `tcr_ppm_per_c` are then the network's absolute
+    /// figures.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub network: Option<Box<NetworkElement>>,
+}
+
+/// Where a resistor sits in a matched network: which package of which
+/// part, which element, and the figures that hold between elements of one
+/// package.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct NetworkElement {
+    /// Network part id from `networks.csv`.
+    pub part_id: String,
+    /// Package number inside the design (1, 2, ...): elements with the
+    /// same part id and package number share one package.
+    pub package: u32,
+    /// Element number in the package (1-based).
+    pub element: u32,
+    /// Ratio tolerance between elements of the package (+/- %).
+    pub ratio_tolerance_pct: f64,
+    /// TCR tracking between elements of the package (+/- ppm/degC).
+    pub tracking_tcr_ppm_per_c: f64,
+    /// Price of the whole package.
+    pub package_cost: f64,
 }
 
 impl From<&ResistorPart> for Resistor {
@@ -40,8 +68,72 @@ impl From<&ResistorPart> for Resistor {
             tolerance_pct: p.tolerance.0,
             tcr_ppm_per_c: p.tcr.0,
             unit_cost: p.unit_cost,
+            network: None,
         }
     }
+}
+
+impl Resistor {
+    /// Element `element` (1-based) of package `package` of a network part;
+    /// `None` when the part has no such element.
+    pub fn network_element(part: &NetworkPart, package: u32, element: u32) -> Option<Resistor> {
+        let index = usize::try_from(element).ok()?.checked_sub(1)?;
+        let ohms = part.values.get(index)?.0;
+        Some(Resistor {
+            part_id: part.part_id.clone(),
+            ohms,
+            tolerance_pct: part.abs_tolerance.0,
+            tcr_ppm_per_c: part.abs_tcr.0,
+            unit_cost: 0.0,
+            network: Some(Box::new(NetworkElement {
+                part_id: part.part_id.clone(),
+                package,
+                element,
+                ratio_tolerance_pct: part.ratio_tolerance.0,
+                tracking_tcr_ppm_per_c: part.tracking_tcr.0,
+                package_cost: part.unit_cost,
+            })),
+        })
+    }
+}
+
+/// One network package placed in a design: its part, package number,
+/// price, and the positions (in the order given) of its elements.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NetworkPackage {
+    /// Network part id.
+    pub part_id: String,
+    /// Package number inside the design.
+    pub package: u32,
+    /// Price of the package.
+    pub unit_cost: f64,
+    /// Positions of its elements among the resistors given.
+    pub elements: Vec<usize>,
+}
+
+/// The network packages among `resistors`, in order of first appearance:
+/// each package is one part on the board and on the BOM, however many of
+/// its elements are used.
+pub fn network_packages<'a>(
+    resistors: impl IntoIterator<Item = &'a Resistor>,
+) -> Vec<NetworkPackage> {
+    let mut out: Vec<NetworkPackage> = Vec::new();
+    for (i, r) in resistors.into_iter().enumerate() {
+        let Some(n) = &r.network else { continue };
+        match out
+            .iter_mut()
+            .find(|p| p.part_id == n.part_id && p.package == n.package)
+        {
+            Some(p) => p.elements.push(i),
+            None => out.push(NetworkPackage {
+                part_id: n.part_id.clone(),
+                package: n.package,
+                unit_cost: n.package_cost,
+                elements: vec![i],
+            }),
+        }
+    }
+    out
 }
 
 /// What supplies an offset or bias voltage.
@@ -160,10 +252,14 @@ const INLINE_KEYS: [&str; 5] = [
     "part_id",
 ];
 
+/// The keys of a network element entry.
+const NETWORK_KEYS: [&str; 3] = ["network", "element", "package"];
+
 /// What a resistor entry may be, for messages.
-const RESISTOR_FORMS: &str = "a stock part id in quotes (\"HR-F1-10K0\"), or an inline \
+const RESISTOR_FORMS: &str = "a stock part id in quotes (\"HR-F1-10K0\"), an inline \
      resistor {\"ohms\": .., \"tolerance_pct\": .., \"tcr_ppm_per_c\": .., and optionally \
-     \"unit_cost\": .. and \"part_id\": ..}";
+     \"unit_cost\": .. and \"part_id\": ..}, or a network element {\"network\": \"NET-x\", \
+     \"element\": 1, and optionally \"package\": 1}";
 
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -306,6 +402,9 @@ fn resolve_resistor(raw: &serde_json::Value, stock: &Stock, at: &Location) -> Re
                 )
             })
         }
+        serde_json::Value::Object(map) if map.contains_key("network") => {
+            return network_resistor(map, stock, at)
+        }
         serde_json::Value::Object(map) => map,
         other => {
             return Err(Error::input(
@@ -372,6 +471,7 @@ fn resolve_resistor(raw: &serde_json::Value, stock: &Stock, at: &Location) -> Re
         tolerance_pct,
         tcr_ppm_per_c,
         unit_cost,
+        network: None,
     };
     let cost_given = map.contains_key("unit_cost");
     match stock_resistor(&inline.part_id, stock) {
@@ -528,6 +628,137 @@ fn resolve_capacitor(
         stock_qty: None,
         family: None,
     })
+}
+
+/// A network element entry `{"network": id, "element": n, "package": p}`:
+/// element `n` (1-based) of package `p` (default 1) of a `networks.csv`
+/// part.
+fn network_resistor(
+    map: &serde_json::Map<String, serde_json::Value>,
+    stock: &Stock,
+    at: &Location,
+) -> Result<Resistor> {
+    let sub = |key: &str| {
+        let mut at = at.clone();
+        at.key = at.key.as_ref().map(|k| format!("{k}.{key}"));
+        at
+    };
+    let unknown: Vec<&String> = map
+        .keys()
+        .filter(|k| !NETWORK_KEYS.contains(&k.as_str()))
+        .collect();
+    if !unknown.is_empty() {
+        return Err(Error::input(
+            at.clone(),
+            format!(
+                "unknown key{} {} in a network element; its keys are: {}",
+                if unknown.len() > 1 { "s" } else { "" },
+                listed(&unknown),
+                NETWORK_KEYS.join(", ")
+            ),
+        ));
+    }
+    let part = match map.get("network") {
+        Some(serde_json::Value::String(id)) => stock.network(id).ok_or_else(|| {
+            Error::input(
+                sub("network"),
+                format!(
+                    "network part `{}` is not in stock; expected a part id of networks.csv",
+                    shown(id)
+                ),
+            )
+        })?,
+        other => {
+            return Err(Error::input(
+                sub("network"),
+                format!(
+                    "expected a network part id in quotes, found {}",
+                    other.map_or_else(|| "nothing".to_string(), json_kind)
+                ),
+            ))
+        }
+    };
+    let count = part.values.len();
+    let whole = |key: &str, default: Option<u64>, max: u64| -> Result<u32> {
+        let value = match (map.get(key), default) {
+            (Some(v), _) => v.as_u64(),
+            (None, Some(d)) => Some(d),
+            (None, None) => None,
+        };
+        match value {
+            Some(n) if (1..=max).contains(&n) => u32::try_from(n).map_err(|_| {
+                Error::input(sub(key), format!("expected a whole number from 1 to {max}"))
+            }),
+            _ => Err(Error::input(
+                sub(key),
+                format!(
+                    "expected a whole number from 1 to {max}, found {}",
+                    map.get(key)
+                        .map_or_else(|| "nothing".to_string(), json_kind)
+                ),
+            )),
+        }
+    };
+    let element = whole("element", None, count as u64)?;
+    let package = whole("package", Some(1), 999)?;
+    Resistor::network_element(part, package, element).ok_or_else(|| {
+        Error::input(
+            sub("element"),
+            format!("network `{}` has {count} elements", shown(&part.part_id)),
+        )
+    })
+}
+
+/// No element of a network package may be placed twice in one design.
+fn check_network_elements(stages: &[Stage], file: &str) -> Result<()> {
+    let mut seen: BTreeMap<(String, u32, u32), String> = BTreeMap::new();
+    for (i, stage) in stages.iter().enumerate() {
+        let placed = stage
+            .resistors
+            .iter()
+            .map(|(role, r)| (format!("stages[{i}].resistors.{}", role.name()), r))
+            .chain(injection_resistors(
+                &stage.offset,
+                &format!("stages[{i}].offset"),
+            ))
+            .chain(injection_resistors(
+                &stage.bias,
+                &format!("stages[{i}].bias"),
+            ));
+        for (key, r) in placed {
+            let Some(n) = &r.network else { continue };
+            let id = (n.part_id.clone(), n.package, n.element);
+            if let Some(first) = seen.insert(id, key.clone()) {
+                return Err(Error::input(
+                    Location::key(file, &key),
+                    format!(
+                        "element {} of package {} of network `{}` is also placed at {first}; \
+                         expected each element of a package once (another package: \
+                         \"package\": 2)",
+                        n.element,
+                        n.package,
+                        shown(&n.part_id)
+                    ),
+                ));
+            }
+        }
+    }
+    Ok(())
+}
+
+/// The divider resistors of an injection with their keys.
+fn injection_resistors<'a>(
+    injection: &'a Injection,
+    key: &str,
+) -> impl Iterator<Item = (String, &'a Resistor)> {
+    let pair = match injection {
+        Injection::Divider { top, bottom, .. } => vec![
+            (format!("{key}.top"), top),
+            (format!("{key}.bottom"), bottom),
+        ],
+        _ => Vec::new(),
+    };
+    pair.into_iter()
 }
 
 fn resolve_injection(
@@ -722,6 +953,7 @@ pub fn parse_design(bytes: &[u8], file: &str, stock: &Stock) -> Result<Design> {
             }
         }
     }
+    check_network_elements(&stages, file)?;
     Ok(Design { stages })
 }
 
@@ -757,7 +989,13 @@ fn write_design_file(
 ) -> serde_json::Value {
     use serde_json::json;
     let res = |r: &Resistor| {
-        if r.part_id == "custom" {
+        if let Some(n) = &r.network {
+            let mut o = json!({"network": n.part_id, "element": n.element});
+            if n.package != 1 {
+                o["package"] = json!(n.package);
+            }
+            o
+        } else if r.part_id == "custom" {
             json!({"ohms": r.ohms, "tolerance_pct": r.tolerance_pct, "tcr_ppm_per_c": r.tcr_ppm_per_c, "unit_cost": r.unit_cost})
         } else if by_id(r) {
             json!(r.part_id)

@@ -194,8 +194,14 @@ pub fn limit_notes(need: &Need, stock: &Stock, built: &Built) -> Vec<String> {
     }
     notes.push("Resistors (designator, part, value, tolerance, TCR, stage, role):".into());
     for r in &built.resistors {
+        let matched = r.part.network.as_ref().map_or_else(String::new, |n| {
+            format!(
+                ", network package {} element {} (ratio +/-{} %, tracking {} ppm/C)",
+                n.package, n.element, n.ratio_tolerance_pct, n.tracking_tcr_ppm_per_c
+            )
+        });
         notes.push(format!(
-            "  {} {} {} ohm +/-{} % {} ppm/C, stage {}, {}",
+            "  {} {} {} ohm +/-{} % {} ppm/C{matched}, stage {}, {}",
             r.designator,
             r.part.part_id,
             spice_number(r.part.ohms),

@@ -1,6 +1,7 @@
 //! The stock: parts the user can buy or has on the shelf, parsed from the
 //! CSV files of `docs/stock.md` (`resistors.csv`, `opamps.csv`,
-//! `references.csv`, `inamps.csv`, `capacitors.csv`). Resistor and
+//! `references.csv`, `inamps.csv`, `capacitors.csv`, `networks.csv`).
+//! Resistor and
 //! capacitor families expand here into one part per series value, so the
 //! rest of the core sees only concrete values.
 
@@ -293,6 +294,36 @@ pub struct InAmpPart {
     pub en_corner_hz: f64,
 }
 
+/// A matched resistor network: several resistors in one package whose
+/// values track each other more closely than their absolute values
+/// (`networks.csv`). Each element's deviation is modelled as one common
+/// deviation of the package (within the absolute figures) plus its own
+/// (within half the ratio figures, so the ratio of any two elements stays
+/// within the ratio figures).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct NetworkPart {
+    /// Part number of the package.
+    pub part_id: String,
+    /// Nominal value of each element, element 1 first.
+    pub values: Vec<Ohms>,
+    /// Absolute tolerance of each element (+/-).
+    pub abs_tolerance: Percent,
+    /// Ratio tolerance: the ratio of any two elements lies within this of
+    /// its nominal (+/-).
+    pub ratio_tolerance: Percent,
+    /// Absolute TCR of each element (+/-).
+    pub abs_tcr: PpmPerC,
+    /// TCR tracking: the ratio of any two elements drifts by at most this
+    /// (+/-).
+    pub tracking_tcr: PpmPerC,
+    /// Package text.
+    pub package: String,
+    /// Price of one package.
+    pub unit_cost: f64,
+    /// Packages on hand; `None` means unlimited.
+    pub stock_qty: Option<u32>,
+}
+
 /// All parts available to a design.
 #[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
 pub struct Stock {
@@ -308,6 +339,9 @@ pub struct Stock {
     /// design then has no filter capacitor).
     #[serde(default)]
     pub capacitors: Vec<CapacitorPart>,
+    /// Matched resistor networks (may be empty).
+    #[serde(default)]
+    pub networks: Vec<NetworkPart>,
 }
 
 /// One stock file handed to the parser: its name (`resistors.csv` ...) and
@@ -322,7 +356,7 @@ pub struct StockFile {
 
 /// Parse and validate stock tables. Files are recognised by name
 /// (`resistors.csv`, `opamps.csv`, `references.csv`, `inamps.csv`,
-/// `capacitors.csv`); a missing table is an empty one, but a stock with no resistors or no
+/// `capacitors.csv`, `networks.csv`); a missing table is an empty one, but a stock with no resistors or no
 /// amplifiers at all is an error.
 pub fn parse_stock(files: &[StockFile]) -> Result<Stock> {
     crate::stock_parse::parse_stock(files)
@@ -390,6 +424,10 @@ impl Stock {
     /// Look up a capacitor by part id.
     pub fn capacitor(&self, id: &str) -> Option<&CapacitorPart> {
         self.capacitors.iter().find(|p| p.part_id == id)
+    }
+    /// Look up a resistor network by part id.
+    pub fn network(&self, id: &str) -> Option<&NetworkPart> {
+        self.networks.iter().find(|p| p.part_id == id)
     }
     /// Look up a resistor by part id.
     pub fn resistor(&self, id: &str) -> Option<&ResistorPart> {

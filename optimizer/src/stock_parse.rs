@@ -19,17 +19,19 @@ use crate::error::{Error, Location, Result};
 use crate::need_parse::{decode_utf8, listed, shown};
 use crate::series::{value_code, Series};
 use crate::stock::{
-    CapacitorPart, InAmpPart, OpAmpPart, ReferencePart, ResistorPart, Stock, StockFile,
+    CapacitorPart, InAmpPart, NetworkPart, OpAmpPart, ReferencePart, ResistorPart, Stock, StockFile,
 };
 use crate::units::{Decibels, Farads, Ohms, Percent, PpmPerC, Volts};
 use std::collections::HashMap;
 
 mod capacitors;
 mod csv;
+mod networks;
 mod tables;
 
 use capacitors::capacitors;
 use csv::{read_csv, Record};
+use networks::networks;
 use tables::{inamps, opamps, references, resistors};
 
 /// Largest stock file accepted, in bytes (8 MiB).
@@ -69,7 +71,7 @@ const MAX_NUMBER: f64 = 1e9;
 /// Sections an op-amp package may hold.
 const CHANNELS: [u32; 3] = [1, 2, 4];
 
-/// The five kinds of table, recognised by file name.
+/// The six kinds of table, recognised by file name.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Table {
     Resistors,
@@ -77,6 +79,7 @@ enum Table {
     References,
     InAmps,
     Capacitors,
+    Networks,
 }
 
 /// The value columns of a table whose rows are single values or series
@@ -102,12 +105,13 @@ const CAPACITOR_VALUES: ValueColumns = ValueColumns {
 };
 
 impl Table {
-    const ALL: [Table; 5] = [
+    const ALL: [Table; 6] = [
         Table::Resistors,
         Table::OpAmps,
         Table::References,
         Table::InAmps,
         Table::Capacitors,
+        Table::Networks,
     ];
 
     fn file_name(self) -> &'static str {
@@ -117,6 +121,7 @@ impl Table {
             Table::References => "references.csv",
             Table::InAmps => "inamps.csv",
             Table::Capacitors => "capacitors.csv",
+            Table::Networks => "networks.csv",
         }
     }
 
@@ -211,6 +216,18 @@ impl Table {
                 "unit_cost",
                 "stock_qty",
             ],
+            Table::Networks => &[
+                "part_id",
+                "count",
+                "value_ohms",
+                "abs_tolerance_pct",
+                "ratio_tolerance_pct",
+                "abs_tcr_ppm_per_c",
+                "tracking_tcr_ppm_per_c",
+                "package",
+                "unit_cost",
+                "stock_qty",
+            ],
         }
     }
 
@@ -239,6 +256,7 @@ impl Table {
                 "en_corner_hz",
             ],
             Table::References => &["load_regulation_ppm_per_ma", "max_load_ma"],
+            Table::Networks => &[],
         }
     }
 
@@ -327,6 +345,12 @@ pub(crate) fn parse_stock(files: &[StockFile]) -> Result<Stock> {
                 for (part, line) in capacitors(&columns, rows, name)? {
                     owners.push((part.part_id.clone(), name, line));
                     stock.capacitors.push(part);
+                }
+            }
+            Table::Networks => {
+                for (part, line) in networks(&columns, rows, name)? {
+                    owners.push((part.part_id.clone(), name, line));
+                    stock.networks.push(part);
                 }
             }
         }

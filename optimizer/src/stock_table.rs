@@ -11,8 +11,8 @@
 //! for each file.
 
 use super::{
-    capacitors, checked_text, expected_file_names, inamps, opamps, read_csv, references, resistors,
-    shown, split_header, Row, Table,
+    capacitors, checked_text, expected_file_names, inamps, networks, opamps, read_csv, references,
+    resistors, shown, split_header, Row, Table,
 };
 use crate::error::{Error, Location, Result};
 use serde::Serialize;
@@ -22,7 +22,8 @@ use serde::Serialize;
 pub struct StockTable {
     /// The table's file name as the core knows it (`resistors.csv`).
     pub file: &'static str,
-    /// `resistors`, `opamps`, `references`, `inamps` or `capacitors`.
+    /// `resistors`, `opamps`, `references`, `inamps`, `capacitors` or
+    /// `networks`.
     pub kind: &'static str,
     /// The header's column names, as written (in the file's order).
     pub header: Vec<String>,
@@ -40,7 +41,7 @@ pub struct StockTable {
 
 /// Read and validate one stock file on its own. `file_name` picks the
 /// table (`resistors.csv`, `opamps.csv`, `references.csv`, `inamps.csv`,
-/// `capacitors.csv`, any case, any folder) and names the file in errors.
+/// `capacitors.csv`, `networks.csv`, any case, any folder) and names the file in errors.
 pub fn read_stock_table(file_name: &str, bytes: &[u8]) -> Result<StockTable> {
     let table = Table::from_file_name(file_name).ok_or_else(|| {
         Error::input(
@@ -66,6 +67,7 @@ pub fn read_stock_table(file_name: &str, bytes: &[u8]) -> Result<StockTable> {
         Table::References => references(&columns, rows, file_name).map(drop),
         Table::InAmps => inamps(&columns, rows, file_name).map(drop),
         Table::Capacitors => capacitors(&columns, rows, file_name).map(drop),
+        Table::Networks => networks(&columns, rows, file_name).map(drop),
     };
     let trimmed = |fields: &[String]| fields.iter().map(|f| f.trim().to_string()).collect();
     let file = table.file_name();

@@ -82,6 +82,7 @@ fn resistor(ohms: f64, precise: bool) -> Resistor {
         tolerance_pct,
         tcr_ppm_per_c,
         unit_cost: 0.0,
+        network: None,
     }
 }
 

@@ -82,6 +82,7 @@ fn resistor(rng: &mut Rng, stock: &Stock, kinds: &[Kind], n: &mut usize) -> (Res
                 tolerance_pct: [0.01, 0.1, 0.5, 1.0, 5.0][rng.below(5)],
                 tcr_ppm_per_c: 200.0 * rng.unit(),
                 unit_cost: 0.1 * rng.unit(),
+                network: None,
             }
         }
     };

@@ -107,7 +107,7 @@ pub fn stock_files_from_json(stock_json: &str) -> Result<Vec<StockFile>, Error> 
         return Err(Error::input(
             Location::file("stock"),
             format!(
-                "expected a JSON object mapping file names (resistors.csv, opamps.csv, references.csv, inamps.csv, capacitors.csv) to CSV text, found {}",
+                "expected a JSON object mapping file names (resistors.csv, opamps.csv, references.csv, inamps.csv, capacitors.csv, networks.csv) to CSV text, found {}",
                 json_kind(&value)
             ),
         ));
@@ -197,7 +197,8 @@ fn line_column(text: &str, byte_offset: usize) -> (usize, usize) {
 
 /// Read a stock (the page's JSON object of CSV texts) and count its parts:
 /// `{"resistors": n, "opamps": n, "references": n, "inamps": n,
-/// "capacitors": n}` (resistor and capacitor families count each value).
+/// "capacitors": n, "networks": n}` (resistor and capacitor families count
+/// each value; a network counts once per row).
 /// The core
 /// reports the first problem with file, line and column.
 pub fn check_stock_value(stock_json: &str) -> Result<Value, Error> {
@@ -214,6 +215,7 @@ pub fn check_stock_value(stock_json: &str) -> Result<Value, Error> {
         "references": stock.references.len(),
         "inamps": stock.inamps.len(),
         "capacitors": stock.capacitors.len(),
+        "networks": stock.networks.len(),
     }))
 }
 

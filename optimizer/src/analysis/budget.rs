@@ -229,6 +229,9 @@ impl Model {
                 .resistors
                 .iter()
                 .find(|placed| placed.element == element)
+                // An element of a matched network carries its ratio
+                // figures, not a grade the search may rescale.
+                .filter(|placed| placed.part.network.is_none())
                 .map(|placed| {
                     let divider = placed.role.is_divider();
                     (

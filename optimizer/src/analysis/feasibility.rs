@@ -636,6 +636,9 @@ pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
             .and_then(|p| p.stock_qty)
     };
     for r in &built.resistors {
+        if r.part.network.is_some() {
+            continue;
+        }
         if let Some(q) = resistor_qty(&r.part) {
             placed.push((&r.part.part_id, q));
         }
@@ -643,6 +646,13 @@ pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
     for c in &built.feedback_capacitors {
         if let Some(q) = c.part.stock_qty {
             placed.push((&c.part.part_id, q));
+        }
+    }
+    // A matched network: one part per package.
+    let packages = crate::design::network_packages(built.resistors.iter().map(|r| &r.part));
+    for package in &packages {
+        if let Some(q) = stock.network(&package.part_id).and_then(|p| p.stock_qty) {
+            placed.push((&package.part_id, q));
         }
     }
     if let Some(f) = &built.filter {
@@ -684,10 +694,15 @@ pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
         .collect()
 }
 
-/// Parts on the board: resistors, amplifier packages, references, the
-/// feedback capacitors, and the filter pair where the design has one.
+/// Parts on the board: resistors (a matched network package counting
+/// once, however many of its elements are used), amplifier packages,
+/// references, the feedback capacitors, and the filter pair where the
+/// design has one.
 pub fn part_count(built: &Built) -> usize {
-    built.resistors.len()
+    let packages = crate::design::network_packages(built.resistors.iter().map(|r| &r.part));
+    let elements: usize = packages.iter().map(|p| p.elements.len()).sum();
+    built.resistors.len() - elements
+        + packages.len()
         + if built.filter.is_some() { 2 } else { 0 }
         + built.feedback_capacitors.len()
         + built.packages.len()

@@ -108,18 +108,7 @@ pub(crate) fn collect(
         )
         .filter_map(|p| SourceMotion::of(dc, p))
         .collect();
-    for placed in &built.resistors {
-        let tolerance = placed.part.tolerance_pct / 100.0;
-        params.push(Parameter {
-            initial_contributor: Contributor::ResistorTolerance,
-            drift_contributor: Contributor::ResistorTcr,
-            target: Target::Resistors(vec![placed.element]),
-            initial: [tolerance, tolerance],
-            drift: placed.part.tcr_ppm_per_c * 1e-6 * delta_t,
-            sensitivity: dc.resistor_sensitivity(netlist, placed.element),
-            calibratable: true,
-        });
-    }
+    resistor_parameters(built, netlist, dc, delta_t, &mut params);
     for section in &built.sections {
         amplifier_parameters(need, stock, netlist, dc, section, &motions, &mut params);
     }
@@ -172,6 +161,79 @@ pub(crate) fn collect(
     params.extend(common_mode);
     params.extend(supply);
     params
+}
+
+/// Tolerance and TCR of the placed resistors. A single resistor is one
+/// parameter of its own. The elements of one matched network package
+/// move together and apart: one parameter for the package as a whole
+/// (every element by the same fraction, within the absolute tolerance and
+/// TCR) and one per element (within half the ratio tolerance and half the
+/// TCR tracking, so the ratio of any two elements stays within the ratio
+/// figures). Worst case and RSS then take the common part through the sum
+/// of the elements' sensitivities, where a ratio the circuit depends on
+/// cancels it, and the Monte Carlo draws one common deviation per package
+/// and one of its own per element. This is the one place resistor
+/// correlation enters the analysis.
+fn resistor_parameters(
+    built: &Built,
+    netlist: &Netlist,
+    dc: &DcSolution,
+    delta_t: f64,
+    params: &mut Vec<Parameter>,
+) {
+    let resistor = |contributors: (Contributor, Contributor),
+                    elements: Vec<usize>,
+                    tolerance_pct: f64,
+                    tcr_ppm_per_c: f64| {
+        let mut sensitivity = [0.0; 2];
+        for &e in &elements {
+            let s = dc.resistor_sensitivity(netlist, e);
+            sensitivity[0] += s[0];
+            sensitivity[1] += s[1];
+        }
+        let tolerance = tolerance_pct / 100.0;
+        Parameter {
+            initial_contributor: contributors.0,
+            drift_contributor: contributors.1,
+            target: Target::Resistors(elements),
+            initial: [tolerance, tolerance],
+            drift: tcr_ppm_per_c * 1e-6 * delta_t,
+            sensitivity,
+            calibratable: true,
+        }
+    };
+    let lines = (Contributor::ResistorTolerance, Contributor::ResistorTcr);
+    for placed in &built.resistors {
+        let part = &placed.part;
+        params.push(match &part.network {
+            None => resistor(
+                lines,
+                vec![placed.element],
+                part.tolerance_pct,
+                part.tcr_ppm_per_c,
+            ),
+            Some(n) => resistor(
+                lines,
+                vec![placed.element],
+                0.5 * n.ratio_tolerance_pct,
+                0.5 * n.tracking_tcr_ppm_per_c,
+            ),
+        });
+    }
+    for package in crate::design::network_packages(built.resistors.iter().map(|p| &p.part)) {
+        let placed = &built.resistors[package.elements[0]];
+        let elements = package
+            .elements
+            .iter()
+            .map(|&i| built.resistors[i].element)
+            .collect();
+        params.push(resistor(
+            lines,
+            elements,
+            placed.part.tolerance_pct,
+            placed.part.tcr_ppm_per_c,
+        ));
+    }
 }
 
 /// The forward response of every unknown to one parameter's sources, per

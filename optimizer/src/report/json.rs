@@ -52,9 +52,23 @@ fn sections_in_order(built: &Built) -> Vec<&Section> {
 /// references.
 pub fn parts(stock: &Stock, built: &Built) -> Vec<PartEntry> {
     let mut parts = Vec::new();
+    let mut priced_networks: Vec<(&str, u32)> = Vec::new();
     for r in &built.resistors {
+        // A network's price sits on the first element listed of each
+        // package (as a shared op-amp package's on its first section).
+        let unit_cost = match &r.part.network {
+            None => r.part.unit_cost,
+            Some(n) if priced_networks.contains(&(n.part_id.as_str(), n.package)) => 0.0,
+            Some(n) => {
+                priced_networks.push((n.part_id.as_str(), n.package));
+                n.package_cost
+            }
+        };
         parts.push(PartEntry::Resistor(ResistorEntry {
-            footprint: stock.resistor(&r.part.part_id).map(|p| p.package.clone()),
+            footprint: stock
+                .resistor(&r.part.part_id)
+                .map(|p| p.package.clone())
+                .or_else(|| stock.network(&r.part.part_id).map(|p| p.package.clone())),
             kind: "resistor",
             part_id: r.part.part_id.clone(),
             reference: r.designator.clone(),
@@ -62,9 +76,10 @@ pub fn parts(stock: &Stock, built: &Built) -> Vec<PartEntry> {
             stage: r.stage,
             tcr_ppm_per_c: r.part.tcr_ppm_per_c,
             tolerance_pct: r.part.tolerance_pct,
-            unit_cost: r.part.unit_cost,
+            unit_cost,
             value: r.part.ohms,
             value_text: format_ohms(r.part.ohms),
+            network: r.part.network.as_deref().cloned(),
         }));
     }
     let mut priced_packages: Vec<&str> = Vec::new();
@@ -153,6 +168,7 @@ pub fn parts(stock: &Stock, built: &Built) -> Vec<PartEntry> {
             unit_cost: f.series.unit_cost,
             value: f.series.ohms,
             value_text: format_ohms(f.series.ohms),
+            network: None,
         }));
         let c = &f.shunt;
         parts.push(PartEntry::Capacitor(CapacitorEntry {

@@ -401,11 +401,23 @@ fn write_parts(out: &mut String, d: &DesignReport) {
                 &r.value_text,
                 &r.part_id,
                 r.unit_cost,
-                format!(
-                    "{} %, {} ppm/degC",
-                    num(r.tolerance_pct, 2),
-                    num(r.tcr_ppm_per_c, 3)
-                ),
+                match &r.network {
+                    None => format!(
+                        "{} %, {} ppm/degC",
+                        num(r.tolerance_pct, 2),
+                        num(r.tcr_ppm_per_c, 3)
+                    ),
+                    Some(n) => format!(
+                        "{} %, {} ppm/degC; network package {} element {}, ratio {} %, \
+                         tracking {} ppm/degC",
+                        num(r.tolerance_pct, 2),
+                        num(r.tcr_ppm_per_c, 3),
+                        n.package,
+                        n.element,
+                        num(n.ratio_tolerance_pct, 2),
+                        num(n.tracking_tcr_ppm_per_c, 3)
+                    ),
+                },
             ),
             PartEntry::Amplifier(a) => {
                 let mut g = format!(

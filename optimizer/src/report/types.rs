@@ -269,6 +269,13 @@ pub struct ResistorEntry {
     pub value: f64,
     /// Ohms as people write them (`10.0k`).
     pub value_text: String,
+    /// Where the resistor is an element of a matched network: its
+    /// package, element number and matching figures (absent otherwise).
+    /// `tolerance_pct` and `tcr_ppm_per_c` are then the network's absolute
+    /// figures, and `unit_cost` is the package price on its first element
+    /// listed, 0 on the others.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub network: Option<crate::design::NetworkElement>,
 }
 
 /// An op-amp or in-amp section of `parts[]`.

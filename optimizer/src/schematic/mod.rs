@@ -151,11 +151,33 @@ impl<'a> Sheet<'a> {
 
     pub(crate) fn labelled_resistor(&self, r: &PlacedResistor) -> Labelled {
         let p = &r.part;
+        // An element of a matched network is labelled with its package
+        // and element (`RN1.2`: package 1, element 2) and its ratio
+        // figures.
+        let (label, matched) = match &p.network {
+            None => (
+                format!("{} {}", r.designator, format_ohms(p.ohms)),
+                String::new(),
+            ),
+            Some(n) => (
+                format!(
+                    "{} {} RN{}.{}",
+                    r.designator,
+                    format_ohms(p.ohms),
+                    n.package,
+                    n.element
+                ),
+                format!(
+                    ", network package {} element {}, ratio +/-{} %, tracking {} ppm/C",
+                    n.package, n.element, n.ratio_tolerance_pct, n.tracking_tcr_ppm_per_c
+                ),
+            ),
+        };
         Labelled {
             designator: r.designator.clone(),
-            label: format!("{} {}", r.designator, format_ohms(p.ohms)),
+            label,
             hover: format!(
-                "{} {} ohm, part {}, +/-{} %, {} ppm/C (stage {}, {})",
+                "{} {} ohm, part {}, +/-{} %, {} ppm/C{matched} (stage {}, {})",
                 r.designator,
                 format_ohms(p.ohms),
                 p.part_id,

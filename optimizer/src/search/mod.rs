@@ -140,6 +140,10 @@ pub(crate) fn costing_with(
         parts_cost += r.part.unit_cost;
         ids.insert(format!("r:{}", r.part.part_id));
     }
+    // A matched network is priced once per package.
+    for package in crate::design::network_packages(built.resistors.iter().map(|r| &r.part)) {
+        parts_cost += package.unit_cost;
+    }
     for p in &built.packages {
         parts_cost += p.unit_cost;
         ids.insert(format!("u:{}", p.part_id));

@@ -13,8 +13,12 @@ use std::collections::BTreeMap;
 /// Whether a built design uses no part more often than the stock holds.
 fn within_stock(stock: &Stock, built: &Built) -> bool {
     let mut used: BTreeMap<&str, u32> = BTreeMap::new();
-    for r in &built.resistors {
+    for r in built.resistors.iter().filter(|r| r.part.network.is_none()) {
         *used.entry(r.part.part_id.as_str()).or_default() += 1;
+    }
+    let networks = crate::design::network_packages(built.resistors.iter().map(|r| &r.part));
+    for package in &networks {
+        *used.entry(package.part_id.as_str()).or_default() += 1;
     }
     for p in &built.packages {
         *used.entry(p.part_id.as_str()).or_default() += 1;
@@ -31,6 +35,7 @@ fn within_stock(stock: &Stock, built: &Built) -> bool {
             .or_else(|| stock.opamp(id).map(|p| p.stock_qty))
             .or_else(|| stock.inamp(id).map(|p| p.stock_qty))
             .or_else(|| stock.reference(id).map(|p| p.stock_qty))
+            .or_else(|| stock.network(id).map(|p| p.stock_qty))
             .flatten();
         qty.is_none_or(|q| count <= q)
     })

@@ -60,6 +60,7 @@ fn exact(ohms: f64) -> Resistor {
         tolerance_pct: 0.0,
         tcr_ppm_per_c: 0.0,
         unit_cost: 0.0,
+        network: None,
     }
 }
 

@@ -126,7 +126,7 @@ export async function validateStock() {
     if (seq !== stockCheckSeq) return;
     state.stockValid = true;
     state.checkedStock = checked;
-    setStatus('stock-status', `Shelf read: ${counts.resistors} resistor values, ${counts.opamps} op-amps, ${counts.references} references, ${counts.inamps} in-amps${typeof counts.capacitors === 'number' ? `, ${counts.capacitors} capacitor values` : ''}.`, 'good');
+    setStatus('stock-status', `Shelf read: ${counts.resistors} resistor values, ${counts.opamps} op-amps, ${counts.references} references, ${counts.inamps} in-amps${typeof counts.capacitors === 'number' ? `, ${counts.capacitors} capacitor values` : ''}${counts.networks ? `, ${counts.networks} resistor networks` : ''}.`, 'good');
   } catch (error) {
     if (seq !== stockCheckSeq) return;
     state.stockValid = false;

@@ -1,4 +1,4 @@
-// The five shelf tables, by the file names the core reads (the stock CSV
+// The six shelf tables, by the file names the core reads (the stock CSV
 // contract), with the labels of the page's tabs.
 export const TABLES = [
   { file: 'resistors.csv', label: 'Resistors' },
@@ -6,6 +6,7 @@ export const TABLES = [
   { file: 'references.csv', label: 'References' },
   { file: 'inamps.csv', label: 'In-amps' },
   { file: 'capacitors.csv', label: 'Capacitors' },
+  { file: 'networks.csv', label: 'Networks' },
 ];
 
 /**
@@ -16,6 +17,7 @@ export function tableForName(name) {
   const lower = name.toLowerCase().split(/[\\/]/).pop();
   for (const t of TABLES) if (lower === t.file) return t.file;
   if (lower.includes('capacitor')) return 'capacitors.csv';
+  if (lower.includes('network')) return 'networks.csv';
   if (lower.includes('inamp') || lower.includes('in-amp')) return 'inamps.csv';
   if (lower.includes('opamp') || lower.includes('op-amp')) return 'opamps.csv';
   if (lower.includes('resist')) return 'resistors.csv';
