@@ -338,7 +338,9 @@ test('a share link carries the edited shelf into a fresh browser, and leaves the
   });
   await withPage(async ({ page }) => {
     await page.goto(link);
-    await page.waitForFunction(() => document.body.dataset.ready === 'yes');
+    // The tab already shows the page, so the link arrives as a fragment
+    // change: wait until the page has taken it in and cleared it.
+    await page.waitForFunction(() => location.hash === '' && document.body.dataset.ready === 'yes');
     assert.equal(await page.inputValue('[data-testid=stock-table] input[data-row="0"][data-col="0"]'), 'HR-SHARED');
     assert.equal(await page.inputValue('#f-accuracy-max_error_pct_fs'), '0.8');
     assert.equal(await page.evaluate(() => location.hash), '', 'the fragment is cleared');

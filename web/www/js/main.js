@@ -28,7 +28,7 @@ import { buildTabs, onStockUpload, renderStockTable, stockChanged, validateStock
 import { onCancel, refreshFreshness, runSolve } from './solve.js';
 import { pinViewed, renderCompare, renderViewed, watchChartWidth, wireSchematic } from './results.js';
 import { wireDownloads } from './downloads.js';
-import { clearFragment, demoNeed, demoStock, exampleProject, needFromFile, projectFromFile, projectFromFragment, readProject, readStockTexts, shareLink } from './project.js';
+import { clearFragment, demoNeed, fragmentKind, demoStock, exampleProject, needFromFile, projectFromFile, projectFromFragment, readProject, readStockTexts, shareLink } from './project.js';
 import { toCsv } from './csv.js';
 
 // The badge shows the two workers together: ready when both are.
@@ -257,10 +257,18 @@ function wire() {
   $('pin').addEventListener('click', pinViewed);
   $('unpin').addEventListener('click', () => { state.pinned = null; renderCompare(); });
   wireGallery();
+  // A share link opened in a tab that already shows the page: the page is
+  // not ready (data-ready) until the link's project is in the form and shelf.
   window.addEventListener('hashchange', async () => {
-    const project = await projectFromFragment();
-    clearFragment();
-    if (project) useProject({ stock: state.stock, ...project });
+    if (!fragmentKind()) return;
+    document.body.dataset.ready = 'no';
+    try {
+      const project = await projectFromFragment();
+      clearFragment();
+      if (project) useProject({ stock: state.stock, ...project });
+    } finally {
+      document.body.dataset.ready = 'yes';
+    }
   });
 }
 

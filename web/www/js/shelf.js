@@ -88,16 +88,20 @@ export async function applyStockChanges(changes) {
   await validateStock();
 }
 
+let stockTimer = null;
+let stockCheckSeq = 0;
+
 /** After any change to the shelf: save, recount, check. */
 export function stockChanged() {
+  // Unchecked until the core has read the changed shelf: a solve never
+  // runs on the shelf as it was before the edit.
+  ++stockCheckSeq;
+  state.stockValid = false;
   saveSoon();
   buildTabs();
   updateSolveButton();
   validateStockSoon();
 }
-
-let stockTimer = null;
-let stockCheckSeq = 0;
 
 function validateStockSoon() {
   clearTimeout(stockTimer);
@@ -192,6 +196,9 @@ async function readUpload(name, text) {
 
 /** Uploaded CSVs: each read by the core into its table. */
 export async function onStockUpload(files) {
+  ++stockCheckSeq;
+  state.stockValid = false;
+  updateSolveButton();
   const messages = [];
   let lastTable = null;
   for (const file of files) {
