@@ -501,7 +501,16 @@ fn solve_with(
     };
     let augmented = augment_stock(need, stock);
     let problem = Problem::new(need, stock, &augmented);
-    let run = strategy::run(&problem, mode, control);
+    let mut run = strategy::run(&problem, mode, control);
+    if !stock.networks.is_empty() {
+        // Neither walk places matched networks yet, so a stock that holds
+        // one has designs the walks do not see: no verdict over its space
+        // is proven (no optimum, no gap, no infeasibility, no least error).
+        run.proven_infeasible = false;
+        run.walked = false;
+        run.stats.proven_optimal = false;
+        run.stats.gap = None;
+    }
     let mut alternatives = pareto::front(run.found);
     if let Some(best) = &run.best {
         alternatives.retain(|a| {
