@@ -35,6 +35,15 @@ fn null_allowed(key: &str, parent: &serde_json::Map<String, Value>, _report: &Va
         "source" => parent.get("kind").is_some_and(|k| k == "ground"),
         // The sensor-unit column exists only with a physical scale.
         "unit" | "units" => is_null("unit"),
+        // The totals in the sensor's unit, likewise (the need has no
+        // physical scale, so the totals in LSB stand alone).
+        "worst_case_units" | "rss_units" => ["quantity_unit", "quantity_low", "quantity_high"]
+            .iter()
+            .any(|k| {
+                _report
+                    .pointer(&format!("/need/sensor/{k}"))
+                    .is_none_or(Value::is_null)
+            }),
         "quantity_unit" => true,
         "volts_per_unit" => is_null("quantity_unit"),
         // Monte Carlo figures exist only where a Monte Carlo run was made
@@ -56,6 +65,9 @@ fn null_allowed(key: &str, parent: &serde_json::Map<String, Value>, _report: &Va
         // No best attempt when no design that passes every check was
         // analysed (then there is no best error either).
         "best_attempt" => is_null("best_error_pct_fs"),
+        // A budget line's explanation has a note only where the
+        // calibration trimmed something from the line.
+        "note" => parent.contains_key("formula"),
         // Package text of a part not in the stock tables.
         "footprint" => true,
         // No filter pair from the stock (docs/filter.md).

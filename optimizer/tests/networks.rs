@@ -546,7 +546,12 @@ fn ngspice_reads_the_ratio_corner_of_the_network_design() {
 /// case; the BOM has one network line in place of the 0.1 % resistors.
 #[test]
 fn the_demo_network_design_beats_the_solved_demo_on_resistor_lines() {
-    let stock = parse_stock(&spanfit::demo::stock_files()).unwrap_or_else(|e| panic!("{e}"));
+    let mut files = spanfit::demo::stock_files();
+    files.push(StockFile {
+        name: "networks.csv".into(),
+        bytes: spanfit::demo::NETWORKS_CSV.as_bytes().to_vec(),
+    });
+    let stock = parse_stock(&files).unwrap_or_else(|e| panic!("{e}"));
     let need = parse_need(spanfit::demo::NEED_TOML.as_bytes(), "demo-need.toml")
         .unwrap_or_else(|e| panic!("{e}"));
     let read = |text: &str, name: &str| {
