@@ -302,7 +302,7 @@ test('a project stored as CSV text only is read by the core; a table it cannot r
     await page.waitForFunction(() => document.body.dataset.ready === 'yes');
     const count = (file) => demo[file].trim().split('\n').filter((l) => l.trim() && !l.trim().startsWith('#')).length - 1;
     const tabs = await page.$$eval('button.tab', (b) => b.map((x) => x.textContent));
-    assert.deepEqual(tabs, [`Resistors (${count('resistors.csv')})`, `Op-amps (${count('opamps.csv')})`, 'References (0)', 'In-amps (0)', 'Capacitors (0)']);
+    assert.deepEqual(tabs, [`Resistors (${count('resistors.csv')})`, `Op-amps (${count('opamps.csv')})`, 'References (0)', 'In-amps (0)', 'Capacitors (0)', 'Networks (0)']);
     const status = await page.textContent('[data-testid=run-status]');
     assert.match(status, new RegExp(`references\\.csv, line ${refs.length + 1}`));
     assert.match(status, /set aside/);
