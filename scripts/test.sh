@@ -51,6 +51,6 @@ step fuzz env SPANFIT_FUZZ_SECONDS=60 cargo test -p spanfit-optimizer --release 
 step release-walks cargo test -p spanfit-optimizer --release --test exhaustive_agreement --test space_bound
 step wasm-browser-tests cargo test -p spanfit-web --target wasm32-unknown-unknown --no-fail-fast
 if step build bash -c 'bash scripts/build-web.sh && cargo build --release -p spanfit-cli'; then
-  step page-tests node --test tests/page/
+  step page-tests node --test --test-concurrency=1 tests/page/
 fi
 finish
