@@ -429,15 +429,57 @@ fn cannot_meet(problem: &Problem<'_>, model: &Model, best_v: Option<f64>) -> boo
     least > problem.target_v || best_v.is_some_and(|b| least > b * (1.0 + 1e-9))
 }
 
+/// Least wall time between two progress reports inside one structure, ms.
+const PROGRESS_EVERY_MS: f64 = 100.0;
+
+/// What a structure's assignments are interrupted by: the deadline, and
+/// a cancel from the progress sink, which is called now and then (at most
+/// every [`PROGRESS_EVERY_MS`]) so that a structure of very many
+/// assignments still hears a Stop.
+struct Pause<'c, 'a> {
+    control: &'c mut SolveControl<'a>,
+    deadline_ms: f64,
+    /// The structures done and in all, as the walk reports them.
+    done: u64,
+    total: u64,
+    last_report_ms: f64,
+    /// The progress sink answered `false`.
+    cancelled: bool,
+}
+
+impl Pause<'_, '_> {
+    /// Whether the walk may go on; `false` at the deadline or on a cancel.
+    fn keep_going(&mut self, state: &SearchState) -> bool {
+        let now = (self.control.now_ms)();
+        if now > self.deadline_ms {
+            return false;
+        }
+        if now - self.last_report_ms >= PROGRESS_EVERY_MS {
+            self.last_report_ms = now;
+            let going = (self.control.progress)(Progress {
+                done: self.done,
+                total: self.total,
+                best_cost: state.best.as_ref().map(|b| b.costing.total),
+            });
+            if !going {
+                self.cancelled = true;
+                return false;
+            }
+        }
+        true
+    }
+}
+
 /// Every resistor assignment of one structure, offered to `state`;
-/// `false` when the deadline came first (the structure is not done).
+/// `false` when the deadline or a cancel came first (the structure is not
+/// done).
 fn search_structure(
     problem: &Problem<'_>,
     walk: &Walk,
     shapes: &[Shape],
     options: &[&StageOption],
     state: &mut SearchState,
-    deadline: (&dyn Fn() -> f64, f64),
+    pause: &mut Pause<'_, '_>,
 ) -> bool {
     let stock = problem.stock;
     let objective = problem.need.search.objective;
@@ -459,7 +501,7 @@ fn search_structure(
     let mut visited = 0u64;
     loop {
         visited += 1;
-        if visited.is_multiple_of(256) && (deadline.0)() > deadline.1 {
+        if visited.is_multiple_of(256) && !pause.keep_going(state) {
             return false;
         }
         let mut picks: Vec<&[usize]> = Vec::with_capacity(options.len());
@@ -734,15 +776,19 @@ pub(super) fn walk(
         if parts > problem.need.search.max_parts {
             continue;
         }
-        let clock = control.now_ms;
-        if !search_structure(
-            problem,
-            &walk,
-            shapes,
-            &chosen,
-            &mut state,
-            (clock, budget.deadline_ms),
-        ) {
+        let mut pause = Pause {
+            deadline_ms: budget.deadline_ms,
+            done: budget.report_as.unwrap_or(done),
+            total: budget.report_as.unwrap_or(total),
+            last_report_ms: (control.now_ms)(),
+            cancelled: false,
+            control,
+        };
+        let structure_done =
+            search_structure(problem, &walk, shapes, &chosen, &mut state, &mut pause);
+        if !structure_done {
+            // A cut walk is unfinished, never a verdict.
+            cancelled = pause.cancelled;
             bound_left = Some(node.key);
             break;
         }

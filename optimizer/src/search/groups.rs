@@ -34,6 +34,11 @@ pub(super) struct OffsetPlan {
     pub(super) volts: f64,
     /// Price of the source part (0 for the supply).
     pub(super) cost: f64,
+    /// Whether a REF divider's tap is followed by an op-amp section. An
+    /// unbuffered REF divider saves the section (often a whole package)
+    /// and puts its Thevenin resistance in series with the REF leg, which
+    /// the stage's closed form and the netlist both include.
+    pub(super) buffered: bool,
 }
 
 /// A structure before grades: shapes, parts, offset plan, gain split.
@@ -193,6 +198,7 @@ fn offset_plan_sets(
         source: from.source.clone(),
         volts: from.volts,
         cost: from.cost,
+        buffered: network.buffered(),
     };
     let mut plan_sets: Vec<(Vec<OffsetPlan>, Vec<f64>)> = Vec::new();
     if b.abs() < 1e-9 {
@@ -205,7 +211,9 @@ fn offset_plan_sets(
                 for from in sources {
                     let mut offsets = vec![0.0; shapes.len()];
                     offsets[stage] = c;
-                    plan_sets.push((vec![plan(stage, network, from)], offsets));
+                    for one in with_unbuffered(vec![plan(stage, network, from)]) {
+                        plan_sets.push((one, offsets.clone()));
+                    }
                 }
             }
         }
@@ -236,11 +244,32 @@ fn offset_plan_sets(
                     .zip(&networks)
                     .map(|(&stage, &network)| plan(stage, network, from))
                     .collect();
-                plan_sets.push((plans, offsets.clone()));
+                for one in with_unbuffered(plans) {
+                    plan_sets.push((one, offsets.clone()));
+                }
             }
         }
     }
     plan_sets
+}
+
+/// A plan set as the networks make it and, where it buffers a REF
+/// divider, the same set with every REF divider unbuffered (the space
+/// holds both; the unbuffered one needs no follower section).
+fn with_unbuffered(plans: Vec<OffsetPlan>) -> Vec<Vec<OffsetPlan>> {
+    if plans.iter().any(|p| p.buffered) {
+        let unbuffered = plans
+            .iter()
+            .cloned()
+            .map(|p| OffsetPlan {
+                buffered: false,
+                ..p
+            })
+            .collect();
+        vec![plans, unbuffered]
+    } else {
+        vec![plans]
+    }
 }
 
 /// Stage offsets that start every intermediate output a tenth of the rails
@@ -332,14 +361,31 @@ fn groups_with_parts(
     } else {
         vec![None]
     };
-    let buffer_sections = frame.plans.iter().filter(|p| p.network.buffered()).count();
+    let buffer_sections = frame.plans.iter().filter(|p| p.buffered).count();
     let sections = opamp_sections + buffer_sections;
     let opamps: Vec<Option<usize>> = if sections == 0 {
         vec![None]
     } else {
         (0..stock.opamps.len()).map(Some).collect()
     };
+    // A REF divider left unbuffered where buffering it would take no
+    // further op-amp package saves nothing, and its Thevenin resistance
+    // only unbalances the stage: the walk takes the buffered twin (a rule
+    // of thumb of this walk, not a proof; the exhaustive walk has both).
+    let unbuffered_refs = frame
+        .plans
+        .iter()
+        .filter(|p| p.network.buffered() && !p.buffered)
+        .count();
+    let spare_section = |channels: usize| {
+        opamp_sections > 0
+            && unbuffered_refs > 0
+            && (sections + unbuffered_refs).div_ceil(channels) == sections.div_ceil(channels)
+    };
     for &opamp in &opamps {
+        if opamp.is_some_and(|o| spare_section(stock.opamps[o].channels.max(1) as usize)) {
+            continue;
+        }
         for &inamp in &inamps {
             let plans = frame.plans;
             let mut fixed_cost = plans.first().map(|p| p.cost).unwrap_or(0.0);

@@ -55,6 +55,9 @@ struct StageScoring<'s> {
     gain: f64,
     offset: f64,
     network: Option<OffsetNetwork>,
+    /// Whether a REF divider is unbuffered (its Thevenin resistance then
+    /// sits in series with the REF leg).
+    unbuffered_ref: bool,
     source_volts: f64,
     sensor_ohms: (f64, f64),
     inamp_gain_ohms: f64,
@@ -87,6 +90,8 @@ impl Problem<'_> {
             gain: group.gains[stage],
             offset: group.offsets[stage],
             network: plan.map(|p| p.network),
+            unbuffered_ref: plan
+                .is_some_and(|p| p.network == OffsetNetwork::RefDivider && !p.buffered),
             source_volts: plan.map(|p| p.volts).unwrap_or(0.0),
             sensor_ohms: self.sensor_ohms(stage),
             inamp_gain_ohms: group
@@ -110,9 +115,12 @@ impl Problem<'_> {
             sensor_ohms: scoring.sensor_ohms,
             inamp_gain_ohms: scoring.inamp_gain_ohms,
         };
-        let mut out: Vec<ValueSet> = scoring
-            .behaviour
-            .value_sets(&request)
+        let mut candidates = scoring.behaviour.value_sets(&request);
+        if scoring.unbuffered_ref && scoring.source_volts > 0.0 {
+            let tap = scoring.offset / scoring.source_volts;
+            candidates = with_unbuffered_dividers(candidates, divider_grade, tap);
+        }
+        let mut out: Vec<ValueSet> = candidates
             .into_iter()
             .filter_map(|(roles, divider)| self.score(&scoring, roles, divider))
             .collect();
@@ -137,11 +145,13 @@ impl Problem<'_> {
         let values = &scoring.grade.values;
         let divider_values = &scoring.divider_grade.values;
         let ohms = |role: Role| roles.get(&role).map(|&i| values[i]).unwrap_or(f64::NAN);
-        let (offset_volts, thevenin_ohms) = offset_drive(
-            scoring.network,
-            scoring.source_volts,
-            divider.map(|(top, bottom)| (divider_values[top], divider_values[bottom])),
-        );
+        let divider_ohms =
+            divider.map(|(top, bottom)| (divider_values[top], divider_values[bottom]));
+        let (offset_volts, mut thevenin_ohms) =
+            offset_drive(scoring.network, scoring.source_volts, divider_ohms);
+        if let (true, Some((top, bottom))) = (scoring.unbuffered_ref, divider_ohms) {
+            thevenin_ohms = top * bottom / (top + bottom);
+        }
         let drive = StageDrive {
             ohms: &ohms,
             network: scoring.network,
@@ -234,7 +244,7 @@ impl Problem<'_> {
                         Injection::Ground,
                     ),
                     OffsetNetwork::InvertingBias => (Injection::Ground, divider(false, p)),
-                    OffsetNetwork::RefDivider => (divider(true, p), Injection::Ground),
+                    OffsetNetwork::RefDivider => (divider(p.buffered, p), Injection::Ground),
                 },
             };
             let buffer = if shape.integrated() && offset.buffered() {
@@ -265,6 +275,70 @@ impl Problem<'_> {
         }
         Design { stages }
     }
+}
+
+/// Dividers kept per decade of the divider's smaller resistor for an
+/// unbuffered REF divider.
+const UNBUFFERED_DIVIDERS_PER_DECADE: usize = 2;
+
+/// The candidates of a stage whose REF divider is unbuffered: each of the
+/// shape's resistor sets with its own dividers and with dividers at every
+/// impedance level of the divider grade. The shape's dividers keep their
+/// smaller resistor inside the ratio band, which suits a buffered tap; an
+/// unbuffered tap puts the divider's Thevenin resistance in series with the
+/// REF leg, where a low one unbalances the stage least (its common-mode
+/// rejection and its gain), so lower levels are offered too and the
+/// scoring (the stage's closed form, Thevenin resistance included) ranks
+/// them.
+fn with_unbuffered_dividers(
+    candidates: Vec<crate::shape::RoleValues>,
+    divider_grade: &Grade,
+    tap: f64,
+) -> Vec<crate::shape::RoleValues> {
+    if !(tap > 0.0 && tap < 1.0) {
+        return candidates;
+    }
+    let values = &divider_grade.values;
+    let ratio = tap / (1.0 - tap);
+    // The smaller resistor of the pair is the base; its partner brackets
+    // base / ratio (bottom small) or base * ratio (top small). The values
+    // are sorted, so the bases come decade by decade.
+    let mut dividers: Vec<(usize, usize)> = Vec::new();
+    let mut decade: Vec<(usize, usize, f64)> = Vec::new();
+    let mut decade_top = f64::NEG_INFINITY;
+    for (i, &small) in values.iter().enumerate() {
+        if small >= decade_top {
+            super::ratio::keep_best(&mut decade, UNBUFFERED_DIVIDERS_PER_DECADE);
+            dividers.extend(decade.drain(..).map(|(t, b, _)| (t, b)));
+            decade_top = 10f64.powf(small.log10().floor() + 1.0);
+        }
+        let partner = if ratio < 1.0 {
+            small / ratio
+        } else {
+            small * ratio
+        };
+        for k in super::ratio::bracket(values, partner) {
+            let (top, bottom) = if ratio < 1.0 { (k, i) } else { (i, k) };
+            let got = values[bottom] / (values[top] + values[bottom]);
+            decade.push((top, bottom, (got / tap - 1.0).abs()));
+        }
+    }
+    super::ratio::keep_best(&mut decade, UNBUFFERED_DIVIDERS_PER_DECADE);
+    dividers.extend(decade.drain(..).map(|(t, b, _)| (t, b)));
+    let mut out: Vec<crate::shape::RoleValues> = Vec::new();
+    for (roles, divider) in candidates {
+        if !out.iter().any(|(r, _)| *r == roles) {
+            for &d in &dividers {
+                out.push((roles.clone(), Some(d)));
+            }
+        }
+        if let Some(d) = divider {
+            if !dividers.contains(&d) {
+                out.push((roles, Some(d)));
+            }
+        }
+    }
+    out
 }
 
 /// Value sets already generated, by (group, stage, grade, divider grade):

@@ -53,7 +53,8 @@ impl StageShape for Difference {
             r(Role::R1) + rs_minus,
             r(Role::R2),
             r(Role::R3) + rs_plus,
-            r(Role::R4),
+            // An unbuffered REF divider's Thevenin resistance is in series.
+            r(Role::R4) + drive.thevenin_ohms,
         );
         let beta = r4 / (r3 + r4);
         let at_plus = plus * beta + drive.offset_volts * r3 / (r3 + r4);

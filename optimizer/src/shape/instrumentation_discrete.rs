@@ -60,7 +60,9 @@ impl StageShape for InstrumentationDiscrete {
         let difference = plus - minus;
         let a1 = plus + rf1 * difference / rg;
         let a2 = minus - rf2 * difference / rg;
-        let (r1, r2, r3, r4) = (r(Role::R1), r(Role::R2), r(Role::R3), r(Role::R4));
+        // An unbuffered REF divider's Thevenin resistance is in series with r4.
+        let (r1, r2, r3) = (r(Role::R1), r(Role::R2), r(Role::R3));
+        let r4 = r(Role::R4) + drive.thevenin_ohms;
         let at_plus = a1 * r4 / (r3 + r4) + drive.offset_volts * r3 / (r3 + r4);
         at_plus * (1.0 + r2 / r1) - a2 * r2 / r1
     }

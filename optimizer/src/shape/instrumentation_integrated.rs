@@ -58,7 +58,19 @@ impl StageShape for InstrumentationIntegrated {
     }
 
     fn ideal_output(&self, drive: &StageDrive<'_>, plus: f64, minus: f64) -> f64 {
-        (plus - minus) * (1.0 + drive.inamp_gain_ohms / (drive.ohms)(Role::Rg)) + drive.offset_volts
+        // The input pair (gain constant split in two), then the unity
+        // difference stage of four internal resistors to REF, with an
+        // unbuffered REF divider's Thevenin resistance in series with the
+        // REF leg; with none it is `(plus - minus) (1 + Rk/rg) + ref`.
+        let half = drive.inamp_gain_ohms / 2.0 / (drive.ohms)(Role::Rg);
+        let a1 = plus + half * (plus - minus);
+        let a2 = minus - half * (plus - minus);
+        let (r3, r4) = (
+            INAMP_INTERNAL_OHMS,
+            INAMP_INTERNAL_OHMS + drive.thevenin_ohms,
+        );
+        let at_q = a1 * r4 / (r3 + r4) + drive.offset_volts * r3 / (r3 + r4);
+        2.0 * at_q - a2
     }
 
     fn value_sets(&self, request: &ValueSetRequest<'_>) -> Vec<RoleValues> {

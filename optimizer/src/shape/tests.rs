@@ -84,8 +84,9 @@ fn ohms_of(role: Role) -> f64 {
     }
 }
 
-/// The offset and bias injections of a network (a divider or the supply).
-fn injections(network: Option<OffsetNetwork>) -> (Injection, Injection) {
+/// The offset and bias injections of a network (a divider or the supply);
+/// `unbuffered_ref` leaves a REF divider without its follower.
+fn injections(network: Option<OffsetNetwork>, unbuffered_ref: bool) -> (Injection, Injection) {
     let divider = |buffered| Injection::Divider {
         source: Source::Supply,
         top: exact(ohms_of(Role::OffsetTop)),
@@ -100,7 +101,7 @@ fn injections(network: Option<OffsetNetwork>) -> (Injection, Injection) {
         Some(OffsetNetwork::GainLeg) => (divider(false), Injection::Ground),
         Some(OffsetNetwork::Summed | OffsetNetwork::InvertingRo) => (direct, Injection::Ground),
         Some(OffsetNetwork::InvertingBias) => (Injection::Ground, divider(false)),
-        Some(OffsetNetwork::RefDivider) => (divider(true), Injection::Ground),
+        Some(OffsetNetwork::RefDivider) => (divider(!unbuffered_ref), Injection::Ground),
     }
 }
 
@@ -113,7 +114,7 @@ fn mna_output(need: &Need, stock: &Stock, design: &Design, signal: f64) -> f64 {
     solver.voltage(&x, built.out)
 }
 
-fn check(shape: Shape, network: Option<OffsetNetwork>) {
+fn check(shape: Shape, network: Option<OffsetNetwork>, unbuffered_ref: bool) {
     let differential = shape.differential_input();
     let need = need(differential);
     let stock = stock();
@@ -123,7 +124,7 @@ fn check(shape: Shape, network: Option<OffsetNetwork>) {
     }
     let resistors: BTreeMap<Role, Resistor> =
         roles.iter().map(|&r| (r, exact(ohms_of(r)))).collect();
-    let (offset, bias) = injections(network);
+    let (offset, bias) = injections(network, unbuffered_ref);
     let amplifier = if shape.integrated() {
         "TI-IDEAL"
     } else {
@@ -142,15 +143,15 @@ fn check(shape: Shape, network: Option<OffsetNetwork>) {
         }],
     };
     // The closed form's drive: the source, or its divider's Thevenin
-    // equivalent (in series only where the divider is unbuffered in the
-    // gain leg).
+    // equivalent (in series only where the divider is unbuffered: in the
+    // gain leg, or a REF divider without its follower).
     let supply = need.supply.positive.0;
     let (top, bottom) = (ohms_of(Role::OffsetTop), ohms_of(Role::OffsetBottom));
     let (offset_volts, thevenin_ohms) = match network {
         None => (0.0, 0.0),
         Some(n) if n.has_divider() => (
             supply * bottom / (top + bottom),
-            if n == OffsetNetwork::GainLeg {
+            if n == OffsetNetwork::GainLeg || (n == OffsetNetwork::RefDivider && unbuffered_ref) {
                 top * bottom / (top + bottom)
             } else {
                 0.0
@@ -210,12 +211,17 @@ fn closed_forms_match_the_netlist_at_both_span_ends() {
                     .iter()
                     .any(|&c| shape.offset_network(c) == network);
             if supported {
-                check(shape, network);
+                check(shape, network, false);
+                checked += 1;
+            }
+            if supported && network == Some(OffsetNetwork::RefDivider) {
+                check(shape, network, true);
                 checked += 1;
             }
         }
     }
     // Six shapes without an offset, five offset networks in all, the
-    // inverting shape with two and three REF-pin shapes.
-    assert_eq!(checked, 6 + 1 + 1 + 2 + 3);
+    // inverting shape with two and three REF-pin shapes, each of those
+    // also with its REF divider unbuffered.
+    assert_eq!(checked, 6 + 1 + 1 + 2 + 3 + 3);
 }
