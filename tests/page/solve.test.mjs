@@ -266,6 +266,14 @@ test('a yield need shows the Monte Carlo histogram when the report has one', asy
 
 test('Stop during a search returns the best design found so far', async () => {
   await withPage(async ({ page, problems }) => {
+    // Time for the search to reach a design on a busy machine (the demo's
+    // limit is 2 s, and the worker's 4 s hold below counts against it):
+    // this test is about Stop, not about speed.
+    await page.fill('#f-search-time_limit_ms', '20000');
+    await page.waitForFunction(() => {
+      const s = window.spanfitPage.state;
+      return s.needValid && s.need.search.time_limit_ms === 20000 && s.checkedNeed === JSON.stringify(s.need);
+    });
     await page.waitForFunction(() => !document.querySelector('[data-testid=solve]').disabled);
     const full = await page.evaluate(() => window.spanfitPage.solve().then(() => window.spanfitPage.state.result.bundle.report));
     // The worker holds 4 s at the first progress report that has a design,
