@@ -668,7 +668,8 @@ fn current_noise_corner_adds_the_handbook_one_over_f_part() {
 /// is white and every figure is the same to the bit: the analysis of a
 /// current-noise-dominated design (with and without its pair), its search
 /// bound, and the demo design's whole analysis bundle (report, exports,
-/// text) with the demo op-amps given an empty `in_corner_hz` column.
+/// text) with the demo op-amps' `in_corner_hz` column left out and with it
+/// present but empty.
 #[test]
 fn an_empty_current_noise_corner_changes_nothing() {
     let n = single_ended(0.0, 1.0, 1.0e6, (0.0, 3.0), (0.0, 5.0));
@@ -700,26 +701,43 @@ fn an_empty_current_noise_corner_changes_nothing() {
         .expect("the demo design analyses");
         serde_json::to_string(&b).expect("the bundle serialises")
     };
-    let demo = spanfit::demo::stock_files();
-    let mut empty = demo.clone();
-    for f in empty.iter_mut().filter(|f| f.name == "opamps.csv") {
-        let text = String::from_utf8(f.bytes.clone()).expect("the demo table is text");
-        let with: Vec<String> = text
-            .lines()
-            .enumerate()
-            .map(|(i, l)| {
-                if i == 0 {
-                    format!("{l},in_corner_hz")
-                } else {
-                    format!("{l},")
-                }
-            })
-            .collect();
-        f.bytes = (with.join("\n") + "\n").into_bytes();
-    }
+    // The demo op-amps without the column, and with it but every cell
+    // empty.
+    let variant = |keep: bool| -> Vec<StockFile> {
+        let mut files = spanfit::demo::stock_files();
+        for f in files.iter_mut().filter(|f| f.name == "opamps.csv") {
+            let text = String::from_utf8(f.bytes.clone()).expect("the demo table is text");
+            let mut lines = text.lines().map(|l| l.split(',').collect::<Vec<_>>());
+            let header = lines.next().expect("the demo table has a header");
+            let at = header.iter().position(|c| *c == "in_corner_hz");
+            let rows: Vec<String> = std::iter::once(header)
+                .chain(lines)
+                .enumerate()
+                .map(|(i, mut cells)| {
+                    if let Some(k) = at {
+                        cells.remove(k);
+                    }
+                    let mut line = cells.join(",");
+                    if keep {
+                        line.push_str(if i == 0 { ",in_corner_hz" } else { "," });
+                    }
+                    line
+                })
+                .collect();
+            f.bytes = (rows.join("\n") + "\n").into_bytes();
+        }
+        files
+    };
+    let (without, empty) = (variant(false), variant(true));
+    let has_column = |files: &[StockFile]| {
+        files
+            .iter()
+            .any(|f| f.name == "opamps.csv" && f.bytes.windows(12).any(|w| w == b"in_corner_hz"))
+    };
+    assert!(has_column(&empty) && !has_column(&without));
     let empty_stock = parse_stock(&empty).expect("the demo stock with the column parses");
     assert!(empty_stock.opamps.iter().all(|p| p.in_corner_hz == 0.0));
-    assert_eq!(bundle(&empty), bundle(&demo));
+    assert_eq!(bundle(&empty), bundle(&without));
 }
 
 /// Quantisation is +/-0.5 LSB with `LSB = FS / 2^bits` (common practice):
