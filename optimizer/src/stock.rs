@@ -145,6 +145,11 @@ pub struct OpAmpPart {
     /// [`DEFAULT_EN_CORNER_HZ`] when absent; 0 for none).
     #[serde(default = "default_en_corner")]
     pub en_corner_hz: f64,
+    /// Corner of the input current noise's 1/f part, Hz: the density is
+    /// `in^2 (1 + fc/f)` (optional column `in_corner_hz`;
+    /// [`DEFAULT_IN_CORNER_HZ`] when absent: white current noise).
+    #[serde(default = "default_in_corner")]
+    pub in_corner_hz: f64,
 }
 
 /// Output current taken for an amplifier whose row has no
@@ -165,6 +170,17 @@ pub const DEFAULT_EN_CORNER_HZ: f64 = 100.0;
 
 fn default_en_corner() -> f64 {
     DEFAULT_EN_CORNER_HZ
+}
+
+/// 1/f corner of the current noise taken for an op-amp whose row has no
+/// `in_corner_hz`: 0, white current noise (what the noise line took before
+/// the column existed, so older stock files give the same results; our
+/// rule). A bipolar input's current noise has a 1/f part of its own;
+/// state it where the part's figure is known.
+pub const DEFAULT_IN_CORNER_HZ: f64 = 0.0;
+
+fn default_in_corner() -> f64 {
+    DEFAULT_IN_CORNER_HZ
 }
 
 /// Power-supply rejection taken for an amplifier whose row has no

@@ -234,7 +234,7 @@ impl Table {
     /// Columns a file may have in addition (resistors and capacitors: a
     /// single value, or a series family; at least one of the two kinds
     /// must be complete; op-amps: `output_ohms`, `ib_doubling_c`,
-    /// `psrr_min_db`, `output_current_ma`, `en_corner_hz`; in-amps:
+    /// `psrr_min_db`, `output_current_ma`, `en_corner_hz`, `in_corner_hz`; in-amps:
     /// `ib_doubling_c`, `psrr_min_db`, `output_current_ma`, `en_corner_hz`; references:
     /// `load_regulation_ppm_per_ma`, `max_load_ma`). An absent column or an
     /// empty cell takes the documented default.
@@ -248,6 +248,7 @@ impl Table {
                 "psrr_min_db",
                 "output_current_ma",
                 "en_corner_hz",
+                "in_corner_hz",
             ],
             Table::InAmps => &[
                 "ib_doubling_c",

@@ -516,6 +516,230 @@ fn flicker_noise_meets_the_one_pole_closed_form() {
     }
 }
 
+/// An invented op-amp whose current noise dominates (10 pA/rtHz into each
+/// input, no voltage noise), its current-noise 1/f corner the cell
+/// `corner` (`None`: no `in_corner_hz` column at all), and the invented
+/// capacitor family when `pair`.
+fn current_noise_stock(corner: Option<&str>, pair: bool) -> Stock {
+    let header = "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,\
+                  input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,\
+                  vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,\
+                  en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty,psrr_min_db,\
+                  en_corner_hz";
+    let row = "TA-INOISE,1,1,40,0,0,0,0,0,0,0,0,200,100,0,10,200,1,100,400,0";
+    let opamps = match corner {
+        Some(cell) => format!("{header},in_corner_hz\n{row},{cell}\n"),
+        None => format!("{header}\n{row}\n"),
+    };
+    let file = |name: &str, text: &str| StockFile {
+        name: name.to_string(),
+        bytes: text.as_bytes().to_vec(),
+    };
+    let mut files = vec![
+        file("resistors.csv", TEST_RESISTORS),
+        file("opamps.csv", &opamps),
+        file("references.csv", TEST_REFERENCES),
+    ];
+    if pair {
+        files.push(file(
+            "capacitors.csv",
+            "part_id,series,min_farads,max_farads,tolerance_pct,tempco_ppm_per_c,\
+             dielectric,rated_v,package,unit_cost,stock_qty\n\
+             TC-1,E12,1e-11,1e-5,5,30,C0G,50,0603,0.01,\n",
+        ));
+    }
+    parse_stock(&files).expect("the test stock parses")
+}
+
+/// The 1/f current-noise part: a near-unity follower (`rf` 1 ohm) behind a
+/// 1 Mohm source, so the + input's 10 pA/rtHz through the source
+/// resistance (10 uV/rtHz) is nearly all the noise. The output power's
+/// growth from a white current noise to `in_corner_hz = fc` is the 1/f
+/// part; it must be `(in Rs G)^2 fc` times the 1/f weight of the band:
+/// - without a pair, the stage pole `p = GBW / NG`: the one-pole closed
+///   form `ln(1 + (p/f_L)^2) / 2`, and against it the handbook brick-wall
+///   integral `in^2 ((f_H - f_L) + fc ln(f_H/f_L))` (handbook formula,
+///   common practice) with `f_H = p`, whose 1/f term a single pole passes
+///   exactly (to `(f_L/p)^2`): within 1 %;
+/// - with the pair, over the core's own AC transfer from each input to
+///   the output, integrated here directly (trapezoids in `ln f`, 200
+///   points a decade, from `f_L` to 10^5 times the chain's corner), and
+///   against the handbook brick-wall term with `f_H` the chain's corner:
+///   within 1 %.
+///
+/// The part grows in proportion to the corner, the flicker share counts
+/// it, and the search's bound on the noise (a candidate without its pair)
+/// stays at or above the noise as reported.
+#[test]
+fn current_noise_corner_adds_the_handbook_one_over_f_part() {
+    let rs = 1.0e6;
+    let n = single_ended(0.0, 1.0, rs, (0.0, 3.0), (0.0, 5.0));
+    let low = n.accuracy.noise_low.0;
+    let (rf, rg) = (1.0, 1.0e6);
+    let gain = 1.0 + rf / rg;
+    let i_n = 10e-12;
+    let design = || non_inverting("TA-INOISE", rf, rg, ground());
+    for pair in [false, true] {
+        let (_, white) = run(&n, &current_noise_stock(Some(""), pair), design());
+        assert_eq!(white.noise.flicker_share, 0.0, "white current noise");
+        let mut last = 0.0;
+        for fc in [10.0, 100.0, 1000.0, 10_000.0] {
+            let stock = current_noise_stock(Some(&fc.to_string()), pair);
+            let (m, a) = run(&n, &stock, design());
+            let part = a.noise.rms_v.powi(2) - white.noise.rms_v.powi(2);
+            assert!(part > last, "the 1/f part grows with the corner: {part:e}");
+            last = part;
+            close(
+                a.noise.flicker_share,
+                part / a.noise.rms_v.powi(2),
+                1e-6,
+                "1/f share",
+            );
+            let scale = (i_n * rs * gain).powi(2) * fc;
+            let built = m.built();
+            match &built.filter {
+                None => {
+                    assert!(!pair, "a pair fits the test stock with capacitors");
+                    let p = 100e6 / gain;
+                    close(
+                        part,
+                        scale * 0.5 * (p / low).powi(2).ln_1p(),
+                        1e-6,
+                        "one pole",
+                    );
+                    close(part, scale * (p / low).ln(), 1e-2, "handbook, f_H = p");
+                }
+                Some(filter) => {
+                    let corner = filter.report.corner_hz;
+                    assert!(corner < 1e3, "the pair limits the band: {corner} Hz");
+                    let amplifiers = spanfit::filter::amplifiers(&stock, built);
+                    let mut solver = spanfit::mna_ac::AcSolver::new(&built.netlist, &amplifiers);
+                    let mut weight = |f: f64| {
+                        solver
+                            .solve_adjoint(&built.netlist, built.out, f)
+                            .expect("the chain solves");
+                        built
+                            .sections
+                            .iter()
+                            .map(|s| {
+                                solver.node_transfer(s.plus).abs().powi(2)
+                                    + solver.node_transfer(s.minus).abs().powi(2)
+                            })
+                            .sum::<f64>()
+                    };
+                    let high = corner * 1e5;
+                    let count = ((high / low).log10() * 200.0).ceil() as usize + 1;
+                    let grid = spanfit::mna_ac::log_frequencies(low, high, count);
+                    // Trapezoids of |H|^2 in ln f: the integral of |H|^2 / f.
+                    let mut direct = 0.0;
+                    let mut previous = (grid[0], weight(grid[0]));
+                    for &f in &grid[1..] {
+                        let g = weight(f);
+                        direct += 0.5 * (g + previous.1) * (f / previous.0).ln();
+                        previous = (f, g);
+                    }
+                    let direct = i_n * i_n * fc * direct;
+                    close(part, direct, 1e-2, "direct integral of the transfer");
+                    close(
+                        part,
+                        scale * (corner / low).ln(),
+                        1e-2,
+                        "handbook, f_H = corner",
+                    );
+                }
+            }
+            // The search's bound: the candidate without its pair.
+            let text = design().to_string();
+            let parsed = parse_design(text.as_bytes(), "check.json", &stock)
+                .expect("the test design parses");
+            let bound = Model::new(&n, &stock, &parsed)
+                .expect("the candidate builds")
+                .noise_peak_v();
+            assert!(
+                bound >= m.noise_peak_v(),
+                "the bound {bound:e} V is below the reported {:e} V",
+                m.noise_peak_v()
+            );
+        }
+    }
+}
+
+/// Without the column, with an empty cell and with 0, the current noise
+/// is white and every figure is the same to the bit: the analysis of a
+/// current-noise-dominated design (with and without its pair), its search
+/// bound, and the demo design's whole analysis bundle (report, exports,
+/// text) with the demo op-amps' `in_corner_hz` column left out and with it
+/// present but empty.
+#[test]
+fn an_empty_current_noise_corner_changes_nothing() {
+    let n = single_ended(0.0, 1.0, 1.0e6, (0.0, 3.0), (0.0, 5.0));
+    let design = non_inverting("TA-INOISE", 1.0, 1.0e6, ground()).to_string();
+    for pair in [false, true] {
+        let figures = |corner: Option<&str>| {
+            let stock = current_noise_stock(corner, pair);
+            let parsed = parse_design(design.as_bytes(), "check.json", &stock)
+                .expect("the test design parses");
+            let (_, a) = analyze(&n, &stock, &parsed, 200, 1).expect("the test design analyses");
+            let bound = Model::new(&n, &stock, &parsed)
+                .expect("the candidate builds")
+                .noise_peak_v();
+            (a, bound.to_bits())
+        };
+        let absent = figures(None);
+        assert!(absent.0.noise.rms_v > 0.0);
+        assert_eq!(figures(Some("")), absent, "an empty cell");
+        assert_eq!(figures(Some("0")), absent, "a zero corner");
+    }
+    let bundle = |files: &[StockFile]| {
+        let b = spanfit::api::analyze_bundle(
+            spanfit::demo::NEED_TOML.as_bytes(),
+            "need.toml",
+            files,
+            include_str!("../../examples/demo-design.json").as_bytes(),
+            "demo-design.json",
+        )
+        .expect("the demo design analyses");
+        serde_json::to_string(&b).expect("the bundle serialises")
+    };
+    // The demo op-amps without the column, and with it but every cell
+    // empty.
+    let variant = |keep: bool| -> Vec<StockFile> {
+        let mut files = spanfit::demo::stock_files();
+        for f in files.iter_mut().filter(|f| f.name == "opamps.csv") {
+            let text = String::from_utf8(f.bytes.clone()).expect("the demo table is text");
+            let mut lines = text.lines().map(|l| l.split(',').collect::<Vec<_>>());
+            let header = lines.next().expect("the demo table has a header");
+            let at = header.iter().position(|c| *c == "in_corner_hz");
+            let rows: Vec<String> = std::iter::once(header)
+                .chain(lines)
+                .enumerate()
+                .map(|(i, mut cells)| {
+                    if let Some(k) = at {
+                        cells.remove(k);
+                    }
+                    let mut line = cells.join(",");
+                    if keep {
+                        line.push_str(if i == 0 { ",in_corner_hz" } else { "," });
+                    }
+                    line
+                })
+                .collect();
+            f.bytes = (rows.join("\n") + "\n").into_bytes();
+        }
+        files
+    };
+    let (without, empty) = (variant(false), variant(true));
+    let has_column = |files: &[StockFile]| {
+        files
+            .iter()
+            .any(|f| f.name == "opamps.csv" && f.bytes.windows(12).any(|w| w == b"in_corner_hz"))
+    };
+    assert!(has_column(&empty) && !has_column(&without));
+    let empty_stock = parse_stock(&empty).expect("the demo stock with the column parses");
+    assert!(empty_stock.opamps.iter().all(|p| p.in_corner_hz == 0.0));
+    assert_eq!(bundle(&empty), bundle(&without));
+}
+
 /// Quantisation is +/-0.5 LSB with `LSB = FS / 2^bits` (common practice):
 /// 12 bits over 3 V gives 0.5/4096 of full scale.
 #[test]

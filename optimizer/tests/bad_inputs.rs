@@ -124,7 +124,7 @@ fn resistor_case(what: &'static str, rows: &str, expect: &[&str]) -> Case {
 }
 
 const OPAMP_ROW: &str =
-    "OA-X,1,1.8,5.5,0.0,0.0,0.02,0.02,800,3,0.01,0.01,100,1.0,30,0.005,80,0.35,400,90,25,50";
+    "OA-X,1,1.8,5.5,0.0,0.0,0.02,0.02,800,3,0.01,0.01,100,1.0,30,0.005,80,0.35,400,90,25,50,";
 
 /// An op-amp row with one cell replaced (by column position).
 fn opamp_row(column: usize, value: &str) -> String {
@@ -500,6 +500,12 @@ fn catalogue() -> Vec<Case> {
             "opamps.csv",
             &opamp_row(1, "3"),
             &["line 2, column channels", "1, 2 or 4", "`3`"],
+        ),
+        stock_case(
+            "negative current-noise corner",
+            "opamps.csv",
+            &opamp_row(22, "-5"),
+            &["line 2, column in_corner_hz", "`-5`", "1/f current noise corner"],
         ),
         stock_case(
             "supply_min above supply_max",

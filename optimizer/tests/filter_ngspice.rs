@@ -12,8 +12,8 @@
 //!   Bode curve (stage poles included) within 0.05 dB, for every design
 //!   the solve returns;
 //! - `.noise` (source: ngspice on our own exported netlist, with the
-//!   op-amps' voltage noise, white and 1/f, and their white current noise
-//!   added as noise resistors seen through controlled sources; the 1/f part
+//!   op-amps' voltage and current noise, white and 1/f, added as noise
+//!   resistors seen through controlled sources; the 1/f part
 //!   is the flicker noise ngspice computes natively for a resistor that
 //!   carries a DC current, `KF I^AF / f`): the output noise integrated from
 //!   `accuracy.noise_low_hz` up within 5 % of the report's noise line;
@@ -257,9 +257,13 @@ const FLICKER_BIAS_V: f64 = 1.0;
 /// carries none), so it reproduces `e_n` with the resistor's own thermal
 /// noise and the 1/f part with its flicker noise, `KF I^2 / f` with
 /// `KF = 4 k T fc / (R I^2)` (`fc` the part's `en_corner_hz`); each
-/// op-amp input's white current noise `i_n` as a CCCS `FIN<P|N>_<ref>`
-/// beside its `IBP_<ref>` / `IBN_<ref>` (same nodes) from a resistor of
-/// `4 k T / i_n^2`. `T` is the hot end of the range, where the core takes
+/// op-amp input's current noise `i_n` as a CCCS `FIN<P|N>_<ref>` beside
+/// its `IBP_<ref>` / `IBN_<ref>` (same nodes) reading the noise current of
+/// a resistor `RNIN<P|N>_<ref>` of `4 k T / i_n^2` through a 0 V source
+/// `VNIN<P|N>_<ref>`; where the part states `in_corner_hz` the resistor
+/// is held at [`FLICKER_BIAS_V`] by `VBI<P|N>_<ref>`, its DC current
+/// returned by `ICIN<P|N>_<ref>`, and carries the same flicker model with
+/// `fc` its `in_corner_hz`. `T` is the hot end of the range, where the core takes
 /// the resistors' noise.
 fn with_amplifier_noise(
     deck: &str,
@@ -273,15 +277,17 @@ fn with_amplifier_noise(
     let mut extra = String::new();
     for s in &built.sections {
         let d = &s.designator;
-        let (en, corner, inoise) = match s.kind {
+        let (en, corner, inoise, in_corner) = match s.kind {
             AmplifierKind::OpAmp(i) => (
                 stock.opamps[i].en_nv_rthz * 1e-9,
                 stock.opamps[i].en_corner_hz,
                 stock.opamps[i].in_pa_rthz * 1e-12,
+                stock.opamps[i].in_corner_hz,
             ),
             AmplifierKind::InAmp(i) => (
                 stock.inamps[i].en_nv_rthz * 1e-9,
                 stock.inamps[i].en_corner_hz,
+                0.0,
                 0.0,
             ),
         };
@@ -315,13 +321,23 @@ fn with_amplifier_noise(
                     continue;
                 };
                 let n: Vec<&str> = l.split_whitespace().skip(1).take(2).collect();
+                let r = four_kt / (inoise * inoise);
                 extra.push_str(&format!(
-                    "FIN{side}_{d} {} {} VNIN{side}_{d} 1\nRNIN{side}_{d} nin{side}_{d} 0 {:e}\n\
-                     VNIN{side}_{d} nin{side}_{d} 0 DC 0\n",
-                    n[0],
-                    n[1],
-                    four_kt / (inoise * inoise)
+                    "FIN{side}_{d} {} {} VNIN{side}_{d} 1\nVNIN{side}_{d} nin{side}_{d} 0 DC 0\n",
+                    n[0], n[1],
                 ));
+                if in_corner > 0.0 {
+                    let amps = FLICKER_BIAS_V / r;
+                    let kf = four_kt * in_corner / (r * amps * amps);
+                    extra.push_str(&format!(
+                        "RNIN{side}_{d} nbi{side}_{d} nin{side}_{d} {r:e} riflicker{side}_{d}\n\
+                         .model riflicker{side}_{d} R(kf={kf:e} af=2)\n\
+                         VBI{side}_{d} nbi{side}_{d} 0 DC {FLICKER_BIAS_V:e}\n\
+                         ICIN{side}_{d} nin{side}_{d} 0 DC {amps:e}\n"
+                    ));
+                } else {
+                    extra.push_str(&format!("RNIN{side}_{d} nin{side}_{d} 0 {r:e}\n"));
+                }
             }
         }
     }
@@ -416,6 +432,52 @@ fn flicker_noise_matches_ngspice_noise() {
         let (share, line) = noise_against_ngspice(&need, &stock, &design, &format!("flicker{low}"));
         eprintln!("{line}");
         assert!(share > 0.5, "the 1/f part is most of the line: {share}");
+    }
+}
+
+/// The 1/f part of the current noise against ngspice: an invented
+/// follower with gain 3 (inline exact resistors, 20 kohm over 10 kohm)
+/// behind a 1 Mohm source, on the demo's rail-to-rail op-amp given 10
+/// pA/rtHz of current noise (a test value, raised so the current noise is
+/// most of the line) with its `in_corner_hz` at 0 (white) and at 1 kHz, at
+/// two low limits of the noise line; the pair from the demo capacitors.
+#[test]
+fn current_flicker_noise_matches_ngspice_noise() {
+    for (low, in_corner) in [(0.1, 0.0), (0.1, 1000.0), (0.001, 1000.0)] {
+        let text = format!(
+            "[sensor]\nsignal_low_v = 0\nsignal_high_v = 1\nsource_ohms = 1e6\n\
+             [adc]\nlow_v = 0\nhigh_v = 3\nbits = 12\nmargin_pct = 0\n\
+             [supply]\npositive_v = 5\n\
+             [accuracy]\nmax_error_pct_fs = 1\ntemp_min_c = 27\ntemp_max_c = 27\n\
+             bandwidth_hz = 10\nnoise_low_hz = {low}\n"
+        );
+        let (need, mut stock) =
+            spanfit::api::load(text.as_bytes(), "need.toml", &[]).expect("the test input is valid");
+        let part = stock
+            .opamps
+            .iter_mut()
+            .find(|p| p.part_id == "OA-RR1")
+            .expect("the demo stock has OA-RR1");
+        part.in_pa_rthz = 10.0;
+        part.in_corner_hz = in_corner;
+        let exact =
+            |ohms: f64| serde_json::json!({"ohms": ohms, "tolerance_pct": 0, "tcr_ppm_per_c": 0});
+        let file = serde_json::json!({"stages": [{
+            "shape": "non-inverting", "amplifier": "OA-RR1",
+            "resistors": {"rf": exact(20e3), "rg": exact(10e3)},
+            "offset": {"kind": "ground"},
+        }]})
+        .to_string();
+        let design = spanfit::design::parse_design(file.as_bytes(), "follower.json", &stock)
+            .expect("the test input is valid");
+        let (share, line) =
+            noise_against_ngspice(&need, &stock, &design, &format!("current{low}-{in_corner}"));
+        eprintln!("{line}");
+        if in_corner > 0.0 {
+            assert!(share > 0.5, "the 1/f part is most of the line: {share}");
+        } else {
+            assert!(share < 0.05, "the current noise is white: {share}");
+        }
     }
 }
 

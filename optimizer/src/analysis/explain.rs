@@ -396,7 +396,8 @@ impl Model {
                     "rms".to_string(),
                     self.noise.rms_v,
                     "V",
-                    "output RMS noise (resistors, amplifier voltage and current noise, references)"
+                    "output RMS noise (resistors, amplifier voltage and current noise with \
+                     their 1/f parts from accuracy.noise_low_hz up, references)"
                         .to_string(),
                     &parts,
                 );

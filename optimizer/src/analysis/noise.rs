@@ -4,8 +4,9 @@
 //! The sources are resistor Johnson noise at the hot end of the
 //! temperature range (white), op-amp and in-amp voltage noise with its 1/f
 //! part, density squared `en^2 (1 + fc/f)` (`fc` the part's
-//! `en_corner_hz`), and op-amp current noise (white); each is referred to
-//! the output and summed in power, from the need's lowest noise frequency
+//! `en_corner_hz`), and op-amp current noise with its 1/f part, `in^2 (1 +
+//! fc/f)` (`fc` the part's `in_corner_hz`, 0 by default: white); each is
+//! referred to the output and summed in power, from the need's lowest noise frequency
 //! `f_L` (`accuracy.noise_low_hz`) up. Reference noise is taken as its
 //! stated RMS, referred to the output at DC.
 //!
@@ -32,7 +33,8 @@
 //!   white `en^2 p (pi/2 - atan(f_L/p))` (`pi/2 p` for `f_L` far below
 //!   `p`), 1/f `en^2 fc ln(1 + (p/f_L)^2) / 2` (`en^2 fc ln(p/f_L)` for
 //!   `f_L` far below `p`); both grow with `p`, so the lower of the two
-//!   poles' bounds is a bound.
+//!   poles' bounds is a bound. A current-noise source takes the same forms
+//!   with its output density at DC and its own corner (`in_corner_hz`).
 //!
 //! The droop: as built, `1 - |H(f_b)/H(0)|` from the AC solver at
 //! `accuracy.bandwidth_hz`; for a search candidate, the droop the filter
@@ -64,10 +66,11 @@ pub struct NoiseSummary {
     /// `accuracy.noise_low_hz`).
     pub noise_bandwidth_hz: f64,
     /// Share of the RMS power from resistor thermal noise, op-amp voltage
-    /// noise (its 1/f part included), op-amp current noise and reference
-    /// noise (fractions).
+    /// noise (its 1/f part included), op-amp current noise (its 1/f part
+    /// included) and reference noise (fractions).
     pub shares: [f64; 4],
-    /// Share of the RMS power from the amplifiers' 1/f noise (fraction).
+    /// Share of the RMS power from the amplifiers' 1/f noise, voltage
+    /// (`en_corner_hz`) and current (`in_corner_hz`) (fraction).
     pub flicker_share: f64,
 }
 
@@ -177,15 +180,17 @@ fn white_sources(
         });
     }
     for section in &built.sections {
-        let (voltage_density, corner_hz, current_density) = match section.kind {
+        let (voltage_density, corner_hz, current_density, current_corner_hz) = match section.kind {
             AmplifierKind::OpAmp(i) => (
                 stock.opamps[i].en_nv_rthz * 1e-9,
                 stock.opamps[i].en_corner_hz,
                 stock.opamps[i].in_pa_rthz * 1e-12,
+                stock.opamps[i].in_corner_hz,
             ),
             AmplifierKind::InAmp(i) => (
                 stock.inamps[i].en_nv_rthz * 1e-9,
                 stock.inamps[i].en_corner_hz,
+                0.0,
                 0.0,
             ),
         };
@@ -202,7 +207,7 @@ fn white_sources(
                     category: 2,
                     entry: Entry::Into(node),
                     density: current_density,
-                    corner_hz: 0.0,
+                    corner_hz: current_corner_hz.max(0.0),
                     dc_gain: dc.node_adjoint(node),
                 });
             }

@@ -444,8 +444,8 @@ pub struct BudgetEntry {
 /// Output noise figures.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct NoiseReport {
-    /// Share of the RMS power from the amplifiers' 1/f noise, counted
-    /// from `accuracy.noise_low_hz` (fraction).
+    /// Share of the RMS power from the amplifiers' 1/f noise, voltage and
+    /// current, counted from `accuracy.noise_low_hz` (fraction).
     pub flicker_share: f64,
     /// Noise bandwidth, Hz.
     pub noise_bandwidth_hz: f64,

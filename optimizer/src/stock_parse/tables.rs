@@ -327,6 +327,12 @@ pub(super) fn opamps(
                 psrr_min: psrr(&row)?,
                 output_current_ma: output_current(&row)?,
                 en_corner_hz: en_corner(&row)?,
+                in_corner_hz: row.optional_number(
+                    "in_corner_hz",
+                    "a 1/f current noise corner in Hz",
+                    Bound::ZeroOrMore,
+                    crate::stock::DEFAULT_IN_CORNER_HZ,
+                )?,
             },
             row.line,
         ));

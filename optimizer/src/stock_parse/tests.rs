@@ -282,6 +282,26 @@ fn bad_optional_part_values_name_file_line_and_column() {
             "power-supply rejection",
         ),
         (
+            opamp_file(",in_corner_hz", ",-1"),
+            "in_corner_hz",
+            "from 0 to",
+        ),
+        (
+            opamp_file(",in_corner_hz", ",inf"),
+            "in_corner_hz",
+            "a finite one",
+        ),
+        (
+            opamp_file(",in_corner_hz", ",NaN"),
+            "in_corner_hz",
+            "1/f current noise corner",
+        ),
+        (
+            opamp_file(",in_corner_hz", ",slow"),
+            "in_corner_hz",
+            "1/f current noise corner",
+        ),
+        (
             reference_file(",max_load_ma", ",0"),
             "max_load_ma",
             "above zero",
@@ -302,4 +322,24 @@ fn bad_optional_part_values_name_file_line_and_column() {
         );
         assert!(e.contains(want), "{e}");
     }
+}
+
+/// `in_corner_hz`: absent or empty is white current noise (0, the
+/// documented default), a value is read as given, and the voltage-noise
+/// corner beside it is untouched.
+#[test]
+fn the_current_noise_corner_defaults_to_white_and_reads_when_given() {
+    for (header, cells) in [("", ""), (",in_corner_hz", ","), (",in_corner_hz", ",0")] {
+        let stock =
+            parse_stock(&[one_resistor(), opamp_file(header, cells)]).expect("the file reads");
+        assert_eq!(stock.opamps[0].in_corner_hz, 0.0, "{header:?} {cells:?}");
+        assert_eq!(crate::stock::DEFAULT_IN_CORNER_HZ, 0.0);
+    }
+    let stock = parse_stock(&[
+        one_resistor(),
+        opamp_file(",en_corner_hz,in_corner_hz", ",7,250"),
+    ])
+    .expect("the file reads");
+    assert_eq!(stock.opamps[0].in_corner_hz, 250.0);
+    assert_eq!(stock.opamps[0].en_corner_hz, 7.0);
 }
