@@ -14,6 +14,11 @@
 //! The workspace (matrix, pivots, the pivot row's nonzero columns) is
 //! allocated once per size and reused: factoring and solving do not
 //! allocate.
+//!
+//! Two paths do the same arithmetic: a general one whose bit sets span
+//! as many 64-bit words as needed, and a small one for up to 64 unknowns
+//! (every circuit spanfit builds) with one word per row and per column,
+//! which finds the work faster and gives the same bits.
 
 /// The arithmetic the factorisation needs from its numbers.
 pub(crate) trait Scalar: Copy {
