@@ -126,6 +126,7 @@ fn the_isolation_resistor_bound_keeps_the_margin() {
             noise_gain,
             output_amps: 0.01,
             step_v: 3.0,
+            feedback: Vec::new(),
         };
         let t = (90.0 - PHASE_MARGIN_TARGET_DEG).to_radians().tan();
         let r_min = 100.0 * ((1.0 + 1.0 / (t * t)).sqrt() - 1.0) / 2.0;
