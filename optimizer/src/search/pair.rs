@@ -45,6 +45,15 @@
 //! resistor that a design within `search.max_parts` could use up
 //! (`stock_qty` at most `max_parts`) left out, so no design can lose its
 //! pair where the floor counts one.
+//!
+//! A pole in the last stage's feedback ([`FilterPairs::place_feedback`]):
+//! where one pole cannot give the need's alias rejection within the droop
+//! rule, no pair alone meets the rules, every part's floor above is zero,
+//! and both modes give each design the capacitor across `rf` the rule
+//! picks (a function of the design, so the walk's space holds the design
+//! with it). A design with a feedback capacitor gets its pair chosen for
+//! it in full (the pair shares the droop and alias rules with the pole),
+//! as the report chooses it.
 
 use crate::design::{Design, Resistor};
 use crate::filter::{
