@@ -303,13 +303,22 @@ pub(crate) fn dynamic(
         _ => None,
     };
     let droop_v = match response {
-        Response::Bounded { .. } => {
+        Response::Bounded { pair } => {
             let filter = if crate::filter::stock_has_capacitors(stock) {
                 crate::filter::droop_allowance_v(need)
             } else {
                 0.0
             };
-            filter + stage_droop(stock, built, dc, bandwidth) * span
+            // The pair's rules share the allowance with the poles in the
+            // stages' feedback (`crate::filter::tau_limits_with`); without
+            // a pair those poles droop on their own, each at most a real
+            // pole's loss at its corner.
+            let feedback = if pair {
+                0.0
+            } else {
+                feedback_droop(built, bandwidth) * span
+            };
+            filter + feedback + stage_droop(stock, built, dc, bandwidth) * span
         }
         Response::AsBuilt => as_built_droop(stock, built, bandwidth) * span,
     };
@@ -405,6 +414,21 @@ fn stage_droop(stock: &Stock, built: &Built, dc: &DcSolution, frequency: f64) ->
             // (`crate::filter::amplifiers`).
             let y = frequency / gbw;
             pass /= (1.0 + y * y).sqrt();
+        }
+    }
+    1.0 - pass
+}
+
+/// At least the loss of the poles in the stages' feedback at `frequency`:
+/// each a real pole at its nominal corner (an inverting stage's is one; a
+/// non-inverting stage's gain levels off at 1 and loses less).
+fn feedback_droop(built: &Built, frequency: f64) -> f64 {
+    let mut pass = 1.0f64;
+    for c in &built.feedback_capacitors {
+        let ohms = crate::mna::element_value(&built.netlist, c.across);
+        let x = frequency / crate::filter::feedback::corner_hz(ohms, c.part.value.0);
+        if x.is_finite() {
+            pass /= (1.0 + x * x).sqrt();
         }
     }
     1.0 - pass

@@ -107,6 +107,45 @@ pub fn phase_margin_deg(gbw_hz: f64, noise_gain: f64, pole_hz: f64) -> f64 {
     90.0 + beta((low * high).sqrt()).1.to_degrees()
 }
 
+/// The feedback poles of a built design as the pair's rules see them
+/// ([`super::FeedbackCorner`]): each capacitor's corner across its `rf`
+/// at the tolerance limits, and its stage's DC noise gain from `dc`'s
+/// adjoint of that section's output (empty without one).
+pub fn corners(built: &Built, dc: &DcSolution) -> Vec<super::FeedbackCorner> {
+    let mut out = Vec::new();
+    for c in &built.feedback_capacitors {
+        let Some(element) = built.netlist.elements.get(c.across) else {
+            continue;
+        };
+        let ends = [element.nodes[0], element.nodes[1]];
+        let noise_gain = built
+            .sections
+            .iter()
+            .find(|s| ends.contains(&s.out) && ends.contains(&s.minus))
+            .map_or(1.0, |section| {
+                let adjoint = dc.adjoint_of(section.out);
+                dc.solver()
+                    .branch_unknown(section.vos)
+                    .and_then(|k| adjoint.get(k))
+                    .map_or(1.0, |g| g.abs())
+            });
+        let ohms = crate::mna::element_value(&built.netlist, c.across);
+        let r_tol = built
+            .resistors
+            .iter()
+            .find(|r| r.element == c.across)
+            .map_or(0.0, |r| r.part.tolerance_pct);
+        out.push(super::FeedbackCorner::new(
+            ohms,
+            r_tol,
+            c.part.value.0,
+            c.part.tolerance.0,
+            noise_gain,
+        ));
+    }
+    out
+}
+
 /// Gain-bandwidth of a section's part, Hz.
 fn gbw_hz(stock: &Stock, kind: AmplifierKind) -> f64 {
     match kind {

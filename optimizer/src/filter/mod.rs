@@ -75,6 +75,61 @@ pub struct Driver {
     /// The widest step its output can make in a design that passes the
     /// ADC-window check: the ADC's input range, volts (the recharge rule).
     pub step_v: f64,
+    /// The poles in the design's stage feedback (capacitors across `rf`),
+    /// which share the droop and alias rules with the pair
+    /// ([`tau_limits_with`]); empty without one.
+    pub feedback: Vec<FeedbackCorner>,
+}
+
+/// A pole in a stage's feedback (a capacitor across `rf`) as the pair's
+/// rules see it, at the tolerance limits that make each rule hardest.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FeedbackCorner {
+    /// Its corner with `rf` and the capacitor at their upper tolerance
+    /// limits, Hz: the lowest it can be (the droop rule).
+    pub low_hz: f64,
+    /// Its corner with both at their lower tolerance limits, Hz: the
+    /// highest it can be (the alias rule).
+    pub high_hz: f64,
+    /// The stage's DC noise gain (at least 1).
+    pub noise_gain: f64,
+}
+
+impl FeedbackCorner {
+    /// The corner of `ohms` (tolerance `r_tol_pct`) across `farads`
+    /// (tolerance `c_tol_pct`) in a stage of DC noise gain `noise_gain`.
+    pub fn new(ohms: f64, r_tol_pct: f64, farads: f64, c_tol_pct: f64, noise_gain: f64) -> Self {
+        let (tr, tc) = (r_tol_pct / 100.0, c_tol_pct / 100.0);
+        let nominal = ohms * farads;
+        FeedbackCorner {
+            low_hz: feedback::corner_hz(1.0, nominal * (1.0 + tr) * (1.0 + tc)),
+            high_hz: feedback::corner_hz(
+                1.0,
+                nominal * (1.0 - tr).max(1e-9) * (1.0 - tc).max(1e-9),
+            ),
+            noise_gain: noise_gain.max(1.0),
+        }
+    }
+
+    /// The least `|H(f)/H(0)|` the stage keeps at `f`: at most one real
+    /// pole's loss at the lowest corner. An inverting stage's gain
+    /// `rf/rin / (1 + j f/fp)` is that pole; a non-inverting stage's
+    /// `(NG + j f/fp) / (1 + j f/fp)` loses less (it levels off at 1).
+    pub fn least_gain(&self, f: f64) -> f64 {
+        let x = f / self.low_hz;
+        1.0 / (1.0 + x * x).sqrt()
+    }
+
+    /// The least `|H(0)/H(f)|^2` the stage gives at `f`: the non-inverting
+    /// form `NG^2 (1 + x^2) / (NG^2 + x^2)` at the highest corner
+    /// (`x = f/fp`), which falls as `fp` rises and is at most the
+    /// inverting stage's true pole `1 + x^2` (handbook closed forms,
+    /// common practice).
+    pub fn least_rejection_power(&self, f: f64) -> f64 {
+        let x = f / self.high_hz;
+        let ng2 = self.noise_gain * self.noise_gain;
+        ng2 * (1.0 + x * x) / (ng2 + x * x)
+    }
 }
 
 /// A driving part's figures for [`Driver`] with noise gain 1: its
@@ -103,6 +158,7 @@ pub fn driver_of(need: &Need, stock: &Stock, kind: AmplifierKind) -> Option<Driv
         // nothing), so a design passing the ADC-window check keeps its raw
         // range inside the window.
         step_v: need.full_scale(),
+        feedback: Vec::new(),
     })
 }
 
@@ -164,6 +220,7 @@ pub fn driver_from(need: &Need, stock: &Stock, built: &Built, dc: &DcSolution) -
     Some(Driver {
         designator: section.designator.clone(),
         noise_gain,
+        feedback: feedback::corners(built, dc),
         ..part
     })
 }
@@ -201,39 +258,113 @@ pub fn kickback(need: &Need, driver: &Driver, ohms: f64, farads: f64) -> Option<
     Some((dv0, tau))
 }
 
-/// The `R C` limits that depend on the need alone: the droop rule's
-/// largest `R C` (at the pair's upper tolerance limits), the smallest
-/// nominal `R C` (the corner-spread and alias rules) and the alias rule's
-/// smallest `R C` at the lower tolerance limits, seconds.
+/// The `R C` limits that depend on the need alone (no pole in a stage's
+/// feedback): [`tau_limits_with`] without feedback poles.
 pub fn tau_limits(need: &Need) -> (f64, f64, f64) {
+    tau_limits_with(need, &[])
+}
+
+/// The droop rule's largest `R C` of one pole alone (at the pair's upper
+/// tolerance limits) and the alias rule's smallest (at its lower limits),
+/// seconds (the latter 0 without a rejection asked).
+fn single_pole_limits(need: &Need) -> (f64, f64) {
     let two_pi = 2.0 * std::f64::consts::PI;
-    let bandwidth = need.accuracy.bandwidth.0;
-    // Droop of one pole at f: 1 - 1/sqrt(1 + (f/fc)^2) <= d, as a share
-    // of the output span of the window.
+    let ratio = ((1.0 / (1.0 - relative_droop(need))).powi(2) - 1.0).sqrt();
+    let max_tau_s = ratio / (two_pi * need.accuracy.bandwidth.0);
+    let alias_tau_s = match (need.adc.sample_rate, need.adc.alias_rejection) {
+        (Some(rate), Some(rejection)) => {
+            let power = 10f64.powf(rejection.0 / 10.0);
+            alias_tau(rate.0 / 2.0, power)
+        }
+        _ => 0.0,
+    };
+    (max_tau_s, alias_tau_s)
+}
+
+/// The droop the rule allows, as a share of the signal at the top of the
+/// output span (capped at a half).
+fn relative_droop(need: &Need) -> f64 {
     let (low, high) = need.target_window();
     let span_share = ((high - low) / need.full_scale()).max(1e-12);
-    let droop = (DROOP_SHARE_OF_TARGET * (need.accuracy.filter_target_pct_fs() / 100.0)
-        / span_share)
-        .min(0.5);
-    let ratio = ((1.0 / (1.0 - droop)).powi(2) - 1.0).sqrt();
-    let fc_min = bandwidth / ratio;
-    let max_tau_s = 1.0 / (two_pi * fc_min);
-    let mut min_tau_s = max_tau_s / CORNER_SPREAD;
+    (DROOP_SHARE_OF_TARGET * (need.accuracy.filter_target_pct_fs() / 100.0) / span_share).min(0.5)
+}
+
+/// The smallest `R C` of one pole rejecting `power` (`|H(0)/H(f)|^2`) at
+/// `nyquist`: `sqrt(power - 1) / (2 pi nyquist)` (0 when `power <= 1`).
+fn alias_tau(nyquist: f64, power: f64) -> f64 {
+    if power <= 1.0 {
+        return 0.0;
+    }
+    (power - 1.0).sqrt() / (2.0 * std::f64::consts::PI * nyquist)
+}
+
+/// Whether one pole cannot give the need's alias rejection within the
+/// droop rule even with exact parts (the alias rule's smallest `R C` is
+/// above the droop rule's largest): then no pair alone meets the rules,
+/// and a pole in a stage's feedback may (the search places one,
+/// `search/pair.rs`).
+pub fn needs_second_pole(need: &Need) -> bool {
+    let (max_tau_s, alias_tau_s) = single_pole_limits(need);
+    alias_tau_s > max_tau_s
+}
+
+/// The smallest nominal `R C` of any pair, whatever the feedback poles:
+/// a third of one pole's droop bound ([`CORNER_SPREAD`]), and the alias
+/// rule's bound too where one pole can meet it ([`needs_second_pole`]
+/// false), seconds.
+fn pair_tau_floor(need: &Need) -> f64 {
+    let (max_tau_s, alias_tau_s) = single_pole_limits(need);
+    let spread = max_tau_s / CORNER_SPREAD;
+    if alias_tau_s > max_tau_s {
+        spread
+    } else {
+        spread.max(alias_tau_s)
+    }
+}
+
+/// The `R C` limits of the pair with the design's feedback poles: the
+/// droop rule's largest `R C` (at the pair's upper tolerance limits), the
+/// smallest nominal `R C` (the corner-spread and alias rules) and the
+/// alias rule's smallest `R C` at the lower tolerance limits, seconds.
+///
+/// The feedback poles share the rules with the pair: the droop is judged
+/// on the product of their least gains ([`FeedbackCorner::least_gain`])
+/// and the pair's, and the rejection on the product of their least
+/// rejections ([`FeedbackCorner::least_rejection_power`]) and the
+/// pair's; so the pair takes the droop they leave and the rejection they
+/// do not give. The corner-spread floor stays that of one pole
+/// ([`pair_tau_floor`]), so the pair's corner never rises above
+/// [`highest_corner_hz`].
+pub fn tau_limits_with(need: &Need, feedback: &[FeedbackCorner]) -> (f64, f64, f64) {
+    let two_pi = 2.0 * std::f64::consts::PI;
+    let bandwidth = need.accuracy.bandwidth.0;
+    let kept: f64 = feedback.iter().map(|c| c.least_gain(bandwidth)).product();
+    // The pair keeps at least (1 - droop) / kept: one pole at f loses
+    // 1 - 1/sqrt(1 + (f/fc)^2).
+    let ratio = ((kept / (1.0 - relative_droop(need))).powi(2) - 1.0)
+        .max(0.0)
+        .sqrt();
+    let max_tau_s = ratio / (two_pi * bandwidth);
+    let mut min_tau_s = pair_tau_floor(need);
     let mut alias_tau_s = 0.0;
     if let (Some(rate), Some(rejection)) = (need.adc.sample_rate, need.adc.alias_rejection) {
         let nyquist = rate.0 / 2.0;
-        let fc_max = nyquist / (10f64.powf(rejection.0 / 10.0) - 1.0).max(1e-300).sqrt();
-        alias_tau_s = 1.0 / (two_pi * fc_max);
+        let given: f64 = feedback
+            .iter()
+            .map(|c| c.least_rejection_power(nyquist))
+            .product();
+        alias_tau_s = alias_tau(nyquist, 10f64.powf(rejection.0 / 10.0) / given);
         min_tau_s = min_tau_s.max(alias_tau_s);
     }
     (max_tau_s, min_tau_s, alias_tau_s)
 }
 
 /// The highest corner any pair the rules allow can have (nominal
-/// values): `1 / (2 pi min R C)`, Hz. A design that gets a pair has its
-/// filter's own corner at or below this.
+/// values): `1 / (2 pi min R C)` over every feedback pole a design may
+/// carry, Hz. A design that gets a pair has its filter's own corner at or
+/// below this.
 pub fn highest_corner_hz(need: &Need) -> f64 {
-    1.0 / (2.0 * std::f64::consts::PI * tau_limits(need).1)
+    1.0 / (2.0 * std::f64::consts::PI * pair_tau_floor(need))
 }
 
 /// The droop the rules allow a pair at `accuracy.bandwidth_hz`, at its
@@ -256,7 +387,7 @@ pub fn stock_has_capacitors(stock: &Stock) -> bool {
 /// the module header and `docs/filter.md`).
 pub fn bounds(need: &Need, driver: &Driver) -> Bounds {
     let two_pi = 2.0 * std::f64::consts::PI;
-    let (max_tau_s, min_tau_s, alias_tau_s) = tau_limits(need);
+    let (max_tau_s, min_tau_s, alias_tau_s) = tau_limits_with(need, &driver.feedback);
     // Phase margin: the load's pole-zero pair lags at most
     // atan(Ro / (2 sqrt(R (R + Ro)))) at any frequency; keeping that lag
     // under 90 - target leaves the target margin over a single-pole

@@ -126,6 +126,7 @@ fn the_isolation_resistor_bound_keeps_the_margin() {
             noise_gain,
             output_amps: 0.01,
             step_v: 3.0,
+            feedback: Vec::new(),
         };
         let t = (90.0 - PHASE_MARGIN_TARGET_DEG).to_radians().tan();
         let r_min = 100.0 * ((1.0 + 1.0 / (t * t)).sqrt() - 1.0) / 2.0;
@@ -357,4 +358,73 @@ fn bad_feedback_capacitors_are_refused_by_key() {
         again.stages[0].feedback_capacitor.as_ref().unwrap().value.0,
         2.2e-9
     );
+}
+
+/// The feedback corner's bounds against the stage's own closed forms
+/// (handbook, common practice): a non-inverting stage
+/// `(NG + j x)/(1 + j x)` and an inverting stage `1/(1 + j x)` (relative
+/// to DC, `x = f/f_p`), at every corner the tolerances allow, keep at least
+/// [`super::FeedbackCorner::least_gain`] and reject at least
+/// [`super::FeedbackCorner::least_rejection_power`] in power.
+#[test]
+fn the_feedback_corner_bounds_hold_at_every_tolerance() {
+    let (ohms, farads, tr, tc) = (47e3, 6.8e-9, 1.0, 10.0);
+    for ng in [1.0, 2.0, 5.7, 100.0] {
+        let corner = super::FeedbackCorner::new(ohms, tr, farads, tc, ng);
+        for (dr, dc) in [
+            (-1.0, -1.0),
+            (-1.0, 1.0),
+            (0.0, 0.0),
+            (1.0, -1.0),
+            (1.0, 1.0),
+        ] {
+            let fp = super::feedback::corner_hz(
+                ohms * (1.0 + dr * tr / 100.0),
+                farads * (1.0 + dc * tc / 100.0),
+            );
+            for f in [1.0, 10.0, 300.0, 1e3, 1e4, 1e5] {
+                let x = f / fp;
+                let non_inverting = ((ng * ng + x * x) / (ng * ng * (1.0 + x * x))).sqrt();
+                let inverting = 1.0 / (1.0 + x * x).sqrt();
+                for gain in [non_inverting, inverting] {
+                    assert!(
+                        gain >= corner.least_gain(f) * (1.0 - 1e-12),
+                        "NG {ng} f {f}"
+                    );
+                    let power = 1.0 / (gain * gain);
+                    assert!(
+                        power >= corner.least_rejection_power(f) * (1.0 - 1e-12),
+                        "NG {ng} f {f}: {power}"
+                    );
+                }
+            }
+        }
+    }
+}
+
+/// One pole's rules with the demo need and an alias target: where the
+/// rejection asks more than one pole can give within the droop rule, the
+/// need asks a second pole; a feedback pole then leaves the pair a window
+/// (largest droop `R C` above the alias rule's least), and never lets the
+/// pair's corner rise above the search's highest corner.
+#[test]
+fn a_feedback_pole_opens_the_window_one_pole_lacks() {
+    let mut need = crate::api::load(crate::demo::NEED_TOML.as_bytes(), "demo", &[])
+        .unwrap()
+        .0;
+    need.adc.sample_rate = Some(Hertz(20_000.0));
+    need.adc.alias_rejection = Some(Decibels(45.0));
+    assert!(super::needs_second_pole(&need));
+    let (max_tau, _, alias_tau) = super::tau_limits(&need);
+    assert!(alias_tau > max_tau, "one pole: no window");
+    // An inverting-like stage (large noise gain) with its pole near the
+    // pair's own.
+    let corner = super::FeedbackCorner::new(47e3, 0.1, 6.8e-9, 5.0, 100.0);
+    let (max_tau, min_tau, alias_tau) = super::tau_limits_with(&need, &[corner]);
+    assert!(
+        max_tau > min_tau && min_tau >= alias_tau,
+        "{max_tau} {min_tau} {alias_tau}"
+    );
+    let highest = super::highest_corner_hz(&need);
+    assert!(1.0 / (2.0 * std::f64::consts::PI * min_tau) <= highest * (1.0 + 1e-12));
 }

@@ -406,7 +406,12 @@ impl Walk {
                 feedback_capacitor: None,
             });
         }
-        Design { stages }
+        let mut design = Design { stages };
+        // A pole in the last stage's feedback where the rule places one
+        // (search/pair.rs): a function of the design, so the walk's space
+        // is the designs with the capacitor their rule gives.
+        problem.pairs.place_feedback(stock, &mut design);
+        design
     }
 }
 
@@ -555,7 +560,23 @@ fn search_structure(
                         .iter()
                         .map(|r| r.part.unit_cost)
                         .sum();
-                    fixed = Some(c.total - resistor_cost - line * resistor_lines as f64);
+                    // A capacitor the rule places across `rf` depends on
+                    // the resistors: left out of the fixed part (it only
+                    // adds), so the sum below stays a lower bound.
+                    let capacitors = &model.built().feedback_capacitors;
+                    let capacitor_cost: f64 = capacitors.iter().map(|c| c.part.unit_cost).sum();
+                    let capacitor_lines = capacitors
+                        .iter()
+                        .map(|c| c.part.part_id.as_str())
+                        .collect::<std::collections::BTreeSet<_>>()
+                        .len();
+                    fixed = Some(
+                        c.total
+                            - resistor_cost
+                            - line * resistor_lines as f64
+                            - capacitor_cost
+                            - line * capacitor_lines as f64,
+                    );
                 }
                 let best_v = match (objective, state.best.as_ref()) {
                     (Objective::Error, Some(best)) => {

@@ -45,13 +45,24 @@
 //! resistor that a design within `search.max_parts` could use up
 //! (`stock_qty` at most `max_parts`) left out, so no design can lose its
 //! pair where the floor counts one.
+//!
+//! A pole in the last stage's feedback ([`FilterPairs::place_feedback`]):
+//! where one pole cannot give the need's alias rejection within the droop
+//! rule, no pair alone meets the rules, every part's floor above is zero,
+//! and both modes give each design the capacitor across `rf` the rule
+//! picks (a function of the design, so the walk's space holds the design
+//! with it). A design with a feedback capacitor gets its pair chosen for
+//! it in full (the pair shares the droop and alias rules with the pole),
+//! as the report chooses it.
 
-use crate::design::Resistor;
+use crate::design::{Design, Resistor};
 use crate::filter::{
-    choose, choose_within, driver, driver_from, driver_of, resistors_used, Driver, FilterParts,
+    choose, choose_within, driver, driver_from, driver_of, resistors_used, stock_has_capacitors,
+    Driver, FeedbackCorner, FilterParts,
 };
 use crate::mna::DcSolution;
 use crate::need::Need;
+use crate::shape::Role;
 use crate::stock::Stock;
 use crate::topology::{AmplifierKind, Built};
 use std::cell::RefCell;
@@ -82,6 +93,10 @@ pub(crate) struct FilterPairs<'s> {
     inamps: Vec<(PairFloor, Option<FilterParts>)>,
     /// Pairs chosen with a sampling input, by part and noise gain.
     cache: RefCell<BTreeMap<(bool, usize, u64), Option<FilterParts>>>,
+    /// Whether one pole cannot meet the need's alias rejection within the
+    /// droop rule ([`crate::filter::needs_second_pole`]): only then does
+    /// the search place a feedback capacitor ([`FilterPairs::place_feedback`]).
+    second_pole: bool,
 }
 
 /// Most pairs kept in the cache (a sampling input makes one per noise
@@ -143,6 +158,83 @@ impl<'s> FilterPairs<'s> {
                 .map(|i| floor_of(AmplifierKind::InAmp(i)))
                 .collect(),
             cache: RefCell::new(BTreeMap::new()),
+            second_pole: crate::filter::needs_second_pole(need) && stock_has_capacitors(stock),
+        }
+    }
+
+    /// The search's rule for a pole in a stage's feedback (docs/search.md,
+    /// *A pole in the last stage's feedback*): where one pole cannot give
+    /// the need's alias rejection within the droop rule
+    /// ([`crate::filter::needs_second_pole`]), no design gets a pair alone,
+    /// so a design whose last stage has an `rf` gets a capacitor across it:
+    /// of the stocked capacitors with which a pair is chosen (the pair's
+    /// rules then share the droop and the rejection with that pole,
+    /// [`crate::filter::tau_limits_with`]), the one whose capacitor and pair
+    /// cost least together (unit prices and the BOM lines they add; ties:
+    /// the first in stock order). None serves otherwise (no capacitor is
+    /// placed). `search_stock` is the stock the design is built from.
+    pub(crate) fn place_feedback(&self, search_stock: &Stock, design: &mut Design) {
+        if !self.second_pole {
+            return;
+        }
+        let Some(last) = design.stages.last() else {
+            return;
+        };
+        if last.feedback_capacitor.is_some() || !last.shape.required_roles().contains(&Role::Rf) {
+            return;
+        }
+        let Some(rf) = last.resistors.get(&Role::Rf).cloned() else {
+            return;
+        };
+        let Ok(built) = crate::topology::build(self.need, search_stock, design) else {
+            return;
+        };
+        let mut netlist = built.netlist.clone();
+        let low = self.need.sensor.signal_low.0;
+        let Ok(dc) = DcSolution::solve(&mut netlist, built.vsense, [low, low], built.out) else {
+            return;
+        };
+        let Some(base) = driver_from(self.need, self.stock, &built, &dc) else {
+            return;
+        };
+        let line = self.need.search.bom_line_cost;
+        let used = resistors_used(&built);
+        let mut best: Option<(f64, usize)> = None;
+        for (ci, cap) in self.stock.capacitors.iter().enumerate() {
+            let placed = used.get(cap.part_id.as_str()).copied().unwrap_or(0);
+            if cap.stock_qty.is_some_and(|q| q <= placed) {
+                continue;
+            }
+            let corner = FeedbackCorner::new(
+                rf.ohms,
+                rf.tolerance_pct,
+                cap.value.0,
+                cap.tolerance.0,
+                base.noise_gain,
+            );
+            let d = Driver {
+                feedback: vec![corner],
+                ..base.clone()
+            };
+            let mut with_cap = used.clone();
+            *with_cap.entry(cap.part_id.as_str()).or_default() += 1;
+            let Some(pair) = choose_within(self.need, self.stock, &d, &with_cap) else {
+                continue;
+            };
+            let mut lines = 1.0;
+            if pair.shunt.part_id != cap.part_id {
+                lines += 1.0;
+            }
+            if !used.contains_key(pair.series.part_id.as_str()) {
+                lines += 1.0;
+            }
+            let cost = cap.unit_cost + units(&pair) + line * lines;
+            if best.is_none_or(|(b, _)| cost < b - 1e-12) {
+                best = Some((cost, ci));
+            }
+        }
+        if let (Some((_, ci)), Some(stage)) = (best, design.stages.last_mut()) {
+            stage.feedback_capacitor = Some(self.stock.capacitors[ci].clone());
         }
     }
 
@@ -214,6 +306,11 @@ impl<'s> FilterPairs<'s> {
         if built.filter.is_some() {
             return true;
         }
+        if !built.feedback_capacitors.is_empty() {
+            // The pair then shares its rules with the feedback poles: the
+            // full choice, as the report makes it.
+            return crate::filter::gets_pair(self.need, self.stock, built, dc);
+        }
         if !self.sampling {
             // The part's own pair, without a clone, when one more of its
             // resistor is left on the shelf (else the full choice below).
@@ -255,6 +352,12 @@ impl<'s> FilterPairs<'s> {
     /// [`FilterPairs::pair_for`] with the driver of a sampling input given
     /// (`None` without one).
     fn pair_with(&self, built: &Built, sampled: Option<Driver>) -> Option<FilterParts> {
+        if !built.feedback_capacitors.is_empty() {
+            // The pair shares its rules with the feedback poles: chosen for
+            // this design, as the report chooses it.
+            let d = driver(self.need, self.stock, built)?;
+            return choose_within(self.need, self.stock, &d, &resistors_used(built));
+        }
         let pair = self.pair_whole_shelf(built, sampled.as_ref())?;
         let used = resistors_used(built);
         let limit = self

@@ -273,7 +273,10 @@ impl Problem<'_> {
                 feedback_capacitor: None,
             });
         }
-        Design { stages }
+        let mut design = Design { stages };
+        // A pole in the last stage's feedback where the rule places one.
+        self.pairs.place_feedback(self.stock, &mut design);
+        design
     }
 }
 
