@@ -74,10 +74,20 @@ fn demo_stock() -> Stock {
 /// both takes a 10 V supply span and swings to 4 V below a +5 V rail.
 fn stock_with_wide_rail_to_rail() -> Stock {
     let mut files = spanfit::demo::stock_files();
-    let row = "XW-RR2,2,2.7,16.0,0.0,0.0,0.05,0.05,500,2,1,0.5,110,2.0,20,0.1,100,0.60,100,100,,\n";
+    // The demo header's first 20 columns, then empty cells (the optional
+    // columns at their documented defaults) up to the header's width.
+    let cells = "XW-RR2,2,2.7,16.0,0.0,0.0,0.05,0.05,500,2,1,0.5,110,2.0,20,0.1,100,0.60,100,100";
     let Some(f) = files.iter_mut().find(|f| f.name == "opamps.csv") else {
         panic!("the demo stock has no opamps.csv");
     };
+    let width = String::from_utf8_lossy(&f.bytes)
+        .lines()
+        .next()
+        .map(|h| h.split(',').count())
+        .unwrap_or(0);
+    let given = cells.split(',').count();
+    assert!(width >= given, "the demo op-amp header has {width} columns");
+    let row = format!("{cells}{}\n", ",".repeat(width - given));
     if !f.bytes.ends_with(b"\n") {
         f.bytes.push(b'\n');
     }
