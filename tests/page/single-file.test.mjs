@@ -3,7 +3,7 @@
 // to the CLI's answer, and Stop ends a search by replacing the worker.
 import assert from 'node:assert/strict';
 import { test } from 'node:test';
-import { SINGLE_FILE_URL, assertBuilt, cliDemoJson, fmt, launch, openPage, shot, solveAndWait, unexpected } from './helpers.mjs';
+import { SINGLE_FILE_URL, assertBuilt, cliDemoJson, fmt, launch, openPage, shot, solveUncut, unexpected } from './helpers.mjs';
 
 async function withFilePage(fn) {
   assertBuilt();
@@ -38,7 +38,7 @@ test('the single file loads from file:// with its own CSP and no requests beyond
 test('the single file solves the demo from file:// to the CLI answer', async () => {
   const cli = cliDemoJson();
   await withFilePage(async ({ page, problems }) => {
-    await solveAndWait(page);
+    await solveUncut(page);
     assert.equal(await page.getAttribute('[data-testid=result-banner]', 'data-status'), cli.status);
     assert.equal(Number(await page.getAttribute('[data-figure="cost"]', 'data-raw')), cli.design.cost);
     assert.equal(await page.textContent('[data-figure="cost"] .main'), fmt(cli.design.cost));

@@ -5,7 +5,7 @@ import assert from 'node:assert/strict';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { after, before, test } from 'node:test';
-import { ARTIFACTS, cliDemoFiles, cliDemoJson, downloadText, fmt, launch, openPage, serveDist, shot, solveAndWait, unexpected } from './helpers.mjs';
+import { ARTIFACTS, cliDemoFiles, cliDemoJson, downloadText, fmt, launch, openPage, serveDist, shot, solveAndWait, solveUncut, unexpected } from './helpers.mjs';
 
 let server;
 before(async () => { server = await serveDist(); });
@@ -33,7 +33,7 @@ test('the demo result on the page equals the CLI --json output', async () => {
   const cli = cliDemoJson();
   assert.equal(cli.status, 'ok', 'the CLI designs the demo');
   await withPage(async ({ page, problems }) => {
-    await solveAndWait(page);
+    await solveUncut(page);
     assert.equal(await page.getAttribute('[data-testid=result-banner]', 'data-status'), cli.status);
     const design = cli.design;
     assert.equal(Number(await figureRaw(page, 'cost')), design.cost);
@@ -68,7 +68,7 @@ test('the demo result on the page equals the CLI --json output', async () => {
 test('the downloads are the files the CLI writes for the same need', async () => {
   const cli = cliDemoFiles();
   await withPage(async ({ page, problems }) => {
-    await solveAndWait(page);
+    await solveUncut(page);
     const spice = await downloadText(page, '#dl-spice');
     assert.equal(spice.text, cli.spice, 'SPICE netlist');
     assert.match(spice.text, /^VSENSE /m);
@@ -97,7 +97,7 @@ test('hostile part names from the shelf reach the results as text', async () => 
     lines[1] = cells.join(',');
     await page.setInputFiles('[data-testid=stock-file]', { name: 'resistors.csv', mimeType: 'text/csv', buffer: Buffer.from(`${lines.join('\n')}\n`) });
     await page.waitForFunction(() => window.spanfitPage.state.stockValid);
-    await solveAndWait(page);
+    await solveUncut(page);
     const ids = await page.$$eval('[data-testid=parts-table] td[data-col="part_id"]', (tds) => tds.map((td) => td.textContent));
     assert.equal(ids.some((t) => t.startsWith(HOSTILE)), true, ids.join(' | '));
     const bomText = await page.textContent('[data-testid=bom-table]');
@@ -114,7 +114,7 @@ test('hostile part names from the shelf reach the results as text', async () => 
 test('on a 390 px wide screen the page and its result fit without sideways scrolling', async () => {
   await withPage(async ({ page, problems }) => {
     await page.setViewportSize({ width: 390, height: 844 });
-    await solveAndWait(page);
+    await solveUncut(page);
     await page.waitForSelector('[data-testid=schematic-img]');
     const widths = await page.evaluate(() => ({ page: document.documentElement.scrollWidth, screen: window.innerWidth }));
     assert.equal(widths.page <= widths.screen, true, `page ${widths.page} px wide on a ${widths.screen} px screen`);
@@ -131,7 +131,7 @@ test('on a 390 px wide screen the page and its result fit without sideways scrol
 
 test('changing the ADC window and solving again changes the result to fit', async () => {
   await withPage(async ({ page, problems }) => {
-    await solveAndWait(page);
+    await solveUncut(page);
     const gainBefore = Number(await figureRaw(page, 'gain'));
     // Time for the search to reach a design on a busy machine (the page
     // tests run side by side, and the wasm search is slower than the
@@ -249,7 +249,7 @@ test('a yield need shows the Monte Carlo histogram when the report has one', asy
       const s = window.spanfitPage.state;
       return s.needValid && s.need.accuracy.basis === 'yield' && s.checkedNeed === JSON.stringify(s.need);
     });
-    await solveAndWait(page);
+    await solveUncut(page);
     const histogram = await page.evaluate(() => {
       const report = window.spanfitPage.state.result.bundle.report;
       return report.design && report.design.error && report.design.error.histogram;
