@@ -96,6 +96,22 @@ fn reported(need: &Need, stock: &Stock, o: &SolveOutcome) -> Option<(usize, bool
 fn agree(need: &Need, stock: &Stock) -> (SolveOutcome, SolveOutcome) {
     let fast = run(need, stock, SearchMode::Optimised);
     let full = run(need, stock, SearchMode::Exhaustive);
+    // A design only meets a need that asks for a rejection with it: every
+    // returned design, analysed as reported, passes the alias check.
+    for o in [&fast, &full] {
+        if let Some(best) = &o.best {
+            let model = spanfit::analysis::Model::reported(need, stock, &best.design)
+                .expect("a returned design analyses");
+            let analysis = model.report(need, 0, 1).expect("its report");
+            let alias = analysis
+                .findings
+                .iter()
+                .find(|f| f.check == "alias rejection")
+                .expect("the need asks for a rejection, so the report checks it");
+            assert!(alias.ok, "{}", alias.detail);
+            assert!(analysis.meets_target);
+        }
+    }
     let finished = full.stats.proven_optimal || full.infeasible.as_ref().is_some_and(|i| i.proven);
     assert!(finished, "the exhaustive walk ends with a proof");
     assert_eq!(fast.best.is_some(), full.best.is_some(), "the same verdict");

@@ -49,11 +49,14 @@ pub enum Check {
     StockQuantity,
     /// The output with its worst-case error inside the ADC window.
     AdcWindow,
+    /// The chain's rejection at half the sample rate against
+    /// `adc.alias_rejection_db` (only where the need asks for it).
+    AliasRejection,
 }
 
 impl Check {
     /// Every check, in the order findings list them.
-    pub const ALL: [Check; 10] = [
+    pub const ALL: [Check; 11] = [
         Check::SupplyRange,
         Check::CommonMode,
         Check::OutputSwing,
@@ -64,6 +67,7 @@ impl Check {
         Check::PartCount,
         Check::StockQuantity,
         Check::AdcWindow,
+        Check::AliasRejection,
     ];
 
     /// The label shown in reports (`check` in the JSON findings).
@@ -79,6 +83,7 @@ impl Check {
             Check::PartCount => "part count",
             Check::StockQuantity => "stock quantity",
             Check::AdcWindow => "ADC window",
+            Check::AliasRejection => "alias rejection",
         }
     }
 
@@ -136,6 +141,25 @@ impl Check {
             Check::AdcWindow => format!(
                 "output reaches {a:.4} V to {b:.4} V untrimmed; the ADC takes {c:.4} V to {d:.4} V"
             ),
+            Check::AliasRejection => {
+                if d == 1.0 {
+                    format!(
+                        "the filter pair this design gets is chosen by its alias rule, which gives \
+                         at least the asked {b:.2} dB at {c:.4e} Hz (half the sample rate) at \
+                         its parts' tolerance limits"
+                    )
+                } else if a.is_nan() {
+                    format!(
+                        "the AC analysis of the chain found no rejection at {c:.4e} Hz (half \
+                         the sample rate); asked {b:.2} dB"
+                    )
+                } else {
+                    format!(
+                        "the chain rejects {a:.2} dB at {c:.4e} Hz (half the sample rate, \
+                         nominal values); asked {b:.2} dB"
+                    )
+                }
+            }
         }
     }
 }
@@ -192,6 +216,10 @@ impl Finding {
             | Check::OutputCurrent
             | Check::PartCount
             | Check::StockQuantity => ((a - b).max(0.0), "high"),
+            Check::AliasRejection => {
+                let short = if a.is_nan() { b } else { b - a };
+                (short.max(0.0), "low")
+            }
         }
     }
 
@@ -264,6 +292,18 @@ impl Finding {
             Check::StockQuantity => format!(
                 "{who} is placed {a:.0} times (the filter pair included), {excess:.0} more than \
                  the {b:.0} the stock holds; other values, another part or a larger stock_qty can"
+            ),
+            Check::AliasRejection => format!(
+                "the chain rejects {} at {c:.4e} Hz, half the sample rate, {excess:.2} dB short \
+                 of the asked {b:.2} dB; the design's filter (or its lack of one: no filter \
+                 pair from the stock fits the rules) does not give it: a lower \
+                 adc.alias_rejection_db, a higher adc.sample_rate_hz or capacitors in stock \
+                 that let a pair fit the rules can",
+                if a.is_nan() {
+                    "nothing the AC analysis could find".to_string()
+                } else {
+                    format!("{a:.2} dB")
+                }
             ),
         }
     }
@@ -776,4 +816,36 @@ mod tests {
             "output reaches 0.0100 V to 4.9900 V untrimmed; the part swings 0.0500 V to 4.9500 V"
         );
     }
+}
+
+/// The `alias rejection` finding, where the need asks for a rejection at
+/// half the sample rate: a design only meets the need with it. A search
+/// candidate that gets a filter pair once reported (`pair_coming`) has it
+/// by the pair's alias rule, which holds at the parts' tolerance limits
+/// (docs/filter.md); any other design is judged by its own response as
+/// built (the pair where it has one, feedback poles, every amplifier's
+/// closed-loop pole), with nominal values, as the filter report shows it.
+pub(crate) fn alias_finding(
+    need: &Need,
+    stock: &Stock,
+    built: &Built,
+    pair_coming: bool,
+) -> Option<RawFinding> {
+    let (rate, asked) = (need.adc.sample_rate?.0, need.adc.alias_rejection?.0);
+    let nyquist = rate / 2.0;
+    let (got, ok, by_rule) = if pair_coming && built.filter.is_none() {
+        (asked, true, 1.0)
+    } else {
+        match crate::filter::rejection_db(stock, built, nyquist) {
+            Some(got) => (got, got >= asked, 0.0),
+            None => (f64::NAN, false, 0.0),
+        }
+    };
+    Some(RawFinding {
+        check: Check::AliasRejection,
+        subject: "out".into(),
+        ok,
+        numbers: [got, asked, nyquist, by_rule],
+        stage: None,
+    })
 }

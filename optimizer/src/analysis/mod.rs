@@ -234,7 +234,7 @@ impl Model {
         let dynamic = noise::dynamic(need, stock, &built, &netlist, &dc, response);
         let noise = dynamic.noise;
         let stages = ranges::stage_reports(design, &built, &dc);
-        let findings = feasibility::findings(
+        let mut findings = feasibility::findings(
             need,
             stock,
             &built,
@@ -243,6 +243,8 @@ impl Model {
             &params,
             response != noise::Response::AsBuilt,
         );
+        let pair_coming = response == noise::Response::Bounded { pair: true };
+        findings.extend(feasibility::alias_finding(need, stock, &built, pair_coming));
         let raw = extremes::output_half_range(&params);
         let raw_output_half = [raw[0] + noise.peak_v(), raw[1] + noise.peak_v()];
         Ok(Model {

@@ -21,6 +21,7 @@ pub mod feedback;
 mod response;
 
 pub use feedback::FeedbackPole;
+pub(crate) use response::rejection_db;
 pub use response::{
     amplifiers, analyse, FilterCheck, FilterReport, FilterStatus, INAMP_OUTPUT_GBW_FACTOR,
 };

@@ -145,6 +145,29 @@ pub fn amplifiers(stock: &Stock, built: &Built) -> Vec<AcAmplifier> {
     out
 }
 
+/// The rejection of a built chain (as built: its pair and feedback poles
+/// where it has them, every amplifier's closed-loop pole) at `f`, in dB
+/// below its DC transfer, with nominal values; `None` where the AC
+/// analysis finds no DC transfer or fails.
+pub(crate) fn rejection_db(stock: &Stock, built: &Built, f: f64) -> Option<f64> {
+    let mut chain = Chain {
+        solver: AcSolver::new(&built.netlist, &amplifiers(stock, built)),
+        built,
+        dc: 1.0,
+    };
+    let dc = chain
+        .solver
+        .transfer(&built.netlist, built.vsense, built.out, 0.0)
+        .ok()?
+        .abs();
+    if !(dc.is_finite() && dc > 0.0) {
+        return None;
+    }
+    chain.dc = dc;
+    let p = chain.power(f)?;
+    (p.is_finite() && p > 0.0).then(|| -10.0 * p.log10())
+}
+
 /// The chain's response, normalised to DC: `|H(f)/H(0)|^2`.
 struct Chain<'a> {
     solver: AcSolver,
