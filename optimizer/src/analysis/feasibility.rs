@@ -753,6 +753,38 @@ pub fn part_count(built: &Built) -> usize {
             .count()
 }
 
+/// The `alias rejection` finding, where the need asks for a rejection at
+/// half the sample rate: a design only meets the need with it. A search
+/// candidate that gets a filter pair once reported (`pair_coming`) has it
+/// by the pair's alias rule, which holds at the parts' tolerance limits
+/// (docs/filter.md); any other design is judged by its own response as
+/// built (the pair where it has one, feedback poles, every amplifier's
+/// closed-loop pole), with nominal values, as the filter report shows it.
+pub(crate) fn alias_finding(
+    need: &Need,
+    stock: &Stock,
+    built: &Built,
+    pair_coming: bool,
+) -> Option<RawFinding> {
+    let (rate, asked) = (need.adc.sample_rate?.0, need.adc.alias_rejection?.0);
+    let nyquist = rate / 2.0;
+    let (got, ok, by_rule) = if pair_coming && built.filter.is_none() {
+        (asked, true, 1.0)
+    } else {
+        match crate::filter::rejection_db(stock, built, nyquist) {
+            Some(got) => (got, got >= asked, 0.0),
+            None => (f64::NAN, false, 0.0),
+        }
+    };
+    Some(RawFinding {
+        check: Check::AliasRejection,
+        subject: "out".into(),
+        ok,
+        numbers: [got, asked, nyquist, by_rule],
+        stage: None,
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -816,36 +848,4 @@ mod tests {
             "output reaches 0.0100 V to 4.9900 V untrimmed; the part swings 0.0500 V to 4.9500 V"
         );
     }
-}
-
-/// The `alias rejection` finding, where the need asks for a rejection at
-/// half the sample rate: a design only meets the need with it. A search
-/// candidate that gets a filter pair once reported (`pair_coming`) has it
-/// by the pair's alias rule, which holds at the parts' tolerance limits
-/// (docs/filter.md); any other design is judged by its own response as
-/// built (the pair where it has one, feedback poles, every amplifier's
-/// closed-loop pole), with nominal values, as the filter report shows it.
-pub(crate) fn alias_finding(
-    need: &Need,
-    stock: &Stock,
-    built: &Built,
-    pair_coming: bool,
-) -> Option<RawFinding> {
-    let (rate, asked) = (need.adc.sample_rate?.0, need.adc.alias_rejection?.0);
-    let nyquist = rate / 2.0;
-    let (got, ok, by_rule) = if pair_coming && built.filter.is_none() {
-        (asked, true, 1.0)
-    } else {
-        match crate::filter::rejection_db(stock, built, nyquist) {
-            Some(got) => (got, got >= asked, 0.0),
-            None => (f64::NAN, false, 0.0),
-        }
-    };
-    Some(RawFinding {
-        check: Check::AliasRejection,
-        subject: "out".into(),
-        ok,
-        numbers: [got, asked, nyquist, by_rule],
-        stage: None,
-    })
 }
