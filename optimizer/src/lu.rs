@@ -78,6 +78,125 @@ fn clearly_below(q: f64, best: f64) -> bool {
     q.is_normal() && q < best * (1.0 - 1e-9)
 }
 
+/// The largest magnitude among the entries shown to [`Scale::take`]; the
+/// squares rule out most entries without a magnitude.
+#[derive(Debug, Clone, Copy, Default)]
+struct Scale {
+    val: f64,
+    sq: f64,
+}
+
+impl Scale {
+    /// Take the entry `v` into account.
+    #[inline]
+    fn take<T: Scalar>(&mut self, v: T) {
+        let q = v.norm_sqr();
+        if clearly_below(q, self.sq) {
+            return;
+        }
+        self.val = self.val.max(v.magnitude());
+        self.sq = self.sq.max(q);
+    }
+}
+
+/// The best pivot found so far in one column: the first entry of largest
+/// magnitude, the diagonal ranked first.
+#[derive(Debug, Clone, Copy)]
+struct Pivot {
+    row: usize,
+    val: f64,
+    sq: f64,
+}
+
+impl Pivot {
+    /// The diagonal entry `v` of column `col`, the first candidate.
+    #[inline]
+    fn diagonal<T: Scalar>(col: usize, v: T) -> Self {
+        Pivot {
+            row: col,
+            val: v.magnitude(),
+            sq: v.norm_sqr(),
+        }
+    }
+
+    /// Consider the entry `v` in row `row` below the diagonal: it becomes
+    /// the pivot when its magnitude is strictly larger.
+    #[inline]
+    fn consider<T: Scalar>(&mut self, row: usize, v: T) {
+        if v.is_zero() {
+            return;
+        }
+        let q = v.norm_sqr();
+        if clearly_below(q, self.sq) {
+            return;
+        }
+        let m = v.magnitude();
+        if m > self.val {
+            *self = Pivot { row, val: m, sq: q };
+        }
+    }
+
+    /// Whether the pivot fails: not above `tiny`, or not finite.
+    #[inline]
+    fn fails(&self, tiny: f64) -> bool {
+        self.val <= tiny || !self.val.is_finite()
+    }
+}
+
+/// Eliminate column `col` from row `row` of the `n`-column matrix `a`
+/// with the pivot `d` (the entry at `col`, `col`): the multiplier takes
+/// the entry's place, and the columns `upper` of the pivot row (those
+/// right of `col` that may be nonzero, in increasing order) update the
+/// row. Whether the row changed (a nonzero multiplier): only then does
+/// it gain the pivot row's columns.
+#[inline]
+fn eliminate<T: Scalar>(
+    a: &mut [T],
+    n: usize,
+    col: usize,
+    row: usize,
+    d: T,
+    upper: impl Iterator<Item = usize>,
+) -> bool {
+    let v = a[row * n + col];
+    if v.is_zero() {
+        return false;
+    }
+    let f = v.quotient(d);
+    a[row * n + col] = f;
+    if f.is_zero() {
+        return false;
+    }
+    for j in upper {
+        a[row * n + j] = a[row * n + j].sub_product(f, a[col * n + j]);
+    }
+    true
+}
+
+/// One triangular substitution on `x`: for each `i` in `order`, subtract
+/// `entry(i, j) x[j]` for every `j` of `others(i)` in turn, then divide
+/// by `entry(i, i)` unless the diagonal is a unit one.
+#[inline]
+fn substitute<T: Scalar, I: Iterator<Item = usize>>(
+    x: &mut [T],
+    order: impl Iterator<Item = usize>,
+    others: impl Fn(usize) -> I,
+    entry: impl Fn(usize, usize) -> T,
+    unit_diagonal: bool,
+) {
+    for i in order {
+        let mut s = x[i];
+        for j in others(i) {
+            s = s.sub_product(entry(i, j), x[j]);
+        }
+        x[i] = if unit_diagonal {
+            s
+        } else {
+            s.quotient(entry(i, i))
+        };
+    }
+}
+
 /// The set bits of `words` (a bit set over columns) from `lo` up to, not
 /// including, `hi`, in increasing order.
 #[inline]
@@ -184,47 +303,25 @@ impl<T: Scalar> DenseLu<T> {
         let (n, w) = (self.n, self.words);
         let a = &mut self.a;
         let rows = &mut self.rows;
-        let mut scale = 0.0f64;
-        let mut scale_sq = 0.0f64;
+        let mut scale = Scale::default();
         for r in 0..n {
             for c in bits(&rows[r * w..r * w + w], 0, n) {
-                let v = a[r * n + c];
-                let q = v.norm_sqr();
-                if clearly_below(q, scale_sq) {
-                    continue;
-                }
-                scale = scale.max(v.magnitude());
-                scale_sq = scale_sq.max(q);
+                scale.take(a[r * n + c]);
             }
         }
-        let tiny = scale * 1e-14;
+        let tiny = scale.val * 1e-14;
         let has = |rows: &[u64], r: usize, c: usize| (rows[r * w + c / 64] >> (c % 64)) & 1 == 1;
         for col in 0..n {
-            let mut best = col;
-            let mut best_val = a[col * n + col].magnitude();
-            let mut best_sq = a[col * n + col].norm_sqr();
+            let mut pivot = Pivot::diagonal(col, a[col * n + col]);
             for row in col + 1..n {
-                if !has(rows, row, col) {
-                    continue;
-                }
-                let v = a[row * n + col];
-                if v.is_zero() {
-                    continue;
-                }
-                let q = v.norm_sqr();
-                if clearly_below(q, best_sq) {
-                    continue;
-                }
-                let m = v.magnitude();
-                if m > best_val {
-                    best = row;
-                    best_val = m;
-                    best_sq = q;
+                if has(rows, row, col) {
+                    pivot.consider(row, a[row * n + col]);
                 }
             }
-            if best_val <= tiny || !best_val.is_finite() {
+            if pivot.fails(tiny) {
                 return Err(col);
             }
+            let best = pivot.row;
             self.pivot[col] = best;
             if best != col {
                 for k in 0..w {
@@ -241,19 +338,10 @@ impl<T: Scalar> DenseLu<T> {
                 if !has(rows, row, col) {
                     continue;
                 }
-                let v = a[row * n + col];
-                if v.is_zero() {
-                    continue;
-                }
-                let f = v.quotient(d);
-                a[row * n + col] = f;
-                if f.is_zero() {
-                    continue;
-                }
                 let (upper, lower) = rows.split_at_mut(row * w);
                 let pivot_row = &upper[col * w..col * w + w];
-                for j in bits(pivot_row, col + 1, n) {
-                    a[row * n + j] = a[row * n + j].sub_product(f, a[col * n + j]);
+                if !eliminate(a, n, col, row, d, bits(pivot_row, col + 1, n)) {
+                    continue;
                 }
                 // The fill-in: the pivot row's columns right of `col`.
                 for (k, (m, p)) in lower[..w].iter_mut().zip(pivot_row).enumerate() {
@@ -295,20 +383,10 @@ impl<T: Scalar> DenseLu<T> {
         for i in 0..n {
             x.swap(i, self.pivot[i]);
         }
-        for i in 0..n {
-            let mut s = x[i];
-            for j in bits(&self.rows[i * w..i * w + w], 0, i) {
-                s = s.sub_product(a[i * n + j], x[j]);
-            }
-            x[i] = s;
-        }
-        for i in (0..n).rev() {
-            let mut s = x[i];
-            for j in bits(&self.rows[i * w..i * w + w], i + 1, n) {
-                s = s.sub_product(a[i * n + j], x[j]);
-            }
-            x[i] = s.quotient(a[i * n + i]);
-        }
+        let row = |i: usize| &self.rows[i * w..i * w + w];
+        let entry = |i: usize, j: usize| a[i * n + j];
+        substitute(x, 0..n, |i| bits(row(i), 0, i), entry, true);
+        substitute(x, (0..n).rev(), |i| bits(row(i), i + 1, n), entry, false);
     }
 
     /// Solve `A^T y = c` in place with the current factors (the adjoint):
@@ -326,20 +404,10 @@ impl<T: Scalar> DenseLu<T> {
     fn solve_transposed_wide(&self, y: &mut [T]) {
         let (n, w) = (self.n, self.words);
         let a = &self.a;
-        for i in 0..n {
-            let mut s = y[i];
-            for j in bits(&self.cols[i * w..i * w + w], 0, i) {
-                s = s.sub_product(a[j * n + i], y[j]);
-            }
-            y[i] = s.quotient(a[i * n + i]);
-        }
-        for i in (0..n).rev() {
-            let mut s = y[i];
-            for j in bits(&self.cols[i * w..i * w + w], i + 1, n) {
-                s = s.sub_product(a[j * n + i], y[j]);
-            }
-            y[i] = s;
-        }
+        let col = |i: usize| &self.cols[i * w..i * w + w];
+        let entry = |i: usize, j: usize| a[j * n + i];
+        substitute(y, 0..n, |i| bits(col(i), 0, i), entry, false);
+        substitute(y, (0..n).rev(), |i| bits(col(i), i + 1, n), entry, true);
         for i in (0..n).rev() {
             y.swap(i, self.pivot[i]);
         }
@@ -393,20 +461,13 @@ impl<T: Scalar> DenseLu<T> {
         let a = &mut self.a;
         let rows = &mut self.rows[..n];
         let cols = &mut self.cols[..n];
-        let mut scale = 0.0f64;
-        let mut scale_sq = 0.0f64;
+        let mut scale = Scale::default();
         for (r, &mask) in rows.iter().enumerate() {
             for c in ones(mask) {
-                let v = a[r * n + c];
-                let q = v.norm_sqr();
-                if clearly_below(q, scale_sq) {
-                    continue;
-                }
-                scale = scale.max(v.magnitude());
-                scale_sq = scale_sq.max(q);
+                scale.take(a[r * n + c]);
             }
         }
-        let tiny = scale * 1e-14;
+        let tiny = scale.val * 1e-14;
         cols.iter_mut().for_each(|m| *m = 0);
         for (r, &mask) in rows.iter().enumerate() {
             for c in ones(mask) {
@@ -415,28 +476,14 @@ impl<T: Scalar> DenseLu<T> {
         }
         for col in 0..n {
             let right = above(col);
-            let mut best = col;
-            let mut best_val = a[col * n + col].magnitude();
-            let mut best_sq = a[col * n + col].norm_sqr();
+            let mut pivot = Pivot::diagonal(col, a[col * n + col]);
             for row in ones(cols[col] & right) {
-                let v = a[row * n + col];
-                if v.is_zero() {
-                    continue;
-                }
-                let q = v.norm_sqr();
-                if clearly_below(q, best_sq) {
-                    continue;
-                }
-                let m = v.magnitude();
-                if m > best_val {
-                    best = row;
-                    best_val = m;
-                    best_sq = q;
-                }
+                pivot.consider(row, a[row * n + col]);
             }
-            if best_val <= tiny || !best_val.is_finite() {
+            if pivot.fails(tiny) {
                 return Err(col);
             }
+            let best = pivot.row;
             self.pivot[col] = best;
             if best != col {
                 let swap = (1u64 << col) | (1u64 << best);
@@ -455,17 +502,8 @@ impl<T: Scalar> DenseLu<T> {
             // updated row gets (fill-in included).
             let upper = rows[col] & right;
             for row in ones(cols[col] & right) {
-                let v = a[row * n + col];
-                if v.is_zero() {
+                if !eliminate(a, n, col, row, d, ones(upper)) {
                     continue;
-                }
-                let f = v.quotient(d);
-                a[row * n + col] = f;
-                if f.is_zero() {
-                    continue;
-                }
-                for j in ones(upper) {
-                    a[row * n + j] = a[row * n + j].sub_product(f, a[col * n + j]);
                 }
                 for j in ones(upper & !rows[row]) {
                     cols[j] |= 1u64 << row;
@@ -483,40 +521,20 @@ impl<T: Scalar> DenseLu<T> {
         for i in 0..n {
             x.swap(i, self.pivot[i]);
         }
-        for i in 0..n {
-            let mut s = x[i];
-            for j in ones(self.rows[i] & below(i)) {
-                s = s.sub_product(a[i * n + j], x[j]);
-            }
-            x[i] = s;
-        }
-        for i in (0..n).rev() {
-            let mut s = x[i];
-            for j in ones(self.rows[i] & above(i)) {
-                s = s.sub_product(a[i * n + j], x[j]);
-            }
-            x[i] = s.quotient(a[i * n + i]);
-        }
+        let rows = &self.rows;
+        let entry = |i: usize, j: usize| a[i * n + j];
+        substitute(x, 0..n, |i| ones(rows[i] & below(i)), entry, true);
+        substitute(x, (0..n).rev(), |i| ones(rows[i] & above(i)), entry, false);
     }
 
     /// [`DenseLu::solve_transposed_in_place`] for `n` at most 64.
     fn solve_transposed_small(&self, y: &mut [T]) {
         let n = self.n;
         let a = &self.a;
-        for i in 0..n {
-            let mut s = y[i];
-            for j in ones(self.cols[i] & below(i)) {
-                s = s.sub_product(a[j * n + i], y[j]);
-            }
-            y[i] = s.quotient(a[i * n + i]);
-        }
-        for i in (0..n).rev() {
-            let mut s = y[i];
-            for j in ones(self.cols[i] & above(i)) {
-                s = s.sub_product(a[j * n + i], y[j]);
-            }
-            y[i] = s;
-        }
+        let cols = &self.cols;
+        let entry = |i: usize, j: usize| a[j * n + i];
+        substitute(y, 0..n, |i| ones(cols[i] & below(i)), entry, false);
+        substitute(y, (0..n).rev(), |i| ones(cols[i] & above(i)), entry, true);
         for i in (0..n).rev() {
             y.swap(i, self.pivot[i]);
         }

@@ -317,43 +317,19 @@ pub(crate) fn parse_stock(files: &[StockFile]) -> Result<Stock> {
         let text = checked_text(&file.bytes, name)?;
         let records = read_csv(text, name)?;
         let (columns, rows) = split_header(&records, table, name)?;
+        let mut intake = Intake {
+            columns: &columns,
+            rows,
+            file: name,
+            owners: &mut owners,
+        };
         match table {
-            Table::Resistors => {
-                for (part, line) in resistors(&columns, rows, name)? {
-                    owners.push((part.part_id.clone(), name, line));
-                    stock.resistors.push(part);
-                }
-            }
-            Table::OpAmps => {
-                for (part, line) in opamps(&columns, rows, name)? {
-                    owners.push((part.part_id.clone(), name, line));
-                    stock.opamps.push(part);
-                }
-            }
-            Table::References => {
-                for (part, line) in references(&columns, rows, name)? {
-                    owners.push((part.part_id.clone(), name, line));
-                    stock.references.push(part);
-                }
-            }
-            Table::InAmps => {
-                for (part, line) in inamps(&columns, rows, name)? {
-                    owners.push((part.part_id.clone(), name, line));
-                    stock.inamps.push(part);
-                }
-            }
-            Table::Capacitors => {
-                for (part, line) in capacitors(&columns, rows, name)? {
-                    owners.push((part.part_id.clone(), name, line));
-                    stock.capacitors.push(part);
-                }
-            }
-            Table::Networks => {
-                for (part, line) in networks(&columns, rows, name)? {
-                    owners.push((part.part_id.clone(), name, line));
-                    stock.networks.push(part);
-                }
-            }
+            Table::Resistors => intake.read(resistors, &mut stock.resistors)?,
+            Table::OpAmps => intake.read(opamps, &mut stock.opamps)?,
+            Table::References => intake.read(references, &mut stock.references)?,
+            Table::InAmps => intake.read(inamps, &mut stock.inamps)?,
+            Table::Capacitors => intake.read(capacitors, &mut stock.capacitors)?,
+            Table::Networks => intake.read(networks, &mut stock.networks)?,
         }
     }
     check_ids_across_tables(&owners)?;
@@ -388,21 +364,76 @@ pub(crate) fn parse_stock(files: &[StockFile]) -> Result<Stock> {
             ),
         ));
     }
-    stock.resistors.sort_by(|a, b| {
-        a.value
-            .0
-            .total_cmp(&b.value.0)
-            .then(a.unit_cost.total_cmp(&b.unit_cost))
-            .then_with(|| a.part_id.cmp(&b.part_id))
+    sort_by_value(&mut stock.resistors, |p| {
+        (p.value.0, p.unit_cost, &p.part_id)
     });
-    stock.capacitors.sort_by(|a, b| {
-        a.value
-            .0
-            .total_cmp(&b.value.0)
-            .then(a.unit_cost.total_cmp(&b.unit_cost))
-            .then_with(|| a.part_id.cmp(&b.part_id))
+    sort_by_value(&mut stock.capacitors, |p| {
+        (p.value.0, p.unit_cost, &p.part_id)
     });
     Ok(stock)
+}
+
+/// Sort parts by value, then unit cost, then part id; `key` gives the
+/// three.
+fn sort_by_value<P>(parts: &mut [P], key: impl Fn(&P) -> (f64, f64, &str)) {
+    parts.sort_by(|a, b| {
+        let (a, b) = (key(a), key(b));
+        a.0.total_cmp(&b.0)
+            .then(a.1.total_cmp(&b.1))
+            .then_with(|| a.2.cmp(b.2))
+    });
+}
+
+/// A part of any table, known by its id.
+trait Part {
+    /// The part id.
+    fn part_id(&self) -> &str;
+}
+
+/// [`Part`] for each kind of stock part.
+macro_rules! parts_by_id {
+    ($($kind:ty),*) => {
+        $(impl Part for $kind {
+            fn part_id(&self) -> &str {
+                &self.part_id
+            }
+        })*
+    };
+}
+
+parts_by_id!(
+    ResistorPart,
+    OpAmpPart,
+    ReferencePart,
+    InAmpPart,
+    CapacitorPart,
+    NetworkPart
+);
+
+/// The reader of one table: header, data records and file name in, the
+/// parts with the lines they come from out.
+type Reader<P> = fn(&Columns, &[Record], &str) -> Result<Vec<(P, usize)>>;
+
+/// One file on its way into the stock: its header, its data records, its
+/// name, and the (part id, file, line) of every part read so far, for the
+/// check across tables.
+struct Intake<'a, 'f> {
+    columns: &'a Columns,
+    rows: &'a [Record],
+    file: &'f str,
+    owners: &'a mut Vec<(String, &'f str, usize)>,
+}
+
+impl Intake<'_, '_> {
+    /// Read the file with `reader` and add its parts to `into`, in order.
+    fn read<P: Part>(&mut self, reader: Reader<P>, into: &mut Vec<P>) -> Result<()> {
+        for (part, line) in reader(self.columns, self.rows, self.file)? {
+            self.owners
+                .push((part.part_id().to_string(), self.file, line));
+            into.push(part);
+        }
+        Ok(())
+    }
 }
 
 fn expected_file_names() -> String {
@@ -718,6 +749,26 @@ impl<'a> Row<'a> {
         }
     }
 
+    /// A number from zero to [`MAX_NUMBER`].
+    fn nonneg(&self, column: &str, what: &str) -> Result<f64> {
+        self.number(column, what, Bound::ZeroOrMore)
+    }
+
+    /// A number above zero and at most [`MAX_NUMBER`].
+    fn positive(&self, column: &str, what: &str) -> Result<f64> {
+        self.number(column, what, Bound::AboveZero)
+    }
+
+    /// A temperature coefficient in ppm/degC, from zero to
+    /// [`MAX_TCR_PPM_PER_C`].
+    fn tempco(&self, column: &str) -> Result<f64> {
+        self.number(
+            column,
+            "a temperature coefficient in ppm/degC",
+            Bound::UpTo(MAX_TCR_PPM_PER_C),
+        )
+    }
+
     /// An optional number: `default` when the column is absent or the
     /// cell empty, else a number meeting `bound`.
     fn optional_number(&self, column: &str, what: &str, bound: Bound, default: f64) -> Result<f64> {
@@ -802,6 +853,41 @@ impl Ids {
             None => Ok(()),
         }
     }
+}
+
+/// Read the rows of one table in order: each row's part id is read and
+/// claimed (once in the table), then `read` adds the row's parts to the
+/// parts so far, each with the row's line (`ids` for the ids the row
+/// claims besides).
+fn read_rows<P>(
+    columns: &Columns,
+    rows: &[Record],
+    file: &str,
+    mut read: impl FnMut(&Row<'_>, String, &mut Ids, &mut Vec<(P, usize)>) -> Result<()>,
+) -> Result<Vec<(P, usize)>> {
+    let mut ids = Ids::default();
+    let mut parts = Vec::new();
+    for record in rows {
+        let row = Row::new(file, columns, record)?;
+        let part_id = row.text("part_id", true)?;
+        ids.claim(&part_id, &row)?;
+        read(&row, part_id, &mut ids, &mut parts)?;
+    }
+    Ok(parts)
+}
+
+/// [`read_rows`] for a table of one part a row: `read` makes the part
+/// from the row and its part id.
+fn one_per_row<P>(
+    columns: &Columns,
+    rows: &[Record],
+    file: &str,
+    read: impl Fn(&Row<'_>, String) -> Result<P>,
+) -> Result<Vec<(P, usize)>> {
+    read_rows(columns, rows, file, |row, part_id, _, parts| {
+        parts.push((read(row, part_id)?, row.line));
+        Ok(())
+    })
 }
 
 /// No part id may name parts in two tables.

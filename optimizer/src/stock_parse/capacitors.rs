@@ -1,7 +1,7 @@
 //! The reader of `capacitors.csv`: single values or series families, read
 //! through the same value and family parsing as `resistors.csv`.
 
-use super::tables::{row_values, ValueKind};
+use super::tables::{value_rows, Purchase, RowValue, ValueKind};
 use super::*;
 use crate::stock::capacitor_code;
 
@@ -13,8 +13,6 @@ pub(super) fn capacitors(
     rows: &[Record],
     file: &str,
 ) -> Result<Vec<(CapacitorPart, usize)>> {
-    let mut ids = Ids::default();
-    let mut parts = Vec::new();
     let kind = ValueKind {
         columns: CAPACITOR_VALUES,
         what: "a capacitance in farads",
@@ -23,16 +21,9 @@ pub(super) fn capacitors(
         bound: Bound::Capacitance,
         code: capacitor_code,
     };
-    for record in rows {
-        let row = Row::new(file, columns, record)?;
-        let part_id = row.text("part_id", true)?;
-        ids.claim(&part_id, &row)?;
+    value_rows(columns, rows, file, &kind, |row| {
         let tolerance = row.number("tolerance_pct", "a tolerance in percent", Bound::Percent)?;
-        let tempco = row.number(
-            "tempco_ppm_per_c",
-            "a temperature coefficient in ppm/degC",
-            Bound::UpTo(MAX_TCR_PPM_PER_C),
-        )?;
+        let tempco = row.tempco("tempco_ppm_per_c")?;
         let dielectric = row.text("dielectric", false)?;
         if dielectric.is_empty() || dielectric.chars().count() > MAX_DIELECTRIC_CHARS {
             return Err(row.err(
@@ -58,26 +49,18 @@ pub(super) fn capacitors(
                 ),
             ));
         }
-        let package = row.text("package", false)?;
-        let unit_cost = row.number("unit_cost", "a unit cost", Bound::UpTo(MAX_UNIT_COST))?;
-        let stock_qty = row.quantity("stock_qty")?;
-        for value in row_values(&row, &part_id, &kind, parts.len(), &mut ids)? {
-            parts.push((
-                CapacitorPart {
-                    part_id: value.part_id,
-                    value: Farads(value.value),
-                    tolerance: Percent(tolerance),
-                    tempco: PpmPerC(tempco),
-                    dielectric: dielectric.clone(),
-                    rated: Volts(rated),
-                    package: package.clone(),
-                    unit_cost,
-                    stock_qty,
-                    family: value.family,
-                },
-                row.line,
-            ));
-        }
-    }
-    Ok(parts)
+        let buy = Purchase::read(row)?;
+        Ok(move |value: RowValue| CapacitorPart {
+            part_id: value.part_id,
+            value: Farads(value.value),
+            tolerance: Percent(tolerance),
+            tempco: PpmPerC(tempco),
+            dielectric: dielectric.clone(),
+            rated: Volts(rated),
+            package: buy.package.clone(),
+            unit_cost: buy.unit_cost,
+            stock_qty: buy.stock_qty,
+            family: value.family,
+        })
+    })
 }

@@ -2,6 +2,7 @@
 //! elements in one package with an absolute tolerance and TCR and the
 //! tighter ratio tolerance and TCR tracking between elements.
 
+use super::tables::Purchase;
 use super::*;
 
 /// Fewest and most elements a network package may hold.
@@ -12,14 +13,9 @@ pub(crate) fn networks(
     rows: &[Record],
     file: &str,
 ) -> Result<Vec<(NetworkPart, usize)>> {
-    let mut ids = Ids::default();
-    let mut parts = Vec::new();
-    for record in rows {
-        let row = Row::new(file, columns, record)?;
-        let part_id = row.text("part_id", true)?;
-        ids.claim(&part_id, &row)?;
-        let count = element_count(&row)?;
-        let values = element_values(&row, count)?;
+    one_per_row(columns, rows, file, |row, part_id| {
+        let count = element_count(row)?;
+        let values = element_values(row, count)?;
         let abs_tolerance = row.number(
             "abs_tolerance_pct",
             "an absolute tolerance in percent",
@@ -30,8 +26,7 @@ pub(crate) fn networks(
             "a ratio tolerance in percent",
             Bound::Percent,
         )?;
-        let tcr = "a temperature coefficient in ppm/degC";
-        let abs_tcr = row.number("abs_tcr_ppm_per_c", tcr, Bound::UpTo(MAX_TCR_PPM_PER_C))?;
+        let abs_tcr = row.tempco("abs_tcr_ppm_per_c")?;
         let tracking_tcr = row.number(
             "tracking_tcr_ppm_per_c",
             "a TCR tracking in ppm/degC",
@@ -64,25 +59,19 @@ pub(crate) fn networks(
                 ));
             }
         }
-        let package = row.text("package", false)?;
-        let unit_cost = row.number("unit_cost", "a unit cost", Bound::UpTo(MAX_UNIT_COST))?;
-        let stock_qty = row.quantity("stock_qty")?;
-        parts.push((
-            NetworkPart {
-                part_id,
-                values: values.into_iter().map(Ohms).collect(),
-                abs_tolerance: Percent(abs_tolerance),
-                ratio_tolerance: Percent(ratio_tolerance),
-                abs_tcr: PpmPerC(abs_tcr),
-                tracking_tcr: PpmPerC(tracking_tcr),
-                package,
-                unit_cost,
-                stock_qty,
-            },
-            row.line,
-        ));
-    }
-    Ok(parts)
+        let buy = Purchase::read(row)?;
+        Ok(NetworkPart {
+            part_id,
+            values: values.into_iter().map(Ohms).collect(),
+            abs_tolerance: Percent(abs_tolerance),
+            ratio_tolerance: Percent(ratio_tolerance),
+            abs_tcr: PpmPerC(abs_tcr),
+            tracking_tcr: PpmPerC(tracking_tcr),
+            package: buy.package,
+            unit_cost: buy.unit_cost,
+            stock_qty: buy.stock_qty,
+        })
+    })
 }
 
 /// The `count` cell: a whole number of elements in [`ELEMENTS_RANGE`].

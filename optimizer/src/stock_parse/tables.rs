@@ -1,7 +1,8 @@
 //! One reader per stock table (`resistors.csv`, `opamps.csv`,
 //! `references.csv`, `inamps.csv`): rows become validated parts. The
 //! reading of a row's value (a single value or a series family) is shared
-//! with `capacitors.csv` through [`row_values`].
+//! with `capacitors.csv` through [`value_rows`], and the closing purchase
+//! columns with `capacitors.csv` and `networks.csv` through [`Purchase`].
 
 use super::*;
 
@@ -10,8 +11,6 @@ pub(super) fn resistors(
     rows: &[Record],
     file: &str,
 ) -> Result<Vec<(ResistorPart, usize)>> {
-    let mut ids = Ids::default();
-    let mut parts = Vec::new();
     let kind = ValueKind {
         columns: RESISTOR_VALUES,
         what: "a number of ohms",
@@ -20,36 +19,63 @@ pub(super) fn resistors(
         bound: Bound::Resistance,
         code: value_code,
     };
-    for record in rows {
-        let row = Row::new(file, columns, record)?;
-        let part_id = row.text("part_id", true)?;
-        ids.claim(&part_id, &row)?;
+    value_rows(columns, rows, file, &kind, |row| {
         let tolerance = row.number("tolerance_pct", "a tolerance in percent", Bound::Percent)?;
-        let tcr = row.number(
-            "tcr_ppm_per_c",
-            "a temperature coefficient in ppm/degC",
-            Bound::UpTo(MAX_TCR_PPM_PER_C),
-        )?;
-        let package = row.text("package", false)?;
-        let unit_cost = row.number("unit_cost", "a unit cost", Bound::UpTo(MAX_UNIT_COST))?;
-        let stock_qty = row.quantity("stock_qty")?;
-        for value in row_values(&row, &part_id, &kind, parts.len(), &mut ids)? {
-            parts.push((
-                ResistorPart {
-                    part_id: value.part_id,
-                    value: Ohms(value.value),
-                    tolerance: Percent(tolerance),
-                    tcr: PpmPerC(tcr),
-                    package: package.clone(),
-                    unit_cost,
-                    stock_qty,
-                    family: value.family,
-                },
-                row.line,
-            ));
-        }
+        let tcr = row.tempco("tcr_ppm_per_c")?;
+        let buy = Purchase::read(row)?;
+        Ok(move |value: RowValue| ResistorPart {
+            part_id: value.part_id,
+            value: Ohms(value.value),
+            tolerance: Percent(tolerance),
+            tcr: PpmPerC(tcr),
+            package: buy.package.clone(),
+            unit_cost: buy.unit_cost,
+            stock_qty: buy.stock_qty,
+            family: value.family,
+        })
+    })
+}
+
+/// The columns a passive part's row closes with: `package`, `unit_cost`
+/// (at most [`MAX_UNIT_COST`]) and `stock_qty`, read in that order.
+pub(super) struct Purchase {
+    /// The package text.
+    pub package: String,
+    /// The unit cost.
+    pub unit_cost: f64,
+    /// The quantity on hand (`None`: unlimited).
+    pub stock_qty: Option<u32>,
+}
+
+impl Purchase {
+    /// Read the purchase columns of `row`.
+    pub(super) fn read(row: &Row<'_>) -> Result<Purchase> {
+        Ok(Purchase {
+            package: row.text("package", false)?,
+            unit_cost: row.number("unit_cost", "a unit cost", Bound::UpTo(MAX_UNIT_COST))?,
+            stock_qty: row.quantity("stock_qty")?,
+        })
     }
-    Ok(parts)
+}
+
+/// Read a table of single values or families (resistors, capacitors):
+/// for each row, `read` reads the cells other than the part id and the
+/// value (in the table's order, before the value) and gives the maker of
+/// one part for each value the row stands for (see [`row_values`]).
+pub(super) fn value_rows<P, F: Fn(RowValue) -> P>(
+    columns: &Columns,
+    rows: &[Record],
+    file: &str,
+    kind: &ValueKind,
+    read: impl Fn(&Row<'_>) -> Result<F>,
+) -> Result<Vec<(P, usize)>> {
+    read_rows(columns, rows, file, |row, part_id, ids, parts| {
+        let make = read(row)?;
+        for value in row_values(row, &part_id, kind, parts.len(), ids)? {
+            parts.push((make(value), row.line));
+        }
+        Ok(())
+    })
 }
 
 /// How the value of a table of single values or families reads.
@@ -269,12 +295,7 @@ pub(super) fn opamps(
     rows: &[Record],
     file: &str,
 ) -> Result<Vec<(OpAmpPart, usize)>> {
-    let mut ids = Ids::default();
-    let mut parts = Vec::new();
-    for record in rows {
-        let row = Row::new(file, columns, record)?;
-        let part_id = row.text("part_id", true)?;
-        ids.claim(&part_id, &row)?;
+    one_per_row(columns, rows, file, |row, part_id| {
         let channels = match row.cell("channels").parse::<u32>() {
             Ok(n) if CHANNELS.contains(&n) => n,
             _ => {
@@ -287,57 +308,48 @@ pub(super) fn opamps(
                 ))
             }
         };
-        let r = rails(&row)?;
-        let nonneg = |column: &str, what: &str| row.number(column, what, Bound::ZeroOrMore);
-        let positive = |column: &str, what: &str| row.number(column, what, Bound::AboveZero);
-        parts.push((
-            OpAmpPart {
-                part_id,
-                channels,
-                supply_min: Volts(r.supply_min),
-                supply_max: Volts(r.supply_max),
-                input_headroom_low: Volts(r.input_low),
-                input_headroom_high: Volts(r.input_high),
-                output_headroom_low: Volts(r.output_low),
-                output_headroom_high: Volts(r.output_high),
-                vos_max_uv: nonneg("vos_max_uv", "an offset voltage in microvolts")?,
-                vos_drift_uv_per_c: nonneg(
-                    "vos_drift_uv_per_c",
-                    "an offset drift in microvolts per degC",
-                )?,
-                ib_max_na: nonneg("ib_max_na", "a bias current in nanoamps")?,
-                ios_max_na: nonneg("ios_max_na", "an offset current in nanoamps")?,
-                aol_min: Decibels(positive("aol_min_db", "an open-loop gain in dB")?),
-                gbw_mhz: positive("gbw_mhz", "a gain-bandwidth product in MHz")?,
-                en_nv_rthz: nonneg("en_nv_rthz", "a noise density in nV/sqrt(Hz)")?,
-                in_pa_rthz: nonneg("in_pa_rthz", "a noise density in pA/sqrt(Hz)")?,
-                cmrr_min: Decibels(positive("cmrr_min_db", "a common-mode rejection in dB")?),
-                unit_cost: nonneg("unit_cost", "a unit cost")?,
-                stock_qty: row.quantity("stock_qty")?,
-                output_ohms: if row.cell("output_ohms").is_empty() {
-                    crate::stock::DEFAULT_OUTPUT_OHMS
-                } else {
-                    row.number(
-                        "output_ohms",
-                        "an open-loop output resistance in ohms",
-                        Bound::Resistance,
-                    )?
-                },
-                ib_doubling_c: ib_doubling(&row)?,
-                psrr_min: psrr(&row)?,
-                output_current_ma: output_current(&row)?,
-                en_corner_hz: en_corner(&row)?,
-                in_corner_hz: row.optional_number(
-                    "in_corner_hz",
-                    "a 1/f current noise corner in Hz",
-                    Bound::ZeroOrMore,
-                    crate::stock::DEFAULT_IN_CORNER_HZ,
-                )?,
-            },
-            row.line,
-        ));
-    }
-    Ok(parts)
+        let r = rails(row)?;
+        Ok(OpAmpPart {
+            part_id,
+            channels,
+            supply_min: Volts(r.supply_min),
+            supply_max: Volts(r.supply_max),
+            input_headroom_low: Volts(r.input_low),
+            input_headroom_high: Volts(r.input_high),
+            output_headroom_low: Volts(r.output_low),
+            output_headroom_high: Volts(r.output_high),
+            vos_max_uv: row.nonneg("vos_max_uv", "an offset voltage in microvolts")?,
+            vos_drift_uv_per_c: row.nonneg(
+                "vos_drift_uv_per_c",
+                "an offset drift in microvolts per degC",
+            )?,
+            ib_max_na: row.nonneg("ib_max_na", "a bias current in nanoamps")?,
+            ios_max_na: row.nonneg("ios_max_na", "an offset current in nanoamps")?,
+            aol_min: Decibels(row.positive("aol_min_db", "an open-loop gain in dB")?),
+            gbw_mhz: row.positive("gbw_mhz", "a gain-bandwidth product in MHz")?,
+            en_nv_rthz: row.nonneg("en_nv_rthz", "a noise density in nV/sqrt(Hz)")?,
+            in_pa_rthz: row.nonneg("in_pa_rthz", "a noise density in pA/sqrt(Hz)")?,
+            cmrr_min: Decibels(row.positive("cmrr_min_db", "a common-mode rejection in dB")?),
+            unit_cost: row.nonneg("unit_cost", "a unit cost")?,
+            stock_qty: row.quantity("stock_qty")?,
+            output_ohms: row.optional_number(
+                "output_ohms",
+                "an open-loop output resistance in ohms",
+                Bound::Resistance,
+                crate::stock::DEFAULT_OUTPUT_OHMS,
+            )?,
+            ib_doubling_c: ib_doubling(row)?,
+            psrr_min: psrr(row)?,
+            output_current_ma: output_current(row)?,
+            en_corner_hz: en_corner(row)?,
+            in_corner_hz: row.optional_number(
+                "in_corner_hz",
+                "a 1/f current noise corner in Hz",
+                Bound::ZeroOrMore,
+                crate::stock::DEFAULT_IN_CORNER_HZ,
+            )?,
+        })
+    })
 }
 
 pub(super) fn references(
@@ -345,51 +357,36 @@ pub(super) fn references(
     rows: &[Record],
     file: &str,
 ) -> Result<Vec<(ReferencePart, usize)>> {
-    let mut ids = Ids::default();
-    let mut parts = Vec::new();
-    for record in rows {
-        let row = Row::new(file, columns, record)?;
-        let part_id = row.text("part_id", true)?;
-        ids.claim(&part_id, &row)?;
-        let nonneg = |column: &str, what: &str| row.number(column, what, Bound::ZeroOrMore);
-        parts.push((
-            ReferencePart {
-                part_id,
-                volts: Volts(row.number(
-                    "volts",
-                    "an output voltage in volts",
-                    Bound::AboveZero,
-                )?),
-                initial: Percent(row.number(
-                    "initial_pct",
-                    "an initial accuracy in percent",
-                    Bound::Percent,
-                )?),
-                tempco: PpmPerC(nonneg(
-                    "tempco_ppm_per_c",
-                    "a temperature coefficient in ppm/degC",
-                )?),
-                dropout: Volts(nonneg("dropout_v", "a dropout voltage in volts")?),
-                noise_uv_pp: nonneg("noise_uv_pp", "a noise in microvolts peak to peak")?,
-                unit_cost: nonneg("unit_cost", "a unit cost")?,
-                stock_qty: row.quantity("stock_qty")?,
-                load_regulation_ppm_per_ma: row.optional_number(
-                    "load_regulation_ppm_per_ma",
-                    "a load regulation in ppm of the output per mA",
-                    Bound::ZeroOrMore,
-                    crate::stock::DEFAULT_LOAD_REGULATION_PPM_PER_MA,
-                )?,
-                max_load_ma: row.optional_number(
-                    "max_load_ma",
-                    "a largest load current in mA",
-                    Bound::AboveZero,
-                    crate::stock::DEFAULT_MAX_LOAD_MA,
-                )?,
-            },
-            row.line,
-        ));
-    }
-    Ok(parts)
+    one_per_row(columns, rows, file, |row, part_id| {
+        Ok(ReferencePart {
+            part_id,
+            volts: Volts(row.number("volts", "an output voltage in volts", Bound::AboveZero)?),
+            initial: Percent(row.number(
+                "initial_pct",
+                "an initial accuracy in percent",
+                Bound::Percent,
+            )?),
+            tempco: PpmPerC(
+                row.nonneg("tempco_ppm_per_c", "a temperature coefficient in ppm/degC")?,
+            ),
+            dropout: Volts(row.nonneg("dropout_v", "a dropout voltage in volts")?),
+            noise_uv_pp: row.nonneg("noise_uv_pp", "a noise in microvolts peak to peak")?,
+            unit_cost: row.nonneg("unit_cost", "a unit cost")?,
+            stock_qty: row.quantity("stock_qty")?,
+            load_regulation_ppm_per_ma: row.optional_number(
+                "load_regulation_ppm_per_ma",
+                "a load regulation in ppm of the output per mA",
+                Bound::ZeroOrMore,
+                crate::stock::DEFAULT_LOAD_REGULATION_PPM_PER_MA,
+            )?,
+            max_load_ma: row.optional_number(
+                "max_load_ma",
+                "a largest load current in mA",
+                Bound::AboveZero,
+                crate::stock::DEFAULT_MAX_LOAD_MA,
+            )?,
+        })
+    })
 }
 
 /// The optional `ib_doubling_c` of an amplifier row: `None` when absent
@@ -442,52 +439,41 @@ pub(super) fn inamps(
     rows: &[Record],
     file: &str,
 ) -> Result<Vec<(InAmpPart, usize)>> {
-    let mut ids = Ids::default();
-    let mut parts = Vec::new();
-    for record in rows {
-        let row = Row::new(file, columns, record)?;
-        let part_id = row.text("part_id", true)?;
-        ids.claim(&part_id, &row)?;
-        let nonneg = |column: &str, what: &str| row.number(column, what, Bound::ZeroOrMore);
-        let positive = |column: &str, what: &str| row.number(column, what, Bound::AboveZero);
+    one_per_row(columns, rows, file, |row, part_id| {
         let gain_resistor = row.number(
             "gain_resistor_ohms",
             "a gain-setting resistance in ohms",
             Bound::Resistance,
         )?;
         let gain_error = row.number("gain_error_pct", "a gain error in percent", Bound::Percent)?;
-        let r = rails(&row)?;
-        parts.push((
-            InAmpPart {
-                part_id,
-                gain_resistor: Ohms(gain_resistor),
-                gain_error: Percent(gain_error),
-                gain_drift: PpmPerC(nonneg("gain_drift_ppm_per_c", "a gain drift in ppm/degC")?),
-                input_offset_uv: nonneg("input_offset_uv", "an offset voltage in microvolts")?,
-                output_offset_uv: nonneg("output_offset_uv", "an offset voltage in microvolts")?,
-                offset_drift_uv_per_c: nonneg(
-                    "offset_drift_uv_per_c",
-                    "an offset drift in microvolts per degC",
-                )?,
-                ib_max_na: nonneg("ib_max_na", "a bias current in nanoamps")?,
-                cmrr_min: Decibels(positive("cmrr_min_db", "a common-mode rejection in dB")?),
-                supply_min: Volts(r.supply_min),
-                supply_max: Volts(r.supply_max),
-                input_headroom_low: Volts(r.input_low),
-                input_headroom_high: Volts(r.input_high),
-                output_headroom_low: Volts(r.output_low),
-                output_headroom_high: Volts(r.output_high),
-                en_nv_rthz: nonneg("en_nv_rthz", "a noise density in nV/sqrt(Hz)")?,
-                gbw_mhz: positive("gbw_mhz", "a gain-bandwidth product in MHz")?,
-                unit_cost: nonneg("unit_cost", "a unit cost")?,
-                stock_qty: row.quantity("stock_qty")?,
-                ib_doubling_c: ib_doubling(&row)?,
-                psrr_min: psrr(&row)?,
-                output_current_ma: output_current(&row)?,
-                en_corner_hz: en_corner(&row)?,
-            },
-            row.line,
-        ));
-    }
-    Ok(parts)
+        let r = rails(row)?;
+        Ok(InAmpPart {
+            part_id,
+            gain_resistor: Ohms(gain_resistor),
+            gain_error: Percent(gain_error),
+            gain_drift: PpmPerC(row.nonneg("gain_drift_ppm_per_c", "a gain drift in ppm/degC")?),
+            input_offset_uv: row.nonneg("input_offset_uv", "an offset voltage in microvolts")?,
+            output_offset_uv: row.nonneg("output_offset_uv", "an offset voltage in microvolts")?,
+            offset_drift_uv_per_c: row.nonneg(
+                "offset_drift_uv_per_c",
+                "an offset drift in microvolts per degC",
+            )?,
+            ib_max_na: row.nonneg("ib_max_na", "a bias current in nanoamps")?,
+            cmrr_min: Decibels(row.positive("cmrr_min_db", "a common-mode rejection in dB")?),
+            supply_min: Volts(r.supply_min),
+            supply_max: Volts(r.supply_max),
+            input_headroom_low: Volts(r.input_low),
+            input_headroom_high: Volts(r.input_high),
+            output_headroom_low: Volts(r.output_low),
+            output_headroom_high: Volts(r.output_high),
+            en_nv_rthz: row.nonneg("en_nv_rthz", "a noise density in nV/sqrt(Hz)")?,
+            gbw_mhz: row.positive("gbw_mhz", "a gain-bandwidth product in MHz")?,
+            unit_cost: row.nonneg("unit_cost", "a unit cost")?,
+            stock_qty: row.quantity("stock_qty")?,
+            ib_doubling_c: ib_doubling(row)?,
+            psrr_min: psrr(row)?,
+            output_current_ma: output_current(row)?,
+            en_corner_hz: en_corner(row)?,
+        })
+    })
 }

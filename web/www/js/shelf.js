@@ -91,12 +91,21 @@ export async function applyStockChanges(changes) {
 let stockTimer = null;
 let stockCheckSeq = 0;
 
+/**
+ * Mark the shelf unchecked at once: a check already under way is dropped
+ * when it answers, and no solve runs until the core has read the shelf as
+ * it now is. The callers update the solve button.
+ */
+function markUnchecked() {
+  ++stockCheckSeq;
+  state.stockValid = false;
+}
+
 /** After any change to the shelf: save, recount, check. */
 export function stockChanged() {
   // Unchecked until the core has read the changed shelf: a solve never
   // runs on the shelf as it was before the edit.
-  ++stockCheckSeq;
-  state.stockValid = false;
+  markUnchecked();
   saveSoon();
   buildTabs();
   updateSolveButton();
@@ -196,8 +205,7 @@ async function readUpload(name, text) {
 
 /** Uploaded CSVs: each read by the core into its table. */
 export async function onStockUpload(files) {
-  ++stockCheckSeq;
-  state.stockValid = false;
+  markUnchecked();
   updateSolveButton();
   const messages = [];
   let lastTable = null;
@@ -216,8 +224,7 @@ export async function onStockUpload(files) {
   renderStockTable();
   saveSoon();
   if (messages.length) {
-    ++stockCheckSeq;
-    state.stockValid = false;
+    markUnchecked();
     setStatus('stock-status', messages.join(' · '), 'bad');
     updateSolveButton();
   } else {
