@@ -210,9 +210,10 @@ pub fn solve_bundle(
     // looser target) as `analyze` would report it.
     if let Some(infeasible) = outcome.infeasible.as_mut() {
         if let Some(attempt) = infeasible.best_attempt.as_deref_mut() {
+            let old_words = crate::search::explain::limit_words(&need, attempt);
             *attempt = evaluate(&need, &stock, &attempt.design)?;
             let attempt = attempt.clone();
-            crate::search::explain::restate_best(&need, infeasible, &attempt);
+            crate::search::explain::restate_best(&need, infeasible, &attempt, &old_words);
         }
     }
     let report = report::solve_report(&need, &stock, &outcome);

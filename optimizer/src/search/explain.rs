@@ -143,14 +143,39 @@ fn accuracy_limit(need: &Need, b: &Candidate) -> (String, f64, Vec<(String, f64)
         .collect();
     lines.sort_by(|x, y| y.1.total_cmp(&x.1));
     lines.truncate(4);
-    (accuracy_words(need, e), e, lines)
+    (limit_words(need, b), e, lines)
 }
 
-fn accuracy_words(need: &Need, e: f64) -> String {
+/// What stops the most accurate design known, in words. Where its error
+/// is over the target, the accuracy; where it is within the target, the
+/// checks it fails (the design misses the need by them, not by its
+/// error), the first of them in plain words.
+pub(crate) fn limit_words(need: &Need, b: &Candidate) -> String {
+    let e = b.analysis.basis_pct_fs;
     let target = need.accuracy.max_error_pct_fs;
+    let basis = basis_name(need.accuracy.basis);
+    if e <= target {
+        let failed: Vec<&crate::analysis::Finding> =
+            b.analysis.findings.iter().filter(|f| !f.ok).collect();
+        if let Some(first) = failed.first() {
+            let mut labels: Vec<&str> = failed.iter().map(|f| f.check.as_str()).collect();
+            labels.dedup();
+            return format!(
+                "{}: the most accurate design found reaches {e:.4} % FS on the {basis} basis, \
+                 within the target of {target:.4} % FS, but fails the {} check{}; {}",
+                first.check,
+                labels.join(", "),
+                if labels.len() == 1 { "" } else { "s" },
+                first.plain_words()
+            );
+        }
+        return format!(
+            "accuracy: the most accurate design found reaches {e:.4} % FS on the {basis} basis, \
+             within the target of {target:.4} % FS, yet it does not meet the need"
+        );
+    }
     format!(
-        "accuracy: the most accurate design found reaches {e:.4} % FS on the {} basis against a target of {target:.4} % FS ({:.4} % FS over)",
-        basis_name(need.accuracy.basis),
+        "accuracy: the most accurate design found reaches {e:.4} % FS on the {basis} basis against a target of {target:.4} % FS ({:.4} % FS over)",
         e - target
     )
 }
@@ -158,13 +183,16 @@ fn accuracy_words(need: &Need, e: f64) -> String {
 /// Restate an explanation after its best attempt was analysed again as it
 /// is reported (with its filter pair, against the need itself), so the
 /// binding words, the best error and the largest lines are that report's.
-pub(crate) fn restate_best(need: &Need, infeasible: &mut Infeasibility, attempt: &Candidate) {
+/// `old_words` are [`limit_words`] of the attempt before.
+pub(crate) fn restate_best(
+    need: &Need,
+    infeasible: &mut Infeasibility,
+    attempt: &Candidate,
+    old_words: &str,
+) {
     let (words, e, lines) = accuracy_limit(need, attempt);
-    if let Some(old) = infeasible.best_error_pct_fs {
-        let old_words = accuracy_words(need, old);
-        if let Some(rest) = infeasible.binding.strip_prefix(&old_words) {
-            infeasible.binding = format!("{words}{rest}");
-        }
+    if let Some(rest) = infeasible.binding.strip_prefix(old_words) {
+        infeasible.binding = format!("{words}{rest}");
     }
     infeasible.best_error_pct_fs = Some(e);
     infeasible.largest = lines;
@@ -464,6 +492,40 @@ mod tests {
 
     fn demo() -> Need {
         crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo.toml").unwrap()
+    }
+
+    /// A best attempt within the accuracy target that misses the need by
+    /// a check is explained by that check, not as an accuracy shortfall
+    /// (no "over" of a negative amount): the invented demo design against
+    /// the demo need asked for 60 dB of rejection at 1 kHz.
+    #[test]
+    fn an_attempt_within_the_target_is_explained_by_its_failed_check() {
+        let text = crate::demo::NEED_TOML.replacen(
+            "[adc]\n",
+            "[adc]\nsample_rate_hz = 2000\nalias_rejection_db = 60\n",
+            1,
+        );
+        let need = crate::need::parse_need(text.as_bytes(), "alias.toml").unwrap();
+        let stock = crate::stock::parse_stock(&crate::demo::stock_files()).unwrap();
+        let design = crate::design::parse_design(
+            include_bytes!("../../../examples/demo-solved-design.json"),
+            "demo-solved-design.json",
+            &stock,
+        )
+        .unwrap();
+        let attempt = crate::api::evaluate(&need, &stock, &design).unwrap();
+        assert!(attempt.analysis.basis_pct_fs <= need.accuracy.max_error_pct_fs);
+        let words = limit_words(&need, &attempt);
+        assert!(words.starts_with("alias rejection: "), "{words}");
+        assert!(words.contains("within the target"), "{words}");
+        assert!(words.contains("dB short"), "{words}");
+        assert!(!words.contains("over)"), "{words}");
+        // Over the target, the words are the accuracy's.
+        let mut tight = need.clone();
+        tight.accuracy.max_error_pct_fs = attempt.analysis.basis_pct_fs / 2.0;
+        let words = limit_words(&tight, &attempt);
+        assert!(words.starts_with("accuracy: "), "{words}");
+        assert!(words.contains("% FS over)"), "{words}");
     }
 
     /// The change of a suggestion is exactly the keys its need changes, in
