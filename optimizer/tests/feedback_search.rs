@@ -213,3 +213,27 @@ fn no_design_is_met_where_no_filter_gives_the_rejection() {
         infeasible.binding
     );
 }
+
+/// A space too large for the small-space rule (two stages of either
+/// shape: more than 200,000 designs) whose structures below the best
+/// design's bound hold few designs: the optimised mode finishes it with
+/// the exhaustive walk all the same (the walk never opens a structure
+/// whose bound is no lower than the best design), so it proves the same
+/// optimum the exhaustive walk proves.
+#[test]
+fn a_large_space_with_a_small_live_part_is_proven_by_the_optimiser() {
+    let stock = stock();
+    let mut n = need(45.0, 1.0, "\"non-inverting\", \"inverting\"", "cost");
+    n.search.max_stages = 2;
+    assert!(
+        spanfit::search::space_designs(&n, &stock, 200_000).is_none(),
+        "the space is over the small-space rule's size"
+    );
+    let (fast, full) = agree(&n, &stock);
+    assert!(
+        fast.stats.proven_optimal,
+        "the optimiser proves its optimum"
+    );
+    assert!(full.stats.proven_optimal);
+    assert!(fast.best.is_some());
+}

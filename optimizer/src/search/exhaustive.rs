@@ -36,6 +36,7 @@
 //!   (it cannot be more accurate).
 
 use super::bounds::wrong_sign_ruled_out;
+use super::floors::part_floor_v;
 use super::groups::shape_sequences;
 use super::pair::PairFloor;
 use super::strategy::{objective_key, RunResult, SearchState};
@@ -220,6 +221,17 @@ impl Walk {
                     vec![Drive::Ground]
                 };
                 for &amplifier in amplifiers {
+                    // Proof 6: a first-stage part whose accuracy floor
+                    // (search/floors.rs) is over the target is in no
+                    // design that meets the need.
+                    let kind = if shape.integrated() {
+                        AmplifierKind::InAmp(amplifier)
+                    } else {
+                        AmplifierKind::OpAmp(amplifier)
+                    };
+                    if position == 0 && part_floor_v(need, stock, kind) > problem.target_v {
+                        continue;
+                    }
                     for offset in drives(sources.len()) {
                         for &bias in &bias_drives {
                             let buffered = [offset, bias]
@@ -353,6 +365,49 @@ impl Walk {
                 .enumerate()
                 .map(|(stage, &i)| options[stage][i].bound)
                 .sum::<f64>()
+    }
+
+    /// The heap of a walk's start: each sequence's cheapest structure.
+    fn first_nodes(&self) -> BinaryHeap<Node> {
+        let mut heap = BinaryHeap::new();
+        for (sequence, (shapes, _, _)) in self.sequences.iter().enumerate() {
+            let index = vec![0; shapes.len()];
+            heap.push(Node {
+                key: self.key(sequence, &index),
+                sequence,
+                index,
+                last: 0,
+            });
+        }
+        heap
+    }
+
+    /// Push the successors of a structure taken from the heap (the sorted
+    /// product walk: raise the stage raised last or a later one).
+    fn push_successors(&self, node: &Node, heap: &mut BinaryHeap<Node>) {
+        let (shapes, options, _) = &self.sequences[node.sequence];
+        for stage in node.last..shapes.len() {
+            if node.index[stage] + 1 < options[stage].len() {
+                let mut index = node.index.clone();
+                index[stage] += 1;
+                heap.push(Node {
+                    key: self.key(node.sequence, &index),
+                    sequence: node.sequence,
+                    index,
+                    last: stage,
+                });
+            }
+        }
+    }
+
+    /// The option of each stage of a structure.
+    fn chosen(&self, node: &Node) -> Vec<&StageOption> {
+        let (_, options, _) = &self.sequences[node.sequence];
+        node.index
+            .iter()
+            .enumerate()
+            .map(|(stage, &i)| &options[stage][i])
+            .collect()
     }
 
     /// The design of a structure with one stock resistor per slot.
@@ -632,6 +687,53 @@ pub(super) struct WalkBudget {
     pub(super) report_as: Option<u64>,
 }
 
+/// Whether a structure has more parts than `max_parts` whatever its
+/// values (the part-count check fails it).
+fn too_many_parts(problem: &Problem<'_>, chosen: &[&StageOption]) -> bool {
+    let parts: usize = chosen.iter().map(|o| o.parts).sum::<usize>()
+        + chosen
+            .iter()
+            .filter(|o| o.sections > 0)
+            .map(|o| o.sections)
+            .sum::<usize>()
+            .min(1);
+    parts > problem.need.search.max_parts
+}
+
+/// Designs a walk seeded with a design of objective value `best` (cost
+/// or parts) can still visit: those of the structures whose bound is
+/// below `best`, taken in bound order as the walk takes them, or `None`
+/// as soon as the count passes `limit`. Structures at or over `best` are
+/// never opened (proof 1), so this is the walk's whole work however
+/// large the space; it decides only whether a walk is worth starting,
+/// never what a walk proves.
+pub(super) fn live_space_size(problem: &Problem<'_>, best: f64, limit: u64) -> Option<u64> {
+    let walk = Walk::new(problem);
+    let choices = walk.resistors.len() as u64;
+    let mut heap = walk.first_nodes();
+    let mut count = 0u64;
+    while let Some(node) = heap.pop() {
+        if node.key >= best - 1e-12 {
+            break;
+        }
+        walk.push_successors(&node, &mut heap);
+        let chosen = walk.chosen(&node);
+        if too_many_parts(problem, &chosen) {
+            continue;
+        }
+        let slots: usize = chosen.iter().map(|o| o.slots.len()).sum();
+        let assignments = u32::try_from(slots)
+            .ok()
+            .and_then(|n| choices.checked_pow(n))
+            .unwrap_or(u64::MAX);
+        count = count.saturating_add(assignments.max(1));
+        if count > limit {
+            return None;
+        }
+    }
+    Some(count)
+}
+
 /// Designs in the whole walk, counted without building it, or `None` as
 /// soon as the count passes `limit` (the demo's space is astronomically
 /// large, and the count must cost next to nothing there).
@@ -732,16 +834,7 @@ pub(super) fn walk(
     let objective = problem.need.search.objective;
     let walk = Walk::new(problem);
     let total = walk.total();
-    let mut heap = BinaryHeap::new();
-    for (sequence, (shapes, _, _)) in walk.sequences.iter().enumerate() {
-        let index = vec![0; shapes.len()];
-        heap.push(Node {
-            key: walk.key(sequence, &index),
-            sequence,
-            index,
-            last: 0,
-        });
-    }
+    let mut heap = walk.first_nodes();
     let mut done = 0u64;
     let mut cancelled = false;
     let mut bound_left: Option<f64> = None;
@@ -766,35 +859,12 @@ pub(super) fn walk(
             break;
         }
         done += 1;
-        let (shapes, options, _) = &walk.sequences[node.sequence];
-        for stage in node.last..shapes.len() {
-            if node.index[stage] + 1 < options[stage].len() {
-                let mut index = node.index.clone();
-                index[stage] += 1;
-                heap.push(Node {
-                    key: walk.key(node.sequence, &index),
-                    sequence: node.sequence,
-                    index,
-                    last: stage,
-                });
-            }
-        }
-        let chosen: Vec<&StageOption> = node
-            .index
-            .iter()
-            .enumerate()
-            .map(|(stage, &i)| &options[stage][i])
-            .collect();
+        walk.push_successors(&node, &mut heap);
+        let (shapes, _, _) = &walk.sequences[node.sequence];
+        let chosen = walk.chosen(&node);
         // Proof: the part-count check fails a design with more parts than
         // `max_parts`, whatever its values.
-        let parts: usize = chosen.iter().map(|o| o.parts).sum::<usize>()
-            + chosen
-                .iter()
-                .filter(|o| o.sections > 0)
-                .map(|o| o.sections)
-                .sum::<usize>()
-                .min(1);
-        if parts > problem.need.search.max_parts {
+        if too_many_parts(problem, &chosen) {
             continue;
         }
         let mut pause = Pause {

@@ -28,8 +28,10 @@ const MAX_CUTS: usize = 60;
 const MAX_ANALYSED: usize = 16;
 /// Structures searched past the proof, for the Pareto front.
 const PARETO_EXTRA_STRUCTURES: usize = 6;
-/// Largest space (in designs, [`exhaustive::space_size`]) the optimised
-/// mode finishes with the exhaustive walk in the time it has left.
+/// Largest space (in designs, [`exhaustive::space_size`]), or largest
+/// part of one below the best design's bound
+/// ([`exhaustive::live_space_size`]), the optimised mode finishes with the
+/// exhaustive walk in the time it has left.
 const COMPLETION_DESIGNS: u64 = 200_000;
 
 /// Objective key of a verified design (lower is better).
@@ -482,12 +484,20 @@ pub(super) fn run(
     let mut walked = false;
     // A small space is finished by the exhaustive walk in the time left,
     // from the best design found as its incumbent: a walk that ends
-    // proves the verdict.
-    if stopped.is_none()
-        && !proven_optimal
-        && !proven_infeasible
-        && exhaustive::space_size(problem, COMPLETION_DESIGNS).is_some()
-    {
+    // proves the verdict. So is a large one whose structures below the
+    // best design's bound hold few designs (the walk never opens the
+    // rest: proof 1 of the walk).
+    let small = || exhaustive::space_size(problem, COMPLETION_DESIGNS).is_some();
+    let live_small = || match (objective, state.best.as_ref()) {
+        (Objective::Cost | Objective::Parts, Some(best)) => exhaustive::live_space_size(
+            problem,
+            objective_key(objective, best).0,
+            COMPLETION_DESIGNS,
+        )
+        .is_some(),
+        _ => false,
+    };
+    if stopped.is_none() && !proven_optimal && !proven_infeasible && (small() || live_small()) {
         let end = exhaustive::walk(
             problem,
             control,
