@@ -155,8 +155,13 @@ impl Model {
     }
 
     /// The budget lines that are present, in report order, with their
-    /// value at `binding_end`.
-    pub(crate) fn budget_lines(&self, need: &Need, binding_end: usize) -> Vec<BudgetLine> {
+    /// value at `binding_end` (and their explanations where `explained`).
+    pub(crate) fn budget_lines(
+        &self,
+        need: &Need,
+        binding_end: usize,
+        explained: bool,
+    ) -> Vec<BudgetLine> {
         let pct = 100.0 / self.full_scale;
         let lsb = need.lsb();
         let volts_per_unit = need.volts_per_unit();
@@ -174,7 +179,11 @@ impl Model {
                 units: volts_per_unit.map(|per_unit| volts / per_unit.abs()),
                 at_ends_pct_fs: [at[0] * pct, at[1] * pct],
                 systematic: line.systematic(),
-                explain: self.explain_line(need, line, binding_end),
+                explain: if explained {
+                    self.explain_line(need, line, binding_end)
+                } else {
+                    LineExplain::unwritten()
+                },
             });
         }
         budget

@@ -31,6 +31,18 @@ pub struct LineExplain {
     pub note: Option<String>,
 }
 
+impl LineExplain {
+    /// An explanation not written (a search candidate's lines: see
+    /// `Model::report_unexplained`).
+    pub(crate) fn unwritten() -> LineExplain {
+        LineExplain {
+            formula: String::new(),
+            inputs: Vec::new(),
+            note: None,
+        }
+    }
+}
+
 /// One named input of a [`LineExplain`].
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ExplainInput {

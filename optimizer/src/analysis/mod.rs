@@ -304,6 +304,30 @@ impl Model {
     /// Full report on a need's basis. `mc_builds` sets the Monte Carlo size
     /// for the yield basis (and is run for every basis when non-zero).
     pub fn report(&self, need: &Need, mc_builds: u64, seed: u64) -> Result<Analysis> {
+        self.report_with(need, mc_builds, seed, true)
+    }
+
+    /// The same report with every budget line's explanation left
+    /// unwritten (empty): every number is the same, only the words that
+    /// show how each line is worked out are missing. For the search, which
+    /// ranks many designs and reports few; a design it reports is analysed
+    /// again in full (`api`), explanations included.
+    pub(crate) fn report_unexplained(
+        &self,
+        need: &Need,
+        mc_builds: u64,
+        seed: u64,
+    ) -> Result<Analysis> {
+        self.report_with(need, mc_builds, seed, false)
+    }
+
+    fn report_with(
+        &self,
+        need: &Need,
+        mc_builds: u64,
+        seed: u64,
+        explained: bool,
+    ) -> Result<Analysis> {
         let pct = 100.0 / self.full_scale;
         let worst_ends = self.worst_at_ends();
         let first_order = worst_ends[0].max(worst_ends[1]);
@@ -354,7 +378,7 @@ impl Model {
                 ideal_at_ends_v: self.ideal,
             },
             stages: self.stages.clone(),
-            budget: self.budget_lines(need, binding_end),
+            budget: self.budget_lines(need, binding_end, explained),
             worst_case_pct_fs: worst * pct,
             first_order_pct_fs: first_order * pct,
             corner_check_pct_fs: corner * pct,

@@ -190,7 +190,9 @@ pub struct Candidate {
     pub built: Built,
     /// Its costing.
     pub costing: Costing,
-    /// Its full analysis.
+    /// Its full analysis. A design as the search ranked it carries no
+    /// budget-line explanations (`explain` empty); the report's design is
+    /// analysed again with them (`spanfit::api`).
     pub analysis: Analysis,
 }
 

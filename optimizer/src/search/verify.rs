@@ -55,7 +55,9 @@ pub(super) fn verify_model(
     } else {
         0
     };
-    let analysis = model.report(problem.need, builds, 1).ok()?;
+    // The search ranks by numbers; the report analyses the design it
+    // returns again with every line explained (api).
+    let analysis = model.report_unexplained(problem.need, builds, 1).ok()?;
     let built = model.built().clone();
     // Costed with the filter pair the report will attach (search/pair.rs).
     let pair = problem.pairs.share(&built);
