@@ -165,8 +165,19 @@ fn optional_subsets(roles: &[Role]) -> Vec<Vec<Role>> {
         .collect()
 }
 
-impl Walk {
-    fn new(problem: &Problem<'_>) -> Walk {
+/// The parts a walk may place, read once from the need and the stock.
+struct Catalog {
+    sources: Vec<Source>,
+    /// Stock indices of the resistors that may be placed.
+    resistors: Vec<usize>,
+    least_resistor: f64,
+    /// Stock indices of the op-amps and in-amps that run on the rails.
+    opamps: Vec<usize>,
+    inamps: Vec<usize>,
+}
+
+impl Catalog {
+    fn new(problem: &Problem<'_>) -> Catalog {
         let need = problem.need;
         let stock = problem.stock;
         let mut sources = Vec::new();
@@ -201,147 +212,173 @@ impl Walk {
                 fits(p.supply_min.0, p.supply_max.0, p.stock_qty)
             })
             .collect();
+        Catalog {
+            sources,
+            resistors,
+            least_resistor,
+            opamps,
+            inamps,
+        }
+    }
+
+    /// One shape sequence of the walk: the options of each stage (sorted
+    /// by bound) and the bound the whole sequence adds (BOM lines), or
+    /// `None` where a proof rules the sequence out or a stage has no
+    /// option.
+    fn sequence(
+        &self,
+        problem: &Problem<'_>,
+        shapes: Vec<Shape>,
+    ) -> Option<(Vec<Shape>, Vec<Vec<StageOption>>, f64)> {
+        let need = problem.need;
+        let stock = problem.stock;
+        let (sources, least_resistor) = (&self.sources, self.least_resistor);
+        let (opamps, inamps) = (&self.opamps, &self.inamps);
         let objective = need.search.objective;
         let (k, _) = need.ideal_transfer();
         let line = need.search.bom_line_cost;
-        let mut sequences = Vec::new();
-        for shapes in shape_sequences(need, stock) {
-            let sign: f64 = shapes.iter().map(|s| s.sign()).product();
-            if sign * k <= 0.0 && wrong_sign_ruled_out(problem) {
-                continue;
-            }
-            let mut per_stage = Vec::new();
-            for (position, &shape) in shapes.iter().enumerate() {
-                let last = position + 1 == shapes.len();
-                let mut options = Vec::new();
-                let amplifiers = if shape.integrated() { &inamps } else { &opamps };
-                let bias_drives = if uses_bias(shape) {
-                    drives(sources.len())
+        let sign: f64 = shapes.iter().map(|s| s.sign()).product();
+        if sign * k <= 0.0 && wrong_sign_ruled_out(problem) {
+            return None;
+        }
+        let mut per_stage = Vec::new();
+        for (position, &shape) in shapes.iter().enumerate() {
+            let last = position + 1 == shapes.len();
+            let mut options = Vec::new();
+            let amplifiers = if shape.integrated() { inamps } else { opamps };
+            let bias_drives = if uses_bias(shape) {
+                drives(sources.len())
+            } else {
+                vec![Drive::Ground]
+            };
+            for &amplifier in amplifiers {
+                // Proof 6: a first-stage part whose accuracy floor
+                // (search/floors.rs) is over the target is in no
+                // design that meets the need.
+                let kind = if shape.integrated() {
+                    AmplifierKind::InAmp(amplifier)
                 } else {
-                    vec![Drive::Ground]
+                    AmplifierKind::OpAmp(amplifier)
                 };
-                for &amplifier in amplifiers {
-                    // Proof 6: a first-stage part whose accuracy floor
-                    // (search/floors.rs) is over the target is in no
-                    // design that meets the need.
-                    let kind = if shape.integrated() {
-                        AmplifierKind::InAmp(amplifier)
-                    } else {
-                        AmplifierKind::OpAmp(amplifier)
-                    };
-                    if position == 0 && part_floor_v(need, stock, kind) > problem.target_v {
-                        continue;
-                    }
-                    for offset in drives(sources.len()) {
-                        for &bias in &bias_drives {
-                            let buffered = [offset, bias]
-                                .iter()
-                                .filter(|d| matches!(d, Drive::Divider(_, true)))
-                                .count();
-                            let buffers: Vec<Option<usize>> = if shape.integrated() && buffered > 0
-                            {
-                                opamps.iter().map(|&o| Some(o)).collect()
-                            } else {
-                                vec![None]
-                            };
-                            for optional in optional_subsets(shape.optional_roles()) {
-                                for &buffer in &buffers {
-                                    let mut slots: Vec<Role> = shape.required_roles().to_vec();
-                                    slots.extend(&optional);
-                                    if matches!(offset, Drive::Divider(..)) {
-                                        slots.extend([Role::OffsetTop, Role::OffsetBottom]);
-                                    }
-                                    if matches!(bias, Drive::Divider(..)) {
-                                        slots.extend([Role::BiasTop, Role::BiasBottom]);
-                                    }
-                                    let (own, sections) = if shape.integrated() {
-                                        (stock.inamps[amplifier].unit_cost, 0)
-                                    } else {
-                                        (0.0, shape.sections() + buffered)
-                                    };
-                                    let per_section = |o: usize| {
-                                        stock.opamps[o].unit_cost
-                                            / f64::from(stock.opamps[o].channels.max(1))
-                                    };
-                                    // Op-amp packages may be shared across
-                                    // stages: each section bears its share.
-                                    let section_cost = if shape.integrated() {
-                                        buffer.map(per_section).unwrap_or(0.0)
-                                    } else {
-                                        sections as f64 * per_section(amplifier)
-                                    };
-                                    let section_parts = if shape.integrated() {
-                                        buffer
-                                            .map(|o| {
-                                                1.0 / f64::from(stock.opamps[o].channels.max(1))
-                                            })
-                                            .unwrap_or(0.0)
-                                    } else {
-                                        sections as f64
-                                            / f64::from(stock.opamps[amplifier].channels.max(1))
-                                    };
-                                    let parts = slots.len() + usize::from(shape.integrated());
-                                    // Proof: the part-count check fails
-                                    // a design with more parts than
-                                    // `max_parts` (the stage alone, with
-                                    // its amplifier, is too many).
-                                    if parts + usize::from(sections > 0) > need.search.max_parts {
-                                        continue;
-                                    }
-                                    // The last stage's amplifier drives
-                                    // the filter pair: its floor (proof in
-                                    // search/pair.rs) joins the bound.
-                                    let pair = if last {
-                                        problem.pairs.floor(driver_kind(shape, amplifier))
-                                    } else {
-                                        PairFloor::default()
-                                    };
-                                    let bound = match objective {
-                                        Objective::Parts => {
-                                            parts as f64 + section_parts + pair.parts as f64
-                                        }
-                                        _ => {
-                                            own + section_cost
-                                                + slots.len() as f64 * least_resistor
-                                                + pair.cost
-                                        }
-                                    };
-                                    options.push(StageOption {
-                                        amplifier,
-                                        offset,
-                                        bias,
-                                        buffer,
-                                        slots,
-                                        bound,
-                                        parts,
-                                        sections,
-                                    });
+                if position == 0 && part_floor_v(need, stock, kind) > problem.target_v {
+                    continue;
+                }
+                for offset in drives(sources.len()) {
+                    for &bias in &bias_drives {
+                        let buffered = [offset, bias]
+                            .iter()
+                            .filter(|d| matches!(d, Drive::Divider(_, true)))
+                            .count();
+                        let buffers: Vec<Option<usize>> = if shape.integrated() && buffered > 0 {
+                            opamps.iter().map(|&o| Some(o)).collect()
+                        } else {
+                            vec![None]
+                        };
+                        for optional in optional_subsets(shape.optional_roles()) {
+                            for &buffer in &buffers {
+                                let mut slots: Vec<Role> = shape.required_roles().to_vec();
+                                slots.extend(&optional);
+                                if matches!(offset, Drive::Divider(..)) {
+                                    slots.extend([Role::OffsetTop, Role::OffsetBottom]);
                                 }
+                                if matches!(bias, Drive::Divider(..)) {
+                                    slots.extend([Role::BiasTop, Role::BiasBottom]);
+                                }
+                                let (own, sections) = if shape.integrated() {
+                                    (stock.inamps[amplifier].unit_cost, 0)
+                                } else {
+                                    (0.0, shape.sections() + buffered)
+                                };
+                                let per_section = |o: usize| {
+                                    stock.opamps[o].unit_cost
+                                        / f64::from(stock.opamps[o].channels.max(1))
+                                };
+                                // Op-amp packages may be shared across
+                                // stages: each section bears its share.
+                                let section_cost = if shape.integrated() {
+                                    buffer.map(per_section).unwrap_or(0.0)
+                                } else {
+                                    sections as f64 * per_section(amplifier)
+                                };
+                                let section_parts = if shape.integrated() {
+                                    buffer
+                                        .map(|o| 1.0 / f64::from(stock.opamps[o].channels.max(1)))
+                                        .unwrap_or(0.0)
+                                } else {
+                                    sections as f64
+                                        / f64::from(stock.opamps[amplifier].channels.max(1))
+                                };
+                                let parts = slots.len() + usize::from(shape.integrated());
+                                // Proof: the part-count check fails
+                                // a design with more parts than
+                                // `max_parts` (the stage alone, with
+                                // its amplifier, is too many).
+                                if parts + usize::from(sections > 0) > need.search.max_parts {
+                                    continue;
+                                }
+                                // The last stage's amplifier drives
+                                // the filter pair: its floor (proof in
+                                // search/pair.rs) joins the bound.
+                                let pair = if last {
+                                    problem.pairs.floor(driver_kind(shape, amplifier))
+                                } else {
+                                    PairFloor::default()
+                                };
+                                let bound = match objective {
+                                    Objective::Parts => {
+                                        parts as f64 + section_parts + pair.parts as f64
+                                    }
+                                    _ => {
+                                        own + section_cost
+                                            + slots.len() as f64 * least_resistor
+                                            + pair.cost
+                                    }
+                                };
+                                options.push(StageOption {
+                                    amplifier,
+                                    offset,
+                                    bias,
+                                    buffer,
+                                    slots,
+                                    bound,
+                                    parts,
+                                    sections,
+                                });
                             }
                         }
                     }
                 }
-                options.sort_by(|a, b| a.bound.total_cmp(&b.bound));
-                per_stage.push(options);
             }
-            if per_stage.iter().any(|o| o.is_empty()) {
-                continue;
-            }
-            // At least one BOM line for the op-amps, one for the in-amps
-            // and one for the resistors (every shape places one).
-            let lines = usize::from(shapes.iter().any(|s| !s.integrated()))
-                + usize::from(shapes.iter().any(|s| s.integrated()))
-                + 1;
-            let fixed = match objective {
-                Objective::Parts => 0.0,
-                _ => line * lines as f64,
-            };
-            sequences.push((shapes, per_stage, fixed));
+            options.sort_by(|a, b| a.bound.total_cmp(&b.bound));
+            per_stage.push(options);
         }
+        if per_stage.iter().any(|o| o.is_empty()) {
+            return None;
+        }
+        // At least one BOM line for the op-amps, one for the in-amps
+        // and one for the resistors (every shape places one).
+        let lines = usize::from(shapes.iter().any(|s| !s.integrated()))
+            + usize::from(shapes.iter().any(|s| s.integrated()))
+            + 1;
+        let fixed = match objective {
+            Objective::Parts => 0.0,
+            _ => line * lines as f64,
+        };
+        Some((shapes, per_stage, fixed))
+    }
+}
+
+impl Walk {
+    fn new(problem: &Problem<'_>) -> Walk {
+        let catalog = Catalog::new(problem);
+        let sequences = shape_sequences(problem.need, problem.stock)
+            .into_iter()
+            .filter_map(|shapes| catalog.sequence(problem, shapes))
+            .collect();
         Walk {
-            sources,
+            sources: catalog.sources,
             sequences,
-            resistors,
+            resistors: catalog.resistors,
         }
     }
 
@@ -702,36 +739,85 @@ fn too_many_parts(problem: &Problem<'_>, chosen: &[&StageOption]) -> bool {
 
 /// Designs a walk seeded with a design of objective value `best` (cost
 /// or parts) can still visit: those of the structures whose bound is
-/// below `best`, taken in bound order as the walk takes them, or `None`
-/// as soon as the count passes `limit`. Structures at or over `best` are
-/// never opened (proof 1), so this is the walk's whole work however
-/// large the space; it decides only whether a walk is worth starting,
-/// never what a walk proves.
+/// below `best`, or `None` as soon as the count passes `limit`.
+/// Structures at or over `best` are never opened (proof 1), so this is
+/// the walk's whole work however large the space; it decides only whether
+/// a walk is worth starting, never what a walk proves.
 pub(super) fn live_space_size(problem: &Problem<'_>, best: f64, limit: u64) -> Option<u64> {
-    let walk = Walk::new(problem);
-    let choices = walk.resistors.len() as u64;
-    let mut heap = walk.first_nodes();
-    let mut count = 0u64;
-    while let Some(node) = heap.pop() {
-        if node.key >= best - 1e-12 {
-            break;
-        }
-        walk.push_successors(&node, &mut heap);
-        let chosen = walk.chosen(&node);
-        if too_many_parts(problem, &chosen) {
+    // The count is a sum over structures, so the sequences are taken one
+    // at a time (built only as far as needed), not in the walk's order.
+    let catalog = Catalog::new(problem);
+    let mut live = Live {
+        problem,
+        choices: catalog.resistors.len() as u64,
+        best,
+        limit,
+        count: 0,
+    };
+    for shapes in shape_sequences(problem.need, problem.stock) {
+        let Some((_, options, fixed)) = catalog.sequence(problem, shapes) else {
             continue;
+        };
+        let mut least_rest = vec![0.0; options.len() + 1];
+        for stage in (0..options.len()).rev() {
+            least_rest[stage] = least_rest[stage + 1] + options[stage][0].bound;
         }
-        let slots: usize = chosen.iter().map(|o| o.slots.len()).sum();
-        let assignments = u32::try_from(slots)
-            .ok()
-            .and_then(|n| choices.checked_pow(n))
-            .unwrap_or(u64::MAX);
-        count = count.saturating_add(assignments.max(1));
-        if count > limit {
+        if !live.count_from(&options, &least_rest, 0, fixed, &mut Vec::new()) {
             return None;
         }
     }
-    Some(count)
+    Some(live.count)
+}
+
+/// The count of [`live_space_size`] as it goes.
+struct Live<'p, 'a> {
+    problem: &'p Problem<'a>,
+    /// Resistors each slot may hold.
+    choices: u64,
+    best: f64,
+    limit: u64,
+    count: u64,
+}
+
+impl Live<'_, '_> {
+    /// Add the designs of every structure below `best` that extends
+    /// `chosen` (stages before `stage`, bound `key` so far); false once
+    /// the count passes the limit. Options are sorted by bound, so the
+    /// first option whose least completion reaches `best` ends a stage.
+    fn count_from<'o>(
+        &mut self,
+        options: &'o [Vec<StageOption>],
+        least_rest: &[f64],
+        stage: usize,
+        key: f64,
+        chosen: &mut Vec<&'o StageOption>,
+    ) -> bool {
+        if stage == options.len() {
+            if too_many_parts(self.problem, chosen) {
+                return true;
+            }
+            let slots: usize = chosen.iter().map(|o| o.slots.len()).sum();
+            let assignments = u32::try_from(slots)
+                .ok()
+                .and_then(|n| self.choices.checked_pow(n))
+                .unwrap_or(u64::MAX);
+            self.count = self.count.saturating_add(assignments.max(1));
+            return self.count <= self.limit;
+        }
+        for option in &options[stage] {
+            let key = key + option.bound;
+            if key + least_rest[stage + 1] >= self.best - 1e-12 {
+                break;
+            }
+            chosen.push(option);
+            let within = self.count_from(options, least_rest, stage + 1, key, chosen);
+            chosen.pop();
+            if !within {
+                return false;
+            }
+        }
+        true
+    }
 }
 
 /// Designs in the whole walk, counted without building it, or `None` as
