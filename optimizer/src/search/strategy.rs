@@ -10,12 +10,12 @@ use super::explain::Diagnosis;
 use super::groups::{enumerate_groups, Group, Rejections, SCREEN_SLACK};
 use super::milp::{default_solver, select_value_sets, SelectionBounds};
 use super::structures::{structures, Structure};
-use super::value_sets::{value_sets_for_structure, ValueSet, ValueSetCache};
+use super::value_sets::{value_sets_for_structure, SetSignature, ValueSet, ValueSetCache};
 use super::verify::{estimate_random, verify_model};
 use super::{costing, Candidate, Problem, Progress, SearchMode, SearchStats, SolveControl, Stop};
 use crate::analysis::{Model, RandomSplit};
 use crate::need::{Basis, Objective};
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, BTreeSet};
 
 /// Share of a structure's reference random error that every value set of
 /// the structure is assumed to keep (see [`Optimised`]).
@@ -107,8 +107,14 @@ trait StructureSearch {
     fn mode(&self) -> SearchMode;
     /// Whether the walk stops once the structures' bounds prove the best.
     fn stops_at_proof(&self) -> bool;
-    /// Whether a structure is dropped before its value sets are made.
-    fn screens_out(&self, problem: &Problem<'_>, structure: &Structure) -> bool;
+    /// Whether a structure (or its network variant at `network_stage`) is
+    /// dropped before its value sets are searched.
+    fn screens_out(
+        &self,
+        problem: &Problem<'_>,
+        structure: &Structure,
+        network_stage: Option<usize>,
+    ) -> bool;
     /// Search one structure with its value sets, offering every verified
     /// design to `state`.
     fn search(
@@ -132,8 +138,11 @@ trait StructureSearch {
 /// full analysis of each pick is what decides.
 #[derive(Default)]
 struct Optimised {
-    /// Budget split of the first reference design of each group.
-    splits: BTreeMap<usize, RandomSplit>,
+    /// Budget split of the first reference design of each group, and of
+    /// each of its network variants (by the stage the network fills): a
+    /// network element's terms stay as they are when the split is rescaled
+    /// to other grades, so a variant is screened by a variant's split.
+    splits: BTreeMap<(usize, Option<usize>), RandomSplit>,
 }
 
 /// What the reference design of a structure leaves for its MILP.
@@ -143,6 +152,13 @@ struct ReferenceBounds {
     /// Error no value set changes: what the closed forms miss plus the
     /// finite-gain error, volts.
     constant: [f64; 2],
+}
+
+/// The stage whose value sets are network sets, if any.
+fn network_stage(value_sets: &[Vec<ValueSet>]) -> Option<usize> {
+    value_sets
+        .iter()
+        .position(|sets| sets.iter().any(|set| set.network.is_some()))
 }
 
 /// The exact nominal error of one value set per stage from the stage
@@ -180,7 +196,7 @@ impl Optimised {
             Model::candidate(problem.need, problem.stock, &reference_design, &gets_pair).ok()?;
         state.evaluated += 1;
         self.splits
-            .entry(structure.group)
+            .entry((structure.group, network_stage(value_sets)))
             .or_insert_with(|| model.random_split(group.shapes.len()));
         // Checks that no choice of values can change end the structure
         // here; a swing or common-mode miss may be the reference values'.
@@ -322,8 +338,14 @@ impl StructureSearch for Optimised {
 
     /// Screen by the group's shared budget split where one exists: the
     /// same netlist with other grades, rescaled.
-    fn screens_out(&self, problem: &Problem<'_>, structure: &Structure) -> bool {
-        self.splits.get(&structure.group).is_some_and(|split| {
+    fn screens_out(
+        &self,
+        problem: &Problem<'_>,
+        structure: &Structure,
+        network_stage: Option<usize>,
+    ) -> bool {
+        let key = (structure.group, network_stage);
+        self.splits.get(&key).is_some_and(|split| {
             let estimate = estimate_random(problem, split, &structure.grades);
             estimate[0] > problem.target_v * SCREEN_SLACK
                 || estimate[1] > problem.target_v * SCREEN_SLACK
@@ -406,6 +428,38 @@ fn proof_from_space(
     }
 }
 
+/// Matched roles a network package fills in a stage.
+const MATCHED_ROLES: f64 = 4.0;
+
+/// Whether a network variant of a structure cannot be cheaper than the
+/// best design (cost objective only): the structure's bound with the
+/// matched roles' resistors at the grade's cheapest part taken out and
+/// the cheapest package of the variant's sets put in. A rule of thumb
+/// that keeps the variants few (the bound's line count is the structure's).
+fn variant_cannot_win(
+    problem: &Problem<'_>,
+    structure: &Structure,
+    stage: usize,
+    value_sets: &[Vec<ValueSet>],
+    state: &SearchState,
+) -> bool {
+    if problem.need.search.objective != Objective::Cost {
+        return false;
+    }
+    let Some(best) = state.best.as_ref() else {
+        return false;
+    };
+    let package = value_sets[stage]
+        .iter()
+        .filter_map(|set| set.network.as_ref())
+        .filter_map(|n| problem.stock.networks.get(n.part))
+        .map(|part| part.unit_cost)
+        .fold(f64::INFINITY, f64::min);
+    let grade = &problem.grades[structure.grades[stage]];
+    let bound = structure.bound - MATCHED_ROLES * grade.min_cost + package;
+    bound >= best.costing.total - 1e-12
+}
+
 /// Walk the structures in bound order and search each.
 pub(super) fn run(
     problem: &Problem<'_>,
@@ -427,6 +481,9 @@ pub(super) fn run(
     let total = list.total();
     let mut strategy: Box<dyn StructureSearch> = Box::new(Optimised::default());
     let mut cache = ValueSetCache::new();
+    // Network variants already searched (the same sets give the same
+    // designs, whatever grade the structure had for the network stage).
+    let mut variants_done: BTreeSet<(usize, Vec<Vec<SetSignature>>)> = BTreeSet::new();
     let mut rule = StopRule::default();
     let mut stopped = None;
     let limit = problem.need.search.time_limit_ms as f64;
@@ -467,15 +524,51 @@ pub(super) fn run(
             });
             break;
         }
-        if strategy.screens_out(problem, structure) {
+        let group = &groups[structure.group];
+        if !strategy.screens_out(problem, structure, None) {
+            if let Some(value_sets) =
+                value_sets_for_structure(problem, group, structure, &mut cache, None)
+            {
+                strategy.search(problem, group, structure, &value_sets, &mut state);
+            }
+        }
+        // The structure's network variants: a stage with matched roles
+        // takes them from one package of a stocked network. Not screened
+        // by the group's split (a discrete grade's random error, which a
+        // matched package does not have).
+        if problem.stock.networks.is_empty() {
             continue;
         }
-        let group = &groups[structure.group];
-        let Some(value_sets) = value_sets_for_structure(problem, group, structure, &mut cache)
-        else {
-            continue;
-        };
-        strategy.search(problem, group, structure, &value_sets, &mut state);
+        for stage in 0..group.shapes.len() {
+            if group.shapes[stage].behaviour().matched_roles().is_none()
+                || strategy.screens_out(problem, structure, Some(stage))
+            {
+                continue;
+            }
+            let Some(value_sets) =
+                value_sets_for_structure(problem, group, structure, &mut cache, Some(stage))
+            else {
+                continue;
+            };
+            let n = group.shapes.len();
+            let divider_grade = &problem.grades[structure.grades[n]];
+            let signature: Vec<Vec<SetSignature>> = value_sets
+                .iter()
+                .enumerate()
+                .map(|(i, sets)| {
+                    let grade = &problem.grades[structure.grades[i]];
+                    sets.iter()
+                        .map(|set| set.signature(grade, divider_grade))
+                        .collect()
+                })
+                .collect();
+            if variant_cannot_win(problem, structure, stage, &value_sets, &state) {
+                continue;
+            }
+            if variants_done.insert((structure.group, signature)) {
+                strategy.search(problem, group, structure, &value_sets, &mut state);
+            }
+        }
     }
     let (mut proven_optimal, mut gap) = proof_from_space(objective, &space, state.best.as_ref());
     let mut proven_infeasible = space.proven_empty();
