@@ -1,9 +1,10 @@
 //! The optimised search places matched resistor networks
 //! (`networks.csv`): a difference stage's four matched roles from one
-//! package where discrete parts cannot meet the need, a network that
-//! cannot give the stage's ratio or is not on the shelf never placed, and
-//! the error objective on the demo stock no worse with its networks than
-//! without them.
+//! package where discrete parts cannot meet the need, the discrete
+//! instrumentation stage's difference part from one package, a network
+//! that cannot give the stage's ratio or is not on the shelf never placed,
+//! and the error objective on the demo stock no worse with its networks
+//! than without them.
 //!
 //! Every stock and need here is invented: a 0 to 15 mV bridge at a 2.5 V
 //! common mode into 0.5 to 2.0 V of a 0 to 2.5 V ADC (gain 100, offset
@@ -59,6 +60,12 @@ const NOT_ON_SHELF: &str = "RN-Z1K-100K,4,1000;100000;1000;100000,0.1,0.005,25,1
 
 /// The invented need (module header), at `target` % FS, as need text.
 fn need_text(target: f64) -> String {
+    need_text_with(target, "difference", "cost")
+}
+
+/// The invented need at `target` % FS with one stage of `topology`, for
+/// `objective`, as need text.
+fn need_text_with(target: f64, topology: &str, objective: &str) -> String {
     format!(
         "[sensor]\nlabel = \"invented bridge\"\nsignal_low_v = 0.0\nsignal_high_v = 0.015\n\
          output = \"differential\"\ncommon_mode_v = 2.5\nsource_ohms = 0.0\n\
@@ -66,7 +73,7 @@ fn need_text(target: f64) -> String {
          [supply]\npositive_v = 5.0\nnegative_v = -5.0\ntolerance_pct = 0.0\n\
          [accuracy]\nmax_error_pct_fs = {target}\ncalibration = \"offset\"\n\
          temp_min_c = 25.0\ntemp_max_c = 65.0\n\
-         [search]\nmax_stages = 1\ntopologies = [\"difference\"]\n\
+         [search]\nmax_stages = 1\ntopologies = [\"{topology}\"]\nobjective = \"{objective}\"\n\
          [stock]\nonly = true\n"
     )
 }
@@ -80,12 +87,17 @@ fn need(target: f64) -> Need {
 /// The invented stock's files with `networks` as the rows of its networks
 /// table (none: no table).
 fn files(networks: &[&str]) -> Vec<StockFile> {
+    files_with(RESISTORS_CSV, networks)
+}
+
+/// As [`files`], with `resistors` as the resistor table.
+fn files_with(resistors: &str, networks: &[&str]) -> Vec<StockFile> {
     let f = |name: &str, text: String| StockFile {
         name: name.into(),
         bytes: text.into_bytes(),
     };
     let mut files = vec![
-        f("resistors.csv", RESISTORS_CSV.into()),
+        f("resistors.csv", resistors.into()),
         f("opamps.csv", OPAMPS_CSV.into()),
         f("references.csv", REFERENCES_CSV.into()),
         f("capacitors.csv", CAPACITORS_CSV.into()),
@@ -309,5 +321,62 @@ fn the_error_objective_is_no_worse_with_the_demo_networks() {
     assert!(
         networks <= plain + 1e-12,
         "with networks {networks} % FS, without {plain} % FS"
+    );
+}
+
+/// The discrete instrumentation stage's output difference part (`r1` to
+/// `r4`, at unity) from one package of four equal elements: with an
+/// invented 0.1 % E96 family for its gain resistors, the error objective
+/// takes the package for the four matched roles, and its design is more
+/// accurate than the best without the package.
+#[test]
+fn the_discrete_instrumentation_stage_takes_its_difference_part_from_a_package() {
+    let resistors = format!("{RESISTORS_CSV}Z-E96,,E96,100,1000000,0.1,25,0603,0.04,\n");
+    let text = need_text_with(1.0, "instrumentation", "error");
+    let need = parse_need(text.as_bytes(), "bridge.toml").unwrap_or_else(|e| panic!("{e}"));
+    let quad = "RN-T10K,4,10000,0.05,0.01,10,2,SOIC-8,0.40,\n";
+    let solve_on = |networks: &[&str]| {
+        let stock = parse_stock(&files_with(&resistors, networks))
+            .unwrap_or_else(|e| panic!("the invented stock: {e}"));
+        run(&need, &stock)
+            .best
+            .unwrap_or_else(|| panic!("no design with networks {networks:?}"))
+    };
+    let with = solve_on(&[quad]);
+    let stage = &with.design.stages[0];
+    assert_eq!(stage.shape.name(), "instrumentation-discrete");
+    let matched: Vec<_> = stage
+        .resistors
+        .iter()
+        .filter(|(role, _)| ["r1", "r2", "r3", "r4"].contains(&role.to_string().as_str()))
+        .map(|(_, r)| {
+            r.network
+                .as_ref()
+                .map(|n| (n.part_id.clone(), n.package, n.element))
+        })
+        .collect();
+    assert_eq!(matched.len(), 4);
+    let mut elements = Vec::new();
+    for m in &matched {
+        let (part, package, element) = m
+            .clone()
+            .unwrap_or_else(|| panic!("a matched role is discrete: {matched:?}"));
+        assert_eq!((part.as_str(), package), ("RN-T10K", 1), "{matched:?}");
+        elements.push(element);
+    }
+    elements.sort_unstable();
+    assert_eq!(elements, vec![1, 2, 3, 4]);
+    // The gain resistors stay discrete.
+    assert!(stage
+        .resistors
+        .iter()
+        .filter(|(role, _)| role.to_string().starts_with("rf") || role.to_string() == "rg")
+        .all(|(_, r)| r.network.is_none()));
+    let without = solve_on(&[]);
+    assert!(
+        with.analysis.basis_pct_fs <= without.analysis.basis_pct_fs,
+        "with the package {} % FS, without {} % FS",
+        with.analysis.basis_pct_fs,
+        without.analysis.basis_pct_fs
     );
 }

@@ -3,6 +3,9 @@
 //! picks verified in full) and [`Exhaustive`] (every combination of value
 //! sets analysed). Both hand their verified designs to one
 //! [`SearchState::offer`], which keeps the best and the Pareto candidates.
+//! On a stock with matched networks, each structure with a stage of
+//! matched roles is also searched as a network variant (that stage's
+//! network value sets in place of its own; docs/search.md).
 
 use super::bounds::{space_bound, SpaceBound};
 use super::exhaustive;
