@@ -13,7 +13,7 @@ use super::explain::Diagnosis;
 use super::groups::{enumerate_groups, Group, Rejections, SCREEN_SLACK};
 use super::milp::{default_solver, select_value_sets, SelectionBounds};
 use super::structures::{structures, Structure};
-use super::value_sets::{value_sets_for_structure, SetSignature, ValueSet, ValueSetCache};
+use super::value_sets::{value_sets_for_structure, ValueSet, ValueSetCache};
 use super::verify::{estimate_random, verify_model};
 use super::{costing, Candidate, Problem, Progress, SearchMode, SearchStats, SolveControl, Stop};
 use crate::analysis::{Model, RandomSplit};
@@ -437,13 +437,12 @@ const MATCHED_ROLES: f64 = 4.0;
 /// Whether a network variant of a structure cannot be cheaper than the
 /// best design (cost objective only): the structure's bound with the
 /// matched roles' resistors at the grade's cheapest part taken out and
-/// the cheapest package of the variant's sets put in. A rule of thumb
-/// that keeps the variants few (the bound's line count is the structure's).
+/// the cheapest package on the shelf put in. A rule of thumb that keeps
+/// the variants few (the bound's line count is the structure's).
 fn variant_cannot_win(
     problem: &Problem<'_>,
     structure: &Structure,
     stage: usize,
-    value_sets: &[Vec<ValueSet>],
     state: &SearchState,
 ) -> bool {
     if problem.need.search.objective != Objective::Cost {
@@ -452,10 +451,11 @@ fn variant_cannot_win(
     let Some(best) = state.best.as_ref() else {
         return false;
     };
-    let package = value_sets[stage]
+    let package = problem
+        .stock
+        .networks
         .iter()
-        .filter_map(|set| set.network.as_ref())
-        .filter_map(|n| problem.stock.networks.get(n.part))
+        .filter(|part| part.stock_qty != Some(0))
         .map(|part| part.unit_cost)
         .fold(f64::INFINITY, f64::min);
     let grade = &problem.grades[structure.grades[stage]];
@@ -484,9 +484,9 @@ pub(super) fn run(
     let total = list.total();
     let mut strategy: Box<dyn StructureSearch> = Box::new(Optimised::default());
     let mut cache = ValueSetCache::new();
-    // Network variants already searched (the same sets give the same
-    // designs, whatever grade the structure had for the network stage).
-    let mut variants_done: BTreeSet<(usize, Vec<Vec<SetSignature>>)> = BTreeSet::new();
+    // Network variants already taken up, by group, stage and the grades
+    // that change their sets.
+    let mut variants_done: BTreeSet<(usize, usize, Vec<usize>)> = BTreeSet::new();
     let mut rule = StopRule::default();
     let mut stopped = None;
     let limit = problem.need.search.time_limit_ms as f64;
@@ -543,32 +543,42 @@ pub(super) fn run(
             continue;
         }
         for stage in 0..group.shapes.len() {
-            if group.shapes[stage].behaviour().matched_roles().is_none()
+            let Some(matched) = group.shapes[stage].behaviour().matched_roles() else {
+                continue;
+            };
+            // Once per variant: the grade of a stage the package fills
+            // whole, and the divider grade of a group without a divider,
+            // change none of its sets (nor its bound below, nor its
+            // screen), so they are left out of the key.
+            let n = group.shapes.len();
+            let shape = group.shapes[stage];
+            let whole = shape
+                .required_roles()
+                .iter()
+                .chain(shape.behaviour().optional_roles())
+                .all(|role| matched.low.contains(role) || matched.high.contains(role));
+            let divided = (0..n).any(|i| group.plan(i).is_some());
+            let key: Vec<usize> = structure
+                .grades
+                .iter()
+                .enumerate()
+                .map(|(i, &g)| {
+                    if (i == stage && whole) || (i == n && !divided) {
+                        usize::MAX
+                    } else {
+                        g
+                    }
+                })
+                .collect();
+            if !variants_done.insert((structure.group, stage, key))
+                || variant_cannot_win(problem, structure, stage, &state)
                 || strategy.screens_out(problem, structure, Some(stage))
             {
                 continue;
             }
-            let Some(value_sets) =
+            if let Some(value_sets) =
                 value_sets_for_structure(problem, group, structure, &mut cache, Some(stage))
-            else {
-                continue;
-            };
-            let n = group.shapes.len();
-            let divider_grade = &problem.grades[structure.grades[n]];
-            let signature: Vec<Vec<SetSignature>> = value_sets
-                .iter()
-                .enumerate()
-                .map(|(i, sets)| {
-                    let grade = &problem.grades[structure.grades[i]];
-                    sets.iter()
-                        .map(|set| set.signature(grade, divider_grade))
-                        .collect()
-                })
-                .collect();
-            if variant_cannot_win(problem, structure, stage, &value_sets, &state) {
-                continue;
-            }
-            if variants_done.insert((structure.group, signature)) {
+            {
                 strategy.search(problem, group, structure, &value_sets, &mut state);
             }
         }

@@ -47,9 +47,6 @@ pub(super) enum PartLine {
     Network(usize),
 }
 
-/// What makes two value sets place the same parts in the same roles.
-pub(super) type SetSignature = (Vec<(Role, usize)>, Vec<usize>, Option<NetworkPick>);
-
 /// A stage value set with its linearised effect.
 #[derive(Debug, Clone)]
 pub(super) struct ValueSet {
@@ -89,23 +86,6 @@ impl ValueSet {
         );
         out.extend(self.network.as_ref().map(|n| PartLine::Network(n.part)));
         out
-    }
-
-    /// The stock parts by role, the divider's parts and the network pick:
-    /// sets with one signature give one design.
-    pub(super) fn signature(&self, grade: &Grade, divider_grade: &Grade) -> SetSignature {
-        (
-            self.resistors
-                .iter()
-                .map(|(&role, &i)| (role, grade.parts[i]))
-                .collect(),
-            self.offset_top
-                .iter()
-                .chain(self.offset_bottom.iter())
-                .map(|&i| divider_grade.parts[i])
-                .collect(),
-            self.network.clone(),
-        )
     }
 }
 
