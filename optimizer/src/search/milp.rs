@@ -1,11 +1,13 @@
 //! The MILP that picks one value set per stage of a structure: a fee per
-//! distinct BOM line, the linearised error within bounds at both span ends,
-//! shelf quantities, and cuts of picks already refused. The model is plain
+//! distinct BOM line (a network part is one line, its package priced once
+//! per value set that places one), the linearised error within bounds at
+//! both span ends, shelf quantities (a network's in packages), and cuts of
+//! picks already refused. The model is plain
 //! data; the solver is passed in (good_lp's `Solver`), so a caller may
 //! swap the backend.
 
 use super::structures::Structure;
-use super::value_sets::ValueSet;
+use super::value_sets::{PartLine, ValueSet};
 use super::Problem;
 use crate::need::Objective;
 use good_lp::{variable, variables, Expression, Solution, Solver, SolverModel};
@@ -52,7 +54,7 @@ pub(super) fn select_value_sets<S: Solver>(
         })
         .collect();
     // BOM lines: one binary per distinct stock part among the value sets.
-    let parts: Vec<Vec<Vec<usize>>> = value_sets
+    let parts: Vec<Vec<Vec<PartLine>>> = value_sets
         .iter()
         .enumerate()
         .map(|(stage, stage_sets)| {
@@ -63,7 +65,7 @@ pub(super) fn select_value_sets<S: Solver>(
                 .collect()
         })
         .collect();
-    let mut lines: BTreeMap<usize, good_lp::Variable> = BTreeMap::new();
+    let mut lines: BTreeMap<PartLine, good_lp::Variable> = BTreeMap::new();
     for part in parts.iter().flatten().flatten() {
         lines
             .entry(*part)
@@ -112,12 +114,17 @@ pub(super) fn select_value_sets<S: Solver>(
         model = model.with(sum.clone().leq(allowed[end]));
         model = model.with(sum.geq(-allowed[end]));
     }
-    // Stock quantities: no part used more often than the shelf holds.
-    let mut uses: BTreeMap<usize, Expression> = BTreeMap::new();
+    // Stock quantities: no part used more often than the shelf holds (a
+    // network value set takes one package).
+    let shelf = |line: PartLine| match line {
+        PartLine::Resistor(i) => problem.stock.resistors.get(i).and_then(|r| r.stock_qty),
+        PartLine::Network(i) => problem.stock.networks.get(i).and_then(|n| n.stock_qty),
+    };
+    let mut uses: BTreeMap<PartLine, Expression> = BTreeMap::new();
     for (stage, stage_sets) in value_sets.iter().enumerate() {
         for index in 0..stage_sets.len() {
             for part in &parts[stage][index] {
-                if problem.stock.resistors[*part].stock_qty.is_some() {
+                if shelf(*part).is_some() {
                     *uses.entry(*part).or_insert_with(|| Expression::from(0.0)) +=
                         chosen[stage][index];
                 }
@@ -125,7 +132,7 @@ pub(super) fn select_value_sets<S: Solver>(
         }
     }
     for (part, used) in uses {
-        if let Some(qty) = problem.stock.resistors[part].stock_qty {
+        if let Some(qty) = shelf(part) {
             model = model.with(used.leq(qty as f64));
         }
     }

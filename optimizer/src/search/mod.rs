@@ -20,7 +20,10 @@
 //! 4. a MILP (`milp`) picks one value set per stage: linearised rounding
 //!    errors that may cancel across stages, a fee per distinct BOM line,
 //!    the error bound at both span ends; the pick is re-verified by the
-//!    full analysis and cut off if it fails.
+//!    full analysis and cut off if it fails;
+//! 5. on a stock with matched networks, a stage with matched roles (a
+//!    difference part) also gets value sets from one network package, and
+//!    each structure holding it is searched again with those (`strategy`).
 //!
 //! Its claims rest only on the lower bounds over the whole space
 //! (`bounds`). [`SearchMode::Exhaustive`] walks the whole space
@@ -505,9 +508,11 @@ fn solve_with(
     let problem = Problem::new(need, stock, &augmented);
     let mut run = strategy::run(&problem, mode, control);
     if !stock.networks.is_empty() {
-        // Neither walk places matched networks yet, so a stock that holds
-        // one has designs the walks do not see: no verdict over its space
-        // is proven (no optimum, no gap, no infeasibility, no least error).
+        // The exhaustive walk places no matched network, and the optimised
+        // mode only in the matched roles of a difference part, so a stock
+        // that holds one has designs the walks do not see: no verdict over
+        // its space is proven (no optimum, no gap, no infeasibility, no
+        // least error).
         run.proven_infeasible = false;
         run.walked = false;
         run.stats.proven_optimal = false;

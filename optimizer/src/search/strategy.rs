@@ -3,6 +3,9 @@
 //! picks verified in full) and [`Exhaustive`] (every combination of value
 //! sets analysed). Both hand their verified designs to one
 //! [`SearchState::offer`], which keeps the best and the Pareto candidates.
+//! On a stock with matched networks, each structure with a stage of
+//! matched roles is also searched as a network variant (that stage's
+//! network value sets in place of its own; docs/search.md).
 
 use super::bounds::{space_bound, SpaceBound};
 use super::exhaustive;
@@ -15,7 +18,7 @@ use super::verify::{estimate_random, verify_model};
 use super::{costing, Candidate, Problem, Progress, SearchMode, SearchStats, SolveControl, Stop};
 use crate::analysis::{Model, RandomSplit};
 use crate::need::{Basis, Objective};
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, BTreeSet};
 
 /// Share of a structure's reference random error that every value set of
 /// the structure is assumed to keep (see [`Optimised`]).
@@ -109,8 +112,14 @@ trait StructureSearch {
     fn mode(&self) -> SearchMode;
     /// Whether the walk stops once the structures' bounds prove the best.
     fn stops_at_proof(&self) -> bool;
-    /// Whether a structure is dropped before its value sets are made.
-    fn screens_out(&self, problem: &Problem<'_>, structure: &Structure) -> bool;
+    /// Whether a structure (or its network variant at `network_stage`) is
+    /// dropped before its value sets are searched.
+    fn screens_out(
+        &self,
+        problem: &Problem<'_>,
+        structure: &Structure,
+        network_stage: Option<usize>,
+    ) -> bool;
     /// Search one structure with its value sets, offering every verified
     /// design to `state`.
     fn search(
@@ -134,8 +143,11 @@ trait StructureSearch {
 /// full analysis of each pick is what decides.
 #[derive(Default)]
 struct Optimised {
-    /// Budget split of the first reference design of each group.
-    splits: BTreeMap<usize, RandomSplit>,
+    /// Budget split of the first reference design of each group, and of
+    /// each of its network variants (by the stage the network fills): a
+    /// network element's terms stay as they are when the split is rescaled
+    /// to other grades, so a variant is screened by a variant's split.
+    splits: BTreeMap<(usize, Option<usize>), RandomSplit>,
 }
 
 /// What the reference design of a structure leaves for its MILP.
@@ -145,6 +157,13 @@ struct ReferenceBounds {
     /// Error no value set changes: what the closed forms miss plus the
     /// finite-gain error, volts.
     constant: [f64; 2],
+}
+
+/// The stage whose value sets are network sets, if any.
+fn network_stage(value_sets: &[Vec<ValueSet>]) -> Option<usize> {
+    value_sets
+        .iter()
+        .position(|sets| sets.iter().any(|set| set.network.is_some()))
 }
 
 /// The exact nominal error of one value set per stage from the stage
@@ -182,7 +201,7 @@ impl Optimised {
             Model::candidate(problem.need, problem.stock, &reference_design, &gets_pair).ok()?;
         state.evaluated += 1;
         self.splits
-            .entry(structure.group)
+            .entry((structure.group, network_stage(value_sets)))
             .or_insert_with(|| model.random_split(group.shapes.len()));
         // Checks that no choice of values can change end the structure
         // here; a swing or common-mode miss may be the reference values'.
@@ -324,8 +343,14 @@ impl StructureSearch for Optimised {
 
     /// Screen by the group's shared budget split where one exists: the
     /// same netlist with other grades, rescaled.
-    fn screens_out(&self, problem: &Problem<'_>, structure: &Structure) -> bool {
-        self.splits.get(&structure.group).is_some_and(|split| {
+    fn screens_out(
+        &self,
+        problem: &Problem<'_>,
+        structure: &Structure,
+        network_stage: Option<usize>,
+    ) -> bool {
+        let key = (structure.group, network_stage);
+        self.splits.get(&key).is_some_and(|split| {
             let estimate = estimate_random(problem, split, &structure.grades);
             estimate[0] > problem.target_v * SCREEN_SLACK
                 || estimate[1] > problem.target_v * SCREEN_SLACK
@@ -408,6 +433,38 @@ fn proof_from_space(
     }
 }
 
+/// Matched roles a network package fills in a stage.
+const MATCHED_ROLES: f64 = 4.0;
+
+/// Whether a network variant of a structure cannot be cheaper than the
+/// best design (cost objective only): the structure's bound with the
+/// matched roles' resistors at the grade's cheapest part taken out and
+/// the cheapest package on the shelf put in. A rule of thumb that keeps
+/// the variants few (the bound's line count is the structure's).
+fn variant_cannot_win(
+    problem: &Problem<'_>,
+    structure: &Structure,
+    stage: usize,
+    state: &SearchState,
+) -> bool {
+    if problem.need.search.objective != Objective::Cost {
+        return false;
+    }
+    let Some(best) = state.best.as_ref() else {
+        return false;
+    };
+    let package = problem
+        .stock
+        .networks
+        .iter()
+        .filter(|part| part.stock_qty != Some(0))
+        .map(|part| part.unit_cost)
+        .fold(f64::INFINITY, f64::min);
+    let grade = &problem.grades[structure.grades[stage]];
+    let bound = structure.bound - MATCHED_ROLES * grade.min_cost + package;
+    bound >= best.costing.total - 1e-12
+}
+
 /// Walk the structures in bound order and search each.
 pub(super) fn run(
     problem: &Problem<'_>,
@@ -429,6 +486,9 @@ pub(super) fn run(
     let total = list.total();
     let mut strategy: Box<dyn StructureSearch> = Box::new(Optimised::default());
     let mut cache = ValueSetCache::new();
+    // Network variants already taken up, by group, stage and the grades
+    // that change their sets.
+    let mut variants_done: BTreeSet<(usize, usize, Vec<usize>)> = BTreeSet::new();
     let mut rule = StopRule::default();
     let mut stopped = None;
     let limit = problem.need.search.time_limit_ms as f64;
@@ -469,15 +529,61 @@ pub(super) fn run(
             });
             break;
         }
-        if strategy.screens_out(problem, structure) {
+        let group = &groups[structure.group];
+        if !strategy.screens_out(problem, structure, None) {
+            if let Some(value_sets) =
+                value_sets_for_structure(problem, group, structure, &mut cache, None)
+            {
+                strategy.search(problem, group, structure, &value_sets, &mut state);
+            }
+        }
+        // The structure's network variants: a stage with matched roles
+        // takes them from one package of a stocked network. Not screened
+        // by the group's split (a discrete grade's random error, which a
+        // matched package does not have).
+        if problem.stock.networks.is_empty() {
             continue;
         }
-        let group = &groups[structure.group];
-        let Some(value_sets) = value_sets_for_structure(problem, group, structure, &mut cache)
-        else {
-            continue;
-        };
-        strategy.search(problem, group, structure, &value_sets, &mut state);
+        for stage in 0..group.shapes.len() {
+            let Some(matched) = group.shapes[stage].behaviour().matched_roles() else {
+                continue;
+            };
+            // Once per variant: the grade of a stage the package fills
+            // whole, and the divider grade of a group without a divider,
+            // change none of its sets (nor its bound below, nor its
+            // screen), so they are left out of the key.
+            let n = group.shapes.len();
+            let shape = group.shapes[stage];
+            let whole = shape
+                .required_roles()
+                .iter()
+                .chain(shape.behaviour().optional_roles())
+                .all(|role| matched.low.contains(role) || matched.high.contains(role));
+            let divided = (0..n).any(|i| group.plan(i).is_some());
+            let key: Vec<usize> = structure
+                .grades
+                .iter()
+                .enumerate()
+                .map(|(i, &g)| {
+                    if (i == stage && whole) || (i == n && !divided) {
+                        usize::MAX
+                    } else {
+                        g
+                    }
+                })
+                .collect();
+            if !variants_done.insert((structure.group, stage, key))
+                || variant_cannot_win(problem, structure, stage, &state)
+                || strategy.screens_out(problem, structure, Some(stage))
+            {
+                continue;
+            }
+            if let Some(value_sets) =
+                value_sets_for_structure(problem, group, structure, &mut cache, Some(stage))
+            {
+                strategy.search(problem, group, structure, &value_sets, &mut state);
+            }
+        }
     }
     let (mut proven_optimal, mut gap) = proof_from_space(objective, &space, state.best.as_ref());
     let mut proven_infeasible = space.proven_empty();

@@ -2,16 +2,50 @@
 //! (and offset dividers) whose ratios come nearest the stage's target gain
 //! and offset, each with its linearised effect at the output; ratio
 //! searches over the sorted value list; a design from one set per stage.
+//! Where the stock holds matched networks, a stage whose shape has matched
+//! roles also gets sets whose matched roles are elements of one package
+//! ([`NetworkPick`]), searched as a variant of the structure.
 
 use super::groups::{Group, OffsetPlan};
 use super::structures::{Grade, Structure};
 use super::Problem;
 use crate::design::{Design, Injection, Resistor, Stage};
-use crate::shape::{offset_drive, OffsetNetwork, Role, StageDrive, StageShape, ValueSetRequest};
+use crate::shape::{
+    offset_drive, MatchedRoles, OffsetNetwork, Role, RoleValues, StageDrive, StageShape,
+    ValueSetRequest,
+};
 use std::collections::BTreeMap;
 
 /// Value sets kept per stage.
 const VALUE_SETS_PER_STAGE: usize = 4;
+/// Network value sets kept per stage.
+const NETWORK_SETS_PER_STAGE: usize = 4;
+/// Reach of a network value set: its own linearised error at the output
+/// (as calibration leaves it) within this many times the target. A package
+/// whose ratio misses the stage's gain by more cannot serve it (a later
+/// stage could cancel some of it, hence more than one target; a rule of
+/// thumb).
+const NETWORK_REACH: f64 = 2.0;
+
+/// The elements of one matched network package filling the matched roles
+/// of a stage.
+#[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord)]
+pub(super) struct NetworkPick {
+    /// Index of the part in the stock's networks.
+    pub(super) part: usize,
+    /// Element number (1-based) by role.
+    pub(super) elements: BTreeMap<Role, u32>,
+}
+
+/// A BOM line a value set places parts on: a resistor part, or a network
+/// part (one line however many packages).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub(super) enum PartLine {
+    /// Index in the stock's resistors.
+    Resistor(usize),
+    /// Index in the stock's networks (one package per value set).
+    Network(usize),
+}
 
 /// A stage value set with its linearised effect.
 #[derive(Debug, Clone)]
@@ -28,20 +62,29 @@ pub(super) struct ValueSet {
     pub(super) offset: f64,
     /// Linearised output error at each span end, volts.
     pub(super) contribution: [f64; 2],
-    /// Price of its resistors.
+    /// Price of its resistors (a network package once).
     pub(super) cost: f64,
+    /// The network package filling its matched roles, if any (those roles
+    /// are then not in `resistors`).
+    pub(super) network: Option<NetworkPick>,
 }
 
 impl ValueSet {
-    /// Stock indices of every resistor the set places.
-    pub(super) fn stock_parts(&self, grade: &Grade, divider_grade: &Grade) -> Vec<usize> {
-        let mut out: Vec<usize> = self.resistors.values().map(|&i| grade.parts[i]).collect();
+    /// The BOM line of every part the set places, once per part placed (a
+    /// network package once).
+    pub(super) fn stock_parts(&self, grade: &Grade, divider_grade: &Grade) -> Vec<PartLine> {
+        let mut out: Vec<PartLine> = self
+            .resistors
+            .values()
+            .map(|&i| PartLine::Resistor(grade.parts[i]))
+            .collect();
         out.extend(
             self.offset_top
                 .iter()
                 .chain(self.offset_bottom.iter())
-                .map(|&i| divider_grade.parts[i]),
+                .map(|&i| PartLine::Resistor(divider_grade.parts[i])),
         );
+        out.extend(self.network.as_ref().map(|n| PartLine::Network(n.part)));
         out
     }
 }
@@ -82,8 +125,84 @@ impl Problem<'_> {
         divider_grade: &Grade,
         previous_ideal: [f64; 2],
     ) -> Vec<ValueSet> {
+        let scoring = self.stage_scoring(group, stage, grade, divider_grade, previous_ideal);
+        let mut out: Vec<ValueSet> = self
+            .shape_candidates(&scoring)
+            .into_iter()
+            .filter_map(|(roles, divider)| self.score(&scoring, roles, divider, None))
+            .collect();
+        sort_by_effect(&mut out);
+        out.truncate(VALUE_SETS_PER_STAGE);
+        out
+    }
+
+    /// The network value sets of one stage: the shape's candidates with
+    /// their matched roles taken from the elements of one package of a
+    /// stocked network part (on the shelf), each scored like any value set;
+    /// those within [`NETWORK_REACH`] of the target, best first. Empty for
+    /// a shape without matched roles or a stock without networks.
+    pub(super) fn network_sets_for_stage(
+        &self,
+        group: &Group,
+        stage: usize,
+        grade: &Grade,
+        divider_grade: &Grade,
+        previous_ideal: [f64; 2],
+    ) -> Vec<ValueSet> {
+        let Some(matched) = group.shapes[stage].behaviour().matched_roles() else {
+            return Vec::new();
+        };
+        let picks = network_picks(self.stock, matched);
+        if picks.is_empty() {
+            return Vec::new();
+        }
+        let scoring = self.stage_scoring(group, stage, grade, divider_grade, previous_ideal);
+        let taken = [
+            matched.low[0],
+            matched.low[1],
+            matched.high[0],
+            matched.high[1],
+        ];
+        // The shape's candidates without the matched roles: what the grade
+        // still fills (and the divider), once each.
+        let mut bases: Vec<RoleValues> = Vec::new();
+        for (mut roles, divider) in self.shape_candidates(&scoring) {
+            roles.retain(|role, _| !taken.contains(role));
+            if !bases.iter().any(|b| b.0 == roles && b.1 == divider) {
+                bases.push((roles, divider));
+            }
+        }
+        let calibration = self.need.accuracy.calibration;
+        let reach = NETWORK_REACH * self.target_v;
+        let mut out: Vec<ValueSet> = Vec::new();
+        for (roles, divider) in &bases {
+            for pick in &picks {
+                let Some(set) = self.score(&scoring, roles.clone(), *divider, Some(pick.clone()))
+                else {
+                    continue;
+                };
+                let e = calibration.apply(set.contribution);
+                if e[0].abs().max(e[1].abs()) <= reach {
+                    out.push(set);
+                }
+            }
+        }
+        sort_by_effect(&mut out);
+        out.truncate(NETWORK_SETS_PER_STAGE);
+        out
+    }
+
+    /// What scoring one stage's value sets reads.
+    fn stage_scoring<'s>(
+        &self,
+        group: &Group,
+        stage: usize,
+        grade: &'s Grade,
+        divider_grade: &'s Grade,
+        previous_ideal: [f64; 2],
+    ) -> StageScoring<'s> {
         let plan = group.plan(stage);
-        let scoring = StageScoring {
+        StageScoring {
             behaviour: group.shapes[stage].behaviour(),
             grade,
             divider_grade,
@@ -104,7 +223,13 @@ impl Problem<'_> {
                 .map(|i| group.offsets[i] * group.gains[i + 1..].iter().product::<f64>())
                 .sum(),
             overall_gain: self.need.ideal_transfer().0,
-        };
+        }
+    }
+
+    /// The shape's candidates for a stage (with the dividers of an
+    /// unbuffered REF tap at every impedance level).
+    fn shape_candidates(&self, scoring: &StageScoring<'_>) -> Vec<RoleValues> {
+        let (grade, divider_grade) = (scoring.grade, scoring.divider_grade);
         let request = ValueSetRequest {
             values: &grade.values,
             divider_values: &divider_grade.values,
@@ -120,31 +245,36 @@ impl Problem<'_> {
             let tap = scoring.offset / scoring.source_volts;
             candidates = with_unbuffered_dividers(candidates, divider_grade, tap);
         }
-        let mut out: Vec<ValueSet> = candidates
-            .into_iter()
-            .filter_map(|(roles, divider)| self.score(&scoring, roles, divider))
-            .collect();
-        out.sort_by(|x, y| {
-            let mx = x.contribution[0].abs().max(x.contribution[1].abs());
-            let my = y.contribution[0].abs().max(y.contribution[1].abs());
-            mx.total_cmp(&my).then(x.cost.total_cmp(&y.cost))
-        });
-        out.truncate(VALUE_SETS_PER_STAGE);
-        out
+        candidates
     }
 
     /// One candidate's exact stage gain and offset from the shape's closed
     /// form, its linearised effect at the output and its price; `None`
-    /// when the closed form gives no usable gain.
+    /// when the closed form gives no usable gain. The roles of `network`
+    /// take its elements' values.
     fn score(
         &self,
         scoring: &StageScoring<'_>,
         roles: BTreeMap<Role, usize>,
         divider: Option<(usize, usize)>,
+        network: Option<NetworkPick>,
     ) -> Option<ValueSet> {
         let values = &scoring.grade.values;
         let divider_values = &scoring.divider_grade.values;
-        let ohms = |role: Role| roles.get(&role).map(|&i| values[i]).unwrap_or(f64::NAN);
+        let package = network
+            .as_ref()
+            .and_then(|n| self.stock.networks.get(n.part).map(|part| (n, part)));
+        let ohms = |role: Role| {
+            let element = package.and_then(|(n, part)| {
+                let index = usize::try_from(*n.elements.get(&role)?)
+                    .ok()?
+                    .checked_sub(1)?;
+                part.values.get(index).map(|v| v.0)
+            });
+            element
+                .or_else(|| roles.get(&role).map(|&i| values[i]))
+                .unwrap_or(f64::NAN)
+        };
         let divider_ohms =
             divider.map(|(top, bottom)| (divider_values[top], divider_values[bottom]));
         let (offset_volts, mut thevenin_ohms) =
@@ -192,6 +322,9 @@ impl Problem<'_> {
         if let Some((top, bottom)) = divider {
             cost += price(scoring.divider_grade, top) + price(scoring.divider_grade, bottom);
         }
+        if let Some((_, part)) = package {
+            cost += part.unit_cost;
+        }
         Some(ValueSet {
             resistors: roles,
             offset_top: divider.map(|d| d.0),
@@ -200,12 +333,15 @@ impl Problem<'_> {
             offset,
             contribution,
             cost,
+            network,
         })
     }
 
     /// Turn one value set per stage into a design.
     pub(super) fn design(&self, group: &Group, grades: &[usize], picks: &[&ValueSet]) -> Design {
         let mut stages = Vec::new();
+        // Packages placed so far, by network part: each set takes its own.
+        let mut packages: BTreeMap<usize, u32> = BTreeMap::new();
         for (i, (&shape, value_set)) in group.shapes.iter().zip(picks).enumerate() {
             let grade = &self.grades[grades[i]];
             let divider_grade = &self.grades[grades[group.shapes.len()]];
@@ -213,11 +349,22 @@ impl Problem<'_> {
                 |idx: usize| Resistor::from(&self.stock.resistors[grade.parts[idx]]);
             let divider_resistor =
                 |idx: usize| Resistor::from(&self.stock.resistors[divider_grade.parts[idx]]);
-            let resistors: BTreeMap<Role, Resistor> = value_set
+            let mut resistors: BTreeMap<Role, Resistor> = value_set
                 .resistors
                 .iter()
                 .map(|(&role, &index)| (role, stage_resistor(index)))
                 .collect();
+            if let Some(n) = &value_set.network {
+                let count = packages.entry(n.part).or_insert(0);
+                *count += 1;
+                if let Some(part) = self.stock.networks.get(n.part) {
+                    for (&role, &element) in &n.elements {
+                        if let Some(r) = Resistor::network_element(part, *count, element) {
+                            resistors.insert(role, r);
+                        }
+                    }
+                }
+            }
             let plan = group.plan(i);
             let divider = |buffered: bool, p: &OffsetPlan| match (
                 value_set.offset_top,
@@ -278,6 +425,67 @@ impl Problem<'_> {
         self.pairs.place_feedback(self.stock, &mut design);
         design
     }
+}
+
+/// Sort value sets by their linearised effect at the output, then price.
+fn sort_by_effect(sets: &mut [ValueSet]) {
+    sets.sort_by(|x, y| {
+        let mx = x.contribution[0].abs().max(x.contribution[1].abs());
+        let my = y.contribution[0].abs().max(y.contribution[1].abs());
+        mx.total_cmp(&my).then(x.cost.total_cmp(&y.cost))
+    });
+}
+
+/// Every way one package of a stocked network part (`stock_qty` not 0)
+/// fills a stage's matched roles: two elements of one value for `low`, two
+/// of one value for `high` (the same value too, from four elements), the
+/// lowest-numbered elements of each value, once per pair of values.
+fn network_picks(stock: &crate::stock::Stock, matched: MatchedRoles) -> Vec<NetworkPick> {
+    let mut out = Vec::new();
+    for (part, network) in stock.networks.iter().enumerate() {
+        if network.stock_qty == Some(0) {
+            continue;
+        }
+        // Element numbers (1-based) by distinct value, in element order.
+        let mut classes: Vec<(f64, Vec<u32>)> = Vec::new();
+        for (i, v) in network.values.iter().enumerate() {
+            let Ok(number) = u32::try_from(i + 1) else {
+                break;
+            };
+            match classes
+                .iter_mut()
+                .find(|(value, _)| (value - v.0).abs() <= 1e-9 * value.abs())
+            {
+                Some((_, elements)) => elements.push(number),
+                None => classes.push((v.0, vec![number])),
+            }
+        }
+        for (low, low_elements) in classes.iter().map(|(_, e)| e).enumerate() {
+            for (high, high_elements) in classes.iter().map(|(_, e)| e).enumerate() {
+                let (l, h): (&[u32], &[u32]) = if low == high {
+                    if low_elements.len() < 4 {
+                        continue;
+                    }
+                    (&low_elements[..2], &low_elements[2..4])
+                } else {
+                    if low_elements.len() < 2 || high_elements.len() < 2 {
+                        continue;
+                    }
+                    (&low_elements[..2], &high_elements[..2])
+                };
+                let elements: BTreeMap<Role, u32> = [
+                    (matched.low[0], l[0]),
+                    (matched.low[1], l[1]),
+                    (matched.high[0], h[0]),
+                    (matched.high[1], h[1]),
+                ]
+                .into_iter()
+                .collect();
+                out.push(NetworkPick { part, elements });
+            }
+        }
+    }
+    out
 }
 
 /// Dividers kept per decade of the divider's smaller resistor for an
@@ -344,17 +552,19 @@ fn with_unbuffered_dividers(
     out
 }
 
-/// Value sets already generated, by (group, stage, grade, divider grade):
-/// structures of one group share them.
-pub(super) type ValueSetCache = BTreeMap<(usize, usize, usize, usize), Vec<ValueSet>>;
+/// Value sets already generated, by (group, stage, grade, divider grade,
+/// network sets or not): structures of one group share them.
+pub(super) type ValueSetCache = BTreeMap<(usize, usize, usize, usize, bool), Vec<ValueSet>>;
 
 /// Value sets for every stage of a structure, chained through ideal
-/// outputs; `None` when a stage has none.
+/// outputs; `None` when a stage has none. With `network_stage`, that
+/// stage's sets are its network sets only ([`Problem::network_sets_for_stage`]).
 pub(super) fn value_sets_for_structure(
     problem: &Problem<'_>,
     group: &Group,
     structure: &Structure,
     cache: &mut ValueSetCache,
+    network_stage: Option<usize>,
 ) -> Option<Vec<Vec<ValueSet>>> {
     let n = group.shapes.len();
     let mut prev = problem.signal;
@@ -366,17 +576,26 @@ pub(super) fn value_sets_for_structure(
         } else {
             usize::MAX
         };
-        let key = (structure.group, i, structure.grades[i], divider_grade);
+        let networks = network_stage == Some(i);
+        let key = (
+            structure.group,
+            i,
+            structure.grades[i],
+            divider_grade,
+            networks,
+        );
         let stage_sets = cache
             .entry(key)
             .or_insert_with(|| {
-                problem.value_sets_for_stage(
-                    group,
-                    i,
+                let (grade, divider) = (
                     &problem.grades[structure.grades[i]],
                     &problem.grades[structure.grades[n]],
-                    prev,
-                )
+                );
+                if networks {
+                    problem.network_sets_for_stage(group, i, grade, divider, prev)
+                } else {
+                    problem.value_sets_for_stage(group, i, grade, divider, prev)
+                }
             })
             .clone();
         if stage_sets.is_empty() {

@@ -3,8 +3,8 @@
 //! node), which makes a positive output offset.
 
 use super::{
-    push_with_ref, roles, OffsetNetwork, Role, RoleValues, StageDrive, StageNodes, StageShape,
-    ValueSetRequest,
+    push_with_ref, roles, MatchedRoles, OffsetNetwork, Role, RoleValues, StageDrive, StageNodes,
+    StageShape, ValueSetRequest,
 };
 use crate::design::Stage;
 use crate::error::Result;
@@ -86,6 +86,15 @@ impl StageShape for Difference {
             push_with_ref(&mut out, network, &ref_dividers);
         }
         out
+    }
+
+    /// `r1` with `r3` and `r2` with `r4`: the ratios the common-mode
+    /// rejection rests on.
+    fn matched_roles(&self) -> Option<MatchedRoles> {
+        Some(MatchedRoles {
+            low: [Role::R1, Role::R3],
+            high: [Role::R2, Role::R4],
+        })
     }
 
     fn build(

@@ -3,8 +3,8 @@
 //! whose REF node takes a buffered divider for a positive output offset.
 
 use super::{
-    push_with_ref, roles, OffsetNetwork, Role, RoleValues, StageDrive, StageNodes, StageShape,
-    ValueSetRequest,
+    push_with_ref, roles, MatchedRoles, OffsetNetwork, Role, RoleValues, StageDrive, StageNodes,
+    StageShape, ValueSetRequest,
 };
 use crate::design::Stage;
 use crate::error::Result;
@@ -91,6 +91,15 @@ impl StageShape for InstrumentationDiscrete {
             push_with_ref(&mut out, network, &ref_dividers);
         }
         out
+    }
+
+    /// The output difference part: `r1` with `r3` and `r2` with `r4`,
+    /// whose match sets the common-mode rejection.
+    fn matched_roles(&self) -> Option<MatchedRoles> {
+        Some(MatchedRoles {
+            low: [Role::R1, Role::R3],
+            high: [Role::R2, Role::R4],
+        })
     }
 
     fn build(

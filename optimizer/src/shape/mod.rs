@@ -241,6 +241,17 @@ pub(crate) struct StageDrive<'d> {
 /// divider grade.
 pub(crate) type RoleValues = (BTreeMap<Role, usize>, Option<(usize, usize)>);
 
+/// Roles of a stage that one matched network package may fill: the roles
+/// of `low` take one value, those of `high` another (or the same), each
+/// from its own element of the package.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct MatchedRoles {
+    /// The first pair (one value).
+    pub(crate) low: [Role; 2],
+    /// The second pair (one value).
+    pub(crate) high: [Role; 2],
+}
+
 /// What a shape's value-set generator is asked for one stage.
 pub(crate) struct ValueSetRequest<'r> {
     /// The stage grade's sorted values, ohms.
@@ -372,6 +383,12 @@ pub(crate) trait StageShape: Sync {
     fn ideal_output(&self, drive: &StageDrive<'_>, plus: f64, minus: f64) -> f64;
     /// The value sets the search tries for a stage gain and offset.
     fn value_sets(&self, request: &ValueSetRequest<'_>) -> Vec<RoleValues>;
+    /// The roles whose ratios must match, which the search may take from
+    /// the elements of one matched network package: two pairs of roles,
+    /// each pair of one value (`None` for a shape without such roles).
+    fn matched_roles(&self) -> Option<MatchedRoles> {
+        None
+    }
     /// Place the stage's elements in the netlist.
     fn build(
         &self,
