@@ -132,8 +132,10 @@ export function cliDemoJson() {
   return cliDemo;
 }
 
-// The CLI's files for the demo need file (examples/demo-need.toml, whose
-// stock folder is the demo stock): {json, spice, bom, svg}.
+// The CLI's files for the page's demo: `spanfit demo`, the same need and
+// the same embedded demo stock the page solves: {json, spice, bom, svg}.
+// (`spanfit solve examples/demo-need.toml` reads the stock folder, which
+// also holds the invented matched networks, so its design may differ.)
 let cliFiles = null;
 export function cliDemoFiles() {
   if (cliFiles) return cliFiles;
@@ -141,7 +143,7 @@ export function cliDemoFiles() {
   const dir = mkdtempSync(join(tmpdir(), 'spanfit-cli-'));
   const out = (name) => join(dir, name);
   const bin = join(ROOT, 'target', 'release', 'spanfit');
-  const args = ['solve', 'examples/demo-need.toml', '--json', '--spice', out('demo.cir'), '--bom', out('bom.csv'), '--svg', out('demo.svg')];
+  const args = ['demo', '--json', '--spice', out('demo.cir'), '--bom', out('bom.csv'), '--svg', out('demo.svg')];
   const run = existsSync(bin)
     ? spawnSync(bin, args, { cwd: ROOT, encoding: 'utf8' })
     : spawnSync('cargo', ['run', '-q', '--release', '-p', 'spanfit-cli', '--', ...args], { cwd: ROOT, encoding: 'utf8' });
