@@ -97,28 +97,6 @@ pub(crate) struct FilterPairs<'s> {
     /// droop rule ([`crate::filter::needs_second_pole`]): only then does
     /// the search place a feedback capacitor ([`FilterPairs::place_feedback`]).
     second_pole: bool,
-    /// The feedback capacitor [`FilterPairs::place_feedback`] picked (its
-    /// stock index, or none), by everything the pick reads: see
-    /// [`FeedbackKey`].
-    feedback_cache: RefCell<BTreeMap<FeedbackKey, Option<usize>>>,
-}
-
-/// What [`FilterPairs::place_feedback`]'s pick is a function of, exactly:
-/// the driving part's numbers and the stage's noise gain (the pair's
-/// [`Driver`] before the pole is added), `rf`'s value and tolerance (the
-/// pole's corners), and the design's own use of the shelf by part id
-/// (which parts fit once more, and which BOM lines the pair shares). The
-/// walk tries many designs that differ only in roles outside this key
-/// (offset networks, other stages), so the pick is made once per key.
-#[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord)]
-struct FeedbackKey {
-    /// `gbw_hz`, `output_ohms`, `noise_gain`, `output_amps`, `step_v` of
-    /// the driver, then `rf`'s ohms and tolerance, as bits.
-    numbers: [u64; 7],
-    /// The driver's feedback corners before the pole (bits of each field).
-    corners: Vec<[u64; 3]>,
-    /// The design's use of the shelf: part id and count.
-    used: Vec<(String, u32)>,
 }
 
 /// Most pairs kept in the cache (a sampling input makes one per noise
@@ -181,7 +159,6 @@ impl<'s> FilterPairs<'s> {
                 .collect(),
             cache: RefCell::new(BTreeMap::new()),
             second_pole: crate::filter::needs_second_pole(need) && stock_has_capacitors(stock),
-            feedback_cache: RefCell::new(BTreeMap::new()),
         }
     }
 
@@ -221,41 +198,7 @@ impl<'s> FilterPairs<'s> {
             return;
         };
         let used = resistors_used(&built);
-        let key = FeedbackKey {
-            numbers: [
-                base.gbw_hz.to_bits(),
-                base.output_ohms.to_bits(),
-                base.noise_gain.to_bits(),
-                base.output_amps.to_bits(),
-                base.step_v.to_bits(),
-                rf.ohms.to_bits(),
-                rf.tolerance_pct.to_bits(),
-            ],
-            corners: base
-                .feedback
-                .iter()
-                .map(|c| {
-                    [
-                        c.low_hz.to_bits(),
-                        c.high_hz.to_bits(),
-                        c.noise_gain.to_bits(),
-                    ]
-                })
-                .collect(),
-            used: used.iter().map(|(id, n)| ((*id).to_string(), *n)).collect(),
-        };
-        let known = self.feedback_cache.borrow().get(&key).copied();
-        let pick = match known {
-            Some(pick) => pick,
-            None => {
-                let pick = self.pick_feedback(&rf, &base, &used);
-                let mut cache = self.feedback_cache.borrow_mut();
-                if cache.len() < CACHE_ENTRIES {
-                    cache.insert(key, pick);
-                }
-                pick
-            }
-        };
+        let pick = self.pick_feedback(&rf, &base, &used);
         if let (Some(ci), Some(stage)) = (pick, design.stages.last_mut()) {
             stage.feedback_capacitor = Some(self.stock.capacitors[ci].clone());
         }
