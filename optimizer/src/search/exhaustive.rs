@@ -174,6 +174,11 @@ struct Catalog {
     /// Stock indices of the op-amps and in-amps that run on the rails.
     opamps: Vec<usize>,
     inamps: Vec<usize>,
+    /// Those of them that may sit in the first stage. Proof 6: a
+    /// first-stage part whose accuracy floor (search/floors.rs) is over
+    /// the target is in no design that meets the need.
+    first_opamps: Vec<usize>,
+    first_inamps: Vec<usize>,
 }
 
 impl Catalog {
@@ -212,12 +217,25 @@ impl Catalog {
                 fits(p.supply_min.0, p.supply_max.0, p.stock_qty)
             })
             .collect();
+        let over = |kind: AmplifierKind| part_floor_v(need, stock, kind) > problem.target_v;
+        let first_opamps = opamps
+            .iter()
+            .copied()
+            .filter(|&i| !over(AmplifierKind::OpAmp(i)))
+            .collect();
+        let first_inamps = inamps
+            .iter()
+            .copied()
+            .filter(|&i| !over(AmplifierKind::InAmp(i)))
+            .collect();
         Catalog {
             sources,
             resistors,
             least_resistor,
             opamps,
             inamps,
+            first_opamps,
+            first_inamps,
         }
     }
 
@@ -245,24 +263,18 @@ impl Catalog {
         for (position, &shape) in shapes.iter().enumerate() {
             let last = position + 1 == shapes.len();
             let mut options = Vec::new();
-            let amplifiers = if shape.integrated() { inamps } else { opamps };
+            let amplifiers = match (shape.integrated(), position == 0) {
+                (true, true) => &self.first_inamps,
+                (true, false) => inamps,
+                (false, true) => &self.first_opamps,
+                (false, false) => opamps,
+            };
             let bias_drives = if uses_bias(shape) {
                 drives(sources.len())
             } else {
                 vec![Drive::Ground]
             };
             for &amplifier in amplifiers {
-                // Proof 6: a first-stage part whose accuracy floor
-                // (search/floors.rs) is over the target is in no
-                // design that meets the need.
-                let kind = if shape.integrated() {
-                    AmplifierKind::InAmp(amplifier)
-                } else {
-                    AmplifierKind::OpAmp(amplifier)
-                };
-                if position == 0 && part_floor_v(need, stock, kind) > problem.target_v {
-                    continue;
-                }
                 for offset in drives(sources.len()) {
                     for &bias in &bias_drives {
                         let buffered = [offset, bias]
