@@ -150,21 +150,7 @@ pub fn amplifiers(stock: &Stock, built: &Built) -> Vec<AcAmplifier> {
 /// below its DC transfer, with nominal values; `None` where the AC
 /// analysis finds no DC transfer or fails.
 pub(crate) fn rejection_db(stock: &Stock, built: &Built, f: f64) -> Option<f64> {
-    let mut chain = Chain {
-        solver: AcSolver::new(&built.netlist, &amplifiers(stock, built)),
-        built,
-        dc: 1.0,
-    };
-    let dc = chain
-        .solver
-        .transfer(&built.netlist, built.vsense, built.out, 0.0)
-        .ok()?
-        .abs();
-    if !(dc.is_finite() && dc > 0.0) {
-        return None;
-    }
-    chain.dc = dc;
-    let p = chain.power(f)?;
+    let p = Chain::new(stock, built)?.power(f)?;
     (p.is_finite() && p > 0.0).then(|| -10.0 * p.log10())
 }
 
@@ -175,7 +161,27 @@ struct Chain<'a> {
     dc: f64,
 }
 
-impl Chain<'_> {
+impl<'a> Chain<'a> {
+    /// The chain of a built design, normalised to its DC transfer; `None`
+    /// where the AC analysis finds no finite, non-zero DC transfer.
+    fn new(stock: &Stock, built: &'a Built) -> Option<Chain<'a>> {
+        let mut chain = Chain {
+            solver: AcSolver::new(&built.netlist, &amplifiers(stock, built)),
+            built,
+            dc: 1.0,
+        };
+        let dc = chain
+            .solver
+            .transfer(&built.netlist, built.vsense, built.out, 0.0)
+            .map(|h| h.abs())
+            .unwrap_or(0.0);
+        if !(dc.is_finite() && dc > 0.0) {
+            return None;
+        }
+        chain.dc = dc;
+        Some(chain)
+    }
+
     fn power(&mut self, f: f64) -> Option<f64> {
         let h = self
             .solver
@@ -280,20 +286,9 @@ pub fn analyse(need: &Need, stock: &Stock, built: &Built) -> FilterStatus {
         };
     };
     let (filtered, series_ref, shunt_ref) = with_filter(built, &parts);
-    let mut chain = Chain {
-        solver: AcSolver::new(&filtered.netlist, &amplifiers(stock, &filtered)),
-        built: &filtered,
-        dc: 1.0,
-    };
-    let dc = chain
-        .solver
-        .transfer(&filtered.netlist, filtered.vsense, filtered.out, 0.0)
-        .map(|h| h.abs())
-        .unwrap_or(0.0);
-    if !(dc.is_finite() && dc > 0.0) {
+    let Some(mut chain) = Chain::new(stock, &filtered) else {
         return not("the AC analysis of the chain with the filter found no DC transfer");
-    }
-    chain.dc = dc;
+    };
     let bandwidth = need.accuracy.bandwidth.0;
     let Some(corner) = chain.corner(
         bandwidth

@@ -558,7 +558,7 @@ pub(super) fn run(
                 .required_roles()
                 .iter()
                 .chain(shape.behaviour().optional_roles())
-                .all(|role| matched.low.contains(role) || matched.high.contains(role));
+                .all(|role| matched.roles().contains(role));
             let divided = (0..n).any(|i| group.plan(i).is_some());
             let key: Vec<usize> = structure
                 .grades

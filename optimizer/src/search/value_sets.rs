@@ -157,12 +157,7 @@ impl Problem<'_> {
             return Vec::new();
         }
         let scoring = self.stage_scoring(group, stage, grade, divider_grade, previous_ideal);
-        let taken = [
-            matched.low[0],
-            matched.low[1],
-            matched.high[0],
-            matched.high[1],
-        ];
+        let taken = matched.roles();
         // The shape's candidates without the matched roles: what the grade
         // still fills (and the divider), once each.
         let mut bases: Vec<RoleValues> = Vec::new();
@@ -473,14 +468,11 @@ fn network_picks(stock: &crate::stock::Stock, matched: MatchedRoles) -> Vec<Netw
                     }
                     (&low_elements[..2], &high_elements[..2])
                 };
-                let elements: BTreeMap<Role, u32> = [
-                    (matched.low[0], l[0]),
-                    (matched.low[1], l[1]),
-                    (matched.high[0], h[0]),
-                    (matched.high[1], h[1]),
-                ]
-                .into_iter()
-                .collect();
+                let elements: BTreeMap<Role, u32> = matched
+                    .roles()
+                    .into_iter()
+                    .zip([l[0], l[1], h[0], h[1]])
+                    .collect();
                 out.push(NetworkPick { part, elements });
             }
         }

@@ -252,6 +252,13 @@ pub(crate) struct MatchedRoles {
     pub(crate) high: [Role; 2],
 }
 
+impl MatchedRoles {
+    /// The four roles, `low` then `high`.
+    pub(crate) fn roles(&self) -> [Role; 4] {
+        [self.low[0], self.low[1], self.high[0], self.high[1]]
+    }
+}
+
 /// What a shape's value-set generator is asked for one stage.
 pub(crate) struct ValueSetRequest<'r> {
     /// The stage grade's sorted values, ohms.
