@@ -73,6 +73,7 @@ test('on a wide screen the solved demo is in the first view without a click; on 
     const answer = await page.locator('[data-testid=answer]').boundingBox();
     const need = await page.locator('.need-panel').boundingBox();
     assert.equal(answer.x > need.x + need.width - 1, true, 'the answer sits beside the need');
+    assert.equal(await page.isVisible('[data-testid=glance]'), false, 'no foot bar when the answer is beside the need');
     await shot(page, 'bench-wide');
     for (const width of [390, 360]) {
       await page.setViewportSize({ width, height: 844 });
@@ -98,6 +99,27 @@ test('on a wide screen the solved demo is in the first view without a click; on 
           return r.width > 0 && r.right > window.innerWidth + 0.5 && !n.closest('.table-wrap, .schematic, dialog:not([open])');
         }).slice(0, 5).map((n) => `${n.tagName.toLowerCase()}#${n.id}.${n.className}`),
       }));
+      // The answer is below the need on a phone: a bar at the foot of the
+      // screen carries its verdict and the core's figures, and a link to it.
+      await page.waitForFunction(() => /meets the need/.test(document.querySelector('[data-testid=glance-text]').textContent));
+      const bar = await page.locator('[data-testid=glance]').boundingBox();
+      assert.ok(bar, 'the foot bar is shown');
+      assert.equal(bar.y >= 0 && bar.y + bar.height <= viewport.height + 0.5, true, `foot bar at ${JSON.stringify(bar)}`);
+      const glance = await page.textContent('[data-testid=glance-text]');
+      const shown = await page.evaluate(() => window.spanfitPage.state.result.bundle.report.design.error.worst_case_pct_fs);
+      assert.equal(glance.includes(`${Number(shown.toPrecision(3))} % FS`), true, `${glance} against ${shown}`);
+      await page.click('#glance-go');
+      await page.waitForFunction(() => {
+        const r = document.querySelector('[data-testid=answer]').getBoundingClientRect();
+        return r.top < window.innerHeight && r.bottom > 0;
+      });
+      await page.waitForSelector('[data-testid=glance]', { state: 'hidden' });
+      await page.evaluate(() => window.scrollTo(0, 0));
+      await page.waitForSelector('[data-testid=glance]', { state: 'visible' });
+      assert.deepEqual(await axeViolations(page), [], `phone ${viewport.width} px, with the foot bar`);
+      await page.emulateMedia({ colorScheme: 'dark' });
+      assert.deepEqual(await axeViolations(page), [], `phone ${viewport.width} px, dark, with the foot bar`);
+      await page.emulateMedia({ colorScheme: 'light' });
       let w = await fits();
       assert.equal(w.doc <= w.screen && w.body <= w.screen, true, `document ${w.doc} px wide on a ${w.screen} px screen`);
       assert.deepEqual(w.wide, [], `elements past the right edge at ${viewport.width} px`);
@@ -517,6 +539,15 @@ test('an infeasible need shows its best attempt beside the binding limit; a sugg
       assert.equal(await items.count(), info.suggestions.length);
       const applicable = info.suggestions.filter((s) => s.apply.length || s.apply_stock.length);
       assert.equal(await page.locator('[data-testid=apply-suggestion]').count(), applicable.length);
+      // Each suggestion names what it sets by the field's label, not its key.
+      const words = await page.$$eval('[data-testid=suggestions] li .change', (li) => li.map((x) => x.textContent));
+      info.suggestions.forEach((s, i) => {
+        for (const a of s.apply) {
+          const name = a.key.slice(a.key.indexOf('.') + 1);
+          assert.doesNotMatch(words[i], new RegExp(`\\b${name}\\s*=`), `${words[i]} (sets ${a.key})`);
+          assert.match(words[i], /“[^”]+” =/, words[i]);
+        }
+      });
       const widths = await page.evaluate(() => ({ doc: document.documentElement.scrollWidth, screen: window.innerWidth }));
       assert.equal(widths.doc <= widths.screen, true, `document ${widths.doc} px wide on a ${widths.screen} px screen`);
       await page.locator('[data-testid=infeasible]').scrollIntoViewIfNeeded();

@@ -26,7 +26,7 @@ import { loadStored, namedProjects, projectObject, saveNow, saveSoon, setAside, 
 import { buildForm, fillForm, validateNeed } from './need-form.js';
 import { buildTabs, onStockUpload, renderStockTable, stockChanged, validateStock } from './shelf.js';
 import { onCancel, refreshFreshness, runSolve } from './solve.js';
-import { pinViewed, renderCompare, renderViewed, watchChartWidth, wireSchematic } from './results.js';
+import { pinViewed, renderCompare, renderViewed, watchChartWidth, watchGlance, wireSchematic } from './results.js';
 import { wireDownloads } from './downloads.js';
 import { clearFragment, demoNeed, fragmentKind, demoStock, exampleProject, needFromFile, projectFromFile, projectFromFragment, readProject, readStockTexts, shareLink } from './project.js';
 import { toCsv } from './csv.js';
@@ -317,6 +317,7 @@ async function start() {
   showShelf();
   saveNow();
   watchChartWidth();
+  watchGlance();
   await Promise.all([validateNeed(), validateStock()]);
   refreshFreshness();
   document.body.dataset.ready = 'yes';

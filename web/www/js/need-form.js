@@ -82,9 +82,9 @@ export function buildForm(fields) {
     wrap.append(input);
     wrap.append(el('span', { className: 'unit', text: f.unit ? String(f.unit) : '' }));
     const optional = !f.required && (f.default === null || f.default === undefined);
-    const note = [optional ? 'optional' : '', typeof f.hint === 'string' ? plainKeys(f.hint) : ''].filter(Boolean).join('; ');
-    const hint = el('span', { className: 'hint', id: `${id}-hint`, text: note });
-    wrap.append(hint);
+    const words = typeof f.hint === 'string' ? plainKeys(f.hint) : '';
+    const note = optional ? `Optional.${words ? ` ${words}` : ''}` : words;
+    wrap.append(el('span', { className: 'hint', id: `${id}-hint`, text: note }));
     wrap.append(el('span', { className: 'understood', id: `${id}-understood`, 'data-testid': `understood-${f.key}` }));
     if (typeof f.help === 'string' && f.help) {
       const more = el('details', { className: 'help' }, el('summary', { text: 'More about this field' }));

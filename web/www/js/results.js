@@ -8,7 +8,7 @@ import { $, clear, el, isObject, num, setStatus } from './dom.js';
 import { eng, fmt } from './format.js';
 import { engines, hooks, state } from './state.js';
 import { alternativeDesign, errorOf, money, renderBode, renderBudget, renderBudgetNotes, renderHistogram, renderPareto, renderSweep } from './charts.js';
-import { applyNeedChanges, plainKeys } from './need-form.js';
+import { applyNeedChanges, fieldFor, plainKeys } from './need-form.js';
 import { applyStockChanges } from './shelf.js';
 
 /** `state.viewed.index` of the best attempt of an infeasible need. */
@@ -40,8 +40,10 @@ export function showReport() {
     banner.textContent = 'Stopped before any design was found. Run it again and let the search go on longer.';
     banner.dataset.tone = 'warn';
   } else if (report.status === 'unfinished') {
-    const why = typeof report.reason === 'string' ? ` ${pageReason(report.reason)}.` : '';
-    banner.textContent = `Not finished: no design found yet, and none shown impossible.${why}`;
+    const why = typeof report.reason === 'string' ? pageReason(report.reason).trim() : '';
+    banner.textContent = why
+      ? `Not finished. ${why.charAt(0).toUpperCase()}${why.slice(1)}.`
+      : 'Not finished: no design found yet, and none shown impossible.';
     banner.dataset.tone = 'warn';
   } else {
     const why = typeof report.reason === 'string' ? report.reason
@@ -429,12 +431,31 @@ function changesOf(tip) {
  */
 async function applySuggestion(tip) {
   const { need, stock } = changesOf(tip);
-  const what = plainKeys(String(tip.change ?? 'the change'));
+  const what = suggestionWords(tip) || 'the change';
   setStatus('run-status', `Applied: ${what}. Solving again…`, 'good');
   if (need.length) await applyNeedChanges(need);
   if (stock.length) await applyStockChanges(stock);
   $('answer').focus();
   if (state.needValid && state.stockValid && hooks.solveNow) hooks.solveNow();
+}
+
+/**
+ * A suggestion's words with each need key it sets written as its field's
+ * label (the core writes `calibration = "two-point"`; the page says
+ * “Calibration on the board” = "two-point").
+ */
+export function suggestionWords(tip) {
+  let words = String(tip.change ?? '');
+  for (const one of Array.isArray(tip.apply) ? tip.apply : []) {
+    if (!isObject(one) || typeof one.key !== 'string') continue;
+    const f = fieldFor(one.key);
+    if (!f || !f.label) continue;
+    const name = one.key.slice(one.key.indexOf('.') + 1);
+    const section = one.key.slice(0, one.key.indexOf('.'));
+    const at = new RegExp(`\\b(?:${section}\\.)?${name}\\b(?=\\s*=)`, 'g');
+    words = words.replace(at, `“${f.label}”`);
+  }
+  return plainKeys(words);
 }
 
 function renderInfeasible(report) {
@@ -457,7 +478,7 @@ function renderInfeasible(report) {
     if (!isObject(tip)) return;
     const figures = [num(tip.cost) !== null ? `cost ${money(tip.cost)}` : '', num(tip.error_pct_fs) !== null ? `${fmt(tip.error_pct_fs, 3)} % FS` : '']
       .filter(Boolean).join(', ');
-    const change = plainKeys(String(tip.change ?? ''));
+    const change = suggestionWords(tip);
     const item = el('li', { 'data-suggestion': i }, el('span', { className: 'change', text: change }),
       el('span', { className: 'aside', text: figures ? ` (${figures})` : '' }));
     const { need, stock } = changesOf(tip);
@@ -612,4 +633,45 @@ async function analyseViewed(design, index) {
   } catch (error) {
     if (seq === analyzeSeq) $('viewing').textContent = `Showing ${state.viewed.label}; its full analysis failed: ${error.message}`;
   }
+}
+
+/**
+ * The bar at the foot of a narrow screen: the answer's state and headline
+ * figures (the core's, as the figures above show them) while the answer
+ * itself is out of view.
+ */
+export function renderGlance() {
+  const fresh = $('freshness');
+  let words = fresh.textContent;
+  let tone = '';
+  if (state.result) {
+    const report = reportOf(state.result.bundle);
+    if (report.status === 'ok' && isObject(report.design)) {
+      const e = errorOf(report.design);
+      const basis = state.result.need.accuracy && state.result.need.accuracy.basis === 'rss' ? 'RSS' : 'worst case';
+      const value = basis === 'RSS' ? e.rss : e.worst;
+      words = `A design meets the need: ${basis} ${fmt(value, 3)} % FS, cost ${money(report.design.cost)}`;
+      tone = 'good';
+    } else if (report.status === 'unfinished' || state.result.cancelled) {
+      words = 'Not finished: no design found yet';
+      tone = 'warn';
+    } else {
+      words = 'No design meets the need';
+      tone = 'bad';
+    }
+    if (fresh.dataset.fresh !== 'current') words = `${fresh.textContent} · ${words}`;
+  }
+  $('glance-text').textContent = words;
+  $('glance').dataset.tone = tone;
+}
+
+/** Show the foot bar only while the answer panel is out of view. */
+export function watchGlance() {
+  const bar = $('glance');
+  if (typeof IntersectionObserver !== 'function') return;
+  const seen = new IntersectionObserver((entries) => {
+    for (const entry of entries) bar.hidden = entry.isIntersecting;
+  });
+  seen.observe($('answer'));
+  renderGlance();
 }

@@ -7,7 +7,7 @@ import { $, num, setStatus } from './dom.js';
 import { fmt } from './format.js';
 import { engines, hooks, state, updateSolveButton } from './state.js';
 import { stockJson } from './shelf.js';
-import { setDownloads, showReport } from './results.js';
+import { renderGlance, setDownloads, showReport } from './results.js';
 import { plainKeys } from './need-form.js';
 
 /** Pause after the last valid edit before the search starts by itself. */
@@ -61,6 +61,7 @@ export function refreshFreshness() {
   badge.textContent = text;
   result.dataset.stale = stale ? 'yes' : 'no';
   setDownloads(stale);
+  renderGlance();
 }
 
 /**
