@@ -14,16 +14,20 @@ use spanfit::stock::{parse_stock, Stock, StockFile};
 /// The invented stock: 0.1 % E12 resistors over one decade, one op-amp,
 /// one reference, an X7R E6 and a C0G E12 capacitor family.
 fn stock() -> Stock {
+    stock_with(
+        "part_id,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+         X-R0,E12,10000,99000,0.1,25,0603,0.02,\n",
+    )
+}
+
+/// The invented stock with the given resistors (a `resistors.csv`).
+fn stock_with(resistors: &str) -> Stock {
     let f = |name: &str, text: &str| StockFile {
         name: name.into(),
         bytes: text.as_bytes().to_vec(),
     };
     parse_stock(&[
-        f(
-            "resistors.csv",
-            "part_id,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
-             X-R0,E12,10000,99000,0.1,25,0603,0.02,\n",
-        ),
+        f("resistors.csv", resistors),
         f(
             "opamps.csv",
             "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
@@ -193,22 +197,24 @@ fn no_capacitor_where_one_pole_serves() {
 }
 
 /// At a 0.5 % target the droop rule (a tenth of the target) leaves one
-/// pole and the capacitor across `rf` short of 45 dB in this stock, so no
-/// design gets a filter that gives the rejection. The optimised search
-/// must then return no design (every design it analyses fails the alias
-/// check) and, having walked only part of the space, claim no proof
-/// either way. (The exhaustive walk proves it only by visiting every
-/// assignment, minutes here, so it is not run.)
+/// pole and the capacitor across `rf` of a plain non-inverting stage short
+/// of 45 dB in this stock. A summed stage with `ro` to ground gets the
+/// rejection (its noise gain is above its signal gain) but, in the designs
+/// the optimised search tries, misses the target. The optimised search
+/// must then return no design, say that accuracy is what binds, and,
+/// having walked only part of the space, claim no proof either way. (The
+/// exhaustive walk proves it only by visiting every assignment, minutes
+/// here, so it is not run.)
 #[test]
-fn no_design_is_met_where_no_filter_gives_the_rejection() {
+fn no_design_is_met_where_the_designs_that_reject_miss_the_target() {
     let stock = stock();
     let need = need(45.0, 0.5, "\"non-inverting\"", "cost");
     let fast = run(&need, &stock, SearchMode::Optimised);
-    assert!(fast.best.is_none(), "a design met without the rejection");
+    assert!(fast.best.is_none(), "a design met at 0.5 %");
     let infeasible = fast.infeasible.expect("the search says why");
     assert!(!infeasible.proven, "a proof from a partial search");
     assert!(
-        infeasible.binding.contains("alias rejection"),
+        infeasible.binding.contains("accuracy"),
         "{}",
         infeasible.binding
     );
@@ -236,4 +242,42 @@ fn a_large_space_with_a_small_live_part_is_proven_by_the_optimiser() {
     );
     assert!(full.stats.proven_optimal);
     assert!(fast.best.is_some());
+}
+
+/// The stock of [`stock`] with five single resistor values in place of
+/// the E12 decade: small enough for the exhaustive walk to finish in
+/// seconds, and holding both a plain non-inverting gain of 5.7
+/// (1 + 47k/10k) and a summed stage with `ro` to ground whose noise gain
+/// 1 + 68k/10k = 7.8 the attenuation 27k/(10k + 10 + 27k) brings back to
+/// about 5.69.
+fn five_value_stock() -> Stock {
+    let mut resistors = String::from(
+        "part_id,value_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n",
+    );
+    for kilo in [10, 15, 27, 47, 68] {
+        resistors.push_str(&format!("X-R{kilo}K,{},0.1,25,0603,0.02,\n", kilo * 1000));
+    }
+    stock_with(&resistors)
+}
+
+/// A summed stage whose `ro` returns to ground raises the stage's noise
+/// gain over its signal gain, so the capacitor across `rf` rejects more
+/// than a plain non-inverting stage's can (its gain falls to 1 at most).
+/// At a 0.7 % target the droop rule leaves a plain stage short of 45 dB,
+/// and only such a stage meets the need: the optimised mode must build it
+/// (its grounded branch) and reach the optimum the exhaustive walk proves.
+#[test]
+fn a_summed_stage_with_ro_to_ground_is_found_by_both_modes() {
+    let stock = five_value_stock();
+    let need = need(45.0, 0.7, "\"non-inverting\"", "cost");
+    assert!(spanfit::filter::needs_second_pole(&need));
+    let (fast, full) = agree(&need, &stock);
+    let best = full.best.as_ref().expect("the walk finds a design");
+    let fast_best = fast.best.as_ref().expect("the optimiser finds a design");
+    for design in [&best.design, &fast_best.design] {
+        let stage = &design.stages[0];
+        assert_eq!(stage.shape, spanfit::design::Shape::NonInvertingSummed);
+        assert_eq!(stage.offset, spanfit::design::Injection::Ground);
+        assert!(stage.feedback_capacitor.is_some());
+    }
 }

@@ -39,7 +39,37 @@ pub(super) struct OffsetPlan {
     /// and puts its Thevenin resistance in series with the REF leg, which
     /// the stage's closed form and the netlist both include.
     pub(super) buffered: bool,
+    /// A summed stage whose `ro` returns to ground instead of a source
+    /// (`source`, `volts` and `cost` then mean nothing: 0 V, no part): the
+    /// band `[lo, hi]` of its noise gain over its signal gain, the
+    /// inverse of the attenuation `ro/(ri + rs + ro)` its + input puts on
+    /// the signal ([`GROUND_BANDS`]). `None` for a plan with a source.
+    pub(super) ground_band: Option<[f64; 2]>,
 }
+
+impl OffsetPlan {
+    /// Whether the plan takes its offset from a source (not ground).
+    pub(super) fn sourced(&self) -> bool {
+        self.ground_band.is_none()
+    }
+}
+
+/// The plan of a set that takes its offset from a source, if any (all of
+/// a set's sourced plans share one source).
+pub(super) fn source_plan(plans: &[OffsetPlan]) -> Option<&OffsetPlan> {
+    plans.iter().find(|p| p.sourced())
+}
+
+/// Bands of a grounded summed stage's noise gain over its signal gain
+/// (see [`OffsetPlan::ground_band`]), one group each. A summed stage
+/// with `ro` to ground attenuates the signal at its + input and makes up
+/// for it in `1 + rf/rg`; that raises the noise gain above the signal
+/// gain, and with it the rejection a capacitor across `rf` can give
+/// (from the noise gain down to 1, filter/feedback.rs). Wider bands
+/// give more rejection and more error; a rule of thumb of this walk,
+/// which the exhaustive walk does not need (it places every resistor).
+pub(super) const GROUND_BANDS: [[f64; 2]; 5] =
+    [[1.1, 1.3], [1.3, 1.5], [1.5, 1.8], [1.8, 2.2], [2.2, 3.0]];
 
 /// A structure before grades: shapes, parts, offset plan, gain split.
 #[derive(Debug, Clone)]
@@ -199,6 +229,7 @@ fn offset_plan_sets(
         volts: from.volts,
         cost: from.cost,
         buffered: network.buffered(),
+        ground_band: None,
     };
     let mut plan_sets: Vec<(Vec<OffsetPlan>, Vec<f64>)> = Vec::new();
     if b.abs() < 1e-9 {
@@ -250,7 +281,57 @@ fn offset_plan_sets(
             }
         }
     }
-    plan_sets
+    with_grounded(problem, shapes, plan_sets)
+}
+
+/// The plan sets with, where the rule places a capacitor across the last
+/// stage's `rf` (search/pair.rs) and that stage is summed with an ideal
+/// offset of 0 or one that reaches the output smaller than the target
+/// error, variants where its `ro` returns to ground, one per
+/// [`GROUND_BANDS`] band (the exhaustive walk places a grounded `ro` in
+/// any summed stage). The grounded `ro` is there to raise the noise gain
+/// the capacitor works from, so the walk offers it only where that
+/// capacitor goes (a rule of thumb of this walk, not a proof). The stage's
+/// ideal offset stays its target, so the scoring counts the offset a
+/// grounded stage leaves (calibration may remove it).
+fn with_grounded(
+    problem: &Problem<'_>,
+    shapes: &[Shape],
+    plan_sets: Vec<(Vec<OffsetPlan>, Vec<f64>)>,
+) -> Vec<(Vec<OffsetPlan>, Vec<f64>)> {
+    let Some(stage) = shapes.len().checked_sub(1) else {
+        return plan_sets;
+    };
+    if !problem.pairs.places_feedback()
+        || shapes[stage].offset_network(1.0) != Some(OffsetNetwork::Summed)
+    {
+        return plan_sets;
+    }
+    let mut out = plan_sets.clone();
+    for (plans, offsets) in &plan_sets {
+        // The last stage: no gain after it.
+        if offsets[stage].abs() > problem.target_v {
+            continue;
+        }
+        for band in GROUND_BANDS {
+            let mut grounded: Vec<OffsetPlan> =
+                plans.iter().filter(|p| p.stage != stage).cloned().collect();
+            grounded.push(OffsetPlan {
+                stage,
+                network: OffsetNetwork::Summed,
+                source: Source::Supply,
+                volts: 0.0,
+                cost: 0.0,
+                buffered: false,
+                ground_band: Some(band),
+            });
+            let variant = (grounded, offsets.clone());
+            if !out.contains(&variant) {
+                out.push(variant);
+            }
+        }
+    }
+    out
 }
 
 /// A plan set as the networks make it and, where it buffers a REF
@@ -388,9 +469,9 @@ fn groups_with_parts(
         }
         for &inamp in &inamps {
             let plans = frame.plans;
-            let mut fixed_cost = plans.first().map(|p| p.cost).unwrap_or(0.0);
+            let mut fixed_cost = source_plan(plans).map(|p| p.cost).unwrap_or(0.0);
             let mut fixed_lines =
-                usize::from(plans.first().is_some_and(|p| p.source != Source::Supply));
+                usize::from(source_plan(plans).is_some_and(|p| p.source != Source::Supply));
             let mut packages = 0;
             if let Some(o) = opamp {
                 let channels = stock.opamps[o].channels.max(1) as usize;

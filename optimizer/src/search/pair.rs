@@ -162,6 +162,12 @@ impl<'s> FilterPairs<'s> {
         }
     }
 
+    /// Whether the rule places a capacitor across the last stage's `rf`
+    /// ([`FilterPairs::place_feedback`]) for this need and stock.
+    pub(crate) fn places_feedback(&self) -> bool {
+        self.second_pole
+    }
+
     /// The search's rule for a pole in a stage's feedback (docs/search.md,
     /// *A pole in the last stage's feedback*): where one pole cannot give
     /// the need's alias rejection within the droop rule

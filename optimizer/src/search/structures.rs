@@ -2,7 +2,7 @@
 //! for its offset dividers), each with a cost lower bound, taken cheapest
 //! bound first.
 
-use super::groups::Group;
+use super::groups::{source_plan, Group};
 use super::Problem;
 use crate::design::Source;
 use crate::need::{Need, Objective};
@@ -261,12 +261,7 @@ pub(super) fn structures<'p>(problem: &'p Problem<'p>, groups: &'p [Group]) -> S
             .collect();
         let parts = group.resistors_per_stage.iter().sum::<usize>()
             + group.packages
-            + usize::from(
-                group
-                    .plans
-                    .first()
-                    .is_some_and(|p| p.source != Source::Supply),
-            );
+            + usize::from(source_plan(&group.plans).is_some_and(|p| p.source != Source::Supply));
         if parts > problem.need.search.max_parts || grade_count == 0 {
             continue;
         }
@@ -536,7 +531,9 @@ mod tests {
             .map(|g| {
                 let parts = g.resistors_per_stage.iter().sum::<usize>()
                     + g.packages
-                    + usize::from(g.plans.first().is_some_and(|p| p.source != Source::Supply));
+                    + usize::from(
+                        source_plan(&g.plans).is_some_and(|p| p.source != Source::Supply),
+                    );
                 if parts > need.search.max_parts {
                     0
                 } else {

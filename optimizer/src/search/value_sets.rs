@@ -102,6 +102,8 @@ struct StageScoring<'s> {
     /// sits in series with the REF leg).
     unbuffered_ref: bool,
     source_volts: f64,
+    /// A grounded summed stage's band of noise gain over signal gain.
+    ground_band: Option<[f64; 2]>,
     sensor_ohms: (f64, f64),
     inamp_gain_ohms: f64,
     /// The stage's (+, -) inputs at both span ends.
@@ -207,6 +209,7 @@ impl Problem<'_> {
             unbuffered_ref: plan
                 .is_some_and(|p| p.network == OffsetNetwork::RefDivider && !p.buffered),
             source_volts: plan.map(|p| p.volts).unwrap_or(0.0),
+            ground_band: plan.and_then(|p| p.ground_band),
             sensor_ohms: self.sensor_ohms(stage),
             inamp_gain_ohms: group
                 .inamp
@@ -232,6 +235,7 @@ impl Problem<'_> {
             offset: scoring.offset,
             network: scoring.network,
             source_volts: scoring.source_volts,
+            ground_band: scoring.ground_band,
             sensor_ohms: scoring.sensor_ohms,
             inamp_gain_ohms: scoring.inamp_gain_ohms,
         };
@@ -377,6 +381,8 @@ impl Problem<'_> {
             };
             let (offset, bias) = match plan {
                 None => (Injection::Ground, Injection::Ground),
+                // A summed stage's `ro` returned to ground.
+                Some(p) if !p.sourced() => (Injection::Ground, Injection::Ground),
                 Some(p) => match p.network {
                     OffsetNetwork::GainLeg => (divider(false, p), Injection::Ground),
                     OffsetNetwork::Summed | OffsetNetwork::InvertingRo => (

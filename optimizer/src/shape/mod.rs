@@ -273,6 +273,10 @@ pub(crate) struct ValueSetRequest<'r> {
     pub(crate) network: Option<OffsetNetwork>,
     /// The offset source volts (0 without one).
     pub(crate) source_volts: f64,
+    /// A summed stage whose `ro` returns to ground: the band `[lo, hi]`
+    /// of its noise gain `1 + rf/rg` over its signal gain (the inverse of
+    /// the attenuation at its + input). `None` otherwise.
+    pub(crate) ground_band: Option<[f64; 2]>,
     /// The sensor's resistance on the (+, -) legs (first stage only).
     pub(crate) sensor_ohms: (f64, f64),
     /// An integrated in-amp's gain constant `Rk`.

@@ -13,6 +13,74 @@ use crate::schematic::{anchor, Canvas, Sheet, Side, StageOutline, Y0};
 use crate::search::ratio::{bracketed_pairs, BAND, PAIRS_PER_RATIO};
 use crate::topology::{Builder, InjectionPoint};
 
+/// Noise-gain targets sampled inside a grounded stage's band.
+const GROUND_BAND_SAMPLES: usize = 4;
+
+/// The `(ro, ri)` pairs (indices in the grade) whose attenuation
+/// `ro/(ri + rs + ro)` comes nearest `alpha`.
+fn attenuation_pairs(request: &ValueSetRequest<'_>, alpha: f64) -> Vec<(usize, usize)> {
+    // ri' / ro = (1 - alpha) / alpha, with ri' = ri + rs.
+    let ratio_ri_ro = (1.0 - alpha) / alpha;
+    let rs = request.sensor_ohms.0;
+    bracketed_pairs(
+        request.values,
+        BAND,
+        PAIRS_PER_RATIO,
+        |ro| ro * ratio_ri_ro - rs,
+        |ro, ri| (((ri + rs) / ro) / ratio_ri_ro - 1.0).abs(),
+    )
+    .into_iter()
+    .map(|(ro, ri, _)| (ro, ri))
+    .collect()
+}
+
+/// The roles of one set, no divider.
+fn summed_roles(ri: usize, ro: usize, rg: usize, rf: usize) -> RoleValues {
+    (
+        roles(&[
+            (Role::Ri, ri),
+            (Role::Ro, ro),
+            (Role::Rg, rg),
+            (Role::Rf, rf),
+        ]),
+        None,
+    )
+}
+
+/// The value sets of a summed stage whose `ro` returns to ground: noise
+/// gains `1 + rf/rg` sampled inside `band` times the signal gain, each
+/// `rg, rf` pair with the `ri, ro` pairs whose attenuation brings that
+/// pair's own noise gain back to the signal gain.
+fn grounded_value_sets(request: &ValueSetRequest<'_>, band: [f64; 2]) -> Vec<RoleValues> {
+    let mut out = Vec::new();
+    let gain = request.gain;
+    if !(gain > 0.0 && band[0] > 1.0 && band[1] > band[0]) {
+        return out;
+    }
+    let mut pairs: Vec<(usize, usize)> = Vec::new();
+    for k in 0..GROUND_BAND_SAMPLES {
+        let at = (k as f64 + 0.5) / GROUND_BAND_SAMPLES as f64;
+        let noise_gain = gain * band[0] * (band[1] / band[0]).powf(at);
+        if noise_gain <= 1.05 {
+            continue;
+        }
+        for (rg, rf, _) in request.pairs(noise_gain - 1.0) {
+            if !pairs.contains(&(rg, rf)) {
+                pairs.push((rg, rf));
+            }
+        }
+    }
+    for (rg, rf) in pairs {
+        let alpha = gain / (1.0 + request.values[rf] / request.values[rg]);
+        if alpha > 0.0 && alpha < 1.0 {
+            for (ro, ri) in attenuation_pairs(request, alpha) {
+                out.push(summed_roles(ri, ro, rg, rf));
+            }
+        }
+    }
+    out
+}
+
 /// The non-inverting-summed shape.
 pub(crate) struct NonInvertingSummed;
 
@@ -50,6 +118,9 @@ impl StageShape for NonInvertingSummed {
     }
 
     fn value_sets(&self, request: &ValueSetRequest<'_>) -> Vec<RoleValues> {
+        if let Some(band) = request.ground_band {
+            return grounded_value_sets(request, band);
+        }
         let mut out = Vec::new();
         let volts = request.source_volts;
         if volts <= 0.0 {
@@ -60,27 +131,11 @@ impl StageShape for NonInvertingSummed {
         if !(gain > 1.05 && alpha > 0.0 && alpha < 1.0) {
             return out;
         }
-        // ri' / ro = (1 - alpha) / alpha, with ri' = ri + rs.
-        let ratio_ri_ro = (1.0 - alpha) / alpha;
-        let rs = request.sensor_ohms.0;
-        let ri_ro = bracketed_pairs(
-            request.values,
-            BAND,
-            PAIRS_PER_RATIO,
-            |ro| ro * ratio_ri_ro - rs,
-            |ro, ri| (((ri + rs) / ro) / ratio_ri_ro - 1.0).abs(),
-        );
-        for (ro, ri, _) in ri_ro {
-            for (rg, rf, _) in request.pairs(gain - 1.0) {
-                out.push((
-                    roles(&[
-                        (Role::Ri, ri),
-                        (Role::Ro, ro),
-                        (Role::Rg, rg),
-                        (Role::Rf, rf),
-                    ]),
-                    None,
-                ));
+        // ri, ro pairs outermost (the order ties keep in the ranking).
+        let gain_pairs = request.pairs(gain - 1.0);
+        for (ro, ri) in attenuation_pairs(request, alpha) {
+            for &(rg, rf, _) in &gain_pairs {
+                out.push(summed_roles(ri, ro, rg, rf));
             }
         }
         out
