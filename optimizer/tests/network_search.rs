@@ -20,7 +20,7 @@ use spanfit::analysis::analyze;
 use spanfit::api::{analyze_bundle, solve_bundle};
 use spanfit::design::{design_file_json, parse_design, Design};
 use spanfit::need::{parse_need, Need};
-use spanfit::search::{solve, solve_unexplained, SearchMode, SolveOutcome};
+use spanfit::search::{solve, solve_unexplained, space_cost_floor, SearchMode, SolveOutcome};
 use spanfit::stock::{parse_stock, Stock, StockFile};
 
 /// Invented discrete resistors: a 1 % row for the filter, and 0.1 %,
@@ -146,8 +146,9 @@ fn network_parts(design: &Design) -> Vec<String> {
 /// finishes this small space with the exhaustive walk); with the serving
 /// package the search finds a design whose four matched roles are
 /// elements of one package, whose design file reads back to the same
-/// total, and which meets the target. Nothing is proven over a space with
-/// networks.
+/// total, and which meets the target. What it claims rests on the space
+/// bound, which counts the networks: no finishing walk proves anything
+/// over a space with networks (that walk places none).
 #[test]
 fn a_network_meets_a_need_no_discrete_grade_meets() {
     let need = need(0.2);
@@ -176,8 +177,24 @@ fn a_network_meets_a_need_no_discrete_grade_meets() {
         "{}",
         best.analysis.basis_pct_fs
     );
-    assert!(!outcome.stats.proven_optimal);
-    assert!(outcome.stats.gap.is_none());
+    let floor = space_cost_floor(&need, &stock).unwrap_or_else(|| panic!("no space bound"));
+    assert!(
+        floor <= best.costing.total + 1e-9,
+        "{floor} over {}",
+        best.costing.total
+    );
+    if outcome.stats.proven_optimal {
+        assert!((best.costing.total - floor).abs() <= 1e-9);
+    } else {
+        let gap = outcome
+            .stats
+            .gap
+            .unwrap_or_else(|| panic!("no gap on the cost objective"));
+        assert!(
+            (best.costing.total - gap - floor).abs() <= 1e-9,
+            "gap {gap}"
+        );
+    }
 
     // The four matched roles: elements of one package of the part, four
     // distinct elements, r1 with r3 and r2 with r4 of one value each.
@@ -293,8 +310,58 @@ fn a_network_off_ratio_or_off_the_shelf_is_not_placed() {
             network_parts(&attempt.design)
         );
     }
-    // Nothing is proven over a space with networks.
+    // The resistor tempco that binds is not in any bound, so nothing is
+    // proven: no walk's verdict counts over a space with networks.
     assert!(outcome.infeasible.as_ref().is_some_and(|i| !i.proven));
+}
+
+/// Where a package is the cheapest way to fill a difference stage's
+/// matched roles (its price over its four elements is below any
+/// resistor's), the space bound prices those roles at that share and
+/// counts the package as one part, so it stays below the network design
+/// the search finds; a bound priced by the discrete resistors alone (four
+/// at 0.5) would sit above that design. The report's gap is that bound's.
+#[test]
+fn the_space_bound_counts_a_network_cheaper_than_the_resistors() {
+    let dear = RESISTORS_CSV.replace("0.003", "0.5").replace("0.04", "0.5");
+    assert_eq!(
+        dear.matches(",0.5,").count(),
+        4,
+        "the invented rows changed"
+    );
+    let stock = parse_stock(&files_with(&dear, &[SERVES]))
+        .unwrap_or_else(|e| panic!("the invented stock: {e}"));
+    let need = need(0.2);
+    let outcome = run(&need, &stock);
+    let best = outcome
+        .best
+        .as_ref()
+        .unwrap_or_else(|| panic!("no design with the network: {:?}", outcome.infeasible));
+    assert_eq!(network_parts(&best.design), vec!["RN-T1K-100K".to_string()]);
+    let floor = space_cost_floor(&need, &stock).unwrap_or_else(|| panic!("no space bound"));
+    assert!(
+        floor <= best.costing.total + 1e-9,
+        "the bound {floor} is over the network design's cost {}",
+        best.costing.total
+    );
+    // Without the package the same bound prices the four roles at 0.5
+    // each: more than the network design saves.
+    let discrete =
+        parse_stock(&files_with(&dear, &[])).unwrap_or_else(|e| panic!("the invented stock: {e}"));
+    let discrete_floor =
+        space_cost_floor(&need, &discrete).unwrap_or_else(|| panic!("no space bound"));
+    assert!(
+        discrete_floor > best.costing.total,
+        "{discrete_floor} against {}",
+        best.costing.total
+    );
+    match outcome.stats.gap {
+        Some(gap) => assert!(
+            (best.costing.total - gap - floor).abs() <= 1e-9,
+            "gap {gap}"
+        ),
+        None => assert!(outcome.stats.proven_optimal && (best.costing.total - floor).abs() <= 1e-9),
+    }
 }
 
 /// The demo need with the error objective on the demo stock: with the

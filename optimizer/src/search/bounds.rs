@@ -173,6 +173,9 @@ fn first_stage_parts(problem: &Problem<'_>, shape: Shape) -> Vec<AmplifierKind> 
     }
 }
 
+/// Matched roles one network package fills in a stage.
+const MATCHED_ROLES: usize = 4;
+
 /// The bounds over the whole space.
 pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
     let need = problem.need;
@@ -184,6 +187,22 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
         .filter(|r| r.stock_qty != Some(0))
         .map(|r| r.unit_cost)
         .reduce(f64::min);
+    // A matched network (the search places one package's four elements in
+    // a stage's matched roles, docs/search.md) costs at least its package
+    // price over its element count per role it fills, and is one part for
+    // those four roles; with one on the shelf the bound takes the lesser
+    // price per role, and a stage with matched roles the fewer parts.
+    let least_element = problem
+        .stock
+        .networks
+        .iter()
+        .filter(|n| n.stock_qty != Some(0) && n.values.len() >= MATCHED_ROLES)
+        .map(|n| n.unit_cost / n.values.len() as f64)
+        .reduce(f64::min);
+    let least_per_role = match (least_resistor, least_element) {
+        (Some(r), Some(e)) => Some(r.min(e)),
+        (r, e) => r.or(e),
+    };
     let line = need.search.bom_line_cost;
     let mut best = SpaceBound {
         cost: None,
@@ -235,19 +254,32 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
         else {
             continue;
         };
-        // Every required role holds a resistor; offset networks and
-        // optional roles only add parts.
+        // Every required role holds a resistor (or a network element);
+        // offset networks and optional roles only add parts.
         let resistors: usize = shapes.iter().map(|s| s.resistor_count()).sum();
-        let resistor_cost = match (resistors, least_resistor) {
+        let resistor_cost = match (resistors, least_per_role) {
             (0, _) => 0.0,
             (n, Some(least)) => n as f64 * least,
             (_, None) => continue,
         };
+        // One package may fill a stage's four matched roles: one part.
+        let shared = if least_element.is_some() {
+            shapes
+                .iter()
+                .filter(|s| s.behaviour().matched_roles().is_some())
+                .count()
+                * (MATCHED_ROLES - 1)
+        } else {
+            0
+        };
+        let resistors = resistors.saturating_sub(shared);
         let parts = resistors + packages;
         // The analysis's part-count check holds `max_parts`.
         if parts > need.search.max_parts {
             continue;
         }
+        // At least one line for the resistors or the networks that fill
+        // the roles.
         let lines = amp_lines + usize::from(resistors > 0);
         let cost = amp_and_pair + resistor_cost + line * lines as f64;
         // `pair_parts` holds the least packages plus pair parts.

@@ -507,12 +507,12 @@ fn solve_with(
     let augmented = augment_stock(need, stock);
     let problem = Problem::new(need, stock, &augmented);
     let mut run = strategy::run(&problem, mode, control);
-    if !stock.networks.is_empty() {
-        // The exhaustive walk places no matched network, and the optimised
-        // mode only in the matched roles of a difference part, so a stock
-        // that holds one has designs the walks do not see: no verdict over
-        // its space is proven (no optimum, no gap, no infeasibility, no
-        // least error).
+    if !stock.networks.is_empty() && mode == SearchMode::Exhaustive {
+        // The exhaustive walk places no matched network, so on a stock
+        // that holds one it does not see every design: no verdict over the
+        // space is proven (no optimum, no gap, no infeasibility, no least
+        // error). The optimised mode places them and its space bound
+        // counts them; its own walk's verdicts are held back in strategy.rs.
         run.proven_infeasible = false;
         run.walked = false;
         run.stats.proven_optimal = false;

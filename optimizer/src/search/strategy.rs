@@ -617,7 +617,10 @@ pub(super) fn run(
         if end.cancelled {
             stopped = Some(Stop::Cancelled);
         }
-        if end.finished {
+        // The walk places no matched network, so on a stock that holds one
+        // its end proves nothing over the space: the verdict then rests on
+        // the space bound, which counts the networks (bounds.rs).
+        if end.finished && problem.stock.networks.is_empty() {
             walked = true;
             proven_optimal = state.best.is_some();
             proven_infeasible = state.best.is_none();
