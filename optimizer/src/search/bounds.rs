@@ -174,7 +174,7 @@ fn first_stage_parts(problem: &Problem<'_>, shape: Shape) -> Vec<AmplifierKind> 
 }
 
 /// Matched roles one network package fills in a stage.
-const MATCHED_ROLES: usize = 4;
+pub(super) const MATCHED_ROLES: usize = 4;
 
 /// The bounds over the whole space.
 pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {

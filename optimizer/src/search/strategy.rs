@@ -7,7 +7,7 @@
 //! matched roles is also searched as a network variant (that stage's
 //! network value sets in place of its own; docs/search.md).
 
-use super::bounds::{space_bound, SpaceBound};
+use super::bounds::{space_bound, SpaceBound, MATCHED_ROLES};
 use super::exhaustive;
 use super::explain::Diagnosis;
 use super::groups::{enumerate_groups, Group, Rejections, SCREEN_SLACK};
@@ -433,9 +433,6 @@ fn proof_from_space(
     }
 }
 
-/// Matched roles a network package fills in a stage.
-const MATCHED_ROLES: f64 = 4.0;
-
 /// Whether a network variant of a structure cannot be cheaper than the
 /// best design (cost objective only): the structure's bound with the
 /// matched roles' resistors at the grade's cheapest part taken out and
@@ -461,7 +458,7 @@ fn variant_cannot_win(
         .map(|part| part.unit_cost)
         .fold(f64::INFINITY, f64::min);
     let grade = &problem.grades[structure.grades[stage]];
-    let bound = structure.bound - MATCHED_ROLES * grade.min_cost + package;
+    let bound = structure.bound - MATCHED_ROLES as f64 * grade.min_cost + package;
     bound >= best.costing.total - 1e-12
 }
 
