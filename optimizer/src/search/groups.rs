@@ -232,9 +232,15 @@ fn offset_plan_sets(
         ground_band: None,
     };
     let mut plan_sets: Vec<(Vec<OffsetPlan>, Vec<f64>)> = Vec::new();
-    if b.abs() < 1e-9 {
+    // No offset network at all: where the ideal offset is 0; where it is
+    // small enough that leaving it out costs less than the target; or
+    // where a calibration trims the offset the stages leave (the swing
+    // and window checks then decide whether the output fits).
+    let trimmed = problem.need.accuracy.calibration != Calibration::None;
+    if b.abs() < 1e-9 || b.abs() <= problem.target_v || trimmed {
         plan_sets.push((Vec::new(), vec![0.0; shapes.len()]));
-    } else {
+    }
+    if b.abs() >= 1e-9 {
         for (stage, &shape) in shapes.iter().enumerate() {
             let down: f64 = gains[stage + 1..].iter().product();
             let c = b / down;
@@ -683,4 +689,52 @@ fn amplifier_floor(problem: &Problem<'_>, group: &Group) -> f64 {
         &super::verify::bounded_spread(worst, squares),
         problem.need.accuracy.yield_pct,
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The offset plan sets of the demo need (one difference stage at its
+    /// ideal gain) with `edits` made to its text: (from, to) pairs.
+    fn plan_sets(edits: &[(&str, &str)]) -> Vec<(Vec<OffsetPlan>, Vec<f64>)> {
+        let mut text = crate::demo::NEED_TOML.to_string();
+        for (from, to) in edits {
+            assert!(text.contains(from), "the demo need has no {from}");
+            text = text.replacen(from, to, 1);
+        }
+        let files = crate::demo::stock_files();
+        let (need, stock) =
+            crate::api::load(text.as_bytes(), "need.toml", &files).expect("the test need loads");
+        let augmented = super::super::augment_stock(&need, &stock);
+        let problem = Problem::new(&need, &stock, &augmented);
+        let (k, _) = need.ideal_transfer();
+        let sources = offset_sources(&need, &augmented);
+        offset_plan_sets(&problem, &[Shape::Difference], &[k], &sources)
+    }
+
+    fn has_no_network(sets: &[(Vec<OffsetPlan>, Vec<f64>)]) -> bool {
+        sets.iter().any(|(plans, _)| plans.is_empty())
+    }
+
+    /// The demo's ideal offset (60 mV) is four times its 15 mV target:
+    /// without a calibration every plan set has an offset network; with
+    /// the offset trim the plan without one is offered too (the trim takes
+    /// what the stage leaves; the swing checks decide the rest); and at a
+    /// 0.4 % margin (an ideal offset of 12 mV, within the target) it is
+    /// offered without a calibration.
+    #[test]
+    fn a_plan_without_an_offset_network_where_the_offset_is_trimmed_or_small() {
+        let none = plan_sets(&[("calibration = \"offset\"", "calibration = \"none\"")]);
+        assert!(!none.is_empty());
+        assert!(!has_no_network(&none), "60 mV left out untrimmed");
+        let trimmed = plan_sets(&[]);
+        assert!(has_no_network(&trimmed));
+        assert!(trimmed.iter().any(|(plans, _)| !plans.is_empty()));
+        let small = plan_sets(&[
+            ("calibration = \"offset\"", "calibration = \"none\""),
+            ("margin_pct = 2.0", "margin_pct = 0.4"),
+        ]);
+        assert!(has_no_network(&small), "a 12 mV offset within 15 mV");
+    }
 }
