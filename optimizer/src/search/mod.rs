@@ -506,18 +506,7 @@ fn solve_with(
     };
     let augmented = augment_stock(need, stock);
     let problem = Problem::new(need, stock, &augmented);
-    let mut run = strategy::run(&problem, mode, control);
-    if !stock.networks.is_empty() && mode == SearchMode::Exhaustive {
-        // The exhaustive walk places no matched network, so on a stock
-        // that holds one it does not see every design: no verdict over the
-        // space is proven (no optimum, no gap, no infeasibility, no least
-        // error). The optimised mode places them and its space bound
-        // counts them; its own walk's verdicts are held back in strategy.rs.
-        run.proven_infeasible = false;
-        run.walked = false;
-        run.stats.proven_optimal = false;
-        run.stats.gap = None;
-    }
+    let run = strategy::run(&problem, mode, control);
     let mut alternatives = pareto::front(run.found);
     if let Some(best) = &run.best {
         alternatives.retain(|a| {
