@@ -354,7 +354,9 @@ test('the share link carries the need and the shelf, deflated, in the fragment; 
 test('a project exports and imports with its need and shelf', async () => {
   await withPage(async ({ page }) => {
     await setField(page, 'supply.positive_v', '12');
-    await page.waitForTimeout(300);
+    // The 12 V need solved and shown, so no search of it is still running
+    // when the project comes back in.
+    await page.waitForFunction(() => document.querySelector('[data-testid=freshness]').dataset.fresh === 'current', null, { timeout: 20000 });
     const [download] = await Promise.all([page.waitForEvent('download'), page.click('#project-export')]);
     const text = await (await download.createReadStream()).toArray().then((chunks) => Buffer.concat(chunks).toString('utf8'));
     const project = JSON.parse(text);

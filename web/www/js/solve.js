@@ -132,7 +132,12 @@ async function startSolve(options) {
       $('run-status').dataset.cancelled = reply.cancelled ? 'yes' : 'no';
       $('run-status').dataset.elapsedMs = String(reply.elapsedMs);
       const when = `solved in ${fmt(reply.elapsedMs, 3)} ms in this browser`;
-      setStatus('run-status', reply.cancelled ? `Stopped early: the best design found before the stop is shown (${when}).` : `Done: ${when}.`, reply.cancelled ? 'warn' : 'good');
+      // When the inputs changed while this search ran (a project or example
+      // loaded, say), the answer lands already out of date and the message
+      // set since ("Project … loaded.") stays: the re-solve will report.
+      if (key === inputsKey()) {
+        setStatus('run-status', reply.cancelled ? `Stopped early: the best design found before the stop is shown (${when}).` : `Done: ${when}.`, reply.cancelled ? 'warn' : 'good');
+      }
       state.result = { bundle: reply.value, need: JSON.parse(needText), derived, stock, key, cancelled: !!reply.cancelled };
       showReport();
       answer = reply;
