@@ -15,9 +15,8 @@
 
 mod common;
 
-use common::solve::with_still_clock;
+use common::solve::{solve_and_analyze, with_still_clock};
 use spanfit::analysis::analyze;
-use spanfit::api::{analyze_bundle, solve_bundle};
 use spanfit::design::{design_file_json, parse_design, Design};
 use spanfit::need::{parse_need, Need};
 use spanfit::search::{solve, solve_unexplained, space_cost_floor, SearchMode, SolveOutcome};
@@ -235,26 +234,10 @@ fn a_network_meets_a_need_no_discrete_grade_meets() {
     // The solve report against `analyze` of its design file: the same
     // reported design, total included, and it meets the target.
     let need_text = need_text(0.2);
-    let files = files(&[SERVES]);
-    let solved = with_still_clock(|control| {
-        solve_bundle(need_text.as_bytes(), "bridge.toml", &files, false, control)
-    })
-    .unwrap_or_else(|e| panic!("{e}"));
-    let solved = serde_json::to_value(solved).unwrap_or_default()["report"].clone();
-    assert_eq!(solved["status"], "ok", "{}", solved["reason"]);
+    let solved = solve_and_analyze(&need_text, "bridge.toml", &files(&[SERVES]));
     assert_eq!(solved["search"]["proven_optimal"], false);
     let file = solved["design"]["file"].to_string();
     assert!(file.contains("\"network\":\"RN-T1K-100K\""), "{file}");
-    let analysed = analyze_bundle(
-        need_text.as_bytes(),
-        "bridge.toml",
-        &files,
-        file.as_bytes(),
-        "solved.json",
-    )
-    .unwrap_or_else(|e| panic!("{e}"));
-    let analysed = serde_json::to_value(analysed).unwrap_or_default()["report"].clone();
-    assert_eq!(analysed["design"], solved["design"]);
     let total = solved["design"]["error"]["basis_pct_fs"]
         .as_f64()
         .unwrap_or(f64::NAN);

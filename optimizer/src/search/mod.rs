@@ -40,6 +40,7 @@ mod milp;
 mod pair;
 mod pareto;
 pub(crate) mod ratio;
+mod regrade;
 mod strategy;
 mod structures;
 mod value_sets;

@@ -51,7 +51,7 @@ pub(super) fn objective_key(objective: Objective, c: &Candidate) -> (f64, f64, f
 
 /// Whether `a` ranks before `b` under the objective (ties broken by the
 /// second and third key).
-fn ranks_before(objective: Objective, a: &Candidate, b: &Candidate) -> bool {
+pub(super) fn ranks_before(objective: Objective, a: &Candidate, b: &Candidate) -> bool {
     let (x, y) = (objective_key(objective, a), objective_key(objective, b));
     x.0 < y.0 - 1e-12
         || ((x.0 - y.0).abs() <= 1e-12
@@ -594,6 +594,12 @@ pub(super) fn run(
                 strategy.search(problem, group, structure, &value_sets, &mut state);
             }
         }
+    }
+    // Cheaper parts of the same values on the best design, in the time
+    // left (search/regrade.rs); a cancelled or cut run keeps what it has.
+    if stopped.is_none() {
+        let mut out_of_time = || (control.now_ms)() - start > limit;
+        super::regrade::cheaper_same_values(problem, &mut state, &mut out_of_time);
     }
     let (mut proven_optimal, mut gap) = proof_from_space(objective, &space, state.best.as_ref());
     let mut proven_infeasible = space.proven_empty();

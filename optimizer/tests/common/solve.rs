@@ -43,3 +43,27 @@ pub fn solve_report(need: &str, name: &str) -> Value {
     .unwrap_or_else(|e| panic!("the need does not read: {e}"));
     serde_json::to_value(bundle).expect("a bundle serialises")["report"].clone()
 }
+
+/// Solve need text against stock files with a still clock, then `analyze`
+/// the design file the report carries against the same need and stock:
+/// the round trip must give the very same reported design (total and
+/// budget included). Returns the solve report as JSON; fails when the
+/// need does not read, the report is not `ok`, or the two disagree.
+pub fn solve_and_analyze(need: &str, name: &str, files: &[spanfit::stock::StockFile]) -> Value {
+    let solved = with_still_clock(|control| {
+        spanfit::api::solve_bundle(need.as_bytes(), name, files, false, control)
+    })
+    .unwrap_or_else(|e| panic!("{name}: {e}"));
+    let report = serde_json::to_value(solved).expect("a bundle serialises")["report"].clone();
+    assert_eq!(report["status"], "ok", "{name}: {}", report["reason"]);
+    let file = report["design"]["file"].to_string();
+    let analysed =
+        spanfit::api::analyze_bundle(need.as_bytes(), name, files, file.as_bytes(), "solved.json")
+            .unwrap_or_else(|e| panic!("{name}, its design file: {e}"));
+    let analysed = serde_json::to_value(analysed).expect("a bundle serialises")["report"].clone();
+    assert_eq!(
+        analysed["design"], report["design"],
+        "{name}: analyze of the solved design file reports another design"
+    );
+    report
+}
