@@ -81,25 +81,38 @@ fn resistor_mut(design: &mut Design, slot: Slot) -> Option<&mut Resistor> {
     }
 }
 
+/// A move: slots that take one part together, with the value and the
+/// unit price they hold now.
+struct Move {
+    slots: Vec<Slot>,
+    ohms: f64,
+    unit_cost: f64,
+}
+
 /// The moves tried on a design: each part number placed more than once
 /// as a whole (a BOM line may go), then each resistor on its own.
-fn moves(design: &Design) -> Vec<Vec<Slot>> {
+fn moves(design: &Design) -> Vec<Move> {
     let slots = slots(design);
-    let mut out: Vec<Vec<Slot>> = Vec::new();
+    let mut out: Vec<Move> = Vec::new();
     let mut ids: Vec<&str> = slots.iter().map(|(_, r)| r.part_id.as_str()).collect();
     ids.sort_unstable();
     ids.dedup();
     for id in ids {
-        let group: Vec<Slot> = slots
-            .iter()
-            .filter(|(_, r)| r.part_id == id)
-            .map(|&(s, _)| s)
-            .collect();
-        if group.len() > 1 {
-            out.push(group);
+        let holders: Vec<&(Slot, &Resistor)> =
+            slots.iter().filter(|(_, r)| r.part_id == id).collect();
+        if let [(_, first), _, ..] = holders.as_slice() {
+            out.push(Move {
+                slots: holders.iter().map(|(s, _)| *s).collect(),
+                ohms: first.ohms,
+                unit_cost: first.unit_cost,
+            });
         }
     }
-    out.extend(slots.iter().map(|&(s, _)| vec![s]));
+    out.extend(slots.iter().map(|(s, r)| Move {
+        slots: vec![*s],
+        ohms: r.ohms,
+        unit_cost: r.unit_cost,
+    }));
     out
 }
 
@@ -140,37 +153,34 @@ pub(super) fn cheaper_same_values(
         return 0;
     }
     let objective = problem.need.search.objective;
+    let gets_pair =
+        |b: &crate::topology::Built, dc: &crate::mna::DcSolution| problem.pairs.gets_pair(b, dc);
     let mut kept = 0;
     'improve: loop {
         let Some(best) = state.best.as_ref() else {
             return kept;
         };
         let design = best.design.clone();
-        for slots in moves(&design) {
-            let Some(first) = slots.first().and_then(|&s| {
-                let mut probe = design.clone();
-                resistor_mut(&mut probe, s).map(|r| (r.ohms, r.unit_cost))
-            }) else {
-                continue;
-            };
-            for part in cheaper_parts(problem, first.0, first.1) {
+        for change in moves(&design) {
+            for part in cheaper_parts(problem, change.ohms, change.unit_cost) {
                 if out_of_time() {
                     return kept;
                 }
                 let mut changed = design.clone();
                 let replacement = Resistor::from(&problem.stock.resistors[part]);
-                if !slots.iter().all(|&s| match resistor_mut(&mut changed, s) {
-                    Some(r) => {
-                        *r = replacement.clone();
-                        true
-                    }
-                    None => false,
-                }) {
+                if !change
+                    .slots
+                    .iter()
+                    .all(|&s| match resistor_mut(&mut changed, s) {
+                        Some(r) => {
+                            *r = replacement.clone();
+                            true
+                        }
+                        None => false,
+                    })
+                {
                     continue;
                 }
-                let gets_pair = |b: &crate::topology::Built, dc: &crate::mna::DcSolution| {
-                    problem.pairs.gets_pair(b, dc)
-                };
                 let Ok(model) = Model::candidate(problem.need, problem.stock, &changed, &gets_pair)
                 else {
                     continue;
