@@ -306,6 +306,12 @@ test('a project stored as CSV text only is read by the core; a table it cannot r
     const status = await page.textContent('[data-testid=run-status]');
     assert.match(status, new RegExp(`references\\.csv, line ${refs.length + 1}`));
     assert.match(status, /set aside/);
+    // The solve on load ends without hiding the warning: its own message
+    // follows it.
+    await page.waitForFunction(() => /Done: solved in/.test(document.querySelector('[data-testid=run-status]').textContent), null, { timeout: 20000 });
+    const after = await page.textContent('[data-testid=run-status]');
+    assert.match(after, /set aside.* Done: solved in/);
+    assert.equal(await page.getAttribute('[data-testid=run-status]', 'data-tone'), 'warn');
     assert.equal(await page.evaluate(() => localStorage.getItem('spanfit-project-v1-set-aside')), stored);
   });
 });

@@ -48,6 +48,7 @@ export function setStatus(id, text, tone) {
   const node = $(id);
   node.textContent = text || '';
   node.dataset.tone = tone || '';
+  delete node.dataset.by;
 }
 
 /** A plain object (not an array, not null). */

@@ -136,7 +136,15 @@ async function startSolve(options) {
       // loaded, say), the answer lands already out of date and the message
       // set since ("Project … loaded.") stays: the re-solve will report.
       if (key === inputsKey()) {
-        setStatus('run-status', reply.cancelled ? `Stopped early: the best design found before the stop is shown (${when}).` : `Done: ${when}.`, reply.cancelled ? 'warn' : 'good');
+        const done = reply.cancelled ? `Stopped early: the best design found before the stop is shown (${when}).` : `Done: ${when}.`;
+        const tone = reply.cancelled ? 'warn' : 'good';
+        // A warning or error the page gave since (a saved shelf set aside,
+        // a link it could not read) stays in front of the search's own
+        // message until the next search, so a solve on load never hides it.
+        const status = $('run-status');
+        const notice = status.dataset.by !== 'solve' && ['warn', 'bad'].includes(status.dataset.tone) ? status.textContent : '';
+        setStatus('run-status', notice ? `${notice} ${done}` : done, notice ? status.dataset.tone : tone);
+        status.dataset.by = 'solve';
       }
       state.result = { bundle: reply.value, need: JSON.parse(needText), derived, stock, key, cancelled: !!reply.cancelled };
       showReport();
@@ -155,6 +163,7 @@ async function startSolve(options) {
     } else {
       setStatus('run-status', plainKeys(error.message), 'bad');
     }
+    if (!replacing) $('run-status').dataset.by = 'solve';
   } finally {
     state.solving = false;
     $('progress').hidden = true;
