@@ -43,8 +43,7 @@ pub fn stock_files() -> Vec<StockFile> {
 }
 
 /// The demo stock folder's matched networks (`networks.csv`). They are
-/// not in the embedded demo stock ([`stock_files`]): a stock holding any
-/// gets no proof (the exhaustive walk does not place networks), so they are
-/// read only where the folder itself is (a need whose `stock.path` names
+/// not in the embedded demo stock ([`stock_files`]): they are read only
+/// where the folder itself is (a need whose `stock.path` names
 /// `parts-data/demo-stock`, and the network example's tests).
 pub const NETWORKS_CSV: &str = include_str!("../../parts-data/demo-stock/networks.csv");

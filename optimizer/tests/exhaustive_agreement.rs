@@ -4,8 +4,11 @@
 //! family over one or two decades (some held in small quantities), one or
 //! two op-amps that run on 10 V (single and dual packages) and now and
 //! then a 5.5 V one, no, one or two references, no, one or two capacitor
-//! families (so the filter pair at the ADC input counts), and now and then
-//! an in-amp. Invented needs: single-ended and differential sensors,
+//! families (so the filter pair at the ADC input counts), now and then
+//! an in-amp, and now and then a matched network of four elements (two
+//! values of the first grade a ratio of 2.2 or 4.7 apart, matched and
+//! tracking tighter than any grade, dearer or cheaper than four resistors),
+//! which both walks place in a difference stage's matched roles. Invented needs: single-ended and differential sensors,
 //! rising and falling gains (each a gain one decade of E6 values reaches
 //! exactly), positive, negative, small and zero offsets, margins of 1 to
 //! 10 %, single and split supplies, a sampling ADC input or not, every
@@ -26,8 +29,9 @@
 //! And over the run, the mix (printed with `--nocapture`): at least 40 %
 //! of the cases feasible and 20 % infeasible, 15 % feasible and 10 %
 //! infeasible with the target within 10 % of the least error, none
-//! unfinished, and every trait of the generator on both sides of the
-//! verdict.
+//! unfinished, every trait of the generator on both sides of the
+//! verdict, and a network package in the optimum of at least 2 % of the
+//! cases.
 //!
 //! `cargo test --release --test exhaustive_agreement -- --ignored
 //! --nocapture agreement_table` prints the README's table of both modes'
@@ -67,6 +71,20 @@ struct StockCase {
     /// Capacitor families, by index into [`CAPACITORS`].
     capacitors: Vec<usize>,
     inamp: bool,
+    /// A matched network, now and then.
+    network: Option<Network>,
+}
+
+/// A matched network of an invented stock: four elements, two of the
+/// first grade's lowest value and two of that value times an E6 ratio
+/// (2.2 or 4.7, a difference stage's gain when it is the need's), matched
+/// and tracking far tighter than any discrete grade.
+#[derive(Debug, Clone)]
+struct Network {
+    /// The ratio of its two values.
+    ratio: f64,
+    /// Its package price (dearer or cheaper than four resistors).
+    price: f64,
 }
 
 /// Invented op-amp rows (single and dual packages, precise and cheap, one
@@ -161,6 +179,18 @@ impl StockCase {
                 caps.push('\n');
             }
             files.push(f("capacitors.csv", caps));
+        }
+        if let Some(n) = &self.network {
+            let low = self.grades[0].from;
+            let high = low * n.ratio;
+            files.push(f(
+                "networks.csv",
+                format!(
+                    "part_id,count,value_ohms,abs_tolerance_pct,ratio_tolerance_pct,abs_tcr_ppm_per_c,tracking_tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+                     X-RN1,4,{low};{high};{low};{high},0.1,0.01,25,2,SOIC-8,{},\n",
+                    n.price
+                ),
+            ));
         }
         if self.inamp {
             files.push(f(
@@ -409,9 +439,17 @@ fn stock_case() -> impl Strategy<Value = StockCase> {
         prop::sample::subsequence(vec![0usize, 1], 0..=2),
         prop::sample::subsequence(vec![0usize, 1], 0..=2),
         prop::bool::weighted(0.15),
+        prop::option::weighted(
+            0.25,
+            (
+                prop::sample::select(vec![2.2f64, 4.7]),
+                prop::sample::select(vec![0.01f64, 0.3]),
+            )
+                .prop_map(|(ratio, price)| Network { ratio, price }),
+        ),
     )
         .prop_map(
-            |(grades, mut opamps, low_voltage, references, capacitors, inamp)| {
+            |(grades, mut opamps, low_voltage, references, capacitors, inamp, network)| {
                 if low_voltage {
                     opamps.push(3);
                 }
@@ -421,6 +459,7 @@ fn stock_case() -> impl Strategy<Value = StockCase> {
                     references,
                     capacitors,
                     inamp,
+                    network,
                 }
             },
         )
@@ -584,6 +623,8 @@ struct Seen {
     near_edge: bool,
     /// No design of the space meets the need at any target.
     nothing: bool,
+    /// The walk's optimum places a network package.
+    network_placed: bool,
     /// The case's traits (`sensor=differential`, `basis=rss`, ...).
     traits: Vec<String>,
 }
@@ -632,6 +673,7 @@ fn traits(stock: &StockCase, need: &NeedCase) -> Vec<String> {
         ),
         ("stock: capacitors", !stock.capacitors.is_empty()),
         ("stock: in-amp", stock.inamp),
+        ("stock: matched network", stock.network.is_some()),
         ("stock: reference", !stock.references.is_empty()),
         ("need: sampling ADC input", need.sampling),
     ];
@@ -658,6 +700,13 @@ fn case(stock: &StockCase, need: &NeedCase) -> (Seen, Result<(), String>) {
         verdict,
         near_edge: matches!(probe, Probe::Least(l) if (target / l - 1.0).abs() <= 0.1),
         nothing: matches!(probe, Probe::Nothing),
+        network_placed: full.best.as_ref().is_some_and(|b| {
+            b.design
+                .stages
+                .iter()
+                .flat_map(|s| s.resistors.values())
+                .any(|r| r.network.is_some())
+        }),
         traits: traits(stock, need),
     };
     (seen, compare(&settled, &fast, &full))
@@ -670,7 +719,8 @@ fn tally(seen: &[Seen]) -> String {
     let count = |f: &dyn Fn(&Seen) -> bool| seen.iter().filter(|s| f(s)).count();
     let mut out = format!(
         "{} cases: {} feasible ({} with the target within 10 % of the least error), \
-         {} infeasible ({} within 10 %, {} where nothing meets any target), {} unfinished\n",
+         {} infeasible ({} within 10 %, {} where nothing meets any target), {} unfinished; \
+         {} optima place a network\n",
         seen.len(),
         count(&|s| s.verdict == Verdict::Feasible),
         count(&|s| s.verdict == Verdict::Feasible && s.near_edge),
@@ -678,6 +728,7 @@ fn tally(seen: &[Seen]) -> String {
         count(&|s| s.verdict == Verdict::Infeasible && s.near_edge),
         count(&|s| s.nothing),
         count(&|s| s.verdict == Verdict::Unfinished),
+        count(&|s| s.network_placed),
     );
     let mut by: BTreeMap<&str, [usize; 2]> = BTreeMap::new();
     for s in seen {
@@ -738,6 +789,9 @@ fn optimiser_agrees_with_the_exhaustive_walk() {
     let near_infeasible = count(&|s| s.verdict == Verdict::Infeasible && s.near_edge);
     assert_eq!(n, CASES as usize, "every case ran once");
     assert_eq!(count(&|s| s.verdict == Verdict::Unfinished), 0);
+    // Both walks meet networks in some optima, not only on the shelf.
+    let placed = count(&|s| s.network_placed);
+    assert!(placed * 100 >= 2 * n, "a network in {placed} optima of {n}");
     assert!(feasible * 100 >= 40 * n, "feasible {feasible} of {n}");
     assert!(infeasible * 100 >= 20 * n, "infeasible {infeasible} of {n}");
     assert!(

@@ -10,7 +10,10 @@
 //! - the space's cost floor never exceeds the true optimum the exhaustive
 //!   walk proves, and a space the floor proves empty has no design;
 //! - an optimised solve that claims `proven_optimal` has the walk's
-//!   optimum.
+//!   optimum;
+//! - both again on a stock with two invented matched networks, cheaper
+//!   per element than any resistor, whose ratios give the difference
+//!   stage's gains (the walk places them, and most optima do).
 //!
 //! The cases span single-ended and differential sensors, small and large
 //! gains, op-amps from precise to drifting, an in-amp, every calibration,
@@ -42,6 +45,11 @@ const INAMP: &str = "T-IA,49400,0.1,25,50,200,0.5,2,90,2.7,12,0.1,0.1,0.05,0.05,
 /// stages), the
 /// chosen op-amps and, where asked, the in-amp.
 fn stock(opamps: &[usize], inamp: bool) -> Stock {
+    parse_stock(&stock_files(opamps, inamp)).expect("the invented stock parses")
+}
+
+/// The files of [`stock`].
+fn stock_files(opamps: &[usize], inamp: bool) -> Vec<StockFile> {
     let f = |name: &str, text: String| StockFile {
         name: name.into(),
         bytes: text.into_bytes(),
@@ -68,6 +76,23 @@ fn stock(opamps: &[usize], inamp: bool) -> Stock {
             format!("part_id,gain_resistor_ohms,gain_error_pct,gain_drift_ppm_per_c,input_offset_uv,output_offset_uv,offset_drift_uv_per_c,ib_max_na,cmrr_min_db,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,en_nv_rthz,gbw_mhz,unit_cost,stock_qty\n{INAMP}\n"),
         ));
     }
+    files
+}
+
+/// [`stock`] with two invented matched networks whose ratios give the
+/// difference stage's gains of 101 and 471 exactly, each package cheaper
+/// than one resistor (so the space bound prices the matched roles at the
+/// package's share per element).
+fn stock_with_networks(opamps: &[usize], inamp: bool) -> Stock {
+    let mut files = stock_files(opamps, inamp);
+    files.push(StockFile {
+        name: "networks.csv".into(),
+        bytes: "part_id,count,value_ohms,abs_tolerance_pct,ratio_tolerance_pct,abs_tcr_ppm_per_c,tracking_tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+                T-RN101,4,1000;101000;1000;101000,0.1,0.01,25,2,SOIC-8,0.015,\n\
+                T-RN471,4,1000;471000;1000;471000,0.1,0.01,25,2,SOIC-8,0.015,\n"
+            .as_bytes()
+            .to_vec(),
+    });
     parse_stock(&files).expect("the invented stock parses")
 }
 
@@ -277,4 +302,75 @@ fn cost_floor_never_exceeds_the_true_optimum() {
         ruled_out > 3,
         "the floor ruled the cheap part out only {ruled_out} times"
     );
+}
+
+/// On a stock with matched networks, the space's cost floor (which prices
+/// a matched role at a package's share per element) never exceeds the
+/// true optimum the exhaustive walk proves (the walk places the networks
+/// too), and an optimised solve that claims `proven_optimal` has the
+/// walk's optimum. Some optima place a network, or this proves little.
+#[test]
+#[cfg_attr(
+    debug_assertions,
+    ignore = "release only: scripts/test.sh runs it in its release step (a debug walk is too slow)"
+)]
+fn cost_floor_holds_with_networks() {
+    let mut compared = 0;
+    let mut with_network = 0;
+    // The spans whose gains (101, 471) a network ratio gives.
+    for case in cases()
+        .into_iter()
+        .filter(|c| c.differential && c.span < 0.1)
+    {
+        let shelf = stock_with_networks(&[0], false);
+        let Some(walk) = least_error(&case, &shelf) else {
+            continue;
+        };
+        let least = walk.best.as_ref().map_or(50.0, |b| b.analysis.basis_pct_fs);
+        for factor in [1.0001, 3.0] {
+            let target = (least * factor).clamp(1e-4, 50.0);
+            let need = case.need(target, "cost");
+            let full = run(&need, &shelf, SearchMode::Exhaustive);
+            assert!(full.stopped.is_none() && !full.unfinished(), "{case:?}");
+            assert_eq!(full.best.is_some(), full.stats.proven_optimal, "{case:?}");
+            let floor = space_cost_floor(&need, &shelf);
+            if let Some(best) = &full.best {
+                compared += 1;
+                let floor = floor.unwrap_or_else(|| {
+                    panic!(
+                        "the floor proves the space empty, the walk found {}: {case:?}",
+                        best.costing.total
+                    )
+                });
+                assert!(
+                    floor <= best.costing.total + 1e-9,
+                    "floor {floor} over the optimum {}: {case:?} target {target}",
+                    best.costing.total
+                );
+                if best
+                    .design
+                    .stages
+                    .iter()
+                    .flat_map(|s| s.resistors.values())
+                    .any(|r| r.network.is_some())
+                {
+                    with_network += 1;
+                }
+            }
+            let fast = run(&need, &shelf, SearchMode::Optimised);
+            if fast.stats.proven_optimal {
+                let (a, b) = (
+                    fast.best.as_ref().map(|c| c.costing.total),
+                    full.best.as_ref().map(|c| c.costing.total),
+                );
+                assert!(
+                    matches!((a, b), (Some(a), Some(b)) if (a - b).abs() < 1e-9),
+                    "false proof: optimised {a:?}, exhaustive {b:?}: {case:?} target {target}"
+                );
+            }
+        }
+    }
+    println!("{compared} optima compared, {with_network} placing a network");
+    assert!(compared >= 4, "only {compared} optima compared");
+    assert!(with_network >= 2, "a network in {with_network} optima");
 }

@@ -8,9 +8,14 @@
 //! stocked reference, or through a divider from one, buffered or not (a
 //! buffered divider on an in-amp stage with any stocked op-amp as its
 //! follower); every optional role present or absent; any stocked resistor
-//! in any role, divider resistors included, each role on its own.
+//! in any role, divider resistors included, each role on its own; and in a
+//! stage whose shape has matched roles, those four roles either discrete
+//! like the rest or filled by one package of a stocked network part (each
+//! distinct assignment of four of its elements, [`network_places`]; one
+//! package per stage).
 //!
-//! A *structure* fixes everything but the resistors. Structures come out
+//! A *structure* fixes everything but the resistors (a stage's network
+//! package and its elements are part of the structure). Structures come out
 //! of a heap in the order of an additive lower bound on the objective
 //! (the sorted-product walk: a node's successors raise one stage's choice
 //! at or after the last one raised, so each index vector is made once and
@@ -35,7 +40,7 @@
 //!   nor is one whose such total exceeds the best design's reported total
 //!   (it cannot be more accurate).
 
-use super::bounds::wrong_sign_ruled_out;
+use super::bounds::{wrong_sign_ruled_out, MATCHED_ROLES};
 use super::floors::part_floor_v;
 use super::groups::shape_sequences;
 use super::pair::PairFloor;
@@ -78,6 +83,64 @@ struct StageOption {
     parts: usize,
     /// Op-amp sections the stage uses (followers included).
     sections: usize,
+    /// The network package filling the shape's matched roles, as an index
+    /// into [`Catalog::networks`] (those roles are then not slots).
+    network: Option<usize>,
+}
+
+/// One way a package of a stocked network part fills a stage's four
+/// matched roles.
+#[derive(Debug, Clone, PartialEq)]
+struct NetworkPlace {
+    /// Index of the part in the stock's networks.
+    part: usize,
+    /// Element number (1-based) for each matched role, in the order of
+    /// [`crate::shape::MatchedRoles::roles`].
+    elements: [u32; MATCHED_ROLES],
+}
+
+/// Every distinct way one package of a stocked network part (`stock_qty`
+/// not 0, at least four elements) fills four matched roles: four distinct
+/// elements, one per role, once per tuple of values (elements of one value
+/// are alike to the analysis); each tuple takes the lowest-numbered
+/// elements of its values, role by role (the first such assignment in
+/// lexicographic order of element numbers).
+fn network_places(stock: &crate::stock::Stock) -> Vec<NetworkPlace> {
+    let mut out = Vec::new();
+    for (part, network) in stock.networks.iter().enumerate() {
+        let n = network.values.len();
+        if network.stock_qty == Some(0) || n < MATCHED_ROLES || u32::try_from(n).is_err() {
+            continue;
+        }
+        // Each element's value class: the first element of its value.
+        let class: Vec<usize> = (0..n)
+            .map(|i| {
+                let v = network.values[i].0;
+                (0..=i)
+                    .find(|&j| (network.values[j].0 - v).abs() <= 1e-9 * v.abs())
+                    .unwrap_or(i)
+            })
+            .collect();
+        let mut seen = std::collections::BTreeSet::new();
+        for a in 0..n {
+            for b in (0..n).filter(|&b| b != a) {
+                for c in (0..n).filter(|&c| c != a && c != b) {
+                    for d in (0..n).filter(|&d| d != a && d != b && d != c) {
+                        if !seen.insert([class[a], class[b], class[c], class[d]]) {
+                            continue;
+                        }
+                        // In range: n fits a u32 (checked above).
+                        let number = |i: usize| i as u32 + 1;
+                        out.push(NetworkPlace {
+                            part,
+                            elements: [number(a), number(b), number(c), number(d)],
+                        });
+                    }
+                }
+            }
+        }
+    }
+    out
 }
 
 /// A heap entry: a structure as one option index per stage.
@@ -120,6 +183,8 @@ struct Walk {
     sequences: Vec<(Vec<Shape>, Vec<Vec<StageOption>>, f64)>,
     /// Stock indices of the resistors that may be placed.
     resistors: Vec<usize>,
+    /// Every way a network package may fill a stage's matched roles.
+    networks: Vec<NetworkPlace>,
 }
 
 /// Whether a shape's template drives a bias node (the + input of an
@@ -179,6 +244,8 @@ struct Catalog {
     /// the target is in no design that meets the need.
     first_opamps: Vec<usize>,
     first_inamps: Vec<usize>,
+    /// Every way a network package may fill a stage's matched roles.
+    networks: Vec<NetworkPlace>,
 }
 
 impl Catalog {
@@ -236,6 +303,7 @@ impl Catalog {
             inamps,
             first_opamps,
             first_inamps,
+            networks: network_places(stock),
         }
     }
 
@@ -274,6 +342,12 @@ impl Catalog {
             } else {
                 vec![Drive::Ground]
             };
+            // Discrete matched roles, or one package in them.
+            let matched = shape.behaviour().matched_roles();
+            let mut network_variants: Vec<Option<usize>> = vec![None];
+            if matched.is_some() {
+                network_variants.extend((0..self.networks.len()).map(Some));
+            }
             for &amplifier in amplifiers {
                 for offset in drives(sources.len()) {
                     for &bias in &bias_drives {
@@ -287,8 +361,20 @@ impl Catalog {
                             vec![None]
                         };
                         for optional in optional_subsets(shape.optional_roles()) {
-                            for &buffer in &buffers {
+                            let variants = buffers
+                                .iter()
+                                .flat_map(|&b| network_variants.iter().map(move |&n| (b, n)));
+                            for (buffer, network) in variants {
+                                // A network fills the matched roles: they
+                                // are not slots, and its package is one
+                                // part at its own price.
                                 let mut slots: Vec<Role> = shape.required_roles().to_vec();
+                                let mut package_cost = 0.0;
+                                if let (Some(n), Some(matched)) = (network, matched) {
+                                    let taken = matched.roles();
+                                    slots.retain(|r| !taken.contains(r));
+                                    package_cost = stock.networks[self.networks[n].part].unit_cost;
+                                }
                                 slots.extend(&optional);
                                 if matches!(offset, Drive::Divider(..)) {
                                     slots.extend([Role::OffsetTop, Role::OffsetBottom]);
@@ -320,7 +406,9 @@ impl Catalog {
                                     sections as f64
                                         / f64::from(stock.opamps[amplifier].channels.max(1))
                                 };
-                                let parts = slots.len() + usize::from(shape.integrated());
+                                let parts = slots.len()
+                                    + usize::from(shape.integrated())
+                                    + usize::from(network.is_some());
                                 // Proof: the part-count check fails
                                 // a design with more parts than
                                 // `max_parts` (the stage alone, with
@@ -343,6 +431,7 @@ impl Catalog {
                                     _ => {
                                         own + section_cost
                                             + slots.len() as f64 * least_resistor
+                                            + package_cost
                                             + pair.cost
                                     }
                                 };
@@ -355,6 +444,7 @@ impl Catalog {
                                     bound,
                                     parts,
                                     sections,
+                                    network,
                                 });
                             }
                         }
@@ -391,6 +481,7 @@ impl Walk {
             sources: catalog.sources,
             sequences,
             resistors: catalog.resistors,
+            networks: catalog.networks,
         }
     }
 
@@ -470,8 +561,23 @@ impl Walk {
         let stock = problem.stock;
         let resistor = |i: usize| Resistor::from(&stock.resistors[self.resistors[i]]);
         let mut stages = Vec::new();
+        // Packages placed so far, by network part: each stage placing one
+        // takes its own, numbered 1, 2, ... per part in stage order (as the
+        // optimised mode numbers them).
+        let mut packages: BTreeMap<usize, u32> = BTreeMap::new();
         for ((&shape, option), pick) in shapes.iter().zip(options).zip(picks) {
             let mut resistors = BTreeMap::new();
+            if let (Some(n), Some(matched)) = (option.network, shape.behaviour().matched_roles()) {
+                let place = &self.networks[n];
+                let count = packages.entry(place.part).or_insert(0);
+                *count += 1;
+                let part = &stock.networks[place.part];
+                for (role, &element) in matched.roles().into_iter().zip(&place.elements) {
+                    if let Some(r) = Resistor::network_element(part, *count, element) {
+                        resistors.insert(role, r);
+                    }
+                }
+            }
             let mut dividers: BTreeMap<Role, Resistor> = BTreeMap::new();
             for (&role, &i) in option.slots.iter().zip(pick.iter()) {
                 if role.is_divider() {
@@ -605,7 +711,18 @@ fn search_structure(
         (Some(&shape), Some(option)) => Some(driver_kind(shape, option.amplifier)),
         _ => None,
     };
-    // Cost of everything but the resistors, exact, from the first build.
+    // The network parts the structure places (one line each).
+    let mut network_ids: Vec<&str> = Vec::new();
+    for option in options {
+        if let Some(n) = option.network {
+            let id = stock.networks[walk.networks[n].part].part_id.as_str();
+            if !network_ids.contains(&id) {
+                network_ids.push(id);
+            }
+        }
+    }
+    // Cost of everything but the discrete resistors and their lines
+    // (network packages included), exact, from the first build.
     let mut fixed: Option<f64> = None;
     let mut visited = 0u64;
     loop {
@@ -619,12 +736,16 @@ fn search_structure(
             picks.push(&flat[at..at + n]);
             at += n;
         }
-        // Proof: the exact cost of the assignment (fixed part plus its
-        // resistors and their distinct BOM lines) is no lower than the
-        // best design's, so it cannot rank first on cost.
+        // Proof: the exact cost of the assignment (fixed part, network
+        // packages included, plus its resistors and the distinct BOM lines
+        // of its resistor and network parts) is no lower than the best
+        // design's, so it cannot rank first on cost.
         let skip = match (objective, fixed, state.best.as_ref()) {
             (Objective::Cost, Some(fixed), Some(best)) => {
-                let mut ids: Vec<&str> = Vec::with_capacity(count);
+                // The network parts' lines are in `ids` from the start (a
+                // resistor of the same part id shares the line, as in
+                // the costing); their packages are in `fixed`.
+                let mut ids: Vec<&str> = network_ids.clone();
                 let mut cost = fixed;
                 for &i in &flat {
                     let part = &stock.resistors[walk.resistors[i]];
@@ -860,6 +981,8 @@ pub(super) fn space_size(problem: &Problem<'_>, limit: u64) -> Option<u64> {
         .iter()
         .filter(|r| r.stock_qty != Some(0))
         .count() as u64;
+    // Ways a package fills a stage's matched roles.
+    let networks = network_places(stock).len() as u64;
     let (k, _) = need.ideal_transfer();
     // Drives of a node: (how many, extra resistors, buffered).
     let drives = [
@@ -882,6 +1005,13 @@ pub(super) fn space_size(problem: &Problem<'_>, limit: u64) -> Option<u64> {
                 &drives[..1]
             };
             let optional = shape.optional_roles().len();
+            // Matched roles filled by discrete resistors (no package), or
+            // by a package (four slots fewer, one part more), one of
+            // `networks` ways.
+            let mut fills: Vec<(usize, usize, u64)> = vec![(0, 0, 1)];
+            if shape.behaviour().matched_roles().is_some() && networks > 0 {
+                fills.push((MATCHED_ROLES, 1, networks));
+            }
             let mut stage = 0u64;
             for &(offsets, offset_extra, offset_buffered) in &drives {
                 for &(biases, bias_extra, bias_buffered) in bias_drives {
@@ -891,17 +1021,20 @@ pub(super) fn space_size(problem: &Problem<'_>, limit: u64) -> Option<u64> {
                     } else {
                         (opamps, 1)
                     };
-                    for present in 0..=optional {
-                        let slots = shape.resistor_count() + present + offset_extra + bias_extra;
+                    for (present, &(taken, package, ways)) in
+                        (0..=optional).flat_map(|p| fills.iter().map(move |f| (p, f)))
+                    {
+                        let slots =
+                            shape.resistor_count() - taken + present + offset_extra + bias_extra;
                         let amplifier_parts = usize::from(shape.integrated())
                             + usize::from(!shape.integrated() || buffered > 0);
-                        if slots + amplifier_parts > need.search.max_parts {
+                        if slots + package + amplifier_parts > need.search.max_parts {
                             continue;
                         }
                         let subsets = binomial(optional, present);
-                        let designs = choices
-                            .saturating_pow(slots as u32)
-                            .saturating_mul(amps * buffers * offsets * biases * subsets);
+                        let designs = choices.saturating_pow(slots as u32).saturating_mul(
+                            (amps * buffers * offsets * biases * subsets).saturating_mul(ways),
+                        );
                         stage = stage.saturating_add(designs);
                     }
                 }
@@ -1029,5 +1162,89 @@ pub(super) fn run(problem: &Problem<'_>, control: &mut SolveControl<'_>) -> RunR
         best: state.best,
         found: state.found,
         diagnosis: state.diagnosis,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::network_places;
+    use crate::stock::{parse_stock, Stock, StockFile};
+
+    /// An invented stock: one resistor row and the given network rows.
+    fn stock(networks: &str) -> Stock {
+        let f = |name: &str, text: String| StockFile {
+            name: name.into(),
+            bytes: text.into_bytes(),
+        };
+        parse_stock(&[
+            f(
+                "resistors.csv",
+                "part_id,value_ohms,series,min_ohms,max_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\n\
+                 X-R,1000,,,,1,100,0603,0.01,\n"
+                    .into(),
+            ),
+            f(
+                "opamps.csv",
+                "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
+                 X-OA,1,2.7,12,0,0,0.02,0.02,300,2,0.1,0.1,110,2,20,0.1,100,0.40,\n"
+                    .into(),
+            ),
+            f(
+                "networks.csv",
+                format!(
+                    "part_id,count,value_ohms,abs_tolerance_pct,ratio_tolerance_pct,abs_tcr_ppm_per_c,tracking_tcr_ppm_per_c,package,unit_cost,stock_qty\n{networks}"
+                ),
+            ),
+        ])
+        .unwrap_or_else(|e| panic!("the invented stock: {e}"))
+    }
+
+    /// Four elements of two values: the six orders of the values, each
+    /// with the lowest-numbered elements of its values, role by role; four
+    /// equal elements: one; five of which four equal: the all-equal tuple
+    /// and the odd value in each of the four roles; a part with none on
+    /// the shelf: none.
+    #[test]
+    fn places_are_the_distinct_value_tuples() {
+        let s = stock(
+            "X-RN1,4,1000;2200;1000;2200,0.1,0.01,25,2,SOIC-8,0.3,\n\
+             X-RN2,4,1000,0.1,0.01,25,2,SOIC-8,0.3,\n\
+             X-RN3,5,1000;1000;4700;1000;1000,0.1,0.01,25,2,SOIC-8,0.3,\n\
+             X-RN4,4,1000;2200;1000;2200,0.1,0.01,25,2,SOIC-8,0.3,0\n",
+        );
+        let places = network_places(&s);
+        let of = |part: usize| -> Vec<[u32; 4]> {
+            places
+                .iter()
+                .filter(|p| p.part == part)
+                .map(|p| p.elements)
+                .collect()
+        };
+        // Values 1000, 2200, 1000, 2200 (A B A B): in order of element
+        // numbers, the first assignment of each value tuple.
+        assert_eq!(
+            of(0),
+            vec![
+                [1, 2, 3, 4], // A B A B
+                [1, 2, 4, 3], // A B B A
+                [1, 3, 2, 4], // A A B B
+                [2, 1, 3, 4], // B A A B
+                [2, 1, 4, 3], // B A B A
+                [2, 4, 1, 3], // B B A A
+            ]
+        );
+        assert_eq!(of(1), vec![[1, 2, 3, 4]]);
+        // Values A A B A A.
+        assert_eq!(
+            of(2),
+            vec![
+                [1, 2, 3, 4], // A A B A
+                [1, 2, 4, 3], // A A A B
+                [1, 2, 4, 5], // A A A A
+                [1, 3, 2, 4], // A B A A
+                [3, 1, 2, 4], // B A A A
+            ]
+        );
+        assert!(of(3).is_empty());
     }
 }

@@ -468,21 +468,10 @@ pub(super) fn run(
     mode: SearchMode,
     control: &mut SolveControl<'_>,
 ) -> RunResult {
-    // The exhaustive walk places no matched network, so on a stock that
-    // holds one its verdicts do not cover the space: the walk's own run
-    // claims nothing there (no optimum, gap, infeasibility or least
-    // error), and a finishing walk below leaves the verdict to the space
-    // bound, which counts the networks (bounds.rs).
-    let walk_proves = problem.stock.networks.is_empty();
+    // The exhaustive walk covers the whole space, matched networks
+    // included (search/exhaustive.rs): its verdicts count on any stock.
     if mode == SearchMode::Exhaustive {
-        let mut run = super::exhaustive::run(problem, control);
-        if !walk_proves {
-            run.proven_infeasible = false;
-            run.walked = false;
-            run.stats.proven_optimal = false;
-            run.stats.gap = None;
-        }
-        return run;
+        return super::exhaustive::run(problem, control);
     }
     let start = (control.now_ms)();
     let objective = problem.need.search.objective;
@@ -633,7 +622,7 @@ pub(super) fn run(
         if end.cancelled {
             stopped = Some(Stop::Cancelled);
         }
-        if end.finished && walk_proves {
+        if end.finished {
             walked = true;
             proven_optimal = state.best.is_some();
             proven_infeasible = state.best.is_none();
