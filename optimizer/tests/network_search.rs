@@ -15,6 +15,9 @@
 
 mod common;
 
+use common::bridge::{
+    files_with, need_text_with, NOT_ON_SHELF, RESISTORS_CSV, SERVES, WRONG_RATIO,
+};
 use common::solve::{solve_and_analyze, with_still_clock};
 use spanfit::analysis::analyze;
 use spanfit::design::{design_file_json, parse_design, Design};
@@ -22,59 +25,9 @@ use spanfit::need::{parse_need, Need};
 use spanfit::search::{solve, solve_unexplained, space_cost_floor, SearchMode, SolveOutcome};
 use spanfit::stock::{parse_stock, Stock, StockFile};
 
-/// Invented discrete resistors: a 1 % row for the filter, and 0.1 %,
-/// 25 ppm/degC rows giving the stage's ratio (1 k / 100 k) and the offset
-/// divider's (4 k over 1 k).
-const RESISTORS_CSV: &str = "part_id,value_ohms,series,min_ohms,max_ohms,tolerance_pct,\
-tcr_ppm_per_c,package,unit_cost,stock_qty\n\
-Z-F1,,E6,1000,1000,1.0,100,0603,0.003,\n\
-Z-P1K00,1000,,,,0.1,25,0603,0.04,\n\
-Z-P4K00,4000,,,,0.1,25,0603,0.04,\n\
-Z-P100K,100000,,,,0.1,25,0603,0.04,\n";
-
-const OPAMPS_CSV: &str = "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,\
-input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,\
-vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,\
-unit_cost,stock_qty\n\
-Z-OA1,1,2.7,12,0,0,0.02,0.02,10,0.05,0.1,0.1,120,2,20,0.1,120,0.40,\n";
-
-const REFERENCES_CSV: &str = "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,\
-noise_uv_pp,unit_cost,stock_qty\n\
-Z-REF,2.5,0.1,20,0.2,10,0.30,\n";
-
-const CAPACITORS_CSV: &str = "part_id,value_farads,series,min_farads,max_farads,tolerance_pct,\
-tempco_ppm_per_c,dielectric,rated_v,package,unit_cost,stock_qty\n\
-Z-C,,E6,1e-9,1e-6,10,1500,X7R,25,0603,0.004,\n";
-
-const NETWORKS_HEADER: &str = "part_id,count,value_ohms,abs_tolerance_pct,ratio_tolerance_pct,\
-abs_tcr_ppm_per_c,tracking_tcr_ppm_per_c,package,unit_cost,stock_qty\n";
-
-/// The package that serves: 1 k and 100 k, two of each, tracking to
-/// 2 ppm/degC.
-const SERVES: &str = "RN-T1K-100K,4,1000;100000;1000;100000,0.1,0.01,25,2,SOIC-8,0.30,50\n";
-/// Cheaper, but its ratio (120) is 20 % off the stage's gain of 100.
-const WRONG_RATIO: &str = "RN-T1K-120K,4,1000;120000;1000;120000,0.1,0.01,25,2,SOIC-8,0.10,50\n";
-/// Cheaper and better matched, but none on the shelf.
-const NOT_ON_SHELF: &str = "RN-Z1K-100K,4,1000;100000;1000;100000,0.1,0.005,25,1,SOIC-8,0.05,0\n";
-
 /// The invented need (module header), at `target` % FS, as need text.
 fn need_text(target: f64) -> String {
     need_text_with(target, "difference", "cost")
-}
-
-/// The invented need at `target` % FS with one stage of `topology`, for
-/// `objective`, as need text.
-fn need_text_with(target: f64, topology: &str, objective: &str) -> String {
-    format!(
-        "[sensor]\nlabel = \"invented bridge\"\nsignal_low_v = 0.0\nsignal_high_v = 0.015\n\
-         output = \"differential\"\ncommon_mode_v = 2.5\nsource_ohms = 0.0\n\
-         [adc]\nlow_v = 0.0\nhigh_v = 2.5\nbits = 16\nmargin_pct = 20.0\n\
-         [supply]\npositive_v = 5.0\nnegative_v = -5.0\ntolerance_pct = 0.0\n\
-         [accuracy]\nmax_error_pct_fs = {target}\ncalibration = \"offset\"\n\
-         temp_min_c = 25.0\ntemp_max_c = 65.0\n\
-         [search]\nmax_stages = 1\ntopologies = [\"{topology}\"]\nobjective = \"{objective}\"\n\
-         [stock]\nonly = true\n"
-    )
 }
 
 /// The invented need at `target` % FS.
@@ -86,28 +39,7 @@ fn need(target: f64) -> Need {
 /// The invented stock's files with `networks` as the rows of its networks
 /// table (none: no table).
 fn files(networks: &[&str]) -> Vec<StockFile> {
-    files_with(RESISTORS_CSV, networks)
-}
-
-/// As [`files`], with `resistors` as the resistor table.
-fn files_with(resistors: &str, networks: &[&str]) -> Vec<StockFile> {
-    let f = |name: &str, text: String| StockFile {
-        name: name.into(),
-        bytes: text.into_bytes(),
-    };
-    let mut files = vec![
-        f("resistors.csv", resistors.into()),
-        f("opamps.csv", OPAMPS_CSV.into()),
-        f("references.csv", REFERENCES_CSV.into()),
-        f("capacitors.csv", CAPACITORS_CSV.into()),
-    ];
-    if !networks.is_empty() {
-        files.push(f(
-            "networks.csv",
-            format!("{NETWORKS_HEADER}{}", networks.concat()),
-        ));
-    }
-    files
+    files_with(RESISTORS_CSV, networks, true)
 }
 
 /// The invented stock with `networks` as the rows of its networks table.
@@ -307,7 +239,7 @@ fn the_space_bound_counts_a_network_cheaper_than_the_resistors() {
         4,
         "the invented rows changed"
     );
-    let stock = parse_stock(&files_with(&dear, &[SERVES]))
+    let stock = parse_stock(&files_with(&dear, &[SERVES], true))
         .unwrap_or_else(|e| panic!("the invented stock: {e}"));
     let need = need(0.2);
     let outcome = run(&need, &stock);
@@ -324,8 +256,8 @@ fn the_space_bound_counts_a_network_cheaper_than_the_resistors() {
     );
     // Without the package the same bound prices the four roles at 0.5
     // each: more than the network design saves.
-    let discrete =
-        parse_stock(&files_with(&dear, &[])).unwrap_or_else(|e| panic!("the invented stock: {e}"));
+    let discrete = parse_stock(&files_with(&dear, &[], true))
+        .unwrap_or_else(|e| panic!("the invented stock: {e}"));
     let discrete_floor =
         space_cost_floor(&need, &discrete).unwrap_or_else(|| panic!("no space bound"));
     assert!(
@@ -390,7 +322,7 @@ fn the_discrete_instrumentation_stage_takes_its_difference_part_from_a_package()
     let need = parse_need(text.as_bytes(), "bridge.toml").unwrap_or_else(|e| panic!("{e}"));
     let quad = "RN-T10K,4,10000,0.05,0.01,10,2,SOIC-8,0.40,\n";
     let solve_on = |networks: &[&str]| {
-        let stock = parse_stock(&files_with(&resistors, networks))
+        let stock = parse_stock(&files_with(&resistors, networks, true))
             .unwrap_or_else(|e| panic!("the invented stock: {e}"));
         run(&need, &stock)
             .best

@@ -14,64 +14,24 @@
 
 mod common;
 
+use common::bridge::{files_with, need_text_with, RESISTORS_CSV, SERVES};
 use common::solve::with_still_clock;
 use spanfit::design::Design;
 use spanfit::need::{parse_need, Need};
 use spanfit::search::{solve_unexplained, space_designs, SearchMode, SolveOutcome};
-use spanfit::stock::{parse_stock, Stock, StockFile};
-
-/// Invented discrete resistors: a 1 % row, and 0.1 %, 25 ppm/degC rows
-/// giving the stage's ratio (1 k / 100 k) and an offset divider's (4 k
-/// over 1 k).
-const RESISTORS_CSV: &str = "part_id,value_ohms,series,min_ohms,max_ohms,tolerance_pct,\
-tcr_ppm_per_c,package,unit_cost,stock_qty\n\
-Z-F1,,E6,1000,1000,1.0,100,0603,0.003,\n\
-Z-P1K00,1000,,,,0.1,25,0603,0.04,\n\
-Z-P4K00,4000,,,,0.1,25,0603,0.04,\n\
-Z-P100K,100000,,,,0.1,25,0603,0.04,\n";
-
-const OPAMPS_CSV: &str = "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,\
-input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,\
-vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,\
-unit_cost,stock_qty\n\
-Z-OA1,1,2.7,12,0,0,0.02,0.02,10,0.05,0.1,0.1,120,2,20,0.1,120,0.40,\n";
-
-const REFERENCES_CSV: &str = "part_id,volts,initial_pct,tempco_ppm_per_c,dropout_v,\
-noise_uv_pp,unit_cost,stock_qty\n\
-Z-REF,2.5,0.1,20,0.2,10,0.30,\n";
-
-const NETWORKS_CSV: &str = "part_id,count,value_ohms,abs_tolerance_pct,ratio_tolerance_pct,\
-abs_tcr_ppm_per_c,tracking_tcr_ppm_per_c,package,unit_cost,stock_qty\n\
-RN-T1K-100K,4,1000;100000;1000;100000,0.1,0.01,25,2,SOIC-8,0.30,50\n";
+use spanfit::stock::{parse_stock, Stock};
 
 /// The invented need (module header).
 fn need() -> Need {
-    let text = "[sensor]\nlabel = \"invented bridge\"\nsignal_low_v = 0.0\nsignal_high_v = 0.015\n\
-         output = \"differential\"\ncommon_mode_v = 2.5\nsource_ohms = 0.0\n\
-         [adc]\nlow_v = 0.0\nhigh_v = 2.5\nbits = 16\nmargin_pct = 20.0\n\
-         [supply]\npositive_v = 5.0\nnegative_v = -5.0\ntolerance_pct = 0.0\n\
-         [accuracy]\nmax_error_pct_fs = 0.2\ncalibration = \"offset\"\n\
-         temp_min_c = 25.0\ntemp_max_c = 65.0\n\
-         [search]\nmax_stages = 1\ntopologies = [\"difference\"]\nobjective = \"cost\"\n\
-         [stock]\nonly = true\n";
+    let text = need_text_with(0.2, "difference", "cost");
     parse_need(text.as_bytes(), "bridge.toml").unwrap_or_else(|e| panic!("{e}\n{text}"))
 }
 
 /// The invented stock, with its network table or without it.
 fn stock(with_network: bool) -> Stock {
-    let f = |name: &str, text: &str| StockFile {
-        name: name.into(),
-        bytes: text.as_bytes().to_vec(),
-    };
-    let mut files = vec![
-        f("resistors.csv", RESISTORS_CSV),
-        f("opamps.csv", OPAMPS_CSV),
-        f("references.csv", REFERENCES_CSV),
-    ];
-    if with_network {
-        files.push(f("networks.csv", NETWORKS_CSV));
-    }
-    parse_stock(&files).unwrap_or_else(|e| panic!("the invented stock: {e}"))
+    let networks: &[&str] = if with_network { &[SERVES] } else { &[] };
+    parse_stock(&files_with(RESISTORS_CSV, networks, false))
+        .unwrap_or_else(|e| panic!("the invented stock: {e}"))
 }
 
 fn run(need: &Need, stock: &Stock, mode: SearchMode) -> SolveOutcome {
