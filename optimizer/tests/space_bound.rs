@@ -143,6 +143,22 @@ fn run(need: &Need, stock: &Stock, mode: SearchMode) -> SolveOutcome {
     solve_unexplained(need, stock, mode, &mut control).expect("the search runs")
 }
 
+/// The optimised mode on the same need and stock as a finished walk: a
+/// `proven_optimal` it claims must be the walk's optimum.
+fn no_false_proof(need: &Need, shelf: &Stock, full: &SolveOutcome, context: &str) {
+    let fast = run(need, shelf, SearchMode::Optimised);
+    if fast.stats.proven_optimal {
+        let (a, b) = (
+            fast.best.as_ref().map(|c| c.costing.total),
+            full.best.as_ref().map(|c| c.costing.total),
+        );
+        assert!(
+            matches!((a, b), (Some(a), Some(b)) if (a - b).abs() < 1e-9),
+            "false proof: optimised {a:?}, exhaustive {b:?}: {context}"
+        );
+    }
+}
+
 /// Every case of the sample: sensors, spans, calibrations, each on one of
 /// the two bases in turn (so the walks stay quick).
 fn cases() -> Vec<Case> {
@@ -282,17 +298,7 @@ fn cost_floor_never_exceeds_the_true_optimum() {
                         }
                     }
                 }
-                let fast = run(&need, &shelf, SearchMode::Optimised);
-                if fast.stats.proven_optimal {
-                    let (a, b) = (
-                        fast.best.as_ref().map(|c| c.costing.total),
-                        full.best.as_ref().map(|c| c.costing.total),
-                    );
-                    assert!(
-                        matches!((a, b), (Some(a), Some(b)) if (a - b).abs() < 1e-9),
-                        "false proof: optimised {a:?}, exhaustive {b:?}: {case:?} target {target}"
-                    );
-                }
+                no_false_proof(&need, &shelf, &full, &format!("{case:?} target {target}"));
             }
         }
     }
@@ -357,17 +363,7 @@ fn cost_floor_holds_with_networks() {
                     with_network += 1;
                 }
             }
-            let fast = run(&need, &shelf, SearchMode::Optimised);
-            if fast.stats.proven_optimal {
-                let (a, b) = (
-                    fast.best.as_ref().map(|c| c.costing.total),
-                    full.best.as_ref().map(|c| c.costing.total),
-                );
-                assert!(
-                    matches!((a, b), (Some(a), Some(b)) if (a - b).abs() < 1e-9),
-                    "false proof: optimised {a:?}, exhaustive {b:?}: {case:?} target {target}"
-                );
-            }
+            no_false_proof(&need, &shelf, &full, &format!("{case:?} target {target}"));
         }
     }
     println!("{compared} optima compared, {with_network} placing a network");
