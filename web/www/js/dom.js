@@ -43,12 +43,17 @@ export function clear(node) {
   while (node.firstChild) node.removeChild(node.firstChild);
 }
 
-/** A status line: its text and its tone (good, warn, bad or none). */
-export function setStatus(id, text, tone) {
+/**
+ * A status line: its text, its tone (good, warn, bad or none) and who
+ * wrote it (`by`: 'solve' for the search's own messages, which the next
+ * search replaces; none for the page's, which it keeps in front).
+ */
+export function setStatus(id, text, tone, by) {
   const node = $(id);
   node.textContent = text || '';
   node.dataset.tone = tone || '';
-  delete node.dataset.by;
+  if (by) node.dataset.by = by;
+  else delete node.dataset.by;
 }
 
 /** A plain object (not an array, not null). */

@@ -234,9 +234,7 @@ function wire() {
   // Asked for by a click: once the answer lands, focus moves to it.
   $('solve').addEventListener('click', () => runSolve().then((reply) => { if (reply) $('answer').focus(); }));
   $('solve-every').addEventListener('click', () => {
-    setStatus('run-status', 'Searching every design; Stop ends the search.', 'warn');
-    // The search's own message: its end replaces it.
-    $('run-status').dataset.by = 'solve';
+    setStatus('run-status', 'Searching every design; Stop ends the search.', 'warn', 'solve');
     runSolve({ exhaustive: true });
   });
   $('cancel').addEventListener('click', onCancel);

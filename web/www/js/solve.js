@@ -143,8 +143,7 @@ async function startSolve(options) {
         // message until the next search, so a solve on load never hides it.
         const status = $('run-status');
         const notice = status.dataset.by !== 'solve' && ['warn', 'bad'].includes(status.dataset.tone) ? status.textContent : '';
-        setStatus('run-status', notice ? `${notice} ${done}` : done, notice ? status.dataset.tone : tone);
-        status.dataset.by = 'solve';
+        setStatus('run-status', notice ? `${notice} ${done}` : done, notice ? status.dataset.tone : tone, 'solve');
       }
       state.result = { bundle: reply.value, need: JSON.parse(needText), derived, stock, key, cancelled: !!reply.cancelled };
       showReport();
@@ -157,13 +156,12 @@ async function startSolve(options) {
       $('run-status').dataset.cancelled = 'yes';
       setStatus('run-status', error.late
         ? 'Stopped. The search did not reach a point where it could stop within a few seconds, so it was ended and the solver restarted; nothing changed.'
-        : 'Stopped. A page opened from a file cannot keep a partial result; the search was ended and nothing changed.', 'warn');
+        : 'Stopped. A page opened from a file cannot keep a partial result; the search was ended and nothing changed.', 'warn', 'solve');
     } else if (error.fatal) {
-      setStatus('run-status', `The solver stopped on an internal error (${error.message}; details on the browser console). It has been restarted; please report the need that caused it.`, 'bad');
+      setStatus('run-status', `The solver stopped on an internal error (${error.message}; details on the browser console). It has been restarted; please report the need that caused it.`, 'bad', 'solve');
     } else {
-      setStatus('run-status', plainKeys(error.message), 'bad');
+      setStatus('run-status', plainKeys(error.message), 'bad', 'solve');
     }
-    if (!replacing) $('run-status').dataset.by = 'solve';
   } finally {
     state.solving = false;
     $('progress').hidden = true;
