@@ -143,28 +143,26 @@ fn cheaper_parts(problem: &Problem<'_>, ohms: f64, cost: f64) -> Vec<usize> {
 /// Try cheaper parts of the same values on the best design until no move
 /// improves it or `out_of_time` says stop (cost and part-count
 /// objectives; the error objective never gains from a looser part).
-/// Returns the number of moves kept.
 pub(super) fn cheaper_same_values(
     problem: &Problem<'_>,
     state: &mut SearchState,
     out_of_time: &mut dyn FnMut() -> bool,
-) -> usize {
-    if problem.need.search.objective == Objective::Error {
-        return 0;
-    }
+) {
     let objective = problem.need.search.objective;
+    if objective == Objective::Error {
+        return;
+    }
     let gets_pair =
         |b: &crate::topology::Built, dc: &crate::mna::DcSolution| problem.pairs.gets_pair(b, dc);
-    let mut kept = 0;
     'improve: loop {
         let Some(best) = state.best.as_ref() else {
-            return kept;
+            return;
         };
         let design = best.design.clone();
         for change in moves(&design) {
             for part in cheaper_parts(problem, change.ohms, change.unit_cost) {
                 if out_of_time() {
-                    return kept;
+                    return;
                 }
                 let mut changed = design.clone();
                 let replacement = Resistor::from(&problem.stock.resistors[part]);
@@ -196,11 +194,10 @@ pub(super) fn cheaper_same_values(
                         .is_none_or(|b| ranks_before(objective, &candidate, b));
                 state.offer(candidate);
                 if wins {
-                    kept += 1;
                     continue 'improve;
                 }
             }
         }
-        return kept;
+        return;
     }
 }
