@@ -29,6 +29,12 @@ export function saveSoon() {
   saveTimer = setTimeout(saveNow, 200);
 }
 
+// An edit made just before the page goes (a reload, a closed tab) is saved
+// as it goes, not lost with its pending timer.
+addEventListener('pagehide', () => {
+  if (saveTimer !== null) saveNow();
+});
+
 /**
  * Save now. Besides the project object, the shelf is kept as tables
  * (`tables`: file -> {header, rows}), so a table in the middle of an edit
@@ -37,6 +43,7 @@ export function saveSoon() {
  */
 export function saveNow() {
   clearTimeout(saveTimer);
+  saveTimer = null;
   try {
     localStorage.setItem(STORAGE_KEY, JSON.stringify({ ...projectObject(), tables: state.stock }));
   } catch (_) {
