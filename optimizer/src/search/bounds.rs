@@ -218,11 +218,23 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
         // design that meets the need.
         let mut least: Option<(f64, usize)> = None;
         let mut lines_and_parts = None;
-        let Some(&first) = shapes.first() else {
+        let (Some(&first), Some(&last)) = (shapes.first(), shapes.last()) else {
             continue;
         };
+        // The last stage's part drives the output: a part whose swing
+        // floor (search/floors.rs) is over the target ends no design that
+        // meets the need, and a sequence whose last stage no part can end
+        // holds none.
+        let ends = |kind: AmplifierKind| {
+            floors::swing_floor_v(need, problem.stock, kind, problem.ideal) <= problem.target_v
+        };
+        if !first_stage_parts(problem, last).into_iter().any(ends) {
+            continue;
+        }
         for kind in first_stage_parts(problem, first) {
-            if floors::part_floor_v(need, problem.stock, kind) > problem.target_v {
+            if floors::part_floor_v(need, problem.stock, kind) > problem.target_v
+                || (shapes.len() == 1 && !ends(kind))
+            {
                 continue;
             }
             let Some((amp_cost, amp_lines, packages)) =
@@ -303,13 +315,23 @@ pub fn space_cost_floor(need: &Need, stock: &Stock) -> Option<f64> {
     space_bound(&problem).cost
 }
 
-/// The accuracy floor of a design's first-stage part: the least total
-/// error, % FS on the need's basis, that the analysis can report for any
-/// design whose first stage uses that part (search/floors.rs). `None` when
-/// the design has no stage or its part is not in the stock.
-pub fn first_stage_floor_pct(need: &Need, stock: &Stock, design: &Design) -> Option<f64> {
-    let stage = design.stages.first()?;
-    let kind = if stage.shape.integrated() {
+/// The swing floor of a design's last-stage part: the least total error,
+/// % FS on the need's basis, that the analysis can report for any design
+/// whose output that part drives (search/floors.rs). `None` when the
+/// design has no stage or its part is not in the stock.
+pub fn last_stage_swing_floor_pct(need: &Need, stock: &Stock, design: &Design) -> Option<f64> {
+    let kind = stage_part(stock, design.stages.last()?)?;
+    let (k, b) = need.ideal_transfer();
+    let ideal = [
+        k * need.sensor.signal_low.0 + b,
+        k * need.sensor.signal_high.0 + b,
+    ];
+    Some(floors::swing_floor_v(need, stock, kind, ideal) * 100.0 / need.full_scale())
+}
+
+/// The stock index of a stage's amplifier part.
+fn stage_part(stock: &Stock, stage: &crate::design::Stage) -> Option<AmplifierKind> {
+    Some(if stage.shape.integrated() {
         AmplifierKind::InAmp(
             stock
                 .inamps
@@ -323,6 +345,14 @@ pub fn first_stage_floor_pct(need: &Need, stock: &Stock, design: &Design) -> Opt
                 .iter()
                 .position(|p| p.part_id == stage.amplifier)?,
         )
-    };
+    })
+}
+
+/// The accuracy floor of a design's first-stage part: the least total
+/// error, % FS on the need's basis, that the analysis can report for any
+/// design whose first stage uses that part (search/floors.rs). `None` when
+/// the design has no stage or its part is not in the stock.
+pub fn first_stage_floor_pct(need: &Need, stock: &Stock, design: &Design) -> Option<f64> {
+    let kind = stage_part(stock, design.stages.first()?)?;
     Some(floors::part_floor_v(need, stock, kind) * 100.0 / need.full_scale())
 }

@@ -31,7 +31,9 @@
 //!   (the supply-range check fails whatever the resistors), nor a part
 //!   with none on the shelf; sequences of the wrong sign are skipped where
 //!   [`wrong_sign_ruled_out`] holds; structures with more parts than
-//!   `max_parts` (the part-count check) are skipped;
+//!   `max_parts` (the part-count check) are skipped; a first stage does
+//!   not take a part whose accuracy floor is over the target, nor a last
+//!   stage one whose swing floor is (proofs in `floors.rs`);
 //! - a design failing a feasibility check of its model, or whose
 //!   first-order worst case (worst-case basis, a lower bound on the
 //!   reported total, which is its maximum with the corner check) or RSS
@@ -41,7 +43,7 @@
 //!   (it cannot be more accurate).
 
 use super::bounds::{wrong_sign_ruled_out, MATCHED_ROLES};
-use super::floors::part_floor_v;
+use super::floors::{part_floor_v, swing_floor_v};
 use super::groups::shape_sequences;
 use super::pair::PairFloor;
 use super::strategy::{objective_key, RunResult, SearchState};
@@ -349,6 +351,16 @@ impl Catalog {
                 network_variants.extend((0..self.networks.len()).map(Some));
             }
             for &amplifier in amplifiers {
+                // The last stage's part must be able to swing where the
+                // output must be (floors::swing_floor_v states the proof).
+                let kind = if shape.integrated() {
+                    AmplifierKind::InAmp(amplifier)
+                } else {
+                    AmplifierKind::OpAmp(amplifier)
+                };
+                if last && swing_floor_v(need, stock, kind, problem.ideal) > problem.target_v {
+                    continue;
+                }
                 for offset in drives(sources.len()) {
                     for &bias in &bias_drives {
                         let buffered = [offset, bias]

@@ -128,6 +128,74 @@ pub(super) fn part_floor_v(need: &Need, stock: &Stock, kind: AmplifierKind) -> f
     error_floor_v(need, &input_referred_limits(need, stock, kind))
 }
 
+/// The least error, volts at the output, the analysis can report on the
+/// need's basis for any design whose last stage's output comes from this
+/// part (an op-amp section, or an integrated in-amp), from its output
+/// swing alone; `ideal` is the ideal output at the two span ends.
+///
+/// Proof. The output-swing check (`analysis/feasibility.rs`) asks the
+/// output node of every section to stay, at both span ends and every part
+/// at its limits, within `[negative + h_low, positive (1 - tolerance) -
+/// h_high]` (plus the check's 1 nV slack), so the nominal outputs `out0`,
+/// `out1` of a design that passes lie in that interval. The last
+/// section's output is the chain's output at DC (the filter pair's series
+/// resistor carries no DC current: its capacitor and the ADC pin draw
+/// none). The systematic lines add up to the output error
+/// `e = out - ideal` (the floor above), and the reported total at an end
+/// is at least the sum of their magnitudes after calibration, so at least
+/// `|e|` (uncalibrated) or `|e1 - e0|` (offset calibration, which leaves
+/// `[0, e1 - e0]`), random and droop terms being non-negative:
+/// - no calibration: at an end whose ideal output is outside the
+///   interval, `|e|` is at least the distance from the ideal to it;
+/// - offset calibration: `|out1 - out0|` is at most the interval's width,
+///   so `|e1 - e0|` is at least the ideal span less that width.
+///
+/// A two-point trim maps any two outputs onto the ideal, and the yield
+/// basis judges random builds whose draws may offset the nominal error,
+/// so neither gets a floor.
+pub(super) fn swing_floor_v(
+    need: &Need,
+    stock: &Stock,
+    kind: AmplifierKind,
+    ideal: [f64; 2],
+) -> f64 {
+    if need.accuracy.basis == Basis::Yield {
+        return 0.0;
+    }
+    let headroom = match kind {
+        AmplifierKind::OpAmp(i) => {
+            let p = &stock.opamps[i];
+            [p.output_headroom_low.0, p.output_headroom_high.0]
+        }
+        AmplifierKind::InAmp(i) => {
+            let p = &stock.inamps[i];
+            [p.output_headroom_low.0, p.output_headroom_high.0]
+        }
+    };
+    let positive = need.supply.positive.0 * (1.0 - need.supply.tolerance.fraction());
+    let low = need.supply.negative.0 + headroom[0] - SWING_SLACK_V;
+    let high = positive - headroom[1] + SWING_SLACK_V;
+    let floor = match need.accuracy.calibration {
+        Calibration::TwoPoint => return 0.0,
+        // No output passes an empty interval: nothing meets the need.
+        _ if low > high => return f64::INFINITY,
+        Calibration::None => ideal
+            .iter()
+            .map(|&y| (low - y).max(y - high).max(0.0))
+            .fold(0.0, f64::max),
+        Calibration::Offset => ((ideal[1] - ideal[0]).abs() - (high - low)).max(0.0),
+    };
+    if floor.is_finite() {
+        floor * (1.0 - FLOOR_MARGIN)
+    } else {
+        0.0
+    }
+}
+
+/// The output-swing check's own slack, volts (`analysis/feasibility.rs`),
+/// taken on the side that widens the interval, and a little more.
+const SWING_SLACK_V: f64 = 2e-9;
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -222,5 +290,49 @@ mod tests {
         assert_eq!(limits[0], 0.0);
         assert!((limits[1] - p.vos_drift_uv_per_c * 1e-6 * 40.0).abs() < 1e-15);
         assert!((limits[2] - 0.1 / p.psrr_min.ratio()).abs() < 1e-15);
+    }
+    /// The swing floor: the distance from the ideal outputs to what the
+    /// part can reach without calibration, the ideal span beyond its reach
+    /// with an offset trim, nothing with a two-point trim or on the yield
+    /// basis (single 5 V rail within 2 %, so the part reaches 0.05 V to
+    /// 4.9 V - 0.1 V = 4.8 V).
+    #[test]
+    fn swing_floor_by_calibration() {
+        let stock = crate::stock::parse_stock(&[
+            crate::stock::StockFile {
+                name: "resistors.csv".into(),
+                bytes: b"part_id,value_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\nT-R,1000,1,100,0603,0.01,\n".to_vec(),
+            },
+            crate::stock::StockFile {
+            name: "opamps.csv".into(),
+            bytes: "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
+                    T-SW,1,2.7,12,0,0,0.05,0.1,10,0.05,0.1,0.1,120,2,20,0.1,110,0.1,\n"
+                .as_bytes()
+                .to_vec(),
+        }
+        ])
+        .expect("the test stock parses");
+        let part = AmplifierKind::OpAmp(0);
+        let near = |a: f64, b: f64| (a - b).abs() <= 1e-6;
+        // Ideal 0 V to 2 V: 50 mV short at the low end.
+        let none = swing_floor_v(&need("none", "worst-case"), &stock, part, [0.0, 2.0]);
+        assert!(near(none, 0.05), "{none}");
+        // Ideal 0.01 V to 4.85 V: 50 mV over at the high end, 40 mV short
+        // at the low end; the larger counts.
+        let none = swing_floor_v(&need("none", "rss"), &stock, part, [0.01, 4.85]);
+        assert!(near(none, 0.05), "{none}");
+        // Offset trim: a 4.85 V span against 4.75 V of reach.
+        let offset = swing_floor_v(&need("offset", "worst-case"), &stock, part, [0.0, 4.85]);
+        assert!(near(offset, 0.1), "{offset}");
+        let inside = swing_floor_v(&need("offset", "worst-case"), &stock, part, [0.0, 2.0]);
+        assert_eq!(inside, 0.0);
+        assert_eq!(
+            swing_floor_v(&need("two-point", "worst-case"), &stock, part, [0.0, 4.85]),
+            0.0
+        );
+        assert_eq!(
+            swing_floor_v(&need("none", "yield"), &stock, part, [0.0, 4.85]),
+            0.0
+        );
     }
 }

@@ -46,7 +46,7 @@ mod structures;
 mod value_sets;
 mod verify;
 
-pub use bounds::{first_stage_floor_pct, space_cost_floor};
+pub use bounds::{first_stage_floor_pct, last_stage_swing_floor_pct, space_cost_floor};
 pub use structures::augment_stock;
 
 use crate::analysis::{part_count, Analysis};
