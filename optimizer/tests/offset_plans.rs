@@ -52,3 +52,38 @@ fn a_small_offset_is_left_out_by_a_plain_stage() {
         .unwrap_or(f64::NAN);
     assert!(total <= 1.5, "{total}");
 }
+
+/// An invented process-voltage tap (INVENTED: 0.5 V to 4.5 V from a made-up
+/// valve-position sender) into a 0 V to 2.5 V ADC (20 % margin) on one
+/// 5 V rail: a gain of 0.375 and an output offset of +0.3125 V. A summed
+/// stage without its shunt needs its signal gain plus the offset over the
+/// rail (0.4375) to reach its noise gain of at least 1, so the + input
+/// must attenuate both the input and the rail, and `rp` takes the rest;
+/// before the search built that shunt it found no design here.
+const ATTENUATOR: &str = "[sensor]\nlabel = \"invented valve-position sender\"\n\
+signal_low_v = 0.5\nsignal_high_v = 4.5\noutput = \"single-ended\"\nsource_ohms = 10.0\n\
+[adc]\nlow_v = 0.0\nhigh_v = 2.5\nbits = 12\nmargin_pct = 20\n\
+[supply]\npositive_v = 5.0\nnegative_v = 0.0\n\
+[accuracy]\nmax_error_pct_fs = 3.0\ncalibration = \"none\"\nbasis = \"worst-case\"\n\
+temp_min_c = 0.0\ntemp_max_c = 50.0\nbandwidth_hz = 10\n\
+[search]\nmax_stages = 1\ntopologies = [\"non-inverting\"]\nobjective = \"cost\"\n";
+
+#[test]
+fn an_attenuating_level_shift_takes_the_summed_stage_with_its_shunt() {
+    let report = solve_and_analyze(ATTENUATOR, "attenuating.toml", &stock_files());
+    let stages = report["design"]["stages"]
+        .as_array()
+        .cloned()
+        .unwrap_or_default();
+    assert_eq!(stages.len(), 1, "{stages:?}");
+    assert_eq!(stages[0]["shape"], "non-inverting-summed", "{}", stages[0]);
+    assert!(
+        stages[0]["resistors"]["rp"].is_string(),
+        "the shunt is placed: {}",
+        stages[0]
+    );
+    let total = report["design"]["error"]["basis_pct_fs"]
+        .as_f64()
+        .unwrap_or(f64::NAN);
+    assert!(total <= 3.0, "{total}");
+}

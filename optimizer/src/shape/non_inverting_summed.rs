@@ -81,6 +81,70 @@ fn grounded_value_sets(request: &ValueSetRequest<'_>, band: [f64; 2]) -> Vec<Rol
     out
 }
 
+/// Noise gains `1 + rf/rg` a summed stage with its `rp` shunt is tried
+/// at: 2 lets `rf` and `rg` share one value (and one BOM line).
+const SHUNTED_NOISE_GAINS: [f64; 2] = [2.0, 4.0];
+
+/// The stocked values nearest `ohms` from below and from above (one
+/// where `ohms` is a stocked value or outside the range).
+fn nearest_values(values: &[f64], ohms: f64) -> Vec<usize> {
+    let above = values.partition_point(|&v| v < ohms);
+    let mut out = Vec::new();
+    if above > 0 {
+        out.push(above - 1);
+    }
+    if above < values.len() && values[above] != ohms {
+        out.push(above);
+    }
+    out
+}
+
+/// The value sets of a summed stage with its `rp` shunt to ground: where
+/// the signal gain plus the offset over the source's volts is below a
+/// noise gain `G`, the + input must attenuate both the input (to
+/// `gain / G`) and the source (to `offset / (volts G)`), and `rp` takes
+/// the rest. For each `rg, rf` pair near each of
+/// [`SHUNTED_NOISE_GAINS`], the `ri, ro` pairs nearest the ratio of the
+/// two shares, and the stocked `rp` values on either side of the one
+/// that makes the signal gain exact with them.
+fn shunted_value_sets(request: &ValueSetRequest<'_>, volts: f64) -> Vec<RoleValues> {
+    let mut out = Vec::new();
+    let values = request.values;
+    let rs = request.sensor_ohms.0;
+    let least = request.gain + request.offset / volts;
+    if !(request.gain > 0.0 && request.offset > 0.0 && least.is_finite()) {
+        return out;
+    }
+    for noise_gain in SHUNTED_NOISE_GAINS {
+        if noise_gain <= least * 1.05 {
+            continue;
+        }
+        for (rg, rf, _) in request.pairs(noise_gain - 1.0) {
+            let g = 1.0 + values[rf] / values[rg];
+            let a = request.gain / g;
+            let b = request.offset / (volts * g);
+            if !(a + b < 0.98) {
+                continue;
+            }
+            for (ro, ri) in attenuation_pairs(request, a / (a + b)) {
+                let gi = 1.0 / (values[ri] + rs);
+                let go = 1.0 / values[ro];
+                // gi / (gi + go + gp) = a.
+                let gp = gi / a - gi - go;
+                if !(gp > 0.0 && gp.is_finite()) {
+                    continue;
+                }
+                for rp in nearest_values(values, 1.0 / gp) {
+                    let (mut roles, divider) = summed_roles(ri, ro, rg, rf);
+                    roles.insert(Role::Rp, rp);
+                    out.push((roles, divider));
+                }
+            }
+        }
+    }
+    out
+}
+
 /// The non-inverting-summed shape.
 pub(crate) struct NonInvertingSummed;
 
@@ -111,9 +175,16 @@ impl StageShape for NonInvertingSummed {
 
     fn ideal_output(&self, drive: &StageDrive<'_>, plus: f64, _minus: f64) -> f64 {
         let r = drive.ohms;
-        let ri = r(Role::Ri) + drive.sensor_ohms.0;
-        let ro = r(Role::Ro);
-        let summed = (plus * ro + drive.offset_volts * ri) / (ri + ro);
+        let gi = 1.0 / (r(Role::Ri) + drive.sensor_ohms.0);
+        let go = 1.0 / r(Role::Ro);
+        // The optional shunt to ground (an absent role reads NaN).
+        let rp = r(Role::Rp);
+        let gp = if rp.is_finite() && rp > 0.0 {
+            1.0 / rp
+        } else {
+            0.0
+        };
+        let summed = (plus * gi + drive.offset_volts * go) / (gi + go + gp);
         summed * (1.0 + r(Role::Rf) / r(Role::Rg))
     }
 
@@ -128,6 +199,7 @@ impl StageShape for NonInvertingSummed {
         }
         let gain = request.gain + request.offset / volts;
         let alpha = request.gain / gain;
+        out.extend(shunted_value_sets(request, volts));
         if !(gain > 1.05 && alpha > 0.0 && alpha < 1.0) {
             return out;
         }

@@ -114,13 +114,16 @@ fn mna_output(need: &Need, stock: &Stock, design: &Design, signal: f64) -> f64 {
     solver.voltage(&x, built.out)
 }
 
-fn check(shape: Shape, network: Option<OffsetNetwork>, unbuffered_ref: bool) {
+fn check(shape: Shape, network: Option<OffsetNetwork>, unbuffered_ref: bool, optional: bool) {
     let differential = shape.differential_input();
     let need = need(differential);
     let stock = stock();
     let mut roles: Vec<Role> = shape.required_roles().to_vec();
     if network == Some(OffsetNetwork::InvertingRo) {
         roles.push(Role::Ro);
+    }
+    if optional {
+        roles.extend(shape.optional_roles().iter().copied());
     }
     let resistors: BTreeMap<Role, Resistor> =
         roles.iter().map(|&r| (r, exact(ohms_of(r)))).collect();
@@ -159,7 +162,14 @@ fn check(shape: Shape, network: Option<OffsetNetwork>, unbuffered_ref: bool) {
         ),
         Some(_) => (supply, 0.0),
     };
-    let ohms = |role: Role| ohms_of(role);
+    // A role the design does not place reads NaN, as in the search.
+    let ohms = |role: Role| {
+        if roles.contains(&role) {
+            ohms_of(role)
+        } else {
+            f64::NAN
+        }
+    };
     let drive = StageDrive {
         ohms: &ohms,
         network,
@@ -201,7 +211,7 @@ fn closed_forms_match_the_netlist_at_both_span_ends() {
         Some(OffsetNetwork::InvertingBias),
         Some(OffsetNetwork::RefDivider),
     ];
-    let mut checked = 0;
+    let (mut checked, mut with_optional) = (0, 0);
     for &shape in Shape::ALL {
         for network in networks {
             // The networks the shape supports: those it picks for an offset
@@ -211,15 +221,27 @@ fn closed_forms_match_the_netlist_at_both_span_ends() {
                     .iter()
                     .any(|&c| shape.offset_network(c) == network);
             if supported {
-                check(shape, network, false);
+                check(shape, network, false, false);
                 checked += 1;
             }
             if supported && network == Some(OffsetNetwork::RefDivider) {
-                check(shape, network, true);
+                check(shape, network, true, false);
                 checked += 1;
+            }
+            // The summed stage with its optional shunt `rp` placed too
+            // (the optimised search builds it; the inverting stage's
+            // optional `ro` it builds only as its `InvertingRo` network,
+            // checked above).
+            if supported && network == Some(OffsetNetwork::Summed) {
+                check(shape, network, false, true);
+                with_optional += 1;
             }
         }
     }
+    assert!(
+        with_optional > 0,
+        "no shape checked with its optional roles"
+    );
     // Six shapes without an offset, five offset networks in all, the
     // inverting shape with two and three REF-pin shapes, each of those
     // also with its REF divider unbuffered.
