@@ -123,7 +123,10 @@ fn shunted_value_sets(request: &ValueSetRequest<'_>, volts: f64) -> Vec<RoleValu
             let g = 1.0 + values[rf] / values[rg];
             let a = request.gain / g;
             let b = request.offset / (volts * g);
-            if !(a + b < 0.98) {
+            // A shunt that takes at least 2 % of the + input's conductance
+            // (NaN shares fail too).
+            let shares = a + b;
+            if shares.is_nan() || shares >= 0.98 {
                 continue;
             }
             for (ro, ri) in attenuation_pairs(request, a / (a + b)) {
