@@ -931,3 +931,47 @@ fn agreement_table() {
         );
     }
 }
+
+/// Regression (found by `agreement_soak`, seed 505): a target exactly on
+/// the least error the space reaches. The walk's cheap screen turned the
+/// target into volts and compared there, and one rounding put the only
+/// design that meets it over the line: the walk said "none" while the
+/// optimiser (rightly) returned it. The screen now judges in % FS by the
+/// analysis's own product.
+#[test]
+fn a_design_exactly_on_the_target_is_found_by_both() {
+    let stock = StockCase {
+        grades: vec![Grade {
+            series: "E6",
+            from: 1000.0,
+            decades: 1,
+            class: 0,
+            quantity: None,
+        }],
+        opamps: vec![0],
+        references: vec![],
+        capacitors: vec![1],
+        inamp: false,
+        network: None,
+    };
+    let need = NeedCase {
+        differential: false,
+        falling: false,
+        offset: 0,
+        margin: 10.0,
+        ratio: 2.2,
+        split: false,
+        target: Target::Edge(1.0, 2.0),
+        calibration: "offset",
+        basis: "rss",
+        line: 0.0,
+        objective: "cost",
+        max_parts: 3,
+        sampling: false,
+    };
+    let (seen, agreed) = case(&stock, &need);
+    assert_eq!(seen.verdict, Verdict::Feasible);
+    if let Err(why) = agreed {
+        panic!("{why}");
+    }
+}

@@ -651,9 +651,16 @@ fn cannot_meet(problem: &Problem<'_>, model: &Model, best_v: Option<f64>) -> boo
         Basis::Yield => return false,
     };
     let least = total[0].max(total[1]);
+    // Judged in % FS by the very product the analysis's own verdict uses
+    // (`analysis::Model::report_with`: the total times 100 over the full
+    // scale, against `max_error_pct_fs`), so a design whose reported total
+    // sits exactly on the target is not screened out by a rounding of the
+    // target into volts.
+    let pct = 100.0 / problem.need.full_scale();
+    let over_target = least * pct > problem.need.accuracy.max_error_pct_fs;
     // Proof (error objective): the reported total is at least this one,
     // so above the best's reported total it ranks after the best.
-    least > problem.target_v || best_v.is_some_and(|b| least > b * (1.0 + 1e-9))
+    over_target || best_v.is_some_and(|b| least > b * (1.0 + 1e-9))
 }
 
 /// Least wall time between two progress reports inside one structure, ms.
