@@ -14,10 +14,11 @@
 //! The floor is also checked against the error of every design the walk
 //! returns on the random cases of `exhaustive_agreement.rs`.
 
+mod common;
+
+use common::solve::with_still_clock;
 use spanfit::need::{parse_need, Need};
-use spanfit::search::{
-    solve_unexplained, space_cost_floor, Progress, SearchMode, SolveControl, SolveOutcome,
-};
+use spanfit::search::{solve_unexplained, space_cost_floor, SearchMode, SolveOutcome};
 use spanfit::stock::{parse_stock, Stock, StockFile};
 
 /// Invented op-amp rows: id, output headroom to each rail (volts), price.
@@ -63,13 +64,8 @@ fn need(target_pct: f64) -> Need {
 }
 
 fn run(need: &Need, stock: &Stock, mode: SearchMode) -> SolveOutcome {
-    let clock = || 0.0;
-    let mut progress = |_p: Progress| true;
-    let mut control = SolveControl {
-        progress: &mut progress,
-        now_ms: &clock,
-    };
-    solve_unexplained(need, stock, mode, &mut control).expect("the search runs")
+    with_still_clock(|control| solve_unexplained(need, stock, mode, control))
+        .expect("the search runs")
 }
 
 /// Under both floors (0.5 % FS is 15 mV; the parts stop 20 and 150 mV
