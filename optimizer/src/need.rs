@@ -387,6 +387,16 @@ impl Need {
         (k, vlo - k * self.sensor.signal_low.0)
     }
 
+    /// The ideal output at the low and high ends of the sensor's span,
+    /// volts (`K * Vsensor + B` at each end).
+    pub fn ideal_outputs(&self) -> [f64; 2] {
+        let (k, b) = self.ideal_transfer();
+        [
+            k * self.sensor.signal_low.0 + b,
+            k * self.sensor.signal_high.0 + b,
+        ]
+    }
+
     /// One LSB in volts.
     pub fn lsb(&self) -> f64 {
         self.full_scale() / 2f64.powi(self.adc.bits as i32)

@@ -19,7 +19,7 @@ use serde::Serialize;
 use std::collections::BTreeMap;
 
 /// Slack on voltage comparisons, volts (rounding of the solve).
-const VOLTAGE_SLACK: f64 = 1e-9;
+pub(crate) const VOLTAGE_SLACK: f64 = 1e-9;
 
 /// A feasibility check.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize)]
@@ -542,6 +542,17 @@ fn section_limits(stock: &Stock, kind: AmplifierKind) -> SectionLimits {
     }
 }
 
+/// Where a section of this part may swing its output, volts: the
+/// negative rail plus its low headroom to the positive rail (at the low
+/// end of its tolerance) less its high headroom. The output-swing check
+/// asks every section's output to stay inside (within [`VOLTAGE_SLACK`]);
+/// the search's swing floor reasons from the same interval.
+pub(crate) fn output_swing(need: &Need, stock: &Stock, kind: AmplifierKind) -> (f64, f64) {
+    let positive = need.supply.positive.0 * (1.0 - need.supply.tolerance.fraction());
+    let headroom = section_limits(stock, kind).output_headroom;
+    (need.supply.negative.0 + headroom[0], positive - headroom[1])
+}
+
 /// What the raw ranges of nodes are computed from.
 struct RawRanges<'a> {
     netlist: &'a Netlist,
@@ -585,10 +596,7 @@ fn section_findings(
         numbers: [input_min, input_max, common_low, common_high],
         stage: Some(section.stage),
     });
-    let (swing_low, swing_high) = (
-        negative + limits.output_headroom[0],
-        positive - limits.output_headroom[1],
-    );
+    let (swing_low, swing_high) = output_swing(need, stock, section.kind);
     let mut nodes = vec![section.out];
     nodes.extend(&section.internal_outputs);
     let (output_min, output_max) = range_of(&nodes);

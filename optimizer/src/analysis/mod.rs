@@ -36,7 +36,7 @@ mod contributor;
 mod corners;
 mod explain;
 mod extremes;
-mod feasibility;
+pub(crate) mod feasibility;
 mod monte_carlo;
 mod noise;
 mod params;
@@ -219,8 +219,7 @@ impl Model {
     ) -> Result<Model> {
         let mut netlist = built.netlist.clone();
         let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
-        let (k, b) = need.ideal_transfer();
-        let ideal = [k * signal[0] + b, k * signal[1] + b];
+        let ideal = need.ideal_outputs();
         let dc =
             DcSolution::solve(&mut netlist, built.vsense, signal, built.out).map_err(dc_error)?;
         let response = match gets_pair {

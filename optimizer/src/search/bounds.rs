@@ -321,11 +321,7 @@ pub fn space_cost_floor(need: &Need, stock: &Stock) -> Option<f64> {
 /// design has no stage or its part is not in the stock.
 pub fn last_stage_swing_floor_pct(need: &Need, stock: &Stock, design: &Design) -> Option<f64> {
     let kind = stage_part(stock, design.stages.last()?)?;
-    let (k, b) = need.ideal_transfer();
-    let ideal = [
-        k * need.sensor.signal_low.0 + b,
-        k * need.sensor.signal_high.0 + b,
-    ];
+    let ideal = need.ideal_outputs();
     Some(floors::swing_floor_v(need, stock, kind, ideal) * 100.0 / need.full_scale())
 }
 

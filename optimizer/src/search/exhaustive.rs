@@ -353,12 +353,10 @@ impl Catalog {
             for &amplifier in amplifiers {
                 // The last stage's part must be able to swing where the
                 // output must be (floors::swing_floor_v states the proof).
-                let kind = if shape.integrated() {
-                    AmplifierKind::InAmp(amplifier)
-                } else {
-                    AmplifierKind::OpAmp(amplifier)
-                };
-                if last && swing_floor_v(need, stock, kind, problem.ideal) > problem.target_v {
+                if last
+                    && swing_floor_v(need, stock, driver_kind(shape, amplifier), problem.ideal)
+                        > problem.target_v
+                {
                     continue;
                 }
                 for offset in drives(sources.len()) {

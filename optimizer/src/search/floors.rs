@@ -58,6 +58,7 @@
 //! by the measured slope and the yield basis judges by builds, so neither
 //! gets a floor.
 
+use crate::analysis::feasibility::{output_swing, VOLTAGE_SLACK};
 use crate::need::{Basis, Calibration, Need};
 use crate::stock::Stock;
 use crate::topology::AmplifierKind;
@@ -162,19 +163,9 @@ pub(super) fn swing_floor_v(
     if need.accuracy.basis == Basis::Yield {
         return 0.0;
     }
-    let headroom = match kind {
-        AmplifierKind::OpAmp(i) => {
-            let p = &stock.opamps[i];
-            [p.output_headroom_low.0, p.output_headroom_high.0]
-        }
-        AmplifierKind::InAmp(i) => {
-            let p = &stock.inamps[i];
-            [p.output_headroom_low.0, p.output_headroom_high.0]
-        }
-    };
-    let positive = need.supply.positive.0 * (1.0 - need.supply.tolerance.fraction());
-    let low = need.supply.negative.0 + headroom[0] - SWING_SLACK_V;
-    let high = positive - headroom[1] + SWING_SLACK_V;
+    // The check's interval, widened by twice its slack.
+    let (low, high) = output_swing(need, stock, kind);
+    let (low, high) = (low - 2.0 * VOLTAGE_SLACK, high + 2.0 * VOLTAGE_SLACK);
     let floor = match need.accuracy.calibration {
         Calibration::TwoPoint => return 0.0,
         // No output passes an empty interval: nothing meets the need.
@@ -191,10 +182,6 @@ pub(super) fn swing_floor_v(
         0.0
     }
 }
-
-/// The output-swing check's own slack, volts (`analysis/feasibility.rs`),
-/// taken on the side that widens the interval, and a little more.
-const SWING_SLACK_V: f64 = 2e-9;
 
 #[cfg(test)]
 mod tests {

@@ -393,14 +393,13 @@ impl<'a> Problem<'a> {
     /// chosen from it, as the report chooses it) and the search's
     /// augmented stock.
     fn new(need: &'a Need, user_stock: &'a Stock, stock: &'a Stock) -> Problem<'a> {
-        let (k, b) = need.ideal_transfer();
         let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
         Problem {
             need,
             stock,
             grades: structures::grades(stock),
             signal,
-            ideal: [k * signal[0] + b, k * signal[1] + b],
+            ideal: need.ideal_outputs(),
             target_v: need.accuracy.max_error_pct_fs / 100.0 * need.full_scale(),
             pairs: FilterPairs::new(need, user_stock),
         }

@@ -462,14 +462,13 @@ mod tests {
     fn check(objective: &str) {
         let (need, user_stock) = problem_parts(objective);
         let stock = augment_stock(&need, &user_stock);
-        let (k, b) = need.ideal_transfer();
         let signal = [need.sensor.signal_low.0, need.sensor.signal_high.0];
         let problem = Problem {
             need: &need,
             stock: &stock,
             grades: grades(&stock),
             signal,
-            ideal: [k * signal[0] + b, k * signal[1] + b],
+            ideal: need.ideal_outputs(),
             target_v: need.accuracy.max_error_pct_fs / 100.0 * need.full_scale(),
             pairs: super::super::pair::FilterPairs::new(&need, &user_stock),
         };
