@@ -10,7 +10,7 @@ use crate::error::Result;
 use crate::need::Topology;
 use crate::netlist::Node;
 use crate::schematic::{anchor, Canvas, Sheet, Side, StageOutline, Y0};
-use crate::search::ratio::{bracketed_pairs, BAND, PAIRS_PER_RATIO};
+use crate::search::ratio::{bracket, bracketed_pairs, BAND, PAIRS_PER_RATIO};
 use crate::topology::{Builder, InjectionPoint};
 
 /// Noise-gain targets sampled inside a grounded stage's band.
@@ -85,20 +85,6 @@ fn grounded_value_sets(request: &ValueSetRequest<'_>, band: [f64; 2]) -> Vec<Rol
 /// at: 2 lets `rf` and `rg` share one value (and one BOM line).
 const SHUNTED_NOISE_GAINS: [f64; 2] = [2.0, 4.0];
 
-/// The stocked values nearest `ohms` from below and from above (one
-/// where `ohms` is a stocked value or outside the range).
-fn nearest_values(values: &[f64], ohms: f64) -> Vec<usize> {
-    let above = values.partition_point(|&v| v < ohms);
-    let mut out = Vec::new();
-    if above > 0 {
-        out.push(above - 1);
-    }
-    if above < values.len() && values[above] != ohms {
-        out.push(above);
-    }
-    out
-}
-
 /// The value sets of a summed stage with its `rp` shunt to ground: where
 /// the signal gain plus the offset over the source's volts is below a
 /// noise gain `G`, the + input must attenuate both the input (to
@@ -137,7 +123,7 @@ fn shunted_value_sets(request: &ValueSetRequest<'_>, volts: f64) -> Vec<RoleValu
                 if !(gp > 0.0 && gp.is_finite()) {
                     continue;
                 }
-                for rp in nearest_values(values, 1.0 / gp) {
+                for rp in bracket(values, 1.0 / gp) {
                     let (mut roles, divider) = summed_roles(ri, ro, rg, rf);
                     roles.insert(Role::Rp, rp);
                     out.push((roles, divider));
