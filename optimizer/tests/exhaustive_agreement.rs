@@ -775,17 +775,29 @@ fn tally(seen: &[Seen]) -> String {
     out
 }
 
-/// The fixed sample the test runs (a fixed seed, so a failure reproduces
-/// and CI runs the same cases).
-fn runner(cases: u32) -> proptest::test_runner::TestRunner {
+/// Run the property on `cases` random cases from a fixed `seed` (so a
+/// failure reproduces and CI runs the same cases): what each case showed,
+/// and the failure (shrunk) if any.
+fn run_cases(cases: u32, seed: u64) -> (Vec<Seen>, Option<String>) {
     use proptest::test_runner::{Config, RngSeed, TestRunner};
-    TestRunner::new(Config {
+    let mut runner = TestRunner::new(Config {
         cases,
-        rng_seed: RngSeed::Fixed(7),
+        rng_seed: RngSeed::Fixed(seed),
         failure_persistence: None,
         max_shrink_iters: 200,
         ..Config::default()
-    })
+    });
+    let seen = std::cell::RefCell::new(Vec::new());
+    let strategy = (stock_case(), need_case()).prop_map(|(s, n)| fit(s, n));
+    let result = runner.run(&strategy, |(stock, need)| {
+        let (s, agreed) = case(&stock, &need);
+        seen.borrow_mut().push(s);
+        if let Err(why) = agreed {
+            prop_assert!(false, "{why}\nneed {need:?}\nstock {stock:?}");
+        }
+        Ok(())
+    });
+    (seen.into_inner(), result.err().map(|e| e.to_string()))
 }
 
 /// The property over the random cases, with the mix of verdicts asserted:
@@ -798,19 +810,9 @@ fn runner(cases: u32) -> proptest::test_runner::TestRunner {
     ignore = "release only: scripts/test.sh runs it in its release step (a debug walk is too slow)"
 )]
 fn optimiser_agrees_with_the_exhaustive_walk() {
-    let seen = std::cell::RefCell::new(Vec::new());
-    let strategy = (stock_case(), need_case()).prop_map(|(s, n)| fit(s, n));
-    let result = runner(CASES).run(&strategy, |(stock, need)| {
-        let (s, agreed) = case(&stock, &need);
-        seen.borrow_mut().push(s);
-        if let Err(why) = agreed {
-            prop_assert!(false, "{why}\nneed {need:?}\nstock {stock:?}");
-        }
-        Ok(())
-    });
-    let seen = seen.into_inner();
+    let (seen, failure) = run_cases(CASES, 7);
     println!("{}", tally(&seen));
-    if let Err(e) = result {
+    if let Some(e) = failure {
         panic!("{e}");
     }
     let n = seen.len();
@@ -855,7 +857,6 @@ const CASES: u32 = 300;
 #[test]
 #[ignore]
 fn agreement_soak() {
-    use proptest::test_runner::{Config, RngSeed, TestRunner};
     let read = |name: &str, default: u64| {
         std::env::var(name)
             .ok()
@@ -864,25 +865,9 @@ fn agreement_soak() {
     };
     let seed = read("SPANFIT_SOAK_SEED", 1);
     let cases = u32::try_from(read("SPANFIT_SOAK_CASES", 2000)).unwrap_or(2000);
-    let mut runner = TestRunner::new(Config {
-        cases,
-        rng_seed: RngSeed::Fixed(seed),
-        failure_persistence: None,
-        max_shrink_iters: 200,
-        ..Config::default()
-    });
-    let seen = std::cell::RefCell::new(Vec::new());
-    let strategy = (stock_case(), need_case()).prop_map(|(s, n)| fit(s, n));
-    let result = runner.run(&strategy, |(stock, need)| {
-        let (s, agreed) = case(&stock, &need);
-        seen.borrow_mut().push(s);
-        if let Err(why) = agreed {
-            prop_assert!(false, "{why}\nneed {need:?}\nstock {stock:?}");
-        }
-        Ok(())
-    });
-    println!("seed {seed}, {cases} cases\n{}", tally(&seen.into_inner()));
-    if let Err(e) = result {
+    let (seen, failure) = run_cases(cases, seed);
+    println!("seed {seed}, {cases} cases\n{}", tally(&seen));
+    if let Some(e) = failure {
         panic!("{e}");
     }
 }
