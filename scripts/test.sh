@@ -48,7 +48,7 @@ step native-tests cargo test --workspace --no-fail-fast
 step fuzz env SPANFIT_FUZZ_SECONDS=60 cargo test -p spanfit-optimizer --release --test fuzz
 # The optimiser against the exhaustive walk, and the space bound against
 # the walk's optima: release only (ignored in the debug run above).
-step release-walks cargo test -p spanfit-optimizer --release --test exhaustive_agreement --test space_bound --test swing_floor
+step release-walks cargo test -p spanfit-optimizer --release --test exhaustive_agreement --test space_bound --test swing_floor --test loop_gain_floor
 step wasm-browser-tests cargo test -p spanfit-web --target wasm32-unknown-unknown --no-fail-fast
 if step build bash -c 'bash scripts/build-web.sh && cargo build --release -p spanfit-cli'; then
   step page-tests node --test --test-concurrency=1 tests/page/

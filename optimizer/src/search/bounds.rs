@@ -208,14 +208,17 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
         cost: None,
         parts: None,
     };
+    let sequence_floors = floors::SequenceFloors::new(need, problem.stock);
     for shapes in shape_sequences(need, problem.stock) {
         let sign: f64 = shapes.iter().map(|s| s.sign()).product();
         if sign * k <= 0.0 && wrong_sign_ruled_out(problem) {
             continue;
         }
         // The first stage's part is fixed choice by choice: a part whose
-        // accuracy floor (search/floors.rs) is over the target is in no
-        // design that meets the need.
+        // floor in this sequence (search/floors.rs: its accuracy floor,
+        // and the loop-gain floor where every stage is one op-amp section)
+        // is over the target is in no design of the sequence that meets
+        // the need.
         let mut least: Option<(f64, usize)> = None;
         let mut lines_and_parts = None;
         let (Some(&first), Some(&last)) = (shapes.first(), shapes.last()) else {
@@ -232,7 +235,7 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
             continue;
         }
         for kind in first_stage_parts(problem, first) {
-            if floors::part_floor_v(need, problem.stock, kind) > problem.target_v
+            if sequence_floors.get(&shapes, kind) > problem.target_v
                 || (shapes.len() == 1 && !ends(kind))
             {
                 continue;
@@ -344,11 +347,14 @@ fn stage_part(stock: &Stock, stage: &crate::design::Stage) -> Option<AmplifierKi
     })
 }
 
-/// The accuracy floor of a design's first-stage part: the least total
-/// error, % FS on the need's basis, that the analysis can report for any
-/// design whose first stage uses that part (search/floors.rs). `None` when
-/// the design has no stage or its part is not in the stock.
+/// The accuracy floor of a design's first-stage part in its stage
+/// sequence: the least total error, % FS on the need's basis, that the
+/// analysis can report for any design with the same shapes whose first
+/// stage uses that part (search/floors.rs: the part's accuracy floor, and
+/// the loop-gain floor where every stage is one op-amp section). `None`
+/// when the design has no stage or its part is not in the stock.
 pub fn first_stage_floor_pct(need: &Need, stock: &Stock, design: &Design) -> Option<f64> {
     let kind = stage_part(stock, design.stages.first()?)?;
-    Some(floors::part_floor_v(need, stock, kind) * 100.0 / need.full_scale())
+    let shapes: Vec<Shape> = design.stages.iter().map(|s| s.shape).collect();
+    Some(floors::sequence_floor_v(need, stock, &shapes, kind) * 100.0 / need.full_scale())
 }

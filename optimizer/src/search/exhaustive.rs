@@ -43,7 +43,7 @@
 //!   (it cannot be more accurate).
 
 use super::bounds::{wrong_sign_ruled_out, MATCHED_ROLES};
-use super::floors::{part_floor_v, swing_floor_v};
+use super::floors::{part_floor_v, swing_floor_v, SequenceFloors};
 use super::groups::shape_sequences;
 use super::pair::PairFloor;
 use super::strategy::{objective_key, RunResult, SearchState};
@@ -246,6 +246,8 @@ struct Catalog {
     /// the target is in no design that meets the need.
     first_opamps: Vec<usize>,
     first_inamps: Vec<usize>,
+    /// Floors of the first stage's part by sequence (floors.rs).
+    floors: SequenceFloors,
     /// Every way a network package may fill a stage's matched roles.
     networks: Vec<NetworkPlace>,
 }
@@ -305,6 +307,7 @@ impl Catalog {
             inamps,
             first_opamps,
             first_inamps,
+            floors: SequenceFloors::new(need, stock),
             networks: network_places(stock),
         }
     }
@@ -351,6 +354,13 @@ impl Catalog {
                 network_variants.extend((0..self.networks.len()).map(Some));
             }
             for &amplifier in amplifiers {
+                // The first stage's part must clear its floor in this
+                // sequence (floors::sequence_floor_v states the proof).
+                if position == 0
+                    && self.floors.get(&shapes, driver_kind(shape, amplifier)) > problem.target_v
+                {
+                    continue;
+                }
                 // The last stage's part must be able to swing where the
                 // output must be (floors::swing_floor_v states the proof).
                 if last

@@ -57,9 +57,15 @@
 //! function linear on each side of `x = |K|`. A two-point trim rescales
 //! by the measured slope and the yield basis judges by builds, so neither
 //! gets a floor.
+//!
+//! **The ADC window.** The same sensitivity widens the output's untrimmed
+//! range, which the ADC-window check keeps inside the ADC: no design of
+//! the part has a real gain above [`gain_cap`], and where that cap is
+//! below `|K|` the least is taken over `x <= cap` only.
 
 use crate::analysis::feasibility::{output_swing, VOLTAGE_SLACK};
-use crate::need::{Basis, Calibration, Need};
+use crate::design::Shape;
+use crate::need::{Basis, Calibration, Excitation, Need, SensorOutput};
 use crate::stock::Stock;
 use crate::topology::AmplifierKind;
 
@@ -103,20 +109,36 @@ pub(super) fn input_referred_limits(need: &Need, stock: &Stock, kind: AmplifierK
 /// The least total error, volts at the output, the analysis can report on
 /// the need's basis for any design whose first stage has a section with
 /// these input-referred limits (module notes). Zero where no floor holds.
-pub(super) fn error_floor_v(need: &Need, limits: &[f64]) -> f64 {
-    let (k, _) = need.ideal_transfer();
-    let span = (need.sensor.signal_high.0 - need.sensor.signal_low.0).abs();
+/// `cap` bounds the real gain `x` from above ([`gain_cap`]; infinite for
+/// none).
+pub(super) fn error_floor_v(need: &Need, limits: &[f64], cap: f64) -> f64 {
     let combined = match need.accuracy.basis {
         Basis::WorstCase => limits.iter().map(|l| l.abs()).sum::<f64>(),
         Basis::Rss => limits.iter().map(|l| l * l).sum::<f64>().sqrt(),
         Basis::Yield => return 0.0,
     };
-    let rounding = match need.accuracy.calibration {
-        Calibration::Offset => span,
-        Calibration::None => span / 2.0,
+    combined_floor_v(need, combined, cap)
+}
+
+/// The least over every real gain `0 <= x <= cap` of the floor
+/// `share |x - |K|| S + x C` (module notes) for the combined input-referred limits
+/// `C` on the need's basis (zero on the yield basis or with a two-point
+/// trim). The function is linear on each side of `|K|`, so its least is
+/// at `x = 0` or at `min(|K|, cap)`.
+fn combined_floor_v(need: &Need, combined: f64, cap: f64) -> f64 {
+    if need.accuracy.basis == Basis::Yield {
+        return 0.0;
+    }
+    let (k, _) = need.ideal_transfer();
+    let k = k.abs();
+    let span = (need.sensor.signal_high.0 - need.sensor.signal_low.0).abs();
+    let share = match need.accuracy.calibration {
+        Calibration::Offset => 1.0,
+        Calibration::None => 0.5,
         Calibration::TwoPoint => return 0.0,
     };
-    let floor = k.abs() * rounding.min(combined);
+    let top = k.min(cap.max(0.0));
+    let floor = (share * k * span).min(share * (k - top) * span + top * combined);
     if floor.is_finite() {
         floor * (1.0 - FLOOR_MARGIN)
     } else {
@@ -126,7 +148,347 @@ pub(super) fn error_floor_v(need: &Need, limits: &[f64]) -> f64 {
 
 /// The error floor of a first-stage part, volts at the output.
 pub(super) fn part_floor_v(need: &Need, stock: &Stock, kind: AmplifierKind) -> f64 {
-    error_floor_v(need, &input_referred_limits(need, stock, kind))
+    let cap = gain_cap(need, stock, kind, 0.0);
+    error_floor_v(need, &input_referred_limits(need, stock, kind), cap)
+}
+
+/// The untrimmed limits of a part that reach the output through `d out /
+/// d vos`, summed, volts: the initial offset (trim or not), the drift over
+/// the largest excursion and the supply rejection (`extremes::raw_limit`
+/// of the same parameters).
+fn raw_limit_sum(need: &Need, stock: &Stock, kind: AmplifierKind) -> f64 {
+    let vos_uv = match kind {
+        AmplifierKind::OpAmp(i) => stock.opamps[i].vos_max_uv,
+        AmplifierKind::InAmp(i) => stock.inamps[i].input_offset_uv,
+    };
+    let [_, drift, rejection] = input_referred_limits(need, stock, kind);
+    vos_uv.abs() * 1e-6 + drift.abs() + rejection.abs()
+}
+
+/// The largest real gain `x = |K_act|` any design whose first stage has a
+/// section of part `kind` can have and pass the ADC-window check; `extra`
+/// adds to the part's untrimmed limits what more the output must carry per
+/// unit of `x` (the instrumentation floor's second input section).
+///
+/// Proof. The window check (`analysis/feasibility.rs::adc_window`) asks
+/// the nominal outputs at both span ends, each widened by at least its
+/// untrimmed half-range `w` (`extremes::output_half_range`: every
+/// parameter's output sensitivity times its initial plus drift limit), to
+/// lie within the ADC's range `W` (plus 1e-12 V). The widened ends span at
+/// least `|out_hi - out_lo| + w_lo + w_hi = x S + w_lo + w_hi`. The part's
+/// offset and supply-rejection parameters reach the output with `|d out /
+/// d vos| >= x` (module notes), so each `w >= x L` with `L` their summed
+/// untrimmed limits ([`raw_limit_sum`]): `x (S + 2 L) <= W`. The check
+/// holds on every basis and calibration.
+pub(super) fn gain_cap(need: &Need, stock: &Stock, kind: AmplifierKind, extra: f64) -> f64 {
+    let span = (need.sensor.signal_high.0 - need.sensor.signal_low.0).abs();
+    let width = (need.adc.high.0 - need.adc.low.0).abs() + 2e-12;
+    let per_x = span + 2.0 * (raw_limit_sum(need, stock, kind) + extra.max(0.0));
+    if per_x > 0.0 && width.is_finite() {
+        // Margin for the rounding of the check's own sums.
+        width / per_x * (1.0 + FLOOR_MARGIN)
+    } else {
+        f64::INFINITY
+    }
+}
+
+/// The least relative tolerance any resistor role can carry: a stocked
+/// resistor's tolerance, or half a matched network's ratio tolerance (what
+/// the analysis gives each network element, `analysis/params.rs`).
+fn least_tolerance(stock: &Stock) -> f64 {
+    let resistors = stock.resistors.iter().map(|r| r.tolerance.0);
+    let elements = stock.networks.iter().map(|n| 0.5 * n.ratio_tolerance.0);
+    resistors
+        .chain(elements)
+        .map(|pct| pct.abs() / 100.0)
+        .fold(f64::INFINITY, f64::min)
+        .min(1.0)
+}
+
+/// The loop-gain floor: a lower bound on the total error the analysis can
+/// report for any design whose stages are the `shapes` and whose first
+/// stage's section is the op-amp `kind`, volts at the output. At least
+/// [`part_floor_v`]; it adds what every stage's finite open-loop gain and
+/// feedback resistor must cost. Sequences with an instrumentation stage
+/// (three sections, or an integrated in-amp) get the part floor alone.
+///
+/// Proof (every stage a single-section shape: non-inverting, summed,
+/// inverting, difference). Each stage `j` has one section whose output
+/// `o` is its gain block (`o = A (pi - m)`, `A` the part's minimum
+/// open-loop gain, an ideal source at DC), and one feedback resistor `rf`
+/// from `o` to the - pin `m`; the rest of the - pin's network reaches
+/// neither `o` nor the + pin's network (shape `build`s), and the stage's
+/// input moves only one of the two pins' networks (the sensor moves only
+/// `inp`; later stages take the previous output and ground). Seen from `m`
+/// the rest is a Thevenin source `V_r` behind `R_r`, so
+/// `m = beta o + (1 - beta) V_r` with `beta = R_r / (R_r + rf)`, and
+/// `o = A (pi - (1 - beta) V_r) / (1 + A beta)`: the stage gives `T = A
+/// beta / (1 + A beta)` of what it would with an ideal part. Write `D` for
+/// a change over the span (high end less low end), `g = Do / D(input)` for
+/// the stage's real gain, `x = |K_act|` for the chain's (the product of
+/// the `|g|`), `S` the sensor span, `Dy = K_act S` the output's move.
+/// - **Finite gain.** The input moves `pi` or `V_r` by at most its own
+///   move (a node of a passive network is a convex combination of its
+///   sources), so `|Do| (1 + A beta) <= A |D(input)|`: `1 - T >= |g| / A`.
+///   The finite-gain line (`analysis/systematic.rs`, first order in `1/A`
+///   or exact) moves over the span by `|Dy| sum(1 - T_j)` (first order) or
+///   `|Dy| (1 / prod T_j - 1)` (exact), both at least `tau |Dy|` with
+///   `tau = sum(1 - T_j) >= sum |g_j| / A_j >= n x^(1/n) / A_hi` (AM-GM;
+///   `A_hi` the largest gain of the stock, or the first part's alone with
+///   one stage).
+/// - **Feedback resistor.** A relative change of `rf` acts as a source in
+///   series with it of `(o - m)` times the change, which reaches `o` times
+///   `T` and the output times the later stages' gain `Dy / Do`. Since
+///   `o - m = o (1 + 1/A) - pi`, its sensitivity moves over the span by
+///   `T |Dy| |1 + 1/A - D(pi) / Do|`, at least `T |Dy| (1 - 1/|g|)` (the
+///   plus pin moves at most the input's move; an inverting stage's not
+///   at all). The `(1 - 1/|g_j|)` sum to at least `1 - 1/x` (with every
+///   `1/|g_j| <= 1` taken, `1 - prod <= sum(1 - .)`), and every `T_j >= 1 -
+///   tau`. Each resistor's tolerance line after an offset trim is
+///   `tol |s_hi - s_lo|` with `tol` at least [`least_tolerance`], so the
+///   tolerance line holds at least `tol |Dy| (1 - tau) (1 - 1/x)`.
+/// - **The total.** On the worst case with an offset trim the high end
+///   carries the systematic lines, at least `max(|x - |K|| S, tau x S)`
+///   (they sum to the error `e`, whose move is `(K_act - K) S`, and one of
+///   them is the finite-gain line), the first part's input-referred limits
+///   through `|d out / d vos| >= x` (`x C`, the part floor's argument),
+///   and the tolerance line. Without calibration the two ends together
+///   carry the same moves (`|a| + |b| >= |b - a|`, and every tolerance
+///   line holds `tol (|s_lo| + |s_hi|)`), and the larger end half of it.
+///   On RSS the resistor limits join the root-sum-square, where this
+///   floor does not count them (`tol = 0`); the finite-gain line is
+///   systematic and counts.
+///
+/// The least over every `x` up to [`gain_cap`] and `tau >= n x^(1/n) /
+/// A_hi` is taken
+/// interval by interval: on `x in [a, b]` every term is at least its value
+/// at `a` (or the distance from `|K|` to the interval), a function of
+/// `tau` alone that is piecewise linear with its least at `tau_min` or a
+/// corner (`|x - |K|| / a`, 1).
+pub(super) fn sequence_floor_v(
+    need: &Need,
+    stock: &Stock,
+    shapes: &[Shape],
+    kind: AmplifierKind,
+) -> f64 {
+    match kind {
+        AmplifierKind::OpAmp(part) if loop_gain_applies(shapes) => {
+            loop_gain_floor_v(need, stock, shapes.len(), part)
+        }
+        AmplifierKind::OpAmp(part) if shapes.first() == Some(&Shape::InstrumentationDiscrete) => {
+            instrumentation_floor_v(need, stock, part)
+        }
+        _ => part_floor_v(need, stock, kind),
+    }
+}
+
+/// The floor of a sequence whose first stage is the discrete
+/// instrumentation stage on the op-amp `part`, volts: at least
+/// [`part_floor_v`], and more where the sensor's common mode is uncertain.
+///
+/// Proof. The stage's two input sections take the sensor's legs on their
+/// plus pins: `sp` (behind `RSENSE_P` from `inp`) and `sn` (behind
+/// `RSENSE_N` from `inn`), each pin drawing only its fixed bias current,
+/// and neither leg reaches anything else. With `inn = VCM` and
+/// `inp = VCM + VSENSE`, the output is `f(pi_a, pi_b)` of the two gain blocks' inputs
+/// `pi_a = sp + vos_a`, `pi_b = sn + vos_b`, so `d out / d vos_a = d out /
+/// d VSENSE = K_act` (`|.| = x`), `d out / d vos_b = u` for some `u`, and
+/// `d out / d VCM = K_act + u`. Both input sections are the same part,
+/// each with the limits `C` on `d out / d vos` (the part floor's budget
+/// argument), and the common-mode line (`analysis/params.rs`, a sensor
+/// with its own excitation) holds `|K_act + u| r` at both ends, `r` the
+/// common mode's tolerance in volts, calibration leaving it. On the worst
+/// case the random part is then at least `x C + |u| C + |K_act + u| r >=
+/// x (C + min(C, r))`; on RSS the root-sum-square of the same limits is
+/// at least `x sqrt(C^2 + C^2 r^2 / (C^2 + r^2))` (its least over `u`).
+/// The part floor's least over `x` then holds with that combination.
+fn instrumentation_floor_v(need: &Need, stock: &Stock, part: usize) -> f64 {
+    let kind = AmplifierKind::OpAmp(part);
+    let plain = part_floor_v(need, stock, kind);
+    let independent = need.sensor.output == SensorOutput::Differential
+        && need.sensor.excitation == Excitation::Independent;
+    let r = if independent {
+        need.sensor.common_mode_tolerance.fraction() * need.sensor.common_mode.0.abs()
+    } else {
+        0.0
+    };
+    let limits = input_referred_limits(need, stock, kind);
+    let combined = match need.accuracy.basis {
+        Basis::WorstCase => {
+            let c = limits.iter().map(|l| l.abs()).sum::<f64>();
+            c + c.min(r)
+        }
+        Basis::Rss => {
+            let c2 = limits.iter().map(|l| l * l).sum::<f64>();
+            let r2 = r * r;
+            if c2 + r2 > 0.0 {
+                (c2 + c2 * r2 / (c2 + r2)).sqrt()
+            } else {
+                0.0
+            }
+        }
+        Basis::Yield => return plain,
+    };
+    // The second input section and the common mode widen the untrimmed
+    // output range too: `|u| L + |K_act + u| r >= x min(L, r)`.
+    let raw = raw_limit_sum(need, stock, kind);
+    let cap = gain_cap(need, stock, kind, raw.min(r));
+    combined_floor_v(need, combined, cap).max(plain)
+}
+
+/// Whether the loop-gain floor holds for a sequence: every stage one
+/// op-amp section ([`sequence_floor_v`]).
+fn loop_gain_applies(shapes: &[Shape]) -> bool {
+    !shapes.is_empty() && shapes.iter().all(|s| !s.integrated() && s.sections() == 1)
+}
+
+/// [`sequence_floor_v`] for `n` single-section stages whose first is the
+/// op-amp `part`.
+fn loop_gain_floor_v(need: &Need, stock: &Stock, n: usize, part: usize) -> f64 {
+    let kind = AmplifierKind::OpAmp(part);
+    let plain = part_floor_v(need, stock, kind);
+    let share = match need.accuracy.calibration {
+        Calibration::Offset => 1.0,
+        Calibration::None => 0.5,
+        Calibration::TwoPoint => return plain,
+    };
+    let limits = input_referred_limits(need, stock, kind);
+    let (combined, tol) = match need.accuracy.basis {
+        Basis::WorstCase => (
+            limits.iter().map(|l| l.abs()).sum::<f64>(),
+            least_tolerance(stock),
+        ),
+        Basis::Rss => (limits.iter().map(|l| l * l).sum::<f64>().sqrt(), 0.0),
+        Basis::Yield => return plain,
+    };
+    let (k, _) = need.ideal_transfer();
+    let k = k.abs();
+    let span = (need.sensor.signal_high.0 - need.sensor.signal_low.0).abs();
+    let first_gain = stock.opamps[part].aol_min.ratio();
+    let gain_hi = if n == 1 {
+        first_gain
+    } else {
+        stock
+            .opamps
+            .iter()
+            .map(|p| p.aol_min.ratio())
+            .fold(first_gain, f64::max)
+    };
+    if !(k > 0.0 && span > 0.0 && gain_hi.is_finite() && gain_hi > 0.0) {
+        return plain;
+    }
+    let stages = n as f64;
+    let cap = gain_cap(need, stock, kind, 0.0);
+    // The bound on x in [a, b] (b may be infinite), none past the cap.
+    let interval = |a: f64, b: f64| -> f64 {
+        if a > cap {
+            return f64::INFINITY;
+        }
+        let b = b.min(cap);
+        let distance = if b < k {
+            k - b
+        } else if a > k {
+            a - k
+        } else {
+            0.0
+        };
+        if a <= 0.0 {
+            return share * distance * span;
+        }
+        let tau_min = stages * a.powf(1.0 / stages) / gain_hi;
+        let resistor_share = if a > 1.0 { 1.0 - 1.0 / a } else { 0.0 };
+        let h = |tau: f64| {
+            let systematic = (distance * span).max(tau * a * span);
+            let resistors = tol * a * span * (1.0 - tau).max(0.0) * resistor_share;
+            share * (systematic + resistors) + a * combined
+        };
+        [tau_min, (distance / a).max(tau_min), tau_min.max(1.0)]
+            .into_iter()
+            .map(h)
+            .fold(f64::INFINITY, f64::min)
+    };
+    // Breakpoints: fine near |K|, coarser away from it, out to 1e6 either
+    // side; the end intervals reach 0 and infinity.
+    let mut points = vec![0.0];
+    let mut x = k * 1e-6;
+    while x < k * 1e6 {
+        points.push(x);
+        let ratio = if x > k / 1.05 && x < k * 1.05 {
+            1.0002
+        } else if x > k / 10.0 && x < k * 10.0 {
+            1.01
+        } else {
+            1.5
+        };
+        x *= ratio;
+    }
+    points.push(k * 1e6);
+    let mut least = interval(k * 1e6, f64::INFINITY);
+    for pair in points.windows(2) {
+        least = least.min(interval(pair[0], pair[1]));
+    }
+    let floor = least * (1.0 - FLOOR_MARGIN);
+    if floor.is_finite() {
+        floor.max(plain)
+    } else {
+        plain
+    }
+}
+
+/// The sequence floors of a need and a stock, worked out once: the
+/// loop-gain floor of every stocked op-amp for every stage count up to
+/// the need's `max_stages`, and the part floor of every amplifier.
+pub(super) struct SequenceFloors {
+    /// `[stages - 1][op-amp]`.
+    loop_gain: Vec<Vec<f64>>,
+    /// Part floors of the op-amps.
+    opamps: Vec<f64>,
+    /// Part floors of the in-amps.
+    inamps: Vec<f64>,
+    /// Floors of the op-amps in a first discrete instrumentation stage.
+    instrumentation: Vec<f64>,
+}
+
+impl SequenceFloors {
+    /// Every floor of the need and stock.
+    pub(super) fn new(need: &Need, stock: &Stock) -> SequenceFloors {
+        let stages = need.search.max_stages.max(1);
+        SequenceFloors {
+            loop_gain: (1..=stages)
+                .map(|n| {
+                    (0..stock.opamps.len())
+                        .map(|i| loop_gain_floor_v(need, stock, n, i))
+                        .collect()
+                })
+                .collect(),
+            opamps: (0..stock.opamps.len())
+                .map(|i| part_floor_v(need, stock, AmplifierKind::OpAmp(i)))
+                .collect(),
+            inamps: (0..stock.inamps.len())
+                .map(|i| part_floor_v(need, stock, AmplifierKind::InAmp(i)))
+                .collect(),
+            instrumentation: (0..stock.opamps.len())
+                .map(|i| instrumentation_floor_v(need, stock, i))
+                .collect(),
+        }
+    }
+
+    /// [`sequence_floor_v`] of a sequence and its first stage's part.
+    pub(super) fn get(&self, shapes: &[Shape], kind: AmplifierKind) -> f64 {
+        match kind {
+            AmplifierKind::OpAmp(i) if loop_gain_applies(shapes) => self
+                .loop_gain
+                .get(shapes.len() - 1)
+                .and_then(|row| row.get(i))
+                .copied()
+                .unwrap_or_else(|| self.opamps.get(i).copied().unwrap_or(0.0)),
+            AmplifierKind::OpAmp(i) if shapes.first() == Some(&Shape::InstrumentationDiscrete) => {
+                self.instrumentation.get(i).copied().unwrap_or(0.0)
+            }
+            AmplifierKind::OpAmp(i) => self.opamps.get(i).copied().unwrap_or(0.0),
+            AmplifierKind::InAmp(i) => self.inamps.get(i).copied().unwrap_or(0.0),
+        }
+    }
 }
 
 /// The least error, volts at the output, the analysis can report on the
@@ -207,7 +569,7 @@ mod tests {
         let n = need("offset", "worst-case");
         let limits = [0.0, 3e-6 * 40.0, 1e-5];
         let want = 100.0 * (1.2e-4 + 1e-5);
-        let got = error_floor_v(&n, &limits);
+        let got = error_floor_v(&n, &limits, f64::INFINITY);
         assert!(
             (got - want).abs() <= 2.0 * FLOOR_MARGIN * want,
             "{got} vs {want}"
@@ -220,14 +582,14 @@ mod tests {
     fn rss_and_uncalibrated_floors() {
         let n = need("none", "rss");
         let limits = [3e-4, 4e-4, 0.0];
-        let got = error_floor_v(&n, &limits);
+        let got = error_floor_v(&n, &limits, f64::INFINITY);
         assert!(
             (got - 100.0 * 5e-4).abs() <= 2.0 * FLOOR_MARGIN * 0.05,
             "{got}"
         );
         // The floor never passes what the rounding alone could show: a
         // huge limit gives |K| S / 2 without calibration.
-        let huge = error_floor_v(&n, &[1.0, 0.0, 0.0]);
+        let huge = error_floor_v(&n, &[1.0, 0.0, 0.0], f64::INFINITY);
         assert!((huge - 100.0 * 0.01).abs() <= 2.0 * FLOOR_MARGIN, "{huge}");
     }
 
@@ -236,11 +598,14 @@ mod tests {
     fn two_point_and_yield_have_no_floor() {
         let limits = [1e-3, 1e-3, 1e-3];
         assert_eq!(
-            error_floor_v(&need("two-point", "worst-case"), &limits),
+            error_floor_v(&need("two-point", "worst-case"), &limits, f64::INFINITY),
             0.0
         );
-        assert_eq!(error_floor_v(&need("offset", "yield"), &limits), 0.0);
-        assert!(error_floor_v(&need("offset", "worst-case"), &limits) > 0.0);
+        assert_eq!(
+            error_floor_v(&need("offset", "yield"), &limits, f64::INFINITY),
+            0.0
+        );
+        assert!(error_floor_v(&need("offset", "worst-case"), &limits, f64::INFINITY) > 0.0);
     }
 
     /// The floor is the least over every real gain of the bound it rests
@@ -250,7 +615,7 @@ mod tests {
         for (calibration, share) in [("offset", 1.0), ("none", 0.5)] {
             let n = need(calibration, "worst-case");
             for c in [1e-6, 1e-4, 1e-3, 0.05] {
-                let floor = error_floor_v(&n, &[c, 0.0, 0.0]);
+                let floor = error_floor_v(&n, &[c, 0.0, 0.0], f64::INFINITY);
                 for i in 0..=400 {
                     let x = f64::from(i) * 0.5;
                     let bound = (x - 100.0).abs() * 0.02 * share + x * c;
@@ -278,6 +643,119 @@ mod tests {
         assert!((limits[1] - p.vos_drift_uv_per_c * 1e-6 * 40.0).abs() < 1e-15);
         assert!((limits[2] - 0.1 / p.psrr_min.ratio()).abs() < 1e-15);
     }
+    /// A stock of one resistor row (1 %) and one op-amp row with the
+    /// given open-loop gain (dB) and offset drift (uV/degC).
+    fn loop_stock(aol_db: f64, drift: f64) -> Stock {
+        crate::stock::parse_stock(&[
+            crate::stock::StockFile {
+                name: "resistors.csv".into(),
+                bytes: b"part_id,value_ohms,tolerance_pct,tcr_ppm_per_c,package,unit_cost,stock_qty\nT-R,1000,1,100,0603,0.01,\n".to_vec(),
+            },
+            crate::stock::StockFile {
+                name: "opamps.csv".into(),
+                bytes: format!(
+                    "part_id,channels,supply_min_v,supply_max_v,input_headroom_low_v,input_headroom_high_v,output_headroom_low_v,output_headroom_high_v,vos_max_uv,vos_drift_uv_per_c,ib_max_na,ios_max_na,aol_min_db,gbw_mhz,en_nv_rthz,in_pa_rthz,cmrr_min_db,unit_cost,stock_qty\n\
+                     T-LG,1,2.7,12,0,0,0.05,0.1,10,{drift},0.1,0.1,{aol_db},2,20,0.1,110,0.1,\n"
+                )
+                .into_bytes(),
+            },
+        ])
+        .expect("the test stock parses")
+    }
+
+    /// The loop-gain floor is the least of the bound it rests on: a scan
+    /// of the real gain `x` and the finite-gain share `tau` (at least its
+    /// least, `n x^(1/n) / A`) finds nothing below it, and comes within a
+    /// hair of it; with a low open-loop gain it passes the part floor.
+    #[test]
+    fn loop_gain_floor_is_the_least_of_its_bound() {
+        let stock = loop_stock(80.0, 0.5);
+        let gain = 1e4;
+        for (calibration, share) in [("offset", 1.0), ("none", 0.5)] {
+            let n = need(calibration, "worst-case");
+            let limits = input_referred_limits(&n, &stock, AmplifierKind::OpAmp(0));
+            let c: f64 = limits.iter().sum();
+            let (k, s, tol) = (100.0, 0.02, 0.01);
+            for stages in 1..=2usize {
+                let floor = loop_gain_floor_v(&n, &stock, stages, 0);
+                let mut least = f64::INFINITY;
+                for i in 1..=6000 {
+                    let x = f64::from(i) * 0.05;
+                    let tau_min = stages as f64 * x.powf(1.0 / stages as f64) / gain;
+                    for j in 0..=200 {
+                        let tau = tau_min + f64::from(j) * 0.002;
+                        let resistors =
+                            tol * x * s * (1.0 - tau).max(0.0) * (1.0 - 1.0 / x).max(0.0);
+                        let g = share * ((x - k).abs() * s).max(tau * x * s)
+                            + share * resistors
+                            + x * c;
+                        assert!(
+                            floor <= g * (1.0 + 1e-12),
+                            "{calibration} {stages}: floor {floor} over {g} at x {x} tau {tau}"
+                        );
+                        least = least.min(g);
+                    }
+                }
+                assert!(
+                    floor >= 0.995 * least,
+                    "{calibration} {stages}: {floor} vs {least}"
+                );
+            }
+            let one = loop_gain_floor_v(&n, &stock, 1, 0);
+            let plain = part_floor_v(&n, &stock, AmplifierKind::OpAmp(0));
+            assert!(one > 1.5 * plain, "{calibration}: {one} vs {plain}");
+        }
+    }
+
+    /// Sequences with an integrated in-amp or a three-section stage after
+    /// the first get the part floor alone; a first discrete
+    /// instrumentation stage gets the common-mode floor, which is the part
+    /// floor for a single-ended sensor.
+    #[test]
+    fn sequence_floor_by_shapes() {
+        let stock = loop_stock(80.0, 0.5);
+        let n = need("offset", "worst-case");
+        let part = AmplifierKind::OpAmp(0);
+        let plain = part_floor_v(&n, &stock, part);
+        let one = sequence_floor_v(&n, &stock, &[Shape::NonInverting], part);
+        assert!(one > plain);
+        let mixed = [Shape::NonInverting, Shape::InstrumentationDiscrete];
+        assert_eq!(sequence_floor_v(&n, &stock, &mixed, part), plain);
+        let first = [Shape::InstrumentationDiscrete];
+        assert_eq!(sequence_floor_v(&n, &stock, &first, part), plain);
+        let floors = SequenceFloors::new(&n, &stock);
+        for shapes in [&[Shape::NonInverting][..], &mixed, &first] {
+            assert_eq!(
+                floors.get(shapes, part),
+                sequence_floor_v(&n, &stock, shapes, part)
+            );
+        }
+    }
+
+    /// A first discrete instrumentation stage on a differential sensor
+    /// whose common mode is uncertain by far more than the part's limits
+    /// pays the limits twice (both input sections): `|K| 2 C`.
+    #[test]
+    fn instrumentation_floor_counts_both_input_sections() {
+        let stock = loop_stock(120.0, 0.5);
+        let text =
+            "[sensor]\nsignal_low_v = 0.0\nsignal_high_v = 0.02\noutput = \"differential\"\n\
+             common_mode_v = 2.5\ncommon_mode_tolerance_pct = 2.0\nexcitation = \"independent\"\n\
+             [adc]\nlow_v = 0.0\nhigh_v = 2.0\nbits = 12\nmargin_pct = 0.0\n\
+             [supply]\npositive_v = 5.0\nnegative_v = 0.0\ntolerance_pct = 2.0\n\
+             [accuracy]\nmax_error_pct_fs = 1.0\ncalibration = \"offset\"\n\
+             basis = \"worst-case\"\ntemp_min_c = -15.0\ntemp_max_c = 45.0\n";
+        let n = parse_need(text.as_bytes(), "floor.toml").expect("the test need parses");
+        let part = AmplifierKind::OpAmp(0);
+        let c: f64 = input_referred_limits(&n, &stock, part).iter().sum();
+        let got = sequence_floor_v(&n, &stock, &[Shape::InstrumentationDiscrete], part);
+        let want = 100.0 * 2.0 * c;
+        assert!(
+            (got - want).abs() <= 2.0 * FLOOR_MARGIN * want,
+            "{got} vs {want}"
+        );
+    }
+
     /// The swing floor: the distance from the ideal outputs to what the
     /// part can reach without calibration, the ideal span beyond its reach
     /// with an offset trim, nothing with a two-point trim or on the yield
