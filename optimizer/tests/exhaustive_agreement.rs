@@ -43,8 +43,8 @@
 use proptest::prelude::*;
 use spanfit::need::{Need, Objective};
 use spanfit::search::{
-    first_stage_floor_pct, last_stage_swing_floor_pct, solve_unexplained, Progress, SearchMode,
-    SolveControl, SolveOutcome,
+    first_stage_floor_pct, last_stage_swing_floor_pct, solve_unexplained, space_cost_floor,
+    Progress, SearchMode, SolveControl, SolveOutcome,
 };
 use spanfit::stock::{parse_stock, Stock, StockFile};
 
@@ -337,9 +337,12 @@ fn value(need: &Need, o: &SolveOutcome) -> Option<f64> {
 /// probe and in the case alike, as the explanation of an infeasible need
 /// does (`Accuracy::filter_target_pct_fs`): the least error then does not
 /// move with the target, and the edge is where it meets the target.
-fn settle(case: &NeedCase, stock: &Stock) -> (Need, Probe) {
+/// The probe's designs (the most accurate of the whole space, and its
+/// front), which no floor prunes at a loose target, are also held to the
+/// floors: the third value names a floor over a design's error.
+fn settle(case: &NeedCase, stock: &Stock) -> (Need, Probe, Result<(), String>) {
     let (factor, filter) = match case.target {
-        Target::Fixed(err) => return (case.build(err), Probe::None),
+        Target::Fixed(err) => return (case.build(err), Probe::None, Ok(())),
         Target::Edge(factor, filter) => (factor, filter),
     };
     let pinned = |mut need: Need| {
@@ -349,12 +352,15 @@ fn settle(case: &NeedCase, stock: &Stock) -> (Need, Probe) {
     let mut probe = case.clone();
     probe.objective = "error";
     let loose = pinned(probe.build(50.0));
-    match value(&loose, &run(&loose, stock, SearchMode::Exhaustive)) {
+    let walk = run(&loose, stock, SearchMode::Exhaustive);
+    let floors = floors_hold(&loose, stock, &walk).map_err(|e| format!("probe: {e}"));
+    match value(&loose, &walk) {
         Some(least) => (
             pinned(case.build((least * factor).clamp(1e-4, 50.0))),
             Probe::Least(least),
+            floors,
         ),
-        None => (pinned(case.build(50.0)), Probe::Nothing),
+        None => (pinned(case.build(50.0)), Probe::Nothing, floors),
     }
 }
 
@@ -688,7 +694,7 @@ fn traits(stock: &StockCase, need: &NeedCase) -> Vec<String> {
 /// disagreement (after the verdict, so the tally counts it too).
 fn case(stock: &StockCase, need: &NeedCase) -> (Seen, Result<(), String>) {
     let built = stock.build();
-    let (settled, probe) = settle(need, &built);
+    let (settled, probe, probe_floors) = settle(need, &built);
     let fast = run(&settled, &built, SearchMode::Optimised);
     let full = run(&settled, &built, SearchMode::Exhaustive);
     let verdict = if full.unfinished() || fast.unfinished() || full.stopped.is_some() {
@@ -712,11 +718,38 @@ fn case(stock: &StockCase, need: &NeedCase) -> (Seen, Result<(), String>) {
         }),
         traits: traits(stock, need),
     };
-    let floors = floors_hold(&settled, &built, &full);
+    let floors = floors_hold(&settled, &built, &full)
+        .and(probe_floors)
+        .and(bound_holds(&settled, &built, &full));
     (seen, compare(&settled, &fast, &full).and(floors))
 }
 
-/// The accuracy floor of each design's first-stage part and the swing
+/// The optimised mode's space bound against the walk: a space it proves
+/// empty holds no design, and its least cost is at most the optimum of
+/// the cost objective.
+fn bound_holds(need: &Need, stock: &Stock, full: &SolveOutcome) -> Result<(), String> {
+    let Some(best) = full.best.as_ref() else {
+        return Ok(());
+    };
+    match space_cost_floor(need, stock) {
+        None => Err(format!(
+            "the space bound proves no design, the walk found {:?}",
+            best.design
+        )),
+        Some(floor)
+            if need.search.objective == Objective::Cost && floor > best.costing.total + 1e-9 =>
+        {
+            Err(format!(
+                "the space bound {floor} is over the optimum {} of {:?}",
+                best.costing.total, best.design
+            ))
+        }
+        Some(_) => Ok(()),
+    }
+}
+
+/// The accuracy floor of each design's first-stage part in its stage
+/// sequence (with the loop-gain, common-mode and ADC-window terms) and the swing
 /// floor of its last-stage part (search/floors.rs) are at most the error
 /// the analysis reports for it, on every design the walk returns.
 fn floors_hold(need: &Need, stock: &Stock, full: &SolveOutcome) -> Result<(), String> {
@@ -899,7 +932,7 @@ fn agreement_table() {
     while n < 24 {
         let (stock_case, need_case) = strategy.new_tree(&mut runner).expect("a case").current();
         let stock = stock_case.build();
-        let (need, _) = settle(&need_case, &stock);
+        let (need, _, _) = settle(&need_case, &stock);
         n += 1;
         let (fast, fast_ms) = time(&need, &stock, SearchMode::Optimised);
         let (full, full_ms) = time(&need, &stock, SearchMode::Exhaustive);

@@ -15,7 +15,8 @@ use spanfit::analysis::analyze;
 use spanfit::design::{parse_design, Design};
 use spanfit::need::{parse_need, Need};
 use spanfit::search::{
-    first_stage_floor_pct, solve_unexplained, Progress, SearchMode, SolveControl, SolveOutcome,
+    first_stage_floor_pct, solve_unexplained, space_cost_floor, Progress, SearchMode, SolveControl,
+    SolveOutcome,
 };
 use spanfit::stock::{parse_stock, Stock, StockFile};
 
@@ -156,4 +157,30 @@ fn the_drifting_part_is_ruled_out_of_the_demo_and_the_analysis_agrees() {
             "the analysis passes the swapped design"
         );
     }
+}
+
+/// On the embedded demo need and stock, the space bound rules out every
+/// op-amp cheaper than the precise single one (their floors are over the
+/// target in every sequence), so the least cost it proves is at least
+/// that part's price, and never above the cost of the design the search
+/// returns.
+#[test]
+fn the_demo_bound_holds_the_precise_part() {
+    let need = parse_need(spanfit::demo::NEED_TOML.as_bytes(), "demo-need.toml")
+        .expect("the demo need parses");
+    let stock = parse_stock(&spanfit::demo::stock_files()).expect("the demo stock parses");
+    let precise = stock
+        .opamps
+        .iter()
+        .find(|p| p.part_id == "OA-ZD1")
+        .expect("OA-ZD1 in the demo stock")
+        .unit_cost;
+    let floor = space_cost_floor(&need, &stock).expect("the demo space holds designs");
+    assert!(
+        floor > precise,
+        "bound {floor} not above OA-ZD1's {precise}"
+    );
+    let outcome = run(&need, &stock);
+    let best = outcome.best.expect("the demo need has a design");
+    assert!(floor <= best.costing.total + 1e-9);
 }

@@ -209,6 +209,35 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
         parts: None,
     };
     let sequence_floors = floors::SequenceFloors::new(need, problem.stock);
+    // The finest feedback resistor of a design of single-section stages,
+    // per stage count and first op-amp part: the least it costs over the
+    // least of any role (`None`: no stocked part lets the part meet the
+    // need; floors.rs proves it).
+    let feedback_extra: Vec<Vec<Option<f64>>> = (1..=need.search.max_stages.max(1))
+        .map(|n| {
+            (0..problem.stock.opamps.len())
+                .map(|i| {
+                    floors::feedback_cost_floor(need, problem.stock, n, i, problem.target_v)
+                        .map(|c| (c - least_per_role.unwrap_or(0.0)).max(0.0))
+                })
+                .collect()
+        })
+        .collect();
+    // One value in every role of a single-section stage gives a stage gain
+    // of at most 2 in size (non-inverting and summed: `1 + rf/rg` of 2 at
+    // most times the + pin's share; inverting: `rf / (ri + source)`, 1 at
+    // most; difference: `(1 + r2/r1') r4' / (r3' + r4')`, 2 at most; a real
+    // part gives `T <= 1` of it, floors.rs). One value in the whole design
+    // thus gives `2^n` at most over `n` stages; a design whose real gain
+    // must be above that ([`floors::least_real_gain`]) holds two resistor
+    // values, so two BOM lines where every resistor part holds one value
+    // (no matched network on the shelf).
+    let networks_on_shelf = problem
+        .stock
+        .networks
+        .iter()
+        .any(|n| n.stock_qty != Some(0));
+    let least_gain = floors::least_real_gain(need, problem.target_v);
     for shapes in shape_sequences(need, problem.stock) {
         let sign: f64 = shapes.iter().map(|s| s.sign()).product();
         if sign * k <= 0.0 && wrong_sign_ruled_out(problem) {
@@ -234,6 +263,10 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
         if !first_stage_parts(problem, last).into_iter().any(ends) {
             continue;
         }
+        let single_sections = floors::loop_gain_applies(&shapes);
+        let two_values = single_sections
+            && !networks_on_shelf
+            && least_gain > 2f64.powi(i32::try_from(shapes.len()).unwrap_or(i32::MAX));
         for kind in first_stage_parts(problem, first) {
             if sequence_floors.get(&shapes, kind) > problem.target_v
                 || (shapes.len() == 1 && !ends(kind))
@@ -244,6 +277,20 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
                 amplifier_floor(problem, &shapes, Some(kind))
             else {
                 continue;
+            };
+            // The finest feedback resistor's grade.
+            let feedback = match kind {
+                AmplifierKind::OpAmp(i) if single_sections => {
+                    match feedback_extra
+                        .get(shapes.len() - 1)
+                        .and_then(|row| row.get(i))
+                    {
+                        Some(Some(extra)) => *extra,
+                        Some(None) => continue,
+                        None => 0.0,
+                    }
+                }
+                _ => 0.0,
             };
             // The filter pair the report attaches: the last stage's
             // amplifier drives it, so it adds at least the least floor over
@@ -256,7 +303,7 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
             } else {
                 driver_floor(problem, &shapes)
             };
-            let cost = amp_cost + pair.cost;
+            let cost = amp_cost + pair.cost + feedback;
             let parts = packages + pair.parts;
             least = Some(match least {
                 Some((c, p)) => (c.min(cost), p.min(parts)),
@@ -295,7 +342,12 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
         }
         // At least one line for the resistors or the networks that fill
         // the roles.
-        let lines = amp_lines + usize::from(resistors > 0);
+        let resistor_lines = match resistors {
+            0 => 0,
+            _ if two_values => 2,
+            _ => 1,
+        };
+        let lines = amp_lines + resistor_lines;
         let cost = amp_and_pair + resistor_cost + line * lines as f64;
         // `pair_parts` holds the least packages plus pair parts.
         let parts_with_pair = resistors + pair_parts;

@@ -338,13 +338,20 @@ fn instrumentation_floor_v(need: &Need, stock: &Stock, part: usize) -> f64 {
 
 /// Whether the loop-gain floor holds for a sequence: every stage one
 /// op-amp section ([`sequence_floor_v`]).
-fn loop_gain_applies(shapes: &[Shape]) -> bool {
+pub(super) fn loop_gain_applies(shapes: &[Shape]) -> bool {
     !shapes.is_empty() && shapes.iter().all(|s| !s.integrated() && s.sections() == 1)
 }
 
 /// [`sequence_floor_v`] for `n` single-section stages whose first is the
 /// op-amp `part`.
 fn loop_gain_floor_v(need: &Need, stock: &Stock, n: usize, part: usize) -> f64 {
+    loop_gain_floor_with_v(need, stock, n, part, least_tolerance(stock))
+}
+
+/// [`loop_gain_floor_v`] with the feedback resistors' least tolerance
+/// `tol` (a fraction) given: the stock's least, or the least a design's
+/// feedback resistors have.
+fn loop_gain_floor_with_v(need: &Need, stock: &Stock, n: usize, part: usize, tol: f64) -> f64 {
     let kind = AmplifierKind::OpAmp(part);
     let plain = part_floor_v(need, stock, kind);
     let share = match need.accuracy.calibration {
@@ -354,10 +361,7 @@ fn loop_gain_floor_v(need: &Need, stock: &Stock, n: usize, part: usize) -> f64 {
     };
     let limits = input_referred_limits(need, stock, kind);
     let (combined, tol) = match need.accuracy.basis {
-        Basis::WorstCase => (
-            limits.iter().map(|l| l.abs()).sum::<f64>(),
-            least_tolerance(stock),
-        ),
+        Basis::WorstCase => (limits.iter().map(|l| l.abs()).sum::<f64>(), tol.max(0.0)),
         Basis::Rss => (limits.iter().map(|l| l * l).sum::<f64>().sqrt(), 0.0),
         Basis::Yield => return plain,
     };
@@ -491,6 +495,82 @@ impl SequenceFloors {
     }
 }
 
+/// The least unit cost of the finest feedback resistor (`rf`; the
+/// difference stage's `r2`) of a design of `stages` single-section stages
+/// whose first section is the op-amp `part`: the cheapest stocked
+/// resistor, or matched-network element at its package's price per
+/// element, whose tolerance leaves the loop-gain floor at or under
+/// `target_v`. `None` when none does: no such design meets the need.
+///
+/// Proof. The loop-gain floor's resistor term ([`sequence_floor_v`]) is
+/// the feedback resistors' own tolerance lines, `sum tol_j T_j |Dy| (1 -
+/// 1/|g_j|)`, at least `min_j tol_j` times the sum the floor takes, every
+/// other line at its floor. A network element carries half its package's
+/// ratio tolerance (`analysis/params.rs`). So in a design that meets the
+/// need some feedback resistor has a tolerance that keeps the floor at or
+/// under the target, and costs at least the cheapest such part.
+pub(super) fn feedback_cost_floor(
+    need: &Need,
+    stock: &Stock,
+    stages: usize,
+    part: usize,
+    target_v: f64,
+) -> Option<f64> {
+    // Few distinct tolerances: the floor once per tolerance.
+    let mut judged: Vec<(f64, bool)> = Vec::new();
+    let mut passes = |tol: f64| {
+        if let Some(&(_, ok)) = judged.iter().find(|(t, _)| *t == tol) {
+            return ok;
+        }
+        let ok = loop_gain_floor_with_v(need, stock, stages, part, tol) <= target_v;
+        judged.push((tol, ok));
+        ok
+    };
+    let resistors = stock
+        .resistors
+        .iter()
+        .filter(|r| r.stock_qty != Some(0))
+        .map(|r| (r.tolerance.0.abs() / 100.0, r.unit_cost));
+    let elements = stock
+        .networks
+        .iter()
+        .filter(|n| n.stock_qty != Some(0) && !n.values.is_empty())
+        .map(|n| {
+            (
+                0.5 * n.ratio_tolerance.0.abs() / 100.0,
+                n.unit_cost / n.values.len() as f64,
+            )
+        });
+    resistors
+        .chain(elements)
+        .filter(|&(tol, _)| passes(tol))
+        .map(|(_, cost)| cost)
+        .reduce(f64::min)
+}
+
+/// The least real gain `|K_act|` of any design that meets the need, from
+/// the systematic lines alone: they carry at least `share | |K_act| - |K| |
+/// S` (the part floor's argument; `share` 1 with an offset trim, 1/2
+/// without), so `|K_act| >= |K| - target / (share S)`. Zero with a
+/// two-point trim or on the yield basis.
+pub(super) fn least_real_gain(need: &Need, target_v: f64) -> f64 {
+    if need.accuracy.basis == Basis::Yield {
+        return 0.0;
+    }
+    let share = match need.accuracy.calibration {
+        Calibration::Offset => 1.0,
+        Calibration::None => 0.5,
+        Calibration::TwoPoint => return 0.0,
+    };
+    let (k, _) = need.ideal_transfer();
+    let span = (need.sensor.signal_high.0 - need.sensor.signal_low.0).abs();
+    if span > 0.0 {
+        ((k.abs() - target_v / (share * span)) * (1.0 - FLOOR_MARGIN)).max(0.0)
+    } else {
+        0.0
+    }
+}
+
 /// The least error, volts at the output, the analysis can report on the
 /// need's basis for any design whose last stage's output comes from this
 /// part (an op-amp section, or an integrated in-amp), from its output
@@ -549,6 +629,14 @@ pub(super) fn swing_floor_v(
 mod tests {
     use super::*;
     use crate::need::parse_need;
+
+    /// [`need`] with 5 % of ADC margin each end (K = 90), so the window
+    /// cap on the real gain stays above `K`.
+    fn need_with_margin(calibration: &str, basis: &str) -> Need {
+        let mut n = need(calibration, basis);
+        n.adc.margin = crate::units::Percent(5.0);
+        n
+    }
 
     fn need(calibration: &str, basis: &str) -> Need {
         let text = format!(
@@ -672,10 +760,10 @@ mod tests {
         let stock = loop_stock(80.0, 0.5);
         let gain = 1e4;
         for (calibration, share) in [("offset", 1.0), ("none", 0.5)] {
-            let n = need(calibration, "worst-case");
+            let n = need_with_margin(calibration, "worst-case");
             let limits = input_referred_limits(&n, &stock, AmplifierKind::OpAmp(0));
             let c: f64 = limits.iter().sum();
-            let (k, s, tol) = (100.0, 0.02, 0.01);
+            let (k, s, tol) = (90.0, 0.02, 0.01);
             for stages in 1..=2usize {
                 let floor = loop_gain_floor_v(&n, &stock, stages, 0);
                 let mut least = f64::INFINITY;
@@ -705,6 +793,47 @@ mod tests {
             let plain = part_floor_v(&n, &stock, AmplifierKind::OpAmp(0));
             assert!(one > 1.5 * plain, "{calibration}: {one} vs {plain}");
         }
+    }
+
+    /// The finest feedback resistor: the cheap 1 % row while its floor is
+    /// under the target, the dear 0.1 % row when only its floor is, none
+    /// when neither is; the floor grows with the tolerance.
+    #[test]
+    fn feedback_cost_floor_picks_the_grade_the_target_allows() {
+        let mut stock = loop_stock(120.0, 0.05);
+        let mut fine = stock.resistors[0].clone();
+        fine.part_id = "T-R01".into();
+        fine.tolerance = crate::units::Percent(0.1);
+        fine.unit_cost = 0.05;
+        stock.resistors.push(fine);
+        let n = need_with_margin("offset", "worst-case");
+        let coarse = loop_gain_floor_with_v(&n, &stock, 1, 0, 0.01);
+        let finer = loop_gain_floor_with_v(&n, &stock, 1, 0, 0.001);
+        assert!(finer < coarse, "{finer} vs {coarse}");
+        // The resistor term is about tol |K| S: 1 % of 1.8 V.
+        assert!(coarse - finer > 0.8 * 0.009 * 1.8, "{coarse} {finer}");
+        let pick = |target: f64| feedback_cost_floor(&n, &stock, 1, 0, target);
+        assert_eq!(pick(coarse * 1.01), Some(0.01));
+        assert_eq!(pick(0.5 * (coarse + finer)), Some(0.05));
+        assert_eq!(pick(finer * 0.99), None);
+        // Two stages: the same rule on the two-stage floor.
+        assert!(feedback_cost_floor(&n, &stock, 2, 0, coarse * 1.01).is_some());
+    }
+
+    /// The least real gain: `|K|` less the target over the span (offset
+    /// trim), or over half the span (no trim); nothing with a two-point
+    /// trim or on the yield basis.
+    #[test]
+    fn least_real_gain_by_calibration() {
+        let near = |a: f64, b: f64| (a - b).abs() < 1e-4;
+        assert!(near(
+            least_real_gain(&need("offset", "worst-case"), 0.2),
+            90.0
+        ));
+        assert!(near(least_real_gain(&need("none", "rss"), 0.2), 80.0));
+        assert_eq!(least_real_gain(&need("two-point", "worst-case"), 0.2), 0.0);
+        assert_eq!(least_real_gain(&need("offset", "yield"), 0.2), 0.0);
+        assert_eq!(least_real_gain(&need("offset", "worst-case"), 5.0), 0.0);
     }
 
     /// Sequences with an integrated in-amp or a three-section stage after
@@ -741,7 +870,7 @@ mod tests {
         let text =
             "[sensor]\nsignal_low_v = 0.0\nsignal_high_v = 0.02\noutput = \"differential\"\n\
              common_mode_v = 2.5\ncommon_mode_tolerance_pct = 2.0\nexcitation = \"independent\"\n\
-             [adc]\nlow_v = 0.0\nhigh_v = 2.0\nbits = 12\nmargin_pct = 0.0\n\
+             [adc]\nlow_v = 0.0\nhigh_v = 2.0\nbits = 12\nmargin_pct = 5.0\n\
              [supply]\npositive_v = 5.0\nnegative_v = 0.0\ntolerance_pct = 2.0\n\
              [accuracy]\nmax_error_pct_fs = 1.0\ncalibration = \"offset\"\n\
              basis = \"worst-case\"\ntemp_min_c = -15.0\ntemp_max_c = 45.0\n";
@@ -749,7 +878,7 @@ mod tests {
         let part = AmplifierKind::OpAmp(0);
         let c: f64 = input_referred_limits(&n, &stock, part).iter().sum();
         let got = sequence_floor_v(&n, &stock, &[Shape::InstrumentationDiscrete], part);
-        let want = 100.0 * 2.0 * c;
+        let want = 90.0 * 2.0 * c;
         assert!(
             (got - want).abs() <= 2.0 * FLOOR_MARGIN * want,
             "{got} vs {want}"
