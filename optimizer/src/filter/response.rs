@@ -150,8 +150,7 @@ pub fn amplifiers(stock: &Stock, built: &Built) -> Vec<AcAmplifier> {
 /// below its DC transfer, with nominal values; `None` where the AC
 /// analysis finds no DC transfer or fails.
 pub(crate) fn rejection_db(stock: &Stock, built: &Built, f: f64) -> Option<f64> {
-    let p = Chain::new(stock, built)?.power(f)?;
-    (p.is_finite() && p > 0.0).then(|| -10.0 * p.log10())
+    Chain::new(stock, built)?.rejection_db(f)
 }
 
 /// The chain's response, normalised to DC: `|H(f)/H(0)|^2`.
@@ -188,6 +187,14 @@ impl<'a> Chain<'a> {
             .transfer(&self.built.netlist, self.built.vsense, self.built.out, f)
             .ok()?;
         Some((h.abs() / self.dc).powi(2))
+    }
+
+    /// The rejection at `f`, dB below the DC transfer; `None` where the
+    /// AC analysis fails or the power is not finite and positive. The
+    /// alias check ([`rejection_db`]) and the filter report both read it.
+    fn rejection_db(&mut self, f: f64) -> Option<f64> {
+        let p = self.power(f)?;
+        (p.is_finite() && p > 0.0).then(|| -10.0 * p.log10())
     }
 
     /// The first -3 dB frequency above `start`, by a log scan then
@@ -316,10 +323,10 @@ pub fn analyse(need: &Need, stock: &Stock, built: &Built) -> FilterStatus {
              {droop_limit:.3e} % FS, a tenth of the target"
         ),
     });
-    let rejection_at_nyquist_db = need.adc.sample_rate.and_then(|rate| {
-        let p = chain.power(rate.0 / 2.0)?;
-        Some(-10.0 * p.log10())
-    });
+    let rejection_at_nyquist_db = need
+        .adc
+        .sample_rate
+        .and_then(|rate| chain.rejection_db(rate.0 / 2.0));
     if let (Some(asked), Some(got)) = (need.adc.alias_rejection, rejection_at_nyquist_db) {
         checks.push(FilterCheck {
             check: "alias-rejection",
