@@ -64,7 +64,7 @@ pub(super) fn wrong_sign_ruled_out(problem: &Problem<'_>) -> bool {
 /// supply-range check compares the rails with the part's own range, which
 /// no resistor changes, and a part with none on the shelf cannot be
 /// placed). With `first`, the first stage's part is fixed: the design
-/// holds at least one whole package of it.
+/// holds enough whole packages of it for the first stage's sections.
 fn amplifier_floor(
     problem: &Problem<'_>,
     shapes: &[Shape],
@@ -91,13 +91,24 @@ fn amplifier_floor(
             .reduce(f64::min)?;
         let package = usable.iter().map(|p| p.unit_cost).reduce(f64::min)?;
         let widest = usable.iter().map(|p| p.channels.max(1)).max()? as usize;
-        let first_package = match first {
-            Some(AmplifierKind::OpAmp(i)) => stock.opamps[i].unit_cost,
+        // Every section of the first stage is the first part (a stage has
+        // one amplifier part, its offset buffers included): at least enough
+        // of its packages for those sections, and the sections left over
+        // at the least price per section.
+        let first_stage_sections = shapes.first().map_or(0, |s| s.sections());
+        let first_packages = match first {
+            Some(AmplifierKind::OpAmp(i)) => {
+                let part = &stock.opamps[i];
+                let channels = part.channels.max(1) as usize;
+                let packages = first_stage_sections.div_ceil(channels);
+                let rest = sections.saturating_sub(packages * channels);
+                packages as f64 * part.unit_cost + per_section * rest as f64
+            }
             _ => 0.0,
         };
         cost += (per_section * sections as f64)
             .max(package)
-            .max(first_package);
+            .max(first_packages);
         lines += 1;
         packages += sections.div_ceil(widest);
     }
