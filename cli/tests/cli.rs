@@ -546,15 +546,17 @@ fn a_need_proven_infeasible_exits_1_with_the_reason() {
 }
 
 /// A need the optimised search finds no design for, without a proof that
-/// none exists (a target far below what it reaches, on a space too large
-/// to finish), exits 3 `unfinished` and never says that no design meets
-/// the need.
+/// none exists (a target well below what it reaches, about 0.42 % FS, yet
+/// above what the floors prove: on the demo stock the loop-gain floor's
+/// feedback-resistor term alone is about 0.1 % FS, and a target of
+/// 0.01 % FS is now proven infeasible; on a space too large to finish),
+/// exits 3 `unfinished` and never says that no design meets the need.
 #[test]
 fn no_design_found_without_a_proof_exits_3_not_1() {
     let dir = scratch("unproven");
     let need = dir.join("tight.toml");
     let text =
-        demo_need_embedded_stock().replacen("max_error_pct_fs = 0.5", "max_error_pct_fs = 0.01", 1);
+        demo_need_embedded_stock().replacen("max_error_pct_fs = 0.5", "max_error_pct_fs = 0.2", 1);
     std::fs::write(&need, text).unwrap();
     let o = spanfit(&["solve", need.to_str().unwrap(), "--json"]);
     assert_eq!(code(&o), 3, "stderr:\n{}", stderr(&o));
