@@ -84,11 +84,13 @@ fn a_search_with_time_enough_is_ok_and_not_stopped() {
 
 /// The optimised search finishing its walk without a design on a space
 /// too large to finish exhaustively proves nothing: `unfinished` (exit 3),
-/// with the explanation marked unproven and a reason that says so.
+/// with the explanation marked unproven and a reason that says so. The
+/// target (0.2 % FS) is below what the search reaches and above what the
+/// floors prove (at 0.01 % FS they now prove the need infeasible).
 #[test]
 fn no_design_found_without_a_proof_is_unfinished_not_infeasible() {
     let text =
-        spanfit::demo::NEED_TOML.replacen("max_error_pct_fs = 0.5", "max_error_pct_fs = 0.01", 1);
+        spanfit::demo::NEED_TOML.replacen("max_error_pct_fs = 0.5", "max_error_pct_fs = 0.2", 1);
     assert_ne!(
         text,
         spanfit::demo::NEED_TOML,
