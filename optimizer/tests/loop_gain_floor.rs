@@ -184,3 +184,24 @@ fn the_demo_bound_holds_the_precise_part() {
     let best = outcome.best.expect("the demo need has a design");
     assert!(floor <= best.costing.total + 1e-9);
 }
+
+/// At 0.01 % FS the demo need is proven infeasible by the floors: every
+/// single-section sequence pays at least the finest stocked resistor's
+/// 0.1 % over the span (about 0.1 % FS), a first discrete instrumentation
+/// stage its part's drift twice (0.013 % FS on the precise op-amp), and
+/// every other first part its own floor; before these floors the
+/// optimised mode could only say it found nothing.
+#[test]
+fn a_target_under_the_loop_gain_floor_is_proven_infeasible() {
+    let text =
+        spanfit::demo::NEED_TOML.replacen("max_error_pct_fs = 0.5", "max_error_pct_fs = 0.01", 1);
+    let need = parse_need(text.as_bytes(), "tight.toml").expect("the need parses");
+    let stock = parse_stock(&spanfit::demo::stock_files()).expect("the demo stock parses");
+    assert!(
+        space_cost_floor(&need, &stock).is_none(),
+        "the bound proves no design"
+    );
+    let outcome = run(&need, &stock);
+    assert!(outcome.best.is_none());
+    assert!(outcome.infeasible.as_ref().is_some_and(|i| i.proven));
+}
