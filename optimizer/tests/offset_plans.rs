@@ -1,6 +1,7 @@
 //! The optimised search offers a plan without any offset network where
 //! the ideal offset is small enough to leave out (or a calibration trims
-//! it): a bipolar source into a bipolar ADC window on split rails, whose
+//! it), and, without calibration, a chain of pure gains aimed at the best
+//! fit where that fit alone meets the target: a bipolar source into a bipolar ADC window on split rails, whose
 //! ideal offset (-14.3 mV) is within the 1.5 % FS target (45 mV), is met
 //! by one plain non-inverting stage, where the walk used to build an
 //! offset network for it and returned a two-stage design (cost 2.414
@@ -86,4 +87,41 @@ fn an_attenuating_level_shift_takes_the_summed_stage_with_its_shunt() {
         .as_f64()
         .unwrap_or(f64::NAN);
     assert!(total <= 3.0, "{total}");
+}
+
+/// The loosest edge need (`examples/edge/loosest-target.toml`: 100 mV to
+/// 200 mV into a 6.6 mV window at 1.65 V, K = 0.066, 100 % FS target, no
+/// calibration): a plain non-inverting stage cannot attenuate, but a pure
+/// gain near 11 with no offset at all puts both span ends 0.55 V from the
+/// ideal, well within the target. The search now aims a group at that
+/// fit, finds the two-resistor stage, and proves it optimal (it costs the
+/// space bound); before, it returned a summed stage with its shunt at a
+/// higher cost and no proof.
+#[test]
+fn a_loose_target_takes_a_pure_gain_with_no_offset_network() {
+    let need = include_str!("../../examples/edge/loosest-target.toml");
+    let report = solve_and_analyze(need, "loosest-target.toml", &stock_files());
+    let stages = report["design"]["stages"]
+        .as_array()
+        .cloned()
+        .unwrap_or_default();
+    assert_eq!(stages.len(), 1, "{stages:?}");
+    assert_eq!(stages[0]["shape"], "non-inverting", "{}", stages[0]);
+    assert_eq!(stages[0]["offset"]["kind"], "ground", "{}", stages[0]);
+    let gain = report["design"]["transfer"]["gain"]
+        .as_f64()
+        .unwrap_or(f64::NAN);
+    let ideal = report["design"]["transfer"]["ideal_gain"]
+        .as_f64()
+        .unwrap_or(f64::NAN);
+    assert!(gain > 1.0 && ideal < 1.0, "gain {gain}, ideal {ideal}");
+    let total = report["design"]["error"]["basis_pct_fs"]
+        .as_f64()
+        .unwrap_or(f64::NAN);
+    assert!(total <= 100.0, "{total}");
+    assert_eq!(
+        report["search"]["proven_optimal"], true,
+        "{}",
+        report["search"]
+    );
 }

@@ -404,17 +404,31 @@ pub(super) fn enumerate_groups(problem: &Problem<'_>, rejections: &mut Rejection
     let (k, _) = need.ideal_transfer();
     let sources = offset_sources(need, stock);
     let mut groups = Vec::new();
+    let fit = pure_gain_fit(problem).filter(|g| (g - k).abs() > 1e-9 * k.abs());
     for shapes in shape_sequences(need, stock) {
         let signs: Vec<f64> = shapes.iter().map(|shape| shape.sign()).collect();
         let sign: f64 = signs.iter().product();
-        if sign * k <= 0.0 {
-            continue;
+        if sign * k > 0.0 {
+            for gains in gain_splits(k, shapes.len(), &signs) {
+                for (plans, offsets) in offset_plan_sets(problem, &shapes, &gains, &sources) {
+                    let frame = GroupFrame {
+                        shapes: &shapes,
+                        plans: &plans,
+                        gains: &gains,
+                        offsets: &offsets,
+                    };
+                    groups_with_parts(problem, &frame, rejections, &mut groups);
+                }
+            }
         }
-        for gains in gain_splits(k, shapes.len(), &signs) {
-            for (plans, offsets) in offset_plan_sets(problem, &shapes, &gains, &sources) {
+        // A chain of pure gains aimed at the best fit with no offset at
+        // all, where that fit alone is within the target.
+        if let Some(fit) = fit.filter(|g| sign * g > 0.0) {
+            let offsets = vec![0.0; shapes.len()];
+            for gains in gain_splits(fit, shapes.len(), &signs) {
                 let frame = GroupFrame {
                     shapes: &shapes,
-                    plans: &plans,
+                    plans: &[],
                     gains: &gains,
                     offsets: &offsets,
                 };
@@ -423,6 +437,30 @@ pub(super) fn enumerate_groups(problem: &Problem<'_>, rejections: &mut Rejection
         }
     }
     groups
+}
+
+/// Without calibration, the pure gain (no offset) whose output is
+/// nearest the ideal at both span ends, where its error there is within
+/// the target: `g = (i_lo + i_hi) / (s_lo + s_hi)`, which leaves equal and
+/// opposite errors at the two ends (the least larger error of the two).
+/// A loose target can be met this way with no offset network, at a gain
+/// far from `K` (one a shape can make where `K` is not: a non-inverting
+/// stage cannot attenuate). `None` with a calibration (an offset trim
+/// takes the offset out at the gain `K` itself), or where the fit misses
+/// the target.
+fn pure_gain_fit(problem: &Problem<'_>) -> Option<f64> {
+    if problem.need.accuracy.calibration != Calibration::None {
+        return None;
+    }
+    let [s0, s1] = problem.signal;
+    let [i0, i1] = problem.ideal;
+    let sum = s0 + s1;
+    if sum.abs() < 1e-15 {
+        return None;
+    }
+    let g = (i0 + i1) / sum;
+    let miss = (g * s0 - i0).abs().max((g * s1 - i1).abs());
+    (g.is_finite() && g != 0.0 && miss <= problem.target_v).then_some(g)
 }
 
 /// Shapes, offset plans and gains before the amplifier parts are chosen.
