@@ -126,17 +126,12 @@ pub(super) fn error_floor_v(need: &Need, limits: &[f64], cap: f64) -> f64 {
 /// trim). The function is linear on each side of `|K|`, so its least is
 /// at `x = 0` or at `min(|K|, cap)`.
 fn combined_floor_v(need: &Need, combined: f64, cap: f64) -> f64 {
-    if need.accuracy.basis == Basis::Yield {
+    let Some(share) = trim_share(need) else {
         return 0.0;
-    }
+    };
     let (k, _) = need.ideal_transfer();
     let k = k.abs();
-    let span = (need.sensor.signal_high.0 - need.sensor.signal_low.0).abs();
-    let share = match need.accuracy.calibration {
-        Calibration::Offset => 1.0,
-        Calibration::None => 0.5,
-        Calibration::TwoPoint => return 0.0,
-    };
+    let span = sensor_span(need);
     let top = k.min(cap.max(0.0));
     let floor = (share * k * span).min(share * (k - top) * span + top * combined);
     if floor.is_finite() {
@@ -181,7 +176,7 @@ fn raw_limit_sum(need: &Need, stock: &Stock, kind: AmplifierKind) -> f64 {
 /// untrimmed limits ([`raw_limit_sum`]): `x (S + 2 L) <= W`. The check
 /// holds on every basis and calibration.
 pub(super) fn gain_cap(need: &Need, stock: &Stock, kind: AmplifierKind, extra: f64) -> f64 {
-    let span = (need.sensor.signal_high.0 - need.sensor.signal_low.0).abs();
+    let span = sensor_span(need);
     let width = (need.adc.high.0 - need.adc.low.0).abs() + 2e-12;
     let per_x = span + 2.0 * (raw_limit_sum(need, stock, kind) + extra.max(0.0));
     if per_x > 0.0 && width.is_finite() {
@@ -192,17 +187,59 @@ pub(super) fn gain_cap(need: &Need, stock: &Stock, kind: AmplifierKind, extra: f
     }
 }
 
-/// The least relative tolerance any resistor role can carry: a stocked
-/// resistor's tolerance, or half a matched network's ratio tolerance (what
-/// the analysis gives each network element, `analysis/params.rs`).
-fn least_tolerance(stock: &Stock) -> f64 {
-    let resistors = stock.resistors.iter().map(|r| r.tolerance.0);
-    let elements = stock.networks.iter().map(|n| 0.5 * n.ratio_tolerance.0);
+/// What a resistor role can hold: every stocked resistor and every
+/// matched network's element, as (relative tolerance the analysis gives
+/// it, unit cost, on the shelf). A network element carries half its
+/// package's ratio tolerance (`analysis/params.rs`) at its package's
+/// price per element.
+fn role_parts(stock: &Stock) -> impl Iterator<Item = (f64, f64, bool)> + '_ {
+    let resistors = stock
+        .resistors
+        .iter()
+        .map(|r| (r.tolerance.0, r.unit_cost, r.stock_qty != Some(0)));
+    let elements = stock
+        .networks
+        .iter()
+        .filter(|n| !n.values.is_empty())
+        .map(|n| {
+            (
+                0.5 * n.ratio_tolerance.0,
+                n.unit_cost / n.values.len() as f64,
+                n.stock_qty != Some(0),
+            )
+        });
     resistors
         .chain(elements)
-        .map(|pct| pct.abs() / 100.0)
+        .map(|(pct, cost, shelf)| (pct.abs() / 100.0, cost, shelf))
+}
+
+/// The least relative tolerance any resistor role can carry (over every
+/// row of the stock, [`role_parts`]).
+fn least_tolerance(stock: &Stock) -> f64 {
+    role_parts(stock)
+        .map(|(tol, _, _)| tol)
         .fold(f64::INFINITY, f64::min)
         .min(1.0)
+}
+
+/// The share of the gain error's move over the span that the reported
+/// total carries at its worse end (module notes): 1 with an offset trim,
+/// 1/2 without; `None` where no floor holds (a two-point trim, or the
+/// yield basis).
+fn trim_share(need: &Need) -> Option<f64> {
+    if need.accuracy.basis == Basis::Yield {
+        return None;
+    }
+    match need.accuracy.calibration {
+        Calibration::Offset => Some(1.0),
+        Calibration::None => Some(0.5),
+        Calibration::TwoPoint => None,
+    }
+}
+
+/// The sensor's span `S`, volts.
+fn sensor_span(need: &Need) -> f64 {
+    (need.sensor.signal_high.0 - need.sensor.signal_low.0).abs()
 }
 
 /// The loop-gain floor: a lower bound on the total error the analysis can
@@ -271,14 +308,34 @@ pub(super) fn sequence_floor_v(
     shapes: &[Shape],
     kind: AmplifierKind,
 ) -> f64 {
+    match floor_rule(shapes, kind) {
+        FloorRule::LoopGain { stages, part } => loop_gain_floor_v(need, stock, stages, part),
+        FloorRule::Instrumentation(part) => instrumentation_floor_v(need, stock, part),
+        FloorRule::Part(kind) => part_floor_v(need, stock, kind),
+    }
+}
+
+/// Which floor of [`sequence_floor_v`] holds for a sequence and the part
+/// of its first stage.
+enum FloorRule {
+    /// Every stage one op-amp section, the first on `part`.
+    LoopGain { stages: usize, part: usize },
+    /// A first discrete instrumentation stage on the op-amp.
+    Instrumentation(usize),
+    /// The part floor alone.
+    Part(AmplifierKind),
+}
+
+fn floor_rule(shapes: &[Shape], kind: AmplifierKind) -> FloorRule {
     match kind {
-        AmplifierKind::OpAmp(part) if loop_gain_applies(shapes) => {
-            loop_gain_floor_v(need, stock, shapes.len(), part)
-        }
+        AmplifierKind::OpAmp(part) if loop_gain_applies(shapes) => FloorRule::LoopGain {
+            stages: shapes.len(),
+            part,
+        },
         AmplifierKind::OpAmp(part) if shapes.first() == Some(&Shape::InstrumentationDiscrete) => {
-            instrumentation_floor_v(need, stock, part)
+            FloorRule::Instrumentation(part)
         }
-        _ => part_floor_v(need, stock, kind),
+        _ => FloorRule::Part(kind),
     }
 }
 
@@ -354,10 +411,8 @@ fn loop_gain_floor_v(need: &Need, stock: &Stock, n: usize, part: usize) -> f64 {
 fn loop_gain_floor_with_v(need: &Need, stock: &Stock, n: usize, part: usize, tol: f64) -> f64 {
     let kind = AmplifierKind::OpAmp(part);
     let plain = part_floor_v(need, stock, kind);
-    let share = match need.accuracy.calibration {
-        Calibration::Offset => 1.0,
-        Calibration::None => 0.5,
-        Calibration::TwoPoint => return plain,
+    let Some(share) = trim_share(need) else {
+        return plain;
     };
     let limits = input_referred_limits(need, stock, kind);
     let (combined, tol) = match need.accuracy.basis {
@@ -367,7 +422,7 @@ fn loop_gain_floor_with_v(need: &Need, stock: &Stock, n: usize, part: usize, tol
     };
     let (k, _) = need.ideal_transfer();
     let k = k.abs();
-    let span = (need.sensor.signal_high.0 - need.sensor.signal_low.0).abs();
+    let span = sensor_span(need);
     let first_gain = stock.opamps[part].aol_min.ratio();
     let gain_hi = if n == 1 {
         first_gain
@@ -479,19 +534,28 @@ impl SequenceFloors {
 
     /// [`sequence_floor_v`] of a sequence and its first stage's part.
     pub(super) fn get(&self, shapes: &[Shape], kind: AmplifierKind) -> f64 {
-        match kind {
-            AmplifierKind::OpAmp(i) if loop_gain_applies(shapes) => self
+        match floor_rule(shapes, kind) {
+            // Past `max_stages` (never walked) the part floor still holds.
+            FloorRule::LoopGain { stages, part } => self
                 .loop_gain
-                .get(shapes.len() - 1)
-                .and_then(|row| row.get(i))
+                .get(stages - 1)
+                .and_then(|row| row.get(part))
                 .copied()
-                .unwrap_or_else(|| self.opamps.get(i).copied().unwrap_or(0.0)),
-            AmplifierKind::OpAmp(i) if shapes.first() == Some(&Shape::InstrumentationDiscrete) => {
-                self.instrumentation.get(i).copied().unwrap_or(0.0)
+                .unwrap_or_else(|| self.part(AmplifierKind::OpAmp(part))),
+            FloorRule::Instrumentation(part) => {
+                self.instrumentation.get(part).copied().unwrap_or(0.0)
             }
-            AmplifierKind::OpAmp(i) => self.opamps.get(i).copied().unwrap_or(0.0),
-            AmplifierKind::InAmp(i) => self.inamps.get(i).copied().unwrap_or(0.0),
+            FloorRule::Part(kind) => self.part(kind),
         }
+    }
+
+    /// The part floor of an amplifier.
+    fn part(&self, kind: AmplifierKind) -> f64 {
+        let floor = match kind {
+            AmplifierKind::OpAmp(i) => self.opamps.get(i),
+            AmplifierKind::InAmp(i) => self.inamps.get(i),
+        };
+        floor.copied().unwrap_or(0.0)
     }
 }
 
@@ -526,25 +590,9 @@ pub(super) fn feedback_cost_floor(
         judged.push((tol, ok));
         ok
     };
-    let resistors = stock
-        .resistors
-        .iter()
-        .filter(|r| r.stock_qty != Some(0))
-        .map(|r| (r.tolerance.0.abs() / 100.0, r.unit_cost));
-    let elements = stock
-        .networks
-        .iter()
-        .filter(|n| n.stock_qty != Some(0) && !n.values.is_empty())
-        .map(|n| {
-            (
-                0.5 * n.ratio_tolerance.0.abs() / 100.0,
-                n.unit_cost / n.values.len() as f64,
-            )
-        });
-    resistors
-        .chain(elements)
-        .filter(|&(tol, _)| passes(tol))
-        .map(|(_, cost)| cost)
+    role_parts(stock)
+        .filter(|&(tol, _, shelf)| shelf && passes(tol))
+        .map(|(_, cost, _)| cost)
         .reduce(f64::min)
 }
 
@@ -554,16 +602,11 @@ pub(super) fn feedback_cost_floor(
 /// without), so `|K_act| >= |K| - target / (share S)`. Zero with a
 /// two-point trim or on the yield basis.
 pub(super) fn least_real_gain(need: &Need, target_v: f64) -> f64 {
-    if need.accuracy.basis == Basis::Yield {
+    let Some(share) = trim_share(need) else {
         return 0.0;
-    }
-    let share = match need.accuracy.calibration {
-        Calibration::Offset => 1.0,
-        Calibration::None => 0.5,
-        Calibration::TwoPoint => return 0.0,
     };
     let (k, _) = need.ideal_transfer();
-    let span = (need.sensor.signal_high.0 - need.sensor.signal_low.0).abs();
+    let span = sensor_span(need);
     if span > 0.0 {
         ((k.abs() - target_v / (share * span)) * (1.0 - FLOOR_MARGIN)).max(0.0)
     } else {
