@@ -413,8 +413,9 @@ fn stage_part(stock: &Stock, stage: &crate::design::Stage) -> Option<AmplifierKi
 /// The accuracy floor of a design's first-stage part in its stage
 /// sequence: the least total error, % FS on the need's basis, that the
 /// analysis can report for any design with the same shapes whose first
-/// stage uses that part (search/floors.rs: the part's accuracy floor, and
-/// the loop-gain floor where every stage is one op-amp section). `None`
+/// stage uses that part (search/floors.rs: the part's accuracy floor, the
+/// loop-gain floor where every stage is one op-amp section, the
+/// common-mode floor of a first discrete instrumentation stage). `None`
 /// when the design has no stage or its part is not in the stock.
 pub fn first_stage_floor_pct(need: &Need, stock: &Stock, design: &Design) -> Option<f64> {
     let kind = stage_part(stock, design.stages.first()?)?;

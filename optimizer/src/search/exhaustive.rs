@@ -43,7 +43,7 @@
 //!   (it cannot be more accurate).
 
 use super::bounds::{wrong_sign_ruled_out, MATCHED_ROLES};
-use super::floors::{part_floor_v, swing_floor_v, SequenceFloors};
+use super::floors::{swing_floor_v, SequenceFloors};
 use super::groups::shape_sequences;
 use super::pair::PairFloor;
 use super::strategy::{objective_key, RunResult, SearchState};
@@ -288,7 +288,8 @@ impl Catalog {
                 fits(p.supply_min.0, p.supply_max.0, p.stock_qty)
             })
             .collect();
-        let over = |kind: AmplifierKind| part_floor_v(need, stock, kind) > problem.target_v;
+        let floors = SequenceFloors::new(need, stock);
+        let over = |kind: AmplifierKind| floors.part(kind) > problem.target_v;
         let first_opamps = opamps
             .iter()
             .copied()
@@ -307,7 +308,7 @@ impl Catalog {
             inamps,
             first_opamps,
             first_inamps,
-            floors: SequenceFloors::new(need, stock),
+            floors,
             networks: network_places(stock),
         }
     }

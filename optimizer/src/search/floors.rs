@@ -549,8 +549,8 @@ impl SequenceFloors {
         }
     }
 
-    /// The part floor of an amplifier.
-    fn part(&self, kind: AmplifierKind) -> f64 {
+    /// The part floor of an amplifier ([`part_floor_v`]).
+    pub(super) fn part(&self, kind: AmplifierKind) -> f64 {
         let floor = match kind {
             AmplifierKind::OpAmp(i) => self.opamps.get(i),
             AmplifierKind::InAmp(i) => self.inamps.get(i),
