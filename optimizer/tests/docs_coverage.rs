@@ -232,10 +232,24 @@ fn every_design_field_is_documented_and_every_documented_field_exists() {
         .map(str::to_string)
         .collect();
     assert!(in_code.len() > 100, "keys file: {} paths", in_code.len());
+    // An array the pinned design leaves empty (`design.warnings`: the
+    // pinned design has nothing to flag) has no element path in the keys
+    // file; its documented element row is checked by the infeasibility
+    // test below, whose best attempt carries one.
+    let empty_arrays: BTreeSet<String> = DESIGN_KEYS
+        .lines()
+        .filter_map(|l| l.strip_suffix(": array"))
+        .filter(|path| !in_code.contains(&format!("{path}[]")))
+        .map(|path| format!("{path}[]"))
+        .collect();
+    let documented: BTreeSet<String> = documented_paths("design")
+        .into_iter()
+        .filter(|p| !empty_arrays.contains(p))
+        .collect();
     assert_same(
         "design object fields",
         &in_code,
-        &documented_paths("design"),
+        &documented,
         "docs/report.md",
     );
 }

@@ -118,6 +118,11 @@ pub struct Analysis {
     pub meets_target: bool,
     /// End of the span (0 low, 1 high) where the worst case binds.
     pub binding_end: usize,
+    /// How far a 1 % change of the sensor's own resistance moves the
+    /// output, % FS, the larger of the span ends, before any calibration
+    /// (`None` without a sensor resistance): what the design leans on the
+    /// resistance the need states.
+    pub sensor_resistance_pct_fs_per_pct: Option<f64>,
 }
 
 /// Whether a built design gets a filter pair when reported, given its DC
@@ -142,6 +147,10 @@ pub struct Model {
     droop: f64,
     /// Output with nominal values, each end.
     nominal_output: [f64; 2],
+    /// Output sensitivity to a relative change of the sensor's own
+    /// resistance (all legs together), volts per unit, each end; `None`
+    /// without one.
+    source_sensitivity: Option<[f64; 2]>,
     /// Half-width of the output's raw range (every part at its limits,
     /// untrimmed, noise peak included), each end, volts.
     raw_output_half: [f64; 2],
@@ -229,6 +238,12 @@ impl Model {
             None => noise::Response::AsBuilt,
         };
         let params = params::collect(need, stock, &built, &netlist, &dc);
+        let source_sensitivity = (!built.source_resistors.is_empty()).then(|| {
+            built.source_resistors.iter().fold([0.0; 2], |sum, &e| {
+                let s = dc.resistor_sensitivity(&netlist, e);
+                [sum[0] + s[0], sum[1] + s[1]]
+            })
+        });
         let systematic = systematic::terms(need, &built, &netlist, &dc, ideal, signal)?;
         let dynamic = noise::dynamic(need, stock, &built, &netlist, &dc, response);
         let noise = dynamic.noise;
@@ -254,6 +269,7 @@ impl Model {
             noise,
             droop: dynamic.droop_v,
             nominal_output: dc.output(),
+            source_sensitivity,
             raw_output_half,
             ideal,
             signal,
@@ -391,6 +407,9 @@ impl Model {
             feasible,
             meets_target: feasible && within,
             binding_end,
+            sensor_resistance_pct_fs_per_pct: self
+                .source_sensitivity
+                .map(|s| s[0].abs().max(s[1].abs()) * 0.01 * pct),
         })
     }
 }

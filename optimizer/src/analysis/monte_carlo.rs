@@ -158,9 +158,31 @@ impl Analysis {
     /// Plain-language warnings about how far the verdict on the need's
     /// basis can be trusted: a design judged on the `rss` basis whose Monte
     /// Carlo yield is under the need's `yield_pct` is flagged, with the
-    /// share of builds the RSS total covers.
+    /// share of builds the RSS total covers; so is a design whose output a
+    /// 1 % change of the sensor's own resistance moves by more than a
+    /// tenth of the target where the need states that resistance without
+    /// tolerance or tempco (the verdict then holds only if it really is
+    /// that exact).
     pub fn warnings(&self, need: &Need) -> Vec<String> {
         let mut out = Vec::new();
+        let sensor = &need.sensor;
+        if let Some(moved) = self.sensor_resistance_pct_fs_per_pct {
+            let target = need.accuracy.max_error_pct_fs;
+            if sensor.source_tolerance.0 == 0.0
+                && sensor.source_tempco.0 == 0.0
+                && moved > 0.1 * target
+            {
+                out.push(format!(
+                    "the design leans on the sensor's own resistance ({} ohm): a 1 % change in \
+                     it moves the output by up to {moved:.3} % FS before calibration (the \
+                     target is {target} % FS), and the need states it without tolerance or \
+                     tempco, so the verdict holds only if it is that exact. Give \
+                     sensor.source_tolerance_pct and sensor.source_tempco_ppm_per_c as the \
+                     sensor really has them.",
+                    sensor.source.0,
+                ));
+            }
+        }
         if let (Basis::Rss, Some(y)) = (need.accuracy.basis, &self.yield_result) {
             if y.yield_pct < need.accuracy.yield_pct {
                 out.push(format!(

@@ -93,8 +93,11 @@ fn amplifier_floor(
         let widest = usable.iter().map(|p| p.channels.max(1)).max()? as usize;
         // Every section of the first stage is the first part (a stage has
         // one amplifier part, its offset buffers included): at least enough
-        // of its packages for those sections, and the sections left over
-        // at the least price per section.
+        // of its packages for those sections. Sections left over beyond
+        // those packages' spare sections sit in at least one more package:
+        // another of the first part, or one of another part, which is a
+        // BOM line of its own; and they cost at least the least price per
+        // section each.
         let first_stage_sections = shapes.first().map_or(0, |s| s.sections());
         let first_packages = match first {
             Some(AmplifierKind::OpAmp(i)) => {
@@ -102,7 +105,17 @@ fn amplifier_floor(
                 let channels = part.channels.max(1) as usize;
                 let packages = first_stage_sections.div_ceil(channels);
                 let rest = sections.saturating_sub(packages * channels);
-                packages as f64 * part.unit_cost + per_section * rest as f64
+                let more = if rest > 0 {
+                    let other = usable
+                        .iter()
+                        .filter(|p| !std::ptr::eq(**p, part))
+                        .map(|p| p.unit_cost + problem.need.search.bom_line_cost)
+                        .fold(part.unit_cost, f64::min);
+                    (per_section * rest as f64).max(other)
+                } else {
+                    0.0
+                };
+                packages as f64 * part.unit_cost + more
             }
             _ => 0.0,
         };

@@ -78,6 +78,39 @@ pub(crate) fn bracketed_pairs(
     out
 }
 
+/// Pairs `(small, partner, score)` for an input resistor in series with
+/// a source resistance `source`: `small` from `small_values` up to
+/// `source` (at most half the input resistance), its partner from
+/// `values` bracketing `gain (small + source)`; scored by the ratio error
+/// plus `tolerance` times the small resistor's share of the input
+/// resistance (what its own tolerance moves the gain by); the `keep`
+/// best, best first.
+pub(crate) fn carried_pairs(
+    small_values: &[f64],
+    values: &[f64],
+    gain: f64,
+    source: f64,
+    tolerance: f64,
+    keep: usize,
+) -> Vec<(usize, usize, f64)> {
+    let mut out = Vec::new();
+    if !(gain.is_finite() && gain > 0.0 && source.is_finite() && source > 0.0) {
+        return out;
+    }
+    for (i, &small) in small_values.iter().enumerate() {
+        if small > source {
+            break;
+        }
+        let input = small + source;
+        for k in bracket(values, gain * input) {
+            let ratio_error = (values[k] / input / gain - 1.0).abs();
+            out.push((i, k, ratio_error + tolerance * small / input));
+        }
+    }
+    keep_best(&mut out, keep);
+    out
+}
+
 /// Keep the `k` entries of lowest error (third field), in order, ties by
 /// index so the result does not depend on the sort.
 pub(crate) fn keep_best(items: &mut Vec<(usize, usize, f64)>, k: usize) {

@@ -158,6 +158,10 @@ struct GroupSlots {
     parts: usize,
     /// Fewest BOM lines the resistors take, whatever the grades.
     floor_lines: usize,
+    /// Resistors of the first stage that may take the cheapest grade
+    /// whatever the stage's (its input resistors beside the sensor's
+    /// resistance, search/value_sets.rs), paid at that grade's price.
+    carried: f64,
 }
 
 /// Every structure of every group within the part limit, produced lazily
@@ -273,6 +277,15 @@ pub(super) fn structures<'p>(problem: &'p Problem<'p>, groups: &'p [Group]) -> S
         for &stage in &divider_stages {
             counts[stage] -= 2.0;
         }
+        let carried = match group.shapes.first() {
+            Some(shape) if problem.sensor_ohms(0) != (0.0, 0.0) => {
+                shape.behaviour().carried_roles().len() as f64
+            }
+            _ => 0.0,
+        };
+        if let Some(first) = counts.first_mut() {
+            *first -= carried;
+        }
         if group.has_divider() {
             counts.push(2.0 * divider_stages.len() as f64);
         }
@@ -289,6 +302,7 @@ pub(super) fn structures<'p>(problem: &'p Problem<'p>, groups: &'p [Group]) -> S
             divider_stages,
             parts,
             floor_lines,
+            carried,
         };
         let combos = u32::try_from(entry.counts.len())
             .ok()
@@ -338,7 +352,8 @@ fn relaxed_key(
         .iter()
         .zip(&slot.counts)
         .map(|(&g, &c)| c * problem.grades[g].min_cost)
-        .sum();
+        .sum::<f64>()
+        + slot.carried * problem.grades[0].min_cost;
     let bound = group.fixed_cost
         + group.pair_floor.cost
         + resistor_cost
@@ -365,7 +380,8 @@ impl Structures<'_> {
             .iter()
             .zip(&slot.counts)
             .map(|(&grade, &count)| count * problem.grades[grade].min_cost)
-            .sum();
+            .sum::<f64>()
+            + slot.carried * problem.grades[0].min_cost;
         let mut distinct: BTreeSet<usize> = grades[..n].iter().copied().collect();
         if slot.has_divider {
             resistor_cost +=
@@ -500,8 +516,16 @@ mod tests {
                     .iter()
                     .filter(|p| p.stage == stage && p.network.has_divider())
                     .count();
-                let own = group.resistors_per_stage[stage] - 2 * dividers;
+                // A first stage's input resistors beside the sensor's
+                // resistance at the cheapest grade's price.
+                let carried = if stage == 0 && problem.sensor_ohms(0) != (0.0, 0.0) {
+                    group.shapes[0].behaviour().carried_roles().len()
+                } else {
+                    0
+                };
+                let own = group.resistors_per_stage[stage] - 2 * dividers - carried;
                 cost += own as f64 * problem.grades[s.grades[stage]].min_cost;
+                cost += carried as f64 * problem.grades[0].min_cost;
                 cost += 2.0 * dividers as f64 * problem.grades[s.grades[n]].min_cost;
                 lines.insert(s.grades[stage]);
             }

@@ -11,13 +11,16 @@ use super::structures::{Grade, Structure};
 use super::Problem;
 use crate::design::{Design, Injection, Resistor, Stage};
 use crate::shape::{
-    offset_drive, MatchedRoles, OffsetNetwork, Role, RoleValues, StageDrive, StageShape,
-    ValueSetRequest,
+    offset_drive, CarriedGrade, MatchedRoles, OffsetNetwork, Role, RoleValues, StageDrive,
+    StageShape, ValueSetRequest,
 };
 use std::collections::BTreeMap;
 
 /// Value sets kept per stage.
 const VALUE_SETS_PER_STAGE: usize = 4;
+/// Value sets with input resistors of a cheaper grade kept per stage
+/// ([`Problem::carried_sets_for_stage`]).
+const CARRIED_SETS_PER_STAGE: usize = 4;
 /// Network value sets kept per stage.
 const NETWORK_SETS_PER_STAGE: usize = 4;
 /// Reach of a network value set: its own linearised error at the output
@@ -67,6 +70,11 @@ pub(super) struct ValueSet {
     /// The network package filling its matched roles, if any (those roles
     /// are then not in `resistors`).
     pub(super) network: Option<NetworkPick>,
+    /// Roles filled by a given stocked resistor (its index in the stock)
+    /// outside the stage grade: a first stage's input resistors in a
+    /// cheaper grade beside the sensor's resistance (those roles are then
+    /// not in `resistors`).
+    pub(super) fixed: BTreeMap<Role, usize>,
 }
 
 impl ValueSet {
@@ -77,6 +85,7 @@ impl ValueSet {
             .resistors
             .values()
             .map(|&i| PartLine::Resistor(grade.parts[i]))
+            .chain(self.fixed.values().map(|&p| PartLine::Resistor(p)))
             .collect();
         out.extend(
             self.offset_top
@@ -131,10 +140,64 @@ impl Problem<'_> {
         let mut out: Vec<ValueSet> = self
             .shape_candidates(&scoring)
             .into_iter()
-            .filter_map(|(roles, divider)| self.score(&scoring, roles, divider, None))
+            .filter_map(|(roles, divider)| {
+                self.score(&scoring, roles, divider, None, BTreeMap::new())
+            })
             .collect();
         sort_by_effect(&mut out);
         out.truncate(VALUE_SETS_PER_STAGE);
+        out.extend(self.carried_sets_for_stage(&scoring));
+        out
+    }
+
+    /// A first stage's value sets whose input resistors beside the
+    /// sensor's resistance take small values of the cheapest grade while
+    /// the rest keep the stage grade (`StageShape::carried_sets`): a
+    /// uniform grade prices those roles as precisely as the gain-setting
+    /// ones, although the sensor's own resistance, stated in the need,
+    /// carries most of the input resistance. Kept apart from the stage's
+    /// best few, whose rounding they rarely match: their price is what
+    /// they offer. Empty when the stage grade is the cheapest, the shape
+    /// has no such roles, or no sensor resistance is in series.
+    fn carried_sets_for_stage(&self, scoring: &StageScoring<'_>) -> Vec<ValueSet> {
+        let Some(cheapest) = self.grades.first() else {
+            return Vec::new();
+        };
+        if cheapest.min_cost >= scoring.grade.min_cost
+            || scoring.behaviour.carried_roles().is_empty()
+        {
+            return Vec::new();
+        }
+        let carried = CarriedGrade {
+            values: &cheapest.values,
+            tolerance: cheapest.tolerance,
+        };
+        let request = Self::request(scoring);
+        let mut candidates = scoring.behaviour.carried_sets(&request, &carried);
+        if candidates.is_empty() {
+            return Vec::new();
+        }
+        if scoring.unbuffered_ref && scoring.source_volts > 0.0 {
+            let tap = scoring.offset / scoring.source_volts;
+            candidates = with_unbuffered_dividers(candidates, scoring.divider_grade, tap);
+        }
+        let mut out: Vec<ValueSet> = candidates
+            .into_iter()
+            .filter_map(|(mut roles, divider)| {
+                let fixed: BTreeMap<Role, usize> = scoring
+                    .behaviour
+                    .carried_roles()
+                    .iter()
+                    .filter_map(|role| {
+                        let index = roles.remove(role)?;
+                        Some((*role, *cheapest.parts.get(index)?))
+                    })
+                    .collect();
+                self.score(scoring, roles, divider, None, fixed)
+            })
+            .collect();
+        sort_by_effect(&mut out);
+        out.truncate(CARRIED_SETS_PER_STAGE);
         out
     }
 
@@ -174,8 +237,13 @@ impl Problem<'_> {
         let mut out: Vec<ValueSet> = Vec::new();
         for (roles, divider) in &bases {
             for pick in &picks {
-                let Some(set) = self.score(&scoring, roles.clone(), *divider, Some(pick.clone()))
-                else {
+                let Some(set) = self.score(
+                    &scoring,
+                    roles.clone(),
+                    *divider,
+                    Some(pick.clone()),
+                    BTreeMap::new(),
+                ) else {
                     continue;
                 };
                 let e = calibration.apply(set.contribution);
@@ -227,10 +295,20 @@ impl Problem<'_> {
     /// The shape's candidates for a stage (with the dividers of an
     /// unbuffered REF tap at every impedance level).
     fn shape_candidates(&self, scoring: &StageScoring<'_>) -> Vec<RoleValues> {
-        let (grade, divider_grade) = (scoring.grade, scoring.divider_grade);
-        let request = ValueSetRequest {
-            values: &grade.values,
-            divider_values: &divider_grade.values,
+        let request = Self::request(scoring);
+        let mut candidates = scoring.behaviour.value_sets(&request);
+        if scoring.unbuffered_ref && scoring.source_volts > 0.0 {
+            let tap = scoring.offset / scoring.source_volts;
+            candidates = with_unbuffered_dividers(candidates, scoring.divider_grade, tap);
+        }
+        candidates
+    }
+
+    /// What the shape's generators are asked for a stage.
+    fn request<'s>(scoring: &StageScoring<'s>) -> ValueSetRequest<'s> {
+        ValueSetRequest {
+            values: &scoring.grade.values,
+            divider_values: &scoring.divider_grade.values,
             gain: scoring.gain,
             offset: scoring.offset,
             network: scoring.network,
@@ -238,25 +316,21 @@ impl Problem<'_> {
             ground_band: scoring.ground_band,
             sensor_ohms: scoring.sensor_ohms,
             inamp_gain_ohms: scoring.inamp_gain_ohms,
-        };
-        let mut candidates = scoring.behaviour.value_sets(&request);
-        if scoring.unbuffered_ref && scoring.source_volts > 0.0 {
-            let tap = scoring.offset / scoring.source_volts;
-            candidates = with_unbuffered_dividers(candidates, divider_grade, tap);
         }
-        candidates
     }
 
     /// One candidate's exact stage gain and offset from the shape's closed
     /// form, its linearised effect at the output and its price; `None`
     /// when the closed form gives no usable gain. The roles of `network`
-    /// take its elements' values.
+    /// take its elements' values, the roles of `fixed` their stocked
+    /// resistor's.
     fn score(
         &self,
         scoring: &StageScoring<'_>,
         roles: BTreeMap<Role, usize>,
         divider: Option<(usize, usize)>,
         network: Option<NetworkPick>,
+        fixed: BTreeMap<Role, usize>,
     ) -> Option<ValueSet> {
         let values = &scoring.grade.values;
         let divider_values = &scoring.divider_grade.values;
@@ -272,6 +346,10 @@ impl Problem<'_> {
             });
             element
                 .or_else(|| roles.get(&role).map(|&i| values[i]))
+                .or_else(|| {
+                    let part = self.stock.resistors.get(*fixed.get(&role)?)?;
+                    Some(part.value.0)
+                })
                 .unwrap_or(f64::NAN)
         };
         let divider_ohms =
@@ -317,7 +395,15 @@ impl Problem<'_> {
                 + offset_term;
         }
         let price = |grade: &Grade, i: usize| self.stock.resistors[grade.parts[i]].unit_cost;
-        let mut cost: f64 = roles.values().map(|&i| price(scoring.grade, i)).sum();
+        let mut cost: f64 = roles
+            .values()
+            .map(|&i| price(scoring.grade, i))
+            .sum::<f64>()
+            + fixed
+                .values()
+                .filter_map(|&p| self.stock.resistors.get(p))
+                .map(|part| part.unit_cost)
+                .sum::<f64>();
         if let Some((top, bottom)) = divider {
             cost += price(scoring.divider_grade, top) + price(scoring.divider_grade, bottom);
         }
@@ -333,6 +419,7 @@ impl Problem<'_> {
             contribution,
             cost,
             network,
+            fixed,
         })
     }
 
@@ -352,6 +439,9 @@ impl Problem<'_> {
                 .resistors
                 .iter()
                 .map(|(&role, &index)| (role, stage_resistor(index)))
+                .chain(value_set.fixed.iter().filter_map(|(&role, &part)| {
+                    Some((role, Resistor::from(self.stock.resistors.get(part)?)))
+                }))
                 .collect();
             if let Some(n) = &value_set.network {
                 let count = packages.entry(n.part).or_insert(0);

@@ -3,15 +3,15 @@
 //! node), which makes a positive output offset.
 
 use super::{
-    push_with_ref, roles, MatchedRoles, OffsetNetwork, Role, RoleValues, StageDrive, StageNodes,
-    StageShape, ValueSetRequest,
+    push_with_ref, roles, CarriedGrade, MatchedRoles, OffsetNetwork, Role, RoleValues, StageDrive,
+    StageNodes, StageShape, ValueSetRequest,
 };
 use crate::design::Stage;
 use crate::error::Result;
 use crate::need::Topology;
 use crate::netlist::Node;
 use crate::schematic::{anchor, input_from, Canvas, Sheet, Side, StageOutline, DY, Y0};
-use crate::search::ratio::{bracketed_pairs, BAND, PAIRS_PER_RATIO};
+use crate::search::ratio::{bracketed_pairs, carried_pairs, BAND, PAIRS_PER_RATIO};
 use crate::topology::{Builder, InjectionPoint};
 
 /// The difference shape.
@@ -77,6 +77,42 @@ impl StageShape for Difference {
             |r1, r2| (r2 / (r1 + rs) / a - 1.0).abs(),
         );
         for (r1, r2, _) in r1_r2 {
+            let network = roles(&[
+                (Role::R1, r1),
+                (Role::R2, r2),
+                (Role::R3, r1),
+                (Role::R4, r2),
+            ]);
+            push_with_ref(&mut out, network, &ref_dividers);
+        }
+        out
+    }
+
+    fn carried_roles(&self) -> &'static [Role] {
+        &[Role::R1, Role::R3]
+    }
+
+    /// `r1` and `r3` small values of the cheaper grade beside the sensor's
+    /// legs, `r2` and `r4` of the stage grade for the gain.
+    fn carried_sets(
+        &self,
+        request: &ValueSetRequest<'_>,
+        carried: &CarriedGrade<'_>,
+    ) -> Vec<RoleValues> {
+        let mut out = Vec::new();
+        let pairs = carried_pairs(
+            carried.values,
+            request.values,
+            request.gain,
+            request.sensor_ohms.1,
+            carried.tolerance,
+            PAIRS_PER_RATIO,
+        );
+        if pairs.is_empty() {
+            return out;
+        }
+        let ref_dividers = request.ref_dividers();
+        for (r1, r2, _) in pairs {
             let network = roles(&[
                 (Role::R1, r1),
                 (Role::R2, r2),

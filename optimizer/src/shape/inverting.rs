@@ -4,7 +4,8 @@
 //! biasing the + input.
 
 use super::{
-    roles, OffsetNetwork, Role, RoleValues, StageDrive, StageNodes, StageShape, ValueSetRequest,
+    roles, CarriedGrade, OffsetNetwork, Role, RoleValues, StageDrive, StageNodes, StageShape,
+    ValueSetRequest,
 };
 use crate::design::Injection;
 use crate::design::Stage;
@@ -12,11 +13,48 @@ use crate::error::{Error, Result};
 use crate::need::Topology;
 use crate::netlist::Node;
 use crate::schematic::{anchor, Canvas, Sheet, Side, StageOutline, Y0};
-use crate::search::ratio::{bracket, bracketed_pairs, BAND, PAIRS_PER_RATIO};
+use crate::search::ratio::{bracket, bracketed_pairs, carried_pairs, BAND, PAIRS_PER_RATIO};
 use crate::topology::{Builder, InjectionPoint};
 
 /// The inverting shape.
 pub(crate) struct Inverting;
+
+/// The stage's sets from `(ri, rf)` pairs: `ri` indexes `ri_values`,
+/// `rf` (and `ro`) the stage grade's values; with the offset network's
+/// `ro` or bias divider where the stage has one.
+fn sets_from_pairs(
+    request: &ValueSetRequest<'_>,
+    pairs: &[(usize, usize, f64)],
+    ri_values: &[f64],
+) -> Vec<RoleValues> {
+    let c = request.offset;
+    let values = request.values;
+    let rs = request.sensor_ohms.0;
+    let mut out = Vec::new();
+    for &(ri, rf, _) in pairs {
+        match request.network {
+            Some(OffsetNetwork::InvertingRo) => {
+                if c >= 0.0 {
+                    return Vec::new();
+                }
+                for ro in bracket(values, values[rf] * request.source_volts / (-c)) {
+                    out.push((
+                        roles(&[(Role::Ri, ri), (Role::Rf, rf), (Role::Ro, ro)]),
+                        None,
+                    ));
+                }
+            }
+            Some(OffsetNetwork::InvertingBias) => {
+                let bias = c / (1.0 + values[rf] / (ri_values[ri] + rs));
+                for divider in request.dividers(bias) {
+                    out.push((roles(&[(Role::Ri, ri), (Role::Rf, rf)]), Some(divider)));
+                }
+            }
+            _ => out.push((roles(&[(Role::Ri, ri), (Role::Rf, rf)]), None)),
+        }
+    }
+    out
+}
 
 impl StageShape for Inverting {
     fn name(&self) -> &'static str {
@@ -76,44 +114,45 @@ impl StageShape for Inverting {
     }
 
     fn value_sets(&self, request: &ValueSetRequest<'_>) -> Vec<RoleValues> {
-        let (a, c) = (request.gain, request.offset);
-        let values = request.values;
+        let a = request.gain;
         let rs = request.sensor_ohms.0;
-        let mut out = Vec::new();
         if a >= 0.0 {
-            return out;
+            return Vec::new();
         }
         let gain = -a;
         let ri_rf = bracketed_pairs(
-            values,
+            request.values,
             BAND,
             PAIRS_PER_RATIO,
             |ri| gain * (ri + rs),
             |ri, rf| (rf / (ri + rs) / gain - 1.0).abs(),
         );
-        for (ri, rf, _) in ri_rf {
-            match request.network {
-                Some(OffsetNetwork::InvertingRo) => {
-                    if c >= 0.0 {
-                        return Vec::new();
-                    }
-                    for ro in bracket(values, values[rf] * request.source_volts / (-c)) {
-                        out.push((
-                            roles(&[(Role::Ri, ri), (Role::Rf, rf), (Role::Ro, ro)]),
-                            None,
-                        ));
-                    }
-                }
-                Some(OffsetNetwork::InvertingBias) => {
-                    let bias = c / (1.0 + values[rf] / (values[ri] + rs));
-                    for divider in request.dividers(bias) {
-                        out.push((roles(&[(Role::Ri, ri), (Role::Rf, rf)]), Some(divider)));
-                    }
-                }
-                _ => out.push((roles(&[(Role::Ri, ri), (Role::Rf, rf)]), None)),
-            }
+        sets_from_pairs(request, &ri_rf, request.values)
+    }
+
+    fn carried_roles(&self) -> &'static [Role] {
+        &[Role::Ri]
+    }
+
+    /// `ri` a small value of the cheaper grade beside the sensor, `rf`
+    /// (and `ro`) of the stage grade.
+    fn carried_sets(
+        &self,
+        request: &ValueSetRequest<'_>,
+        carried: &CarriedGrade<'_>,
+    ) -> Vec<RoleValues> {
+        if request.gain >= 0.0 {
+            return Vec::new();
         }
-        out
+        let ri_rf = carried_pairs(
+            carried.values,
+            request.values,
+            -request.gain,
+            request.sensor_ohms.0,
+            carried.tolerance,
+            PAIRS_PER_RATIO,
+        );
+        sets_from_pairs(request, &ri_rf, carried.values)
     }
 
     fn build(

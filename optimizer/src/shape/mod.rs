@@ -319,6 +319,16 @@ impl ValueSetRequest<'_> {
     }
 }
 
+/// The cheaper grade a first stage's input resistors may take beside the
+/// sensor's resistance ([`StageShape::carried_sets`]).
+pub(crate) struct CarriedGrade<'r> {
+    /// Its sorted values, ohms.
+    pub(crate) values: &'r [f64],
+    /// Its tolerance as a fraction (ranks the pairs: a small resistor's
+    /// tolerance weighs by its share of the input resistance).
+    pub(crate) tolerance: f64,
+}
+
 /// Push a REF-pin stage's network with each REF divider (or alone).
 pub(crate) fn push_with_ref(
     out: &mut Vec<RoleValues>,
@@ -394,6 +404,27 @@ pub(crate) trait StageShape: Sync {
     fn ideal_output(&self, drive: &StageDrive<'_>, plus: f64, minus: f64) -> f64;
     /// The value sets the search tries for a stage gain and offset.
     fn value_sets(&self, request: &ValueSetRequest<'_>) -> Vec<RoleValues>;
+    /// The roles in series with the sensor's own resistance when the
+    /// stage is first (its input resistors), which the search may fill
+    /// with small values of a cheaper grade ([`StageShape::carried_sets`]).
+    fn carried_roles(&self) -> &'static [Role] {
+        &[]
+    }
+    /// Value sets whose [`StageShape::carried_roles`] take small values
+    /// of a cheaper grade (`carried`) beside the sensor's resistance: the
+    /// sensor's resistance, which the need states, then carries most of
+    /// the input resistance, and the input resistors' own tolerance and
+    /// drift weigh only by their share `r / (r + source)` of it. The
+    /// carried roles' indices are into `carried.values`, the others into
+    /// `request.values`. Empty for a shape without such roles or a stage
+    /// without a sensor resistance in series.
+    fn carried_sets(
+        &self,
+        _request: &ValueSetRequest<'_>,
+        _carried: &CarriedGrade<'_>,
+    ) -> Vec<RoleValues> {
+        Vec::new()
+    }
     /// The roles whose ratios must match, which the search may take from
     /// the elements of one matched network package: two pairs of roles,
     /// each pair of one value (`None` for a shape without such roles).
