@@ -577,20 +577,25 @@ temp_max_c = 60.0
 /// input to ground: `rg` plus the offset divider's Thevenin), an inverting
 /// one `-Zf/ri'` (`ri'` with the sensor's resistance), with
 /// `Zf = rf / (1 + j f/f_p)` and `f_p = 1/(2 pi rf C)`, each through a
-/// single-pole amplifier's closed loop.
+/// single-pole amplifier's closed loop. Every resistor is a 0.1 % part,
+/// of which no pair's resistor ties on price with the 1 % ones the pair
+/// takes, so the design gets the same pair with and without its
+/// capacitor (a placed 1 % resistor would be preferred among pairs of one
+/// price, docs/filter.md) and the noise comparison below is of the
+/// capacitor alone.
 fn feedback_designs() -> Vec<(&'static str, &'static str)> {
     let non_inverting = r#"{"format": "spanfit-design-1", "stages": [{"shape": "non-inverting",
         "amplifier": "OA-RR1", "resistors": {"rf": "HR-F01-1K13", "rg": "HR-F01-340R"},
-        "offset": {"kind": "divider", "source": "VR-125", "top": "HR-F1-1K37",
-                   "bottom": "HR-F1-2K00", "buffered": false},
+        "offset": {"kind": "divider", "source": "VR-125", "top": "HR-F01-1K37",
+                   "bottom": "HR-F01-2K00", "buffered": false},
         "feedback_capacitor": "HC-X1-150n"}]}"#;
     let inline = r#"{"format": "spanfit-design-1", "stages": [{"shape": "non-inverting",
         "amplifier": "OA-RR1", "resistors": {"rf": "HR-F01-1K13", "rg": "HR-F01-340R"},
-        "offset": {"kind": "divider", "source": "VR-125", "top": "HR-F1-1K37",
-                   "bottom": "HR-F1-2K00", "buffered": false},
+        "offset": {"kind": "divider", "source": "VR-125", "top": "HR-F01-1K37",
+                   "bottom": "HR-F01-2K00", "buffered": false},
         "feedback_capacitor": {"farads": 4.7e-8, "tolerance_pct": 5, "dielectric": "C0G"}}]}"#;
     let inverting = r#"{"format": "spanfit-design-1", "stages": [{"shape": "inverting",
-        "amplifier": "OA-RR1", "resistors": {"ri": "HR-F1-10K0", "rf": "HR-F1-10K0"},
+        "amplifier": "OA-RR1", "resistors": {"ri": "HR-F01-10K0", "rf": "HR-F01-10K0"},
         "bias": {"kind": "direct", "source": "VR-125"},
         "feedback_capacitor": "HC-N1-10n0"}]}"#;
     vec![

@@ -485,16 +485,48 @@ pub fn choose(need: &Need, stock: &Stock, driver: &Driver) -> Option<FilterParts
 /// The cheapest stock pair meeting every bound, as [`choose`], among the
 /// parts of which one more is on the shelf once the design's own use
 /// (`used`, part id to count) is taken: a part with `stock_qty` 0, or
-/// with as many placed as the stock holds, is not chosen.
+/// with as many placed as the stock holds, is not chosen. Among pairs of
+/// the least price, one whose resistor the design already places (in
+/// `used`) comes first: it adds no BOM line.
 pub fn choose_within(
     need: &Need,
     stock: &Stock,
     driver: &Driver,
     used: &BTreeMap<&str, u32>,
 ) -> Option<FilterParts> {
+    let placed = |id: &str| used.get(id).is_some_and(|&n| n > 0);
+    choose_preferring(need, stock, driver, used, &placed).map(|c| c.parts)
+}
+
+/// A pair [`choose_preferring`] takes, with every pair that ties with it
+/// on price.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Choice {
+    /// The pair taken.
+    pub parts: FilterParts,
+    /// Every allowed pair of the least price (the taken one included),
+    /// in the order of the rule's later ties (the larger `R C`, then the
+    /// smaller resistor): a design placing the resistor of one of them
+    /// gets the first such pair, sharing its BOM line.
+    pub tied: Vec<FilterParts>,
+}
+
+/// The pair rule in full: among the pairs meeting every bound whose parts
+/// fit on the shelf after `used`, the least unit prices; ties: a
+/// resistor `placed` by the design (its BOM line is shared), then the
+/// larger `R C`, then the smaller resistor.
+pub fn choose_preferring(
+    need: &Need,
+    stock: &Stock,
+    driver: &Driver,
+    used: &BTreeMap<&str, u32>,
+    placed: &dyn Fn(&str) -> bool,
+) -> Option<Choice> {
     let b = bounds(need, driver);
     let fits = |id: &str, qty: Option<u32>| one_more_fits(qty, used.get(id).copied().unwrap_or(0));
-    let mut best: Option<(f64, f64, f64, usize, usize)> = None;
+    // (tau, ohms, resistor, capacitor) of the pairs at the least price.
+    let mut least: Option<f64> = None;
+    let mut tied: Vec<(f64, f64, usize, usize)> = Vec::new();
     for (ci, c) in stock.capacitors.iter().enumerate() {
         if !fits(&c.part_id, c.stock_qty) || c.value.0 < b.min_farads {
             continue;
@@ -513,30 +545,45 @@ pub fn choose_within(
             if !fits(&part.part_id, part.stock_qty) {
                 continue;
             }
+            let cost = part.unit_cost + c.unit_cost;
+            if least.is_some_and(|l| cost > l + 1e-12) {
+                continue;
+            }
             let r = Resistor::from(part);
             if !meets(&b, need, driver, &r, c) {
                 continue;
             }
-            let cost = r.unit_cost + c.unit_cost;
-            let tau = r.ohms * c.value.0;
-            let better = match best {
-                None => true,
-                Some((bc, bt, bo, _, _)) => {
-                    cost < bc - 1e-12
-                        || ((cost - bc).abs() <= 1e-12
-                            && (tau > bt * (1.0 + 1e-12)
-                                || ((tau - bt).abs() <= bt * 1e-12 && r.ohms < bo)))
-                }
-            };
-            if better {
-                best = Some((cost, tau, r.ohms, ri, ci));
+            if least.is_none_or(|l| cost < l - 1e-12) {
+                least = Some(cost);
+                tied.clear();
             }
+            tied.push((r.ohms * c.value.0, r.ohms, ri, ci));
         }
     }
-    best.map(|(_, _, _, ri, ci)| FilterParts {
-        series: Resistor::from(&stock.resistors[ri]),
-        shunt: stock.capacitors[ci].clone(),
-    })
+    // The later ties: the larger R C (compared on a grid of a relative
+    // 1e-9, so products of one value in two ways tie), then the smaller
+    // resistor, then stock order.
+    let grid = |tau: f64| (tau.max(f64::MIN_POSITIVE).log10() * 1e9).round() as i64;
+    tied.sort_by(|a, b| {
+        grid(b.0)
+            .cmp(&grid(a.0))
+            .then(a.1.total_cmp(&b.1))
+            .then(a.2.cmp(&b.2))
+            .then(a.3.cmp(&b.3))
+    });
+    let tied: Vec<FilterParts> = tied
+        .into_iter()
+        .map(|(_, _, ri, ci)| FilterParts {
+            series: Resistor::from(&stock.resistors[ri]),
+            shunt: stock.capacitors[ci].clone(),
+        })
+        .collect();
+    let parts = tied
+        .iter()
+        .find(|p| placed(&p.series.part_id))
+        .or_else(|| tied.first())?
+        .clone();
+    Some(Choice { parts, tied })
 }
 
 /// The stock as the pair sees it once a design's own resistors (and

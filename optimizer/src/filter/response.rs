@@ -3,14 +3,15 @@
 //! from the closed forms of the drive.
 
 use super::{
-    bounds, choose, driver, kickback, with_filter, Driver, FilterParts, DROOP_SHARE_OF_TARGET,
-    PHASE_MARGIN_TARGET_DEG, RESERVOIR_RATIO,
+    bounds, choose_preferring, driver, kickback, with_filter, Driver, FilterParts,
+    DROOP_SHARE_OF_TARGET, PHASE_MARGIN_TARGET_DEG, RESERVOIR_RATIO,
 };
 use crate::mna_ac::{bode, log_frequencies, AcAmplifier, AcSolver, BodePoint};
 use crate::need::Need;
 use crate::stock::{Stock, DEFAULT_OUTPUT_OHMS};
 use crate::topology::{AmplifierKind, Built};
 use serde::Serialize;
+use std::collections::BTreeMap;
 use std::f64::consts::PI;
 
 /// Points of the reported Bode data (six decades, ten a decade, ends
@@ -281,7 +282,11 @@ pub fn analyse(need: &Need, stock: &Stock, built: &Built) -> FilterStatus {
     let Some(driver) = driver(need, stock, built) else {
         return not("the design has no amplifier driving its output");
     };
-    let Some(parts) = choose(need, stock, &driver) else {
+    // The stock is what the design's own parts leave (`stock_left`); a
+    // resistor the design places is preferred among pairs of one price.
+    let placed = |id: &str| built.resistors.iter().any(|r| r.part.part_id == id);
+    let chosen = choose_preferring(need, stock, &driver, &BTreeMap::new(), &placed);
+    let Some(parts) = chosen.map(|c| c.parts) else {
         let b = bounds(need, &driver);
         return FilterStatus::NotDesigned {
             reason: format!(

@@ -428,3 +428,37 @@ fn a_feedback_pole_opens_the_window_one_pole_lacks() {
     let highest = super::highest_corner_hz(&need);
     assert!(1.0 / (2.0 * std::f64::consts::PI * min_tau) <= highest * (1.0 + 1e-12));
 }
+
+/// Among the pairs of the least unit prices the rule takes one whose
+/// resistor the design already places, so its BOM line is shared: the
+/// reported pair costs what the pair chosen for no design costs, and its
+/// resistor is the design's own wherever a tied pair's is.
+#[test]
+fn a_pair_of_the_least_price_shares_a_resistor_the_design_places() {
+    let (need, stock, design) = demo();
+    let built = crate::topology::build(&need, &stock, &design).unwrap();
+    let d = driver(&need, &stock, &built).unwrap();
+    let alone = choose_preferring(&need, &stock, &d, &BTreeMap::new(), &|_| false).unwrap();
+    assert!(alone.tied.len() > 1, "{:?}", alone.tied);
+    assert_eq!(alone.tied.first(), Some(&alone.parts));
+    let price = |p: &FilterParts| p.series.unit_cost + p.shunt.unit_cost;
+    assert!(alone
+        .tied
+        .iter()
+        .all(|p| (price(p) - price(&alone.parts)).abs() < 1e-12));
+    let ids: Vec<&str> = built
+        .resistors
+        .iter()
+        .map(|r| r.part.part_id.as_str())
+        .collect();
+    let shared = alone
+        .tied
+        .iter()
+        .find(|p| ids.contains(&p.series.part_id.as_str()))
+        .expect("a tied pair uses a resistor of the demo design");
+    assert!(!ids.contains(&alone.parts.series.part_id.as_str()));
+    let (parts, report) = designed(&need, &stock, &design);
+    assert_eq!(&parts, shared);
+    assert!((price(&parts) - price(&alone.parts)).abs() < 1e-12);
+    assert!(report.checks.iter().all(|c| c.pass), "{:?}", report.checks);
+}

@@ -34,7 +34,12 @@
 //! no other part shares: the capacitor rows are the filter's alone), and
 //! two parts. The series resistor's line may be shared with a resistor of
 //! the design, so the floor does not count it; the exact share of a
-//! design does ([`FilterPairs::share`]).
+//! design does ([`FilterPairs::share`]). Among pairs of the least unit
+//! prices the rule takes one whose resistor the design already places
+//! (its line shared): that changes which pair of that price a design
+//! gets, never the price, so the floor above stands; the part's pair is
+//! kept with every pair tied with it ([`Choice::tied`]), and a design's
+//! own pair is the first tied one whose resistor it places.
 //!
 //! Stock quantities: the report chooses the pair among the parts the
 //! design's own resistors leave on the shelf ([`crate::filter::stock_left`]),
@@ -57,8 +62,8 @@
 
 use crate::design::{Design, Resistor};
 use crate::filter::{
-    choose, choose_within, driver, driver_from, driver_of, resistors_used, stock_has_capacitors,
-    Driver, FeedbackCorner, FilterParts,
+    choose_preferring, choose_within, driver, driver_from, driver_of, resistors_used,
+    stock_has_capacitors, Choice, Driver, FeedbackCorner, FilterParts,
 };
 use crate::mna::DcSolution;
 use crate::need::Need;
@@ -67,6 +72,7 @@ use crate::stock::Stock;
 use crate::topology::{AmplifierKind, Built};
 use std::cell::RefCell;
 use std::collections::BTreeMap;
+use std::rc::Rc;
 
 /// The least the pair adds to any design whose output a given part
 /// drives: cost (parts and the capacitor's BOM line) and parts.
@@ -87,17 +93,22 @@ pub(crate) struct FilterPairs<'s> {
     stock: &'s Stock,
     /// Whether the ADC input samples (the noise gain then matters).
     sampling: bool,
-    /// Per op-amp stock index: the floor, and the pair at `NG = 1`.
-    opamps: Vec<(PairFloor, Option<FilterParts>)>,
+    /// Per op-amp stock index: the floor, and the pair at `NG = 1` for a
+    /// design placing none of its tied resistors.
+    opamps: Vec<(PairFloor, Option<Rc<Choice>>)>,
     /// Per in-amp stock index: the same.
-    inamps: Vec<(PairFloor, Option<FilterParts>)>,
+    inamps: Vec<(PairFloor, Option<Rc<Choice>>)>,
     /// Pairs chosen with a sampling input, by part and noise gain.
-    cache: RefCell<BTreeMap<(bool, usize, u64), Option<FilterParts>>>,
+    cache: RefCell<BTreeMap<CacheKey, Option<Rc<Choice>>>>,
     /// Whether one pole cannot meet the need's alias rejection within the
     /// droop rule ([`crate::filter::needs_second_pole`]): only then does
     /// the search place a feedback capacitor ([`FilterPairs::place_feedback`]).
     second_pole: bool,
 }
+
+/// A pair chosen with a sampling input: in-amp or op-amp, its stock
+/// index, and the noise gain's bits.
+type CacheKey = (bool, usize, u64);
 
 /// Most pairs kept in the cache (a sampling input makes one per noise
 /// gain; past this they are chosen again, which is cheap).
@@ -135,12 +146,17 @@ impl<'s> FilterPairs<'s> {
                 };
                 choose_within(need, stock, &d, used)
             };
-            let first = at(1.0, &BTreeMap::new());
+            let unit = Driver {
+                noise_gain: 1.0,
+                ..part.clone()
+            };
+            let first =
+                choose_preferring(need, stock, &unit, &BTreeMap::new(), &|_| false).map(Rc::new);
             let worst_gain = if sampling { f64::INFINITY } else { 1.0 };
             let always = at(worst_gain, &exhaustible).is_some();
             let floor = match &first {
-                Some(p) if always => PairFloor {
-                    cost: units(p) + line,
+                Some(c) if always => PairFloor {
+                    cost: units(&c.parts) + line,
                     parts: 2,
                 },
                 _ => PairFloor::default(),
@@ -280,10 +296,11 @@ impl<'s> FilterPairs<'s> {
 
     /// The least the pair adds to a design of a structure whose output
     /// `kind` drives, given which resistor part numbers the design places
-    /// (`placed`): exact without a sampling input when the design does not
-    /// place the part's pair resistor (the pair is then the part's own,
-    /// both BOM lines paid), the floor otherwise (a design that places it
-    /// may use it up and get another pair, or none).
+    /// (`placed`): exact without a sampling input when the design places
+    /// none of the resistors of the part's pairs of the least price (the
+    /// pair is then the part's own, both BOM lines paid), the floor
+    /// otherwise (a design that places one gets a pair of that price
+    /// sharing its line, or, having used it up, another pair or none).
     pub(crate) fn least_added(&self, kind: AmplifierKind, placed: &dyn Fn(&str) -> bool) -> f64 {
         let floor = self.floor(kind);
         if self.sampling {
@@ -294,8 +311,8 @@ impl<'s> FilterPairs<'s> {
             AmplifierKind::InAmp(i) => self.inamps.get(i).and_then(|e| e.1.as_ref()),
         };
         match pair {
-            Some(p) if !placed(&p.series.part_id) => {
-                units(p) + 2.0 * self.need.search.bom_line_cost
+            Some(c) if !c.tied.iter().any(|p| placed(&p.series.part_id)) => {
+                units(&c.parts) + 2.0 * self.need.search.bom_line_cost
             }
             _ => floor.cost,
         }
@@ -340,7 +357,7 @@ impl<'s> FilterPairs<'s> {
                 AmplifierKind::OpAmp(i) => self.opamps.get(i),
                 AmplifierKind::InAmp(i) => self.inamps.get(i),
             };
-            let Some(pair) = entry.and_then(|e| e.1.as_ref()) else {
+            let Some(pair) = entry.and_then(|e| e.1.as_ref()).map(|c| &c.parts) else {
                 return false;
             };
             let id = pair.series.part_id.as_str();
@@ -377,14 +394,31 @@ impl<'s> FilterPairs<'s> {
             let d = driver(self.need, self.stock, built)?;
             return choose_within(self.need, self.stock, &d, &resistors_used(built));
         }
-        let pair = self.pair_whole_shelf(built, sampled.as_ref())?;
+        let choice = self.pair_whole_shelf(built, sampled.as_ref())?;
         let used = resistors_used(built);
+        // A design placing the resistor of a pair of the least price gets
+        // the first such pair whose resistor has one more on the shelf,
+        // its line shared (the rule's tie, as the report takes it).
+        let one_more = |p: &FilterParts| {
+            let limit = self
+                .stock
+                .resistor_valued(&p.series.part_id, p.series.ohms)
+                .and_then(|r| r.stock_qty);
+            let n = used.get(p.series.part_id.as_str()).copied().unwrap_or(0);
+            limit.is_none_or(|q| q > n)
+        };
+        let placed = |p: &FilterParts| used.get(p.series.part_id.as_str()).is_some_and(|&n| n > 0);
+        let shares = choice.tied.iter().any(placed);
+        if let Some(p) = choice.tied.iter().find(|p| placed(p) && one_more(p)) {
+            return Some(p.clone());
+        }
+        let pair = choice.parts.clone();
         let limit = self
             .stock
             .resistor_valued(&pair.series.part_id, pair.series.ohms)
             .and_then(|p| p.stock_qty);
-        let placed = used.get(pair.series.part_id.as_str()).copied().unwrap_or(0);
-        if limit.is_none_or(|q| q > placed) {
+        let count = used.get(pair.series.part_id.as_str()).copied().unwrap_or(0);
+        if !shares && limit.is_none_or(|q| q > count) {
             return Some(pair);
         }
         let section = built.sections.iter().find(|s| s.out == built.out)?;
@@ -398,7 +432,7 @@ impl<'s> FilterPairs<'s> {
 
     /// The pair a built design's driving part gets with the whole shelf
     /// (`sampled`: its driver, with a sampling input).
-    fn pair_whole_shelf(&self, built: &Built, sampled: Option<&Driver>) -> Option<FilterParts> {
+    fn pair_whole_shelf(&self, built: &Built, sampled: Option<&Driver>) -> Option<Rc<Choice>> {
         let section = built.sections.iter().find(|s| s.out == built.out)?;
         let (is_opamp, index) = match section.kind {
             AmplifierKind::OpAmp(i) => (true, i),
@@ -417,7 +451,8 @@ impl<'s> FilterPairs<'s> {
         if let Some(hit) = self.cache.borrow().get(&key) {
             return hit.clone();
         }
-        let pair = choose(self.need, self.stock, d);
+        let pair =
+            choose_preferring(self.need, self.stock, d, &BTreeMap::new(), &|_| false).map(Rc::new);
         let mut cache = self.cache.borrow_mut();
         if cache.len() < CACHE_ENTRIES {
             cache.insert(key, pair.clone());
@@ -467,7 +502,7 @@ mod tests {
                         noise_gain: ng,
                         ..driver_of(&need, &stock, AmplifierKind::OpAmp(i)).unwrap()
                     };
-                    match choose(&need, &stock, &d) {
+                    match crate::filter::choose(&need, &stock, &d) {
                         Some(pair) => assert!(units(&pair) + line >= floor.cost - 1e-12),
                         None => assert_eq!(floor.parts, 0, "{} at NG {ng}", p.part_id),
                     }
