@@ -94,6 +94,25 @@ impl Model {
         [0, 1].map(|end| systematic[end] + basis.random_total(&self.spread_at(end), 0.0))
     }
 
+    /// A lower bound on the first-order total as the design will be
+    /// reported on the worst-case or RSS basis, volts, each end: the total
+    /// without the noise and the droop. A search candidate takes those two
+    /// at bounds its filter pair can only improve on (`noise.rs`), and
+    /// neither is negative as reported, while every other line is the
+    /// same with the pair in (the pair's resistor carries no DC current
+    /// into the ADC input).
+    pub(crate) fn floor_at_ends(&self, basis: Basis) -> [f64; 2] {
+        let systematic = self.systematic_at_ends();
+        [0, 1].map(|end| {
+            let spread = Spread {
+                noise_rms: 0.0,
+                noise_peak: 0.0,
+                ..self.spread_at(end)
+            };
+            systematic[end] - self.droop.max(0.0) + basis.random_total(&spread, 0.0)
+        })
+    }
+
     /// Random-part standard deviation at each end, volts, treating every
     /// limit as the edge of a uniform distribution and noise as Gaussian.
     pub(crate) fn sigma_at_ends(&self) -> [f64; 2] {

@@ -217,6 +217,20 @@ impl Model {
         Model::of_built(need, stock, design, built, None)
     }
 
+    /// The model of a search candidate's built design (without its pair)
+    /// as the report analyses it: with the filter pair the report attaches
+    /// from `pair_stock` (the user's stock; [`crate::filter::attach`]).
+    pub(crate) fn attached(
+        need: &Need,
+        stock: &Stock,
+        design: &Design,
+        built: &Built,
+        pair_stock: &Stock,
+    ) -> Result<Model> {
+        let (filtered, _) = crate::filter::attach(need, pair_stock, built);
+        Model::of_built(need, stock, design, filtered, None)
+    }
+
     /// The model of a built design: a search candidate when `gets_pair`
     /// is given (the noise and droop at bounds), else as built.
     fn of_built(

@@ -37,8 +37,10 @@
 //! - a design failing a feasibility check of its model, or whose
 //!   first-order worst case (worst-case basis, a lower bound on the
 //!   reported total, which is its maximum with the corner check) or RSS
-//!   (RSS basis, the reported total itself) exceeds the target, cannot
-//!   meet the need and is not reported in full; with the error objective,
+//!   (RSS basis, the reported total itself), both without the noise and
+//!   the droop the candidate takes at bounds (`Model::floor_at_ends`),
+//!   exceeds the target, cannot meet the need and is not reported in
+//!   full; with the error objective,
 //!   nor is one whose such total exceeds the best design's reported total
 //!   (it cannot be more accurate).
 
@@ -654,10 +656,12 @@ fn cannot_meet(problem: &Problem<'_>, model: &Model, best_v: Option<f64>) -> boo
     if !model.feasible() {
         return true;
     }
+    // The total without the noise and the droop, which the candidate
+    // takes at bounds the pair only improves on: a lower bound on the
+    // reported first-order total ([`Model::floor_at_ends`]).
     let total = match problem.need.accuracy.basis {
-        Basis::WorstCase => model.worst_at_ends(),
-        Basis::Rss => model.rss_at_ends(),
         Basis::Yield => return false,
+        basis => model.floor_at_ends(basis),
     };
     let least = total[0].max(total[1]);
     // Judged in % FS by the very product the analysis's own verdict uses

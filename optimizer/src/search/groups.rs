@@ -240,6 +240,24 @@ fn offset_plan_sets(
     if b.abs() < 1e-9 || b.abs() <= problem.target_v || trimmed {
         plan_sets.push((Vec::new(), vec![0.0; shapes.len()]));
     }
+    // No offset network, the offset made from the sensor's common mode: a
+    // first stage that takes the difference of the two legs makes one by
+    // a deliberate mismatch of its two ratios
+    // (`StageShape::common_mode_offset`); the common mode's tolerance and
+    // the mismatch's own drift are in its budget like any error.
+    let common_mode = problem.need.sensor.common_mode.0;
+    if let Some(&first) = shapes.first() {
+        let differential = problem.need.sensor.output == SensorOutput::Differential;
+        if b.abs() >= 1e-9
+            && differential
+            && common_mode.abs() > 1e-9
+            && first.behaviour().common_mode_offset()
+        {
+            let mut offsets = vec![0.0; shapes.len()];
+            offsets[0] = b / gains[1..].iter().product::<f64>();
+            plan_sets.push((Vec::new(), offsets));
+        }
+    }
     if b.abs() >= 1e-9 {
         for (stage, &shape) in shapes.iter().enumerate() {
             let down: f64 = gains[stage + 1..].iter().product();
@@ -751,8 +769,18 @@ mod tests {
         offset_plan_sets(&problem, &[Shape::Difference], &[k], &sources)
     }
 
+    /// A plan set with no offset network that leaves the offset out (the
+    /// stages aimed at no offset).
     fn has_no_network(sets: &[(Vec<OffsetPlan>, Vec<f64>)]) -> bool {
-        sets.iter().any(|(plans, _)| plans.is_empty())
+        sets.iter()
+            .any(|(plans, offsets)| plans.is_empty() && offsets.iter().all(|c| *c == 0.0))
+    }
+
+    /// A plan set with no offset network whose first stage still aims at
+    /// an offset: the one it makes from the sensor's common mode.
+    fn has_common_mode_offset(sets: &[(Vec<OffsetPlan>, Vec<f64>)]) -> bool {
+        sets.iter()
+            .any(|(plans, offsets)| plans.is_empty() && offsets.first().is_some_and(|c| *c > 0.0))
     }
 
     /// The demo's ideal offset (60 mV) is four times its 15 mV target:
@@ -766,6 +794,17 @@ mod tests {
         let none = plan_sets(&[("calibration = \"offset\"", "calibration = \"none\"")]);
         assert!(!none.is_empty());
         assert!(!has_no_network(&none), "60 mV left out untrimmed");
+        // The difference stage may make the offset from the bridge's
+        // 2.5 V common mode instead, trimmed or not; a single-ended sensor
+        // has no common mode to make it from.
+        assert!(has_common_mode_offset(&none));
+        let single = plan_sets(&[
+            ("calibration = \"offset\"", "calibration = \"none\""),
+            ("output = \"differential\"", "output = \"single-ended\""),
+            ("common_mode_v = 2.5\n", ""),
+        ]);
+        assert!(!single.is_empty());
+        assert!(!has_common_mode_offset(&single));
         let trimmed = plan_sets(&[]);
         assert!(has_no_network(&trimmed));
         assert!(trimmed.iter().any(|(plans, _)| !plans.is_empty()));

@@ -178,6 +178,11 @@ impl<'s> FilterPairs<'s> {
         }
     }
 
+    /// The user's stock, from which the report chooses the pair.
+    pub(crate) fn stock(&self) -> &'s Stock {
+        self.stock
+    }
+
     /// Whether the rule places a capacitor across the last stage's `rf`
     /// ([`FilterPairs::place_feedback`]) for this need and stock.
     pub(crate) fn places_feedback(&self) -> bool {

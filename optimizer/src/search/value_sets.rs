@@ -316,6 +316,7 @@ impl Problem<'_> {
             ground_band: scoring.ground_band,
             sensor_ohms: scoring.sensor_ohms,
             inamp_gain_ohms: scoring.inamp_gain_ohms,
+            common_mode: scoring.inputs[0].1,
         }
     }
 

@@ -57,7 +57,24 @@ pub(super) fn verify_model(
     };
     // The search ranks by numbers; the report analyses the design it
     // returns again with every line explained (api).
-    let analysis = model.report_unexplained(problem.need, builds, 1).ok()?;
+    let mut analysis = model.report_unexplained(problem.need, builds, 1).ok()?;
+    // The candidate takes its noise and droop at bounds; a design they
+    // put over the target may meet it with the pair the report attaches,
+    // and then it is judged as reported.
+    if !analysis.meets_target && may_meet_as_reported(problem, &model) {
+        let as_reported = Model::attached(
+            problem.need,
+            problem.stock,
+            &design,
+            model.built(),
+            problem.pairs.stock(),
+        )
+        .ok()
+        .and_then(|m| m.report_unexplained(problem.need, builds, 1).ok());
+        if let Some(a) = as_reported.filter(|a| a.meets_target) {
+            analysis = a;
+        }
+    }
     let built = model.built().clone();
     // Costed with the filter pair the report will attach (search/pair.rs).
     let pair = problem.pairs.share(&built);
@@ -68,6 +85,22 @@ pub(super) fn verify_model(
         costing,
         analysis,
     })
+}
+
+/// Whether a candidate the bounds put over the target could still meet
+/// it as reported: its checks pass (none reads the noise or the droop),
+/// the basis is worst case or RSS, and its total without the noise and
+/// the droop ([`Model::floor_at_ends`], a lower bound on the reported
+/// first-order total) is within the target (judged in % FS as the
+/// analysis judges it).
+pub(super) fn may_meet_as_reported(problem: &Problem<'_>, model: &Model) -> bool {
+    let basis = problem.need.accuracy.basis;
+    if basis == Basis::Yield || !model.feasible() {
+        return false;
+    }
+    let floor = model.floor_at_ends(basis);
+    let pct = 100.0 / problem.need.full_scale();
+    floor[0].max(floor[1]) * pct <= problem.need.accuracy.max_error_pct_fs
 }
 
 /// The random part of a structure's budget estimated from another
@@ -111,5 +144,50 @@ pub(super) fn bounded_spread(limit_sum: f64, limit_squares: f64) -> crate::analy
         limit_squares,
         noise_rms: 0.0,
         noise_peak: 0.0,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::search::structures::augment_stock;
+
+    /// The demo need's design with its offset from the bridge's common
+    /// mode (22.6k against 22.1k, no reference; docs/search.md): at the
+    /// candidate's noise and droop bounds it misses the 0.5 % FS target,
+    /// without them it is within it, and as reported with its pair it
+    /// meets it, so verification takes the report's analysis, the very
+    /// total `analyze` gives.
+    #[test]
+    fn a_candidate_over_the_target_by_its_bounds_alone_is_judged_as_reported() {
+        let need = crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo.toml").unwrap();
+        let user = crate::stock::parse_stock(&crate::demo::stock_files()).unwrap();
+        let stock = augment_stock(&need, &user);
+        let problem = Problem::new(&need, &user, &stock);
+        let json = r#"{"format": "spanfit-design-1", "stages": [{"shape": "difference",
+            "amplifier": "OA-ZD1", "offset": {"kind": "ground"},
+            "resistors": {"r1": "HR-F1-16R9", "r2": "HR-F01-22K1",
+                          "r3": "HR-F1-16R9", "r4": "HR-F01-22K6"}}]}"#;
+        let design = crate::design::parse_design(json.as_bytes(), "cm.json", &user).unwrap();
+        let gets_pair = |b: &Built, dc: &crate::mna::DcSolution| problem.pairs.gets_pair(b, dc);
+        let model = Model::candidate(&need, &stock, &design, &gets_pair).unwrap();
+        let bounded = model.report_unexplained(&need, 0, 1).unwrap();
+        assert!(
+            bounded.feasible && !bounded.meets_target,
+            "{}",
+            bounded.basis_pct_fs
+        );
+        assert!(may_meet_as_reported(&problem, &model));
+        let candidate = verify_model(&problem, design.clone(), model).unwrap();
+        let (_, reported) = crate::analysis::analyze(&need, &user, &design, 0, 1).unwrap();
+        assert!(reported.meets_target, "{}", reported.basis_pct_fs);
+        assert!(candidate.analysis.meets_target);
+        assert!(
+            (candidate.analysis.basis_pct_fs - reported.basis_pct_fs).abs() < 1e-9,
+            "{} against {}",
+            candidate.analysis.basis_pct_fs,
+            reported.basis_pct_fs
+        );
+        assert!(candidate.analysis.basis_pct_fs < bounded.basis_pct_fs);
     }
 }

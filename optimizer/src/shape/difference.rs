@@ -11,11 +11,76 @@ use crate::error::Result;
 use crate::need::Topology;
 use crate::netlist::Node;
 use crate::schematic::{anchor, input_from, Canvas, Sheet, Side, StageOutline, DY, Y0};
-use crate::search::ratio::{bracketed_pairs, carried_pairs, BAND, PAIRS_PER_RATIO};
+use crate::search::ratio::{bracket, bracketed_pairs, carried_pairs, BAND, PAIRS_PER_RATIO};
 use crate::topology::{Builder, InjectionPoint};
 
 /// The difference shape.
 pub(crate) struct Difference;
+
+/// What a stage's value sets aim at: the `r2/r1'` ratio `g` and, where the
+/// offset comes from the sensor's common mode (no offset network, an
+/// offset asked, a common mode at the inputs), the `r4'/(r3' + r4')`
+/// share `beta` of the + input. With the + input at `cm + s` and the -
+/// input at `cm`, the output is `beta (1 + g)(cm + s) - g cm`: a gain
+/// `a = beta (1 + g)` and an offset `c = cm (a - g)`, so `g = a - c / cm`
+/// and `beta = a / (1 + g)`. `None` without a positive gain to aim at.
+fn aims(request: &ValueSetRequest<'_>) -> Option<(f64, Option<f64>)> {
+    let (a, c, cm) = (request.gain, request.offset, request.common_mode);
+    if a <= 0.0 {
+        return None;
+    }
+    if request.network.is_some() || c.abs() < 1e-12 || cm.abs() < 1e-9 {
+        return Some((a, None));
+    }
+    let g = a - c / cm;
+    (g > 0.0).then(|| (g, Some(a / (1.0 + g))))
+}
+
+/// The stage's sets from `(r1, r2)` pairs (`r1` indexes `r1_values`, `r2`
+/// the stage grade's values): `r3` the value of `r1`; `r4` the value of
+/// `r2` where the offset comes from the offset network (with each REF
+/// divider), or, for an offset from the common mode, the two stage values
+/// bracketing the `r4` that gives the + input its share `beta` ([`aims`]).
+fn sets_from_pairs(
+    request: &ValueSetRequest<'_>,
+    pairs: &[(usize, usize, f64)],
+    r1_values: &[f64],
+) -> Vec<RoleValues> {
+    let mut out = Vec::new();
+    let Some((_, beta)) = aims(request) else {
+        return out;
+    };
+    let ref_dividers = request.ref_dividers();
+    for &(r1, r2, _) in pairs {
+        match beta {
+            None => {
+                let network = roles(&[
+                    (Role::R1, r1),
+                    (Role::R2, r2),
+                    (Role::R3, r1),
+                    (Role::R4, r2),
+                ]);
+                push_with_ref(&mut out, network, &ref_dividers);
+            }
+            Some(beta) if beta > 0.0 && beta < 1.0 => {
+                let r3 = r1_values[r1] + request.sensor_ohms.0;
+                for r4 in bracket(request.values, r3 * beta / (1.0 - beta)) {
+                    out.push((
+                        roles(&[
+                            (Role::R1, r1),
+                            (Role::R2, r2),
+                            (Role::R3, r1),
+                            (Role::R4, r4),
+                        ]),
+                        None,
+                    ));
+                }
+            }
+            Some(_) => {}
+        }
+    }
+    out
+}
 
 impl StageShape for Difference {
     fn name(&self) -> &'static str {
@@ -62,30 +127,22 @@ impl StageShape for Difference {
     }
 
     fn value_sets(&self, request: &ValueSetRequest<'_>) -> Vec<RoleValues> {
-        let a = request.gain;
         let rs = request.sensor_ohms.1;
-        let mut out = Vec::new();
-        if a <= 0.0 {
-            return out;
-        }
-        let ref_dividers = request.ref_dividers();
+        let Some((g, _)) = aims(request) else {
+            return Vec::new();
+        };
         let r1_r2 = bracketed_pairs(
             request.values,
             BAND,
             PAIRS_PER_RATIO,
-            |r1| a * (r1 + rs),
-            |r1, r2| (r2 / (r1 + rs) / a - 1.0).abs(),
+            |r1| g * (r1 + rs),
+            |r1, r2| (r2 / (r1 + rs) / g - 1.0).abs(),
         );
-        for (r1, r2, _) in r1_r2 {
-            let network = roles(&[
-                (Role::R1, r1),
-                (Role::R2, r2),
-                (Role::R3, r1),
-                (Role::R4, r2),
-            ]);
-            push_with_ref(&mut out, network, &ref_dividers);
-        }
-        out
+        sets_from_pairs(request, &r1_r2, request.values)
+    }
+
+    fn common_mode_offset(&self) -> bool {
+        true
     }
 
     fn carried_roles(&self) -> &'static [Role] {
@@ -99,29 +156,18 @@ impl StageShape for Difference {
         request: &ValueSetRequest<'_>,
         carried: &CarriedGrade<'_>,
     ) -> Vec<RoleValues> {
-        let mut out = Vec::new();
+        let Some((g, _)) = aims(request) else {
+            return Vec::new();
+        };
         let pairs = carried_pairs(
             carried.values,
             request.values,
-            request.gain,
+            g,
             request.sensor_ohms.1,
             carried.tolerance,
             PAIRS_PER_RATIO,
         );
-        if pairs.is_empty() {
-            return out;
-        }
-        let ref_dividers = request.ref_dividers();
-        for (r1, r2, _) in pairs {
-            let network = roles(&[
-                (Role::R1, r1),
-                (Role::R2, r2),
-                (Role::R3, r1),
-                (Role::R4, r2),
-            ]);
-            push_with_ref(&mut out, network, &ref_dividers);
-        }
-        out
+        sets_from_pairs(request, &pairs, carried.values)
     }
 
     /// `r1` with `r3` and `r2` with `r4`: the ratios the common-mode

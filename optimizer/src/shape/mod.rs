@@ -281,6 +281,9 @@ pub(crate) struct ValueSetRequest<'r> {
     pub(crate) sensor_ohms: (f64, f64),
     /// An integrated in-amp's gain constant `Rk`.
     pub(crate) inamp_gain_ohms: f64,
+    /// The common mode at the stage's inputs (the sensor's, first stage
+    /// of a differential sensor; 0 otherwise).
+    pub(crate) common_mode: f64,
 }
 
 impl ValueSetRequest<'_> {
@@ -404,6 +407,14 @@ pub(crate) trait StageShape: Sync {
     fn ideal_output(&self, drive: &StageDrive<'_>, plus: f64, minus: f64) -> f64;
     /// The value sets the search tries for a stage gain and offset.
     fn value_sets(&self, request: &ValueSetRequest<'_>) -> Vec<RoleValues>;
+    /// Whether a first stage of the shape, its offset node grounded, can
+    /// make an output offset from the sensor's common mode by a deliberate
+    /// mismatch of its ratios (its value sets then aim at that offset
+    /// where [`ValueSetRequest::common_mode`] is not 0 and no offset
+    /// network is planned).
+    fn common_mode_offset(&self) -> bool {
+        false
+    }
     /// The roles in series with the sensor's own resistance when the
     /// stage is first (its input resistors), which the search may fill
     /// with small values of a cheaper grade ([`StageShape::carried_sets`]).
