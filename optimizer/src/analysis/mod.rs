@@ -213,8 +213,7 @@ impl Model {
     /// chain's own response.
     pub fn reported(need: &Need, stock: &Stock, design: &Design) -> Result<Model> {
         let built = build(need, stock, design)?;
-        let (built, _) = crate::filter::attach(need, stock, &built);
-        Model::of_built(need, stock, design, built, None)
+        Model::attached(need, stock, design, &built, stock)
     }
 
     /// The model of a search candidate's built design (without its pair)

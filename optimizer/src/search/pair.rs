@@ -417,14 +417,8 @@ impl<'s> FilterPairs<'s> {
         if let Some(p) = choice.tied.iter().find(|p| placed(p) && one_more(p)) {
             return Some(p.clone());
         }
-        let pair = choice.parts.clone();
-        let limit = self
-            .stock
-            .resistor_valued(&pair.series.part_id, pair.series.ohms)
-            .and_then(|p| p.stock_qty);
-        let count = used.get(pair.series.part_id.as_str()).copied().unwrap_or(0);
-        if !shares && limit.is_none_or(|q| q > count) {
-            return Some(pair);
+        if !shares && one_more(&choice.parts) {
+            return Some(choice.parts.clone());
         }
         let section = built.sections.iter().find(|s| s.out == built.out)?;
         let d = match sampled {

@@ -173,14 +173,8 @@ impl Problem<'_> {
             tolerance: cheapest.tolerance,
         };
         let request = Self::request(scoring);
-        let mut candidates = scoring.behaviour.carried_sets(&request, &carried);
-        if candidates.is_empty() {
-            return Vec::new();
-        }
-        if scoring.unbuffered_ref && scoring.source_volts > 0.0 {
-            let tap = scoring.offset / scoring.source_volts;
-            candidates = with_unbuffered_dividers(candidates, scoring.divider_grade, tap);
-        }
+        let candidates =
+            with_tap_dividers(scoring, scoring.behaviour.carried_sets(&request, &carried));
         let mut out: Vec<ValueSet> = candidates
             .into_iter()
             .filter_map(|(mut roles, divider)| {
@@ -296,12 +290,7 @@ impl Problem<'_> {
     /// unbuffered REF tap at every impedance level).
     fn shape_candidates(&self, scoring: &StageScoring<'_>) -> Vec<RoleValues> {
         let request = Self::request(scoring);
-        let mut candidates = scoring.behaviour.value_sets(&request);
-        if scoring.unbuffered_ref && scoring.source_volts > 0.0 {
-            let tap = scoring.offset / scoring.source_volts;
-            candidates = with_unbuffered_dividers(candidates, scoring.divider_grade, tap);
-        }
-        candidates
+        with_tap_dividers(scoring, scoring.behaviour.value_sets(&request))
     }
 
     /// What the shape's generators are asked for a stage.
@@ -517,6 +506,17 @@ impl Problem<'_> {
         self.pairs.place_feedback(self.stock, &mut design);
         design
     }
+}
+
+/// A stage's candidates with the dividers of an unbuffered REF tap at
+/// every impedance level ([`with_unbuffered_dividers`]) where the stage
+/// has one.
+fn with_tap_dividers(scoring: &StageScoring<'_>, candidates: Vec<RoleValues>) -> Vec<RoleValues> {
+    if scoring.unbuffered_ref && scoring.source_volts > 0.0 && !candidates.is_empty() {
+        let tap = scoring.offset / scoring.source_volts;
+        return with_unbuffered_dividers(candidates, scoring.divider_grade, tap);
+    }
+    candidates
 }
 
 /// Sort value sets by their linearised effect at the output, then price.
