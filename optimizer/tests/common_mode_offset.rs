@@ -15,13 +15,9 @@
 
 mod common;
 
+use common::number;
 use common::solve::solve_and_analyze;
-use serde_json::Value;
 use spanfit::demo::stock_files;
-
-fn number(v: &Value) -> f64 {
-    v.as_f64().unwrap_or(f64::NAN)
-}
 
 #[test]
 fn the_demo_bridge_makes_its_offset_from_its_common_mode() {

@@ -22,6 +22,7 @@
 
 mod common;
 
+use common::number;
 use common::solve::solve_and_analyze;
 use serde_json::Value;
 use spanfit::demo::stock_files;
@@ -47,10 +48,6 @@ fn first_stage(report: &Value, roles: &[&str]) -> Vec<Value> {
                 && roles.iter().any(|r| p["role"].as_str() == Some(r))
         })
         .collect()
-}
-
-fn number(v: &Value) -> f64 {
-    v.as_f64().unwrap_or(f64::NAN)
 }
 
 /// Solve `need`, check the mix (`inputs` beside a sensor leg of `leg_ohms`

@@ -49,11 +49,11 @@ use super::floors::{swing_floor_v, SequenceFloors};
 use super::groups::shape_sequences;
 use super::pair::PairFloor;
 use super::strategy::{objective_key, RunResult, SearchState};
-use super::verify::verify_model;
+use super::verify::{cannot_meet, verify_model};
 use super::{costing, Problem, Progress, SearchMode, SearchStats, SolveControl, Stop};
 use crate::analysis::Model;
 use crate::design::{Design, Injection, Resistor, Shape, Source, Stage};
-use crate::need::{Basis, Objective};
+use crate::need::Objective;
 use crate::shape::{OffsetNetwork, Role};
 use crate::topology::AmplifierKind;
 use std::cmp::Ordering;
@@ -646,34 +646,6 @@ impl Walk {
         problem.pairs.place_feedback(stock, &mut design);
         design
     }
-}
-
-/// Whether a model's cheap totals prove that it cannot meet the target
-/// or, with the error objective, cannot be more accurate than the best
-/// design found (`best_v`, volts on the need's basis): see the module
-/// notes; the yield basis proves nothing here.
-fn cannot_meet(problem: &Problem<'_>, model: &Model, best_v: Option<f64>) -> bool {
-    if !model.feasible() {
-        return true;
-    }
-    // The total without the noise and the droop, which the candidate
-    // takes at bounds the pair only improves on: a lower bound on the
-    // reported first-order total ([`Model::floor_at_ends`]).
-    let total = match problem.need.accuracy.basis {
-        Basis::Yield => return false,
-        basis => model.floor_at_ends(basis),
-    };
-    let least = total[0].max(total[1]);
-    // Judged in % FS by the very product the analysis's own verdict uses
-    // (`analysis::Model::report_with`: the total times 100 over the full
-    // scale, against `max_error_pct_fs`), so a design whose reported total
-    // sits exactly on the target is not screened out by a rounding of the
-    // target into volts.
-    let pct = 100.0 / problem.need.full_scale();
-    let over_target = least * pct > problem.need.accuracy.max_error_pct_fs;
-    // Proof (error objective): the reported total is at least this one,
-    // so above the best's reported total it ranks after the best.
-    over_target || best_v.is_some_and(|b| least > b * (1.0 + 1e-9))
 }
 
 /// Least wall time between two progress reports inside one structure, ms.

@@ -14,10 +14,10 @@ use super::groups::{enumerate_groups, Group, Rejections, SCREEN_SLACK};
 use super::milp::{default_solver, select_value_sets, SelectionBounds};
 use super::structures::{structures, Structure};
 use super::value_sets::{value_sets_for_structure, ValueSet, ValueSetCache};
-use super::verify::{estimate_random, verify_model};
+use super::verify::{cannot_meet, estimate_random, verify_model};
 use super::{costing, Candidate, Problem, Progress, SearchMode, SearchStats, SolveControl, Stop};
 use crate::analysis::{Model, RandomSplit};
-use crate::need::{Basis, Objective};
+use crate::need::Objective;
 use std::collections::{BTreeMap, BTreeSet};
 
 /// Share of a structure's reference random error that every value set of
@@ -268,7 +268,6 @@ impl Optimised {
         state: &mut SearchState,
     ) {
         let (allowed, constant) = (reference.allowed, reference.constant);
-        let accuracy = &problem.need.accuracy;
         let mut cuts: Vec<Vec<usize>> = Vec::new();
         let mut analysed = 0;
         while cuts.len() < MAX_CUTS && analysed < MAX_ANALYSED {
@@ -309,14 +308,10 @@ impl Optimised {
                 cuts.push(selection);
                 continue;
             };
-            // Without the noise and the droop, which the candidate takes at
-            // bounds the pair only improves on (a design over the target
-            // by them alone is judged as reported in `verify_model`).
-            let quick_miss = accuracy.basis != Basis::Yield && {
-                let floor = pick_model.floor_at_ends(accuracy.basis);
-                floor[0].max(floor[1]) > problem.target_v
-            };
-            if !pick_model.feasible() || quick_miss {
+            // Judged without the noise and the droop, which the candidate
+            // takes at bounds the pair only improves on (a design over the
+            // target by them alone is judged as reported in `verify_model`).
+            if cannot_meet(problem, &pick_model, None) {
                 cuts.push(selection);
                 continue;
             }

@@ -87,20 +87,41 @@ pub(super) fn verify_model(
     })
 }
 
-/// Whether a candidate the bounds put over the target could still meet
-/// it as reported: its checks pass (none reads the noise or the droop),
-/// the basis is worst case or RSS, and its total without the noise and
-/// the droop ([`Model::floor_at_ends`], a lower bound on the reported
-/// first-order total) is within the target (judged in % FS as the
-/// analysis judges it).
-pub(super) fn may_meet_as_reported(problem: &Problem<'_>, model: &Model) -> bool {
-    let basis = problem.need.accuracy.basis;
-    if basis == Basis::Yield || !model.feasible() {
-        return false;
+/// Whether a model's cheap totals prove that it cannot meet the target
+/// or, with the error objective, cannot be more accurate than the best
+/// design found (`best_v`, volts on the need's basis): the proofs are in
+/// `exhaustive.rs`'s module notes; the yield basis proves nothing here.
+pub(super) fn cannot_meet(problem: &Problem<'_>, model: &Model, best_v: Option<f64>) -> bool {
+    if !model.feasible() {
+        return true;
     }
-    let floor = model.floor_at_ends(basis);
+    // The total without the noise and the droop, which the candidate
+    // takes at bounds the pair only improves on: a lower bound on the
+    // reported first-order total ([`Model::floor_at_ends`]).
+    let total = match problem.need.accuracy.basis {
+        Basis::Yield => return false,
+        basis => model.floor_at_ends(basis),
+    };
+    let least = total[0].max(total[1]);
+    // Judged in % FS by the very product the analysis's own verdict uses
+    // (`analysis::Model::report_with`: the total times 100 over the full
+    // scale, against `max_error_pct_fs`), so a design whose reported total
+    // sits exactly on the target is not screened out by a rounding of the
+    // target into volts.
     let pct = 100.0 / problem.need.full_scale();
-    floor[0].max(floor[1]) * pct <= problem.need.accuracy.max_error_pct_fs
+    let over_target = least * pct > problem.need.accuracy.max_error_pct_fs;
+    // Proof (error objective): the reported total is at least this one,
+    // so above the best's reported total it ranks after the best.
+    over_target || best_v.is_some_and(|b| least > b * (1.0 + 1e-9))
+}
+
+/// Whether a candidate the bounds put over the target could still meet
+/// it as reported: on the worst-case or RSS basis, when [`cannot_meet`]
+/// (its checks, none of which reads the noise or the droop, and its total
+/// without them, a lower bound on the reported first-order total) does
+/// not rule it out.
+pub(super) fn may_meet_as_reported(problem: &Problem<'_>, model: &Model) -> bool {
+    problem.need.accuracy.basis != Basis::Yield && !cannot_meet(problem, model, None)
 }
 
 /// The random part of a structure's budget estimated from another

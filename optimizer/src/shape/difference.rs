@@ -38,18 +38,17 @@ fn aims(request: &ValueSetRequest<'_>) -> Option<(f64, Option<f64>)> {
 
 /// The stage's sets from `(r1, r2)` pairs (`r1` indexes `r1_values`, `r2`
 /// the stage grade's values): `r3` the value of `r1`; `r4` the value of
-/// `r2` where the offset comes from the offset network (with each REF
-/// divider), or, for an offset from the common mode, the two stage values
-/// bracketing the `r4` that gives the + input its share `beta` ([`aims`]).
+/// `r2` where the offset comes from the offset network (`beta` `None`,
+/// with each REF divider), or, for an offset from the common mode, the two
+/// stage values bracketing the `r4` that gives the + input its share
+/// `beta` ([`aims`]).
 fn sets_from_pairs(
     request: &ValueSetRequest<'_>,
+    beta: Option<f64>,
     pairs: &[(usize, usize, f64)],
     r1_values: &[f64],
 ) -> Vec<RoleValues> {
     let mut out = Vec::new();
-    let Some((_, beta)) = aims(request) else {
-        return out;
-    };
     let ref_dividers = request.ref_dividers();
     for &(r1, r2, _) in pairs {
         match beta {
@@ -128,7 +127,7 @@ impl StageShape for Difference {
 
     fn value_sets(&self, request: &ValueSetRequest<'_>) -> Vec<RoleValues> {
         let rs = request.sensor_ohms.1;
-        let Some((g, _)) = aims(request) else {
+        let Some((g, beta)) = aims(request) else {
             return Vec::new();
         };
         let r1_r2 = bracketed_pairs(
@@ -138,7 +137,7 @@ impl StageShape for Difference {
             |r1| g * (r1 + rs),
             |r1, r2| (r2 / (r1 + rs) / g - 1.0).abs(),
         );
-        sets_from_pairs(request, &r1_r2, request.values)
+        sets_from_pairs(request, beta, &r1_r2, request.values)
     }
 
     fn common_mode_offset(&self) -> bool {
@@ -156,7 +155,7 @@ impl StageShape for Difference {
         request: &ValueSetRequest<'_>,
         carried: &CarriedGrade<'_>,
     ) -> Vec<RoleValues> {
-        let Some((g, _)) = aims(request) else {
+        let Some((g, beta)) = aims(request) else {
             return Vec::new();
         };
         let pairs = carried_pairs(
@@ -167,7 +166,7 @@ impl StageShape for Difference {
             carried.tolerance,
             PAIRS_PER_RATIO,
         );
-        sets_from_pairs(request, &pairs, carried.values)
+        sets_from_pairs(request, beta, &pairs, carried.values)
     }
 
     /// `r1` with `r3` and `r2` with `r4`: the ratios the common-mode

@@ -6,3 +6,9 @@
 pub mod bridge;
 pub mod ngspice;
 pub mod solve;
+
+/// A JSON number as f64 (NaN for anything else, so a comparison with it
+/// fails).
+pub fn number(v: &serde_json::Value) -> f64 {
+    v.as_f64().unwrap_or(f64::NAN)
+}
