@@ -49,6 +49,19 @@ fn with_filter(need: &Need, stock: &Stock, candidate: &mut Candidate) {
     }
 }
 
+/// Whether entry `i` of a list of (cost, error) pairs is matched or beaten
+/// on both by another entry, strictly on one (a tie on both keeps the
+/// earlier of the two).
+fn dominated(listed: &[(f64, f64)], i: usize) -> bool {
+    let (cost, error) = listed[i];
+    listed.iter().enumerate().any(|(j, &(c, e))| {
+        j != i
+            && c <= cost + 1e-12
+            && e <= error + 1e-12
+            && (c < cost - 1e-12 || e < error - 1e-12 || j < i)
+    })
+}
+
 /// Parse a need and a stock together. With no stock files the embedded
 /// demo stock is used.
 pub fn load(need: &[u8], need_name: &str, stock: &[StockFile]) -> Result<(Need, Stock)> {
@@ -205,6 +218,20 @@ pub fn solve_bundle(
     for alternative in &mut outcome.alternatives {
         with_filter(&need, &stock, alternative);
     }
+    // The front as reported: an alternative another listed design matches
+    // or beats on both cost and error (after the re-analysis above) is not
+    // on the front. The chosen design, first, always stays.
+    let listed: Vec<(f64, f64)> = outcome
+        .alternatives
+        .iter()
+        .map(|a| (a.costing.total, a.analysis.basis_pct_fs))
+        .collect();
+    let mut index = 0;
+    outcome.alternatives.retain(|_| {
+        let i = index;
+        index += 1;
+        i == 0 || !dominated(&listed, i)
+    });
     // The best attempt of an infeasible need is reported as a design too,
     // analysed against this need (the search may have found it under a
     // looser target) as `analyze` would report it.
@@ -271,6 +298,17 @@ mod tests {
         assert_eq!(total, MONTE_CARLO_BUILDS);
         assert!(e.yield_pct.unwrap() >= 0.0);
         assert!(b.text.contains("verify on the bench"));
+    }
+
+    /// A design matched or beaten on both cost and error by another is off
+    /// the front; of two equal ones the earlier stays.
+    #[test]
+    fn dominated_entries_leave_the_front() {
+        let listed = [(1.0, 0.5), (1.2, 0.4), (1.3, 0.45), (1.2, 0.4), (0.9, 0.6)];
+        let kept: Vec<usize> = (0..listed.len())
+            .filter(|&i| !dominated(&listed, i))
+            .collect();
+        assert_eq!(kept, [0, 1, 4]);
     }
 
     /// A reported design object fed back gives the same report.

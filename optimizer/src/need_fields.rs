@@ -187,7 +187,10 @@ fn help_of(key: &str) -> (&'static str, Option<&'static str>) {
         "search.resistor_series" => ("The standard value series the search may use for resistors where the shelf does not fix the values.", Some("E96")),
         "search.objective" => ("What the search makes as small as possible among the designs that meet the target.", Some("cost")),
         "search.bom_line_cost" => ("A fixed cost for each distinct part number on the BOM (handling, a feeder, a reel), so that the search prefers fewer different parts.", Some("0")),
-        "search.max_parts" => ("The most parts a design may have on the board.", Some("30")),
+        "search.max_parts" => (
+            "The most parts a design may have, its filter pair at the ADC input not counted.",
+            Some("30"),
+        ),
         "search.time_limit_ms" => ("How long the search may run. When it ends early the best design found is shown and the page says it is not proven the cheapest.", Some("2000 ms")),
         "stock.path" => ("For the command line only: the folder of the stock CSV files, relative to the need file. The page uses the shelf shown on it instead.", None),
         "stock.only" => ("Use only parts on the shelf. When cleared, the search may also use resistor values from the series that are not stocked.", Some("ticked")),

@@ -179,6 +179,8 @@ fn the_best_error_of_a_walked_space_is_its_least() {
 /// (its cost is the cost the search ranked).
 #[test]
 fn the_filter_pair_is_inside_the_proof() {
+    // The part-count check (`max_parts`, here 4) judges the design
+    // without the pair: the design of three parts meets it with its pair.
     let need = need_text(0.5, "two-point", 4, 0.05);
     let solve = |caps: bool, exhaustive: bool| {
         with_still_clock(|control| {
@@ -200,6 +202,12 @@ fn the_filter_pair_is_inside_the_proof() {
         let r = solve(true, exhaustive);
         let design = r.design.as_ref().expect("a design");
         assert!(design.filter.is_some(), "the pair is attached");
+        assert_eq!(design.part_count, 5, "three parts and the pair's two");
+        assert!(
+            design.error.meets_target,
+            "the report's own verdict: {:?}",
+            design.findings
+        );
         let search = r.search.as_ref().expect("a search");
         assert!(search.proven_optimal, "exhaustive {exhaustive}: {search:?}");
         assert!(search.gap.is_none());

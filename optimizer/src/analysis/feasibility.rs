@@ -136,7 +136,9 @@ impl Check {
             Check::ReferenceLoad => format!(
                 "the network draws up to {a:.4} mA untrimmed; the part sources at most {b:.4} mA"
             ),
-            Check::PartCount => format!("{a:.0} parts; the need allows {b:.0}"),
+            Check::PartCount => {
+                format!("{a:.0} parts without the filter pair; the need allows {b:.0}")
+            }
             Check::StockQuantity => format!("{a:.0} placed; the stock holds {b:.0}"),
             Check::AdcWindow => format!(
                 "output reaches {a:.4} V to {b:.4} V untrimmed; the ADC takes {c:.4} V to {d:.4} V"
@@ -286,8 +288,8 @@ impl Finding {
                  a part that drives more current can"
             ),
             Check::PartCount => format!(
-                "the smallest design has {a:.0} parts, {excess:.0} over the need's limit of \
-                 {b:.0}; search.max_parts decides it, not the values"
+                "the smallest design has {a:.0} parts without its filter pair, {excess:.0} over \
+                 the need's limit of {b:.0}; search.max_parts decides it, not the values"
             ),
             Check::StockQuantity => format!(
                 "{who} is placed {a:.0} times (the filter pair included), {excess:.0} more than \
@@ -438,7 +440,12 @@ pub(crate) fn findings(
         }
     }
     out.extend(stock_findings(stock, built));
-    let parts = part_count(built);
+    // `max_parts` judges the design without its filter pair (the search
+    // places the pair by rule after the design is chosen, docs/filter.md),
+    // so `analyze` judges it so too: the search's candidate and the report
+    // of the design it returns reach the same verdict.
+    let pair = if built.filter.is_some() { 2 } else { 0 };
+    let parts = part_count(built) - pair;
     out.push(RawFinding {
         check: Check::PartCount,
         subject: "design".into(),
