@@ -96,6 +96,24 @@ fn a_design_the_heuristics_miss_is_found_and_proven() {
     }
 }
 
+/// A roomier part limit makes the space too large for the count that
+/// starts the finishing walk (which ignores the floors that prune it), and
+/// the optimised mode's own candidates hold no design: it then walks the
+/// space anyway with a little work, finds the exhaustive walk's optimum
+/// and proves it, where it once said "not finished".
+#[test]
+fn a_space_too_large_to_count_as_small_is_still_settled_by_the_walk() {
+    let stock = small_stock();
+    let need = need(0.5, "two-point", 6);
+    assert!(spanfit::search::space_designs(&need, &stock, 200_000).is_none());
+    let fast = run(&need, &stock, SearchMode::Optimised);
+    let full = run(&need, &stock, SearchMode::Exhaustive);
+    let cost = |o: &SolveOutcome| o.best.as_ref().map(|c| (c.costing.total * 1e9).round());
+    assert!(cost(&full).is_some(), "the exhaustive walk found no design");
+    assert_eq!(cost(&fast), cost(&full));
+    assert!(fast.stats.proven_optimal && full.stats.proven_optimal);
+}
+
 /// A target no design of the space meets: the exhaustive walk proves it
 /// (`infeasible`, proven), and so does the optimised mode, which finishes
 /// the small space; neither claims a design.

@@ -664,11 +664,20 @@ struct Pause<'c, 'a> {
     last_report_ms: f64,
     /// The progress sink answered `false`.
     cancelled: bool,
+    /// Work units spent by the walk so far, and its limit
+    /// ([`WalkBudget::max_work`]).
+    work: u64,
+    max_work: u64,
 }
 
 impl Pause<'_, '_> {
-    /// Whether the walk may go on; `false` at the deadline or on a cancel.
+    /// Whether the walk may go on; `false` at the deadline, past the work
+    /// limit, or on a cancel.
     fn keep_going(&mut self, state: &SearchState) -> bool {
+        self.work = self.work.saturating_add(1);
+        if self.work > self.max_work {
+            return false;
+        }
         let now = (self.control.now_ms)();
         if now > self.deadline_ms {
             return false;
@@ -859,6 +868,10 @@ pub(super) struct WalkBudget {
     /// Report progress as this fixed total (the main search's) instead of
     /// the walk's own, so a call shows one total.
     pub(super) report_as: Option<u64>,
+    /// Most work units (a structure taken from the heap is one, every
+    /// 256 resistor assignments another) before the walk gives up, on
+    /// any clock (`u64::MAX`: no such limit).
+    pub(super) max_work: u64,
 }
 
 /// Whether a structure has more parts than `max_parts` whatever its
@@ -1073,6 +1086,7 @@ pub(super) fn walk(
     let mut done = 0u64;
     let mut cancelled = false;
     let mut bound_left: Option<f64> = None;
+    let mut work = 0u64;
     while let Some(node) = heap.pop() {
         // Proof: structures leave the heap in bound order, so when this
         // bound cannot beat the best, no structure left can.
@@ -1088,7 +1102,8 @@ pub(super) fn walk(
             total: budget.report_as.unwrap_or(total),
             best_cost: state.best.as_ref().map(|b| b.costing.total),
         });
-        if !keep_going || (control.now_ms)() > budget.deadline_ms {
+        work = work.saturating_add(1);
+        if !keep_going || (control.now_ms)() > budget.deadline_ms || work > budget.max_work {
             cancelled = !keep_going;
             bound_left = Some(node.key);
             break;
@@ -1108,10 +1123,13 @@ pub(super) fn walk(
             total: budget.report_as.unwrap_or(total),
             last_report_ms: (control.now_ms)(),
             cancelled: false,
+            work,
+            max_work: budget.max_work,
             control,
         };
         let structure_done =
             search_structure(problem, &walk, shapes, &chosen, &mut state, &mut pause);
+        work = pause.work;
         if !structure_done {
             // A cut walk is unfinished, never a verdict.
             cancelled = pause.cancelled;
@@ -1141,6 +1159,7 @@ pub(super) fn run(problem: &Problem<'_>, control: &mut SolveControl<'_>) -> RunR
         &WalkBudget {
             deadline_ms: f64::INFINITY,
             report_as: None,
+            max_work: u64::MAX,
         },
     );
     let elapsed_ms = (control.now_ms)() - start;

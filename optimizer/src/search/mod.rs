@@ -453,6 +453,7 @@ fn least_error(
         &exhaustive::WalkBudget {
             deadline_ms,
             report_as: Some(total),
+            max_work: u64::MAX,
         },
     );
     end.finished.then_some(end.state.best)

@@ -36,6 +36,10 @@ const PARETO_EXTRA_STRUCTURES: usize = 6;
 /// ([`exhaustive::live_space_size`]), the optimised mode finishes with the
 /// exhaustive walk in the time it has left.
 const COMPLETION_DESIGNS: u64 = 200_000;
+/// Work units ([`exhaustive::WalkBudget::max_work`]) the optimised mode
+/// spends walking a space it found no design in, whatever its size: a
+/// space whose floors leave little to walk is then settled either way.
+const NO_DESIGN_WORK: u64 = 20;
 
 /// Objective key of a verified design (lower is better).
 pub(super) fn objective_key(objective: Objective, c: &Candidate) -> (f64, f64, f64) {
@@ -458,6 +462,54 @@ fn variant_cannot_win(
     bound >= best.costing.total - 1e-12
 }
 
+/// What finishing a run with the exhaustive walk settled.
+struct WalkVerdict {
+    state: SearchState,
+    /// A cancel stopped the walk.
+    stopped: Option<Stop>,
+    /// The walk ended: its verdict is proven.
+    walked: bool,
+    proven_optimal: bool,
+    proven_infeasible: bool,
+    gap: Option<f64>,
+}
+
+/// Walk the space from the run's state within `budget`: a walk that ends
+/// proves its verdict (optimal, or infeasible when it found nothing); one
+/// cut short leaves the proof to the space bound.
+fn finish_by_walk(
+    problem: &Problem<'_>,
+    control: &mut SolveControl<'_>,
+    state: SearchState,
+    budget: &exhaustive::WalkBudget,
+    space: &SpaceBound,
+) -> WalkVerdict {
+    let objective = problem.need.search.objective;
+    let end = exhaustive::walk(problem, control, state, budget);
+    let stopped = end.cancelled.then_some(Stop::Cancelled);
+    let state = end.state;
+    if end.finished {
+        WalkVerdict {
+            walked: true,
+            proven_optimal: state.best.is_some(),
+            proven_infeasible: state.best.is_none(),
+            gap: None,
+            stopped,
+            state,
+        }
+    } else {
+        let (proven_optimal, gap) = proof_from_space(objective, space, state.best.as_ref());
+        WalkVerdict {
+            walked: false,
+            proven_optimal,
+            proven_infeasible: space.proven_empty(),
+            gap,
+            stopped,
+            state,
+        }
+    }
+}
+
 /// Walk the structures in bound order and search each.
 pub(super) fn run(
     problem: &Problem<'_>,
@@ -605,27 +657,43 @@ pub(super) fn run(
         _ => false,
     };
     if stopped.is_none() && !proven_optimal && !proven_infeasible && (small() || live_small()) {
-        let end = exhaustive::walk(
-            problem,
-            control,
-            state,
-            &exhaustive::WalkBudget {
-                deadline_ms: start + limit,
-                report_as: Some(total),
-            },
-        );
+        let budget = exhaustive::WalkBudget {
+            deadline_ms: start + limit,
+            report_as: Some(total),
+            max_work: u64::MAX,
+        };
+        let end = finish_by_walk(problem, control, state, &budget, &space);
         state = end.state;
-        if end.cancelled {
-            stopped = Some(Stop::Cancelled);
-        }
-        if end.finished {
-            walked = true;
-            proven_optimal = state.best.is_some();
-            proven_infeasible = state.best.is_none();
-            gap = None;
-        } else {
-            (proven_optimal, gap) = proof_from_space(objective, &space, state.best.as_ref());
-        }
+        stopped = stopped.or(end.stopped);
+        (walked, proven_optimal, proven_infeasible, gap) = (
+            end.walked,
+            end.proven_optimal,
+            end.proven_infeasible,
+            end.gap,
+        );
+    }
+    // No design found and nothing proven: the walk may still settle the
+    // space when its floors and checks leave little of it (a need whose
+    // `max_parts` makes the space too large to count as small, say). It
+    // gets half the time left and a fixed amount of work, so the
+    // explanation that follows keeps its share and a still clock ends it;
+    // a walk cut short changes nothing.
+    if stopped.is_none() && state.best.is_none() && !proven_infeasible && !walked {
+        let now = (control.now_ms)();
+        let budget = exhaustive::WalkBudget {
+            deadline_ms: now + 0.5 * (start + limit - now).max(0.0),
+            report_as: Some(total),
+            max_work: NO_DESIGN_WORK,
+        };
+        let end = finish_by_walk(problem, control, state, &budget, &space);
+        state = end.state;
+        stopped = stopped.or(end.stopped);
+        (walked, proven_optimal, proven_infeasible, gap) = (
+            end.walked,
+            end.proven_optimal,
+            end.proven_infeasible,
+            end.gap,
+        );
     }
     let elapsed_ms = (control.now_ms)() - start;
     RunResult {
