@@ -656,38 +656,34 @@ pub(super) fn run(
         .is_some(),
         _ => false,
     };
-    if stopped.is_none() && !proven_optimal && !proven_infeasible && (small() || live_small()) {
-        let budget = exhaustive::WalkBudget {
-            deadline_ms: start + limit,
-            report_as: Some(total),
-            max_work: u64::MAX,
-        };
-        let end = finish_by_walk(problem, control, state, &budget, &space);
-        state = end.state;
-        stopped = stopped.or(end.stopped);
-        (walked, proven_optimal, proven_infeasible, gap) = (
-            end.walked,
-            end.proven_optimal,
-            end.proven_infeasible,
-            end.gap,
-        );
-    }
     // No design found and nothing proven: the walk may still settle the
     // space when its floors and checks leave little of it (a need whose
     // `max_parts` makes the space too large to count as small, say). It
     // gets half the time left and a fixed amount of work, so the
     // explanation that follows keeps its share and a still clock ends it;
     // a walk cut short changes nothing.
-    if stopped.is_none() && state.best.is_none() && !proven_infeasible && !walked {
+    let budget = if stopped.is_some() || proven_optimal || proven_infeasible {
+        None
+    } else if small() || live_small() {
+        Some(exhaustive::WalkBudget {
+            deadline_ms: start + limit,
+            report_as: Some(total),
+            max_work: u64::MAX,
+        })
+    } else if state.best.is_none() {
         let now = (control.now_ms)();
-        let budget = exhaustive::WalkBudget {
+        Some(exhaustive::WalkBudget {
             deadline_ms: now + 0.5 * (start + limit - now).max(0.0),
             report_as: Some(total),
             max_work: NO_DESIGN_WORK,
-        };
+        })
+    } else {
+        None
+    };
+    if let Some(budget) = budget {
         let end = finish_by_walk(problem, control, state, &budget, &space);
         state = end.state;
-        stopped = stopped.or(end.stopped);
+        stopped = end.stopped;
         (walked, proven_optimal, proven_infeasible, gap) = (
             end.walked,
             end.proven_optimal,
