@@ -444,8 +444,7 @@ pub(crate) fn findings(
     // places the pair by rule after the design is chosen, docs/filter.md),
     // so `analyze` judges it so too: the search's candidate and the report
     // of the design it returns reach the same verdict.
-    let pair = if built.filter.is_some() { 2 } else { 0 };
-    let parts = part_count(built) - pair;
+    let parts = parts_without_pair(built);
     out.push(RawFinding {
         check: Check::PartCount,
         subject: "design".into(),
@@ -749,16 +748,21 @@ pub fn stock_findings(stock: &Stock, built: &Built) -> Vec<RawFinding> {
         .collect()
 }
 
-/// Parts on the board: resistors (a matched network package counting
-/// once, however many of its elements are used), amplifier packages,
-/// references, the feedback capacitors, and the filter pair where the
-/// design has one.
+/// Parts on the board: those of [`parts_without_pair`] and the filter
+/// pair where the design has one.
 pub fn part_count(built: &Built) -> usize {
+    parts_without_pair(built) + if built.filter.is_some() { 2 } else { 0 }
+}
+
+/// Parts on the board but the filter pair, which `search.max_parts` does
+/// not count: resistors (a matched network package counting once, however
+/// many of its elements are used), amplifier packages, references and the
+/// feedback capacitors.
+fn parts_without_pair(built: &Built) -> usize {
     let packages = crate::design::network_packages(built.resistors.iter().map(|r| &r.part));
     let elements: usize = packages.iter().map(|p| p.elements.len()).sum();
     built.resistors.len() - elements
         + packages.len()
-        + if built.filter.is_some() { 2 } else { 0 }
         + built.feedback_capacitors.len()
         + built.packages.len()
         + built

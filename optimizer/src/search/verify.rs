@@ -56,30 +56,33 @@ pub(super) fn verify_model(
         0
     };
     // The search ranks by numbers; the report analyses the design it
-    // returns again with every line explained (api).
-    let mut analysis = model.report_unexplained(problem.need, builds, 1).ok()?;
-    // The candidate takes its noise and droop at bounds. On the worst-case
+    // returns again with every line explained (api). The candidate takes its noise and droop at bounds. On the worst-case
     // and RSS bases every design that may meet the target is judged as
     // reported, with the pair the report attaches: a design the bounds put
     // over the target may meet it so, and the error objective and the
     // cost/error front then rank every design by the total `analyze`
     // gives it, never one by its bounds beside another as reported. The
     // yield basis keeps the bounded judgement (its Monte Carlo builds
-    // would be run twice).
-    if may_meet_as_reported(problem, &model) {
-        let as_reported = Model::attached(
-            problem.need,
-            problem.stock,
-            &design,
-            model.built(),
-            problem.pairs.stock(),
-        )
-        .ok()
-        .and_then(|m| m.report_unexplained(problem.need, builds, 1).ok());
-        if let Some(a) = as_reported {
-            analysis = a;
-        }
-    }
+    // would be run twice), and so does a design the analysis as reported
+    // cannot take.
+    let as_reported = may_meet_as_reported(problem, &model)
+        .then(|| {
+            Model::attached(
+                problem.need,
+                problem.stock,
+                &design,
+                model.built(),
+                problem.pairs.stock(),
+            )
+            .ok()?
+            .report_unexplained(problem.need, builds, 1)
+            .ok()
+        })
+        .flatten();
+    let analysis = match as_reported {
+        Some(analysis) => analysis,
+        None => model.report_unexplained(problem.need, builds, 1).ok()?,
+    };
     let built = model.built().clone();
     // Costed with the filter pair the report will attach (search/pair.rs).
     let pair = problem.pairs.share(&built);
