@@ -256,6 +256,31 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
     // must be above that ([`floors::least_real_gain`]) holds two resistor
     // values, so two BOM lines where every resistor part holds one value
     // (no matched network on the shelf).
+    // A one-stage difference design's chain (`r4` and the offset
+    // divider) per op-amp part: the least unit cost of its finest part
+    // where the matched roles are discrete and no reference drives the
+    // offset node (floors.rs proves it; `None`: no such design meets the
+    // need). Otherwise the design holds a network package in its matched
+    // roles (at least the cheapest package over the four least-cost roles
+    // the bound counts) or a reference (the cheapest on the shelf and its
+    // BOM line).
+    let chain_part: Vec<Option<f64>> = (0..problem.stock.opamps.len())
+        .map(|i| floors::difference_chain_cost(need, problem.stock, i, problem.target_v))
+        .collect();
+    let reference_extra = problem
+        .stock
+        .references
+        .iter()
+        .filter(|r| r.stock_qty != Some(0))
+        .map(|r| r.unit_cost + line)
+        .fold(f64::INFINITY, f64::min);
+    let network_extra = problem
+        .stock
+        .networks
+        .iter()
+        .filter(|n| n.stock_qty != Some(0) && n.values.len() >= MATCHED_ROLES)
+        .map(|n| (n.unit_cost - MATCHED_ROLES as f64 * least_per_role.unwrap_or(0.0)).max(0.0))
+        .fold(f64::INFINITY, f64::min);
     let networks_on_shelf = problem
         .stock
         .networks
@@ -316,6 +341,24 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
                 }
                 _ => 0.0,
             };
+            // A one-stage difference design: its chain's finest part, a
+            // network package or a reference.
+            let chain = match kind {
+                AmplifierKind::OpAmp(i) if shapes == [Shape::Difference] => {
+                    let finest = chain_part
+                        .get(i)
+                        .copied()
+                        .flatten()
+                        .map_or(f64::INFINITY, |c| {
+                            (c - least_per_role.unwrap_or(0.0)).max(0.0)
+                        });
+                    finest.min(reference_extra).min(network_extra)
+                }
+                _ => 0.0,
+            };
+            if !chain.is_finite() {
+                continue;
+            }
             // The filter pair the report attaches: the last stage's
             // amplifier drives it, so it adds at least the least floor over
             // the parts that may sit there (search/pair.rs proves each
@@ -327,7 +370,7 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
             } else {
                 driver_floor(problem, &shapes)
             };
-            let cost = amp_cost + pair.cost + feedback;
+            let cost = amp_cost + pair.cost + feedback + chain;
             let parts = packages + pair.parts;
             least = Some(match least {
                 Some((c, p)) => (c.min(cost), p.min(parts)),

@@ -596,6 +596,230 @@ pub(super) fn feedback_cost_floor(
         .reduce(f64::min)
 }
 
+/// The discrete resistors on the shelf as a role sees them: (relative
+/// tolerance, TCR as a fraction per degC, unit cost), one row per distinct
+/// triple.
+fn discrete_grades(stock: &Stock) -> Vec<(f64, f64, f64)> {
+    let mut rows: Vec<(f64, f64, f64)> = Vec::new();
+    for r in stock.resistors.iter().filter(|r| r.stock_qty != Some(0)) {
+        let row = (
+            r.tolerance.0.abs() / 100.0,
+            r.tcr.0.abs() * 1e-6,
+            r.unit_cost,
+        );
+        if !rows.contains(&row) {
+            rows.push(row);
+        }
+    }
+    rows
+}
+
+/// The least value a discrete resistor on the shelf has, ohms.
+fn least_discrete_value(stock: &Stock) -> f64 {
+    stock
+        .resistors
+        .iter()
+        .filter(|r| r.stock_qty != Some(0))
+        .map(|r| r.value.0)
+        .fold(f64::INFINITY, f64::min)
+        .max(0.0)
+}
+
+/// The common-mode chain floor of a one-stage difference design: a lower
+/// bound, volts at the output, on the total the analysis reports for any
+/// design whose only stage is a difference stage on the op-amp `part`
+/// with discrete resistors in its four matched roles (no network
+/// package), whose offset node takes no stocked reference (grounded, or
+/// driven by the supply, straight or through a divider, buffered or not),
+/// and whose *chain* (`r4` and the offset divider's resistors) has least
+/// relative tolerance `chain_tol` and least TCR `chain_tcr` (a fraction
+/// per degC) over its resistors. `0` where the proof below does not
+/// apply (it needs the worst-case basis, an offset trim, a differential
+/// sensor with its own excitation and a common-mode tolerance, a supply
+/// that is not the ADC's reference, a span starting at or above zero and
+/// a positive gain).
+///
+/// Proof. The netlist (`shape/difference.rs`, `topology.rs`): `VCM` holds
+/// `inn` at the common mode `Vcm`, `VSENSE` puts `inp` at `Vcm + s`; the
+/// sensor's legs `Lp`, `Ln` lead to `r3` (to the + pin `q`) and `r1` (to
+/// the - pin `m`); `r2` runs from `m` to the output, `r4` from `q` to the
+/// offset node; the section is `out = A (q + vos - m)` (`A` the part's
+/// minimum open-loop gain, an ideal source at DC) with `vos` and the bias
+/// currents zero in the nominal solution. Write `R3 = Lp + r3`, `R1 = Ln +
+/// r1`, `R4 = r4 + Rth` (`Rth` the Thevenin resistance of an unbuffered
+/// divider, else 0, the node behind it a fixed `Vth`), `beta = R4 / (R3 +
+/// R4)`, `gamma = R1 / (R1 + r2)`, `Gp = A / (1 + A gamma)` and `T = Gp
+/// gamma`. Then `q = beta (Vcm + s) + (1 - beta) Vth`, `m = gamma out +
+/// (1 - gamma) Vcm`, and `out = Gp (q - (1 - gamma) Vcm)`, so:
+/// - the real gain is `x = Gp beta`, the common-mode gain
+///   `Gcm = Gp (beta - 1 + gamma)` and `d out / d vos = Gp >= x`;
+/// - scaling `r4` and the divider together scales `R4` alone (a buffered
+///   divider's tap does not move), so the chain's sensitivities (output per
+///   relative change) sum to `Sc = d out / d ln R4 = Gp beta (1 - beta)
+///   (Vcm + s - Vth) = beta (Gp s + T Vcm - out)`, using `Gp (1 - beta)
+///   (Vcm + s - Vth) = Gp (Vcm + s) - Gp q` and `Gp q = out + Gp (1 -
+///   gamma) Vcm`;
+/// - `S2 = d out / d ln r2 = -T (1 - gamma) (Vcm - out)` (from `d out / d
+///   gamma = Gp (Vcm - out)`), and `R1` and `r2` scaled together change
+///   nothing, so `d out / d ln r1 = (r1 / R1) (-S2)`; likewise `d out / d
+///   ln r3 = -(r3 / R3) Sc`.
+///
+/// Bounds on the unknowns, for a design that meets the need: the
+/// systematic lines carry `|x - K| S` at the high end (`least_real_gain`),
+/// so `x` is in `[x_lo, x_hi] = K -/+ target / S`; the common-mode line is
+/// `|Gcm| eps_cm Vcm`, so `|Gcm| <= g = target / (eps_cm Vcm)`. From `Gp
+/// (1 - gamma - beta) <= g` and `Gp = A (1 - T)`: `T >= (A - x - g) / (A +
+/// 1)` and `beta = x / Gp >= x / (x + g + 1)`; `gamma = T / Gp <= 1 / x`.
+/// The ADC-window check keeps `out1 <= adc_high`, so `out0 <= adc_high -
+/// x_lo S =: o_max`; with `s >= 0`, `Sc >= beta (T Vcm - out0) >= Sig :=
+/// beta_min (T_min Vcm - o_max)` at both ends (at the high end `Sc` adds
+/// `x (s0 + (1 - beta) S) >= 0`).
+///
+/// The lines the reported worst case sums at the high end (each a
+/// different parameter, each at least as below; drift is not trimmed):
+/// the chain's TCR `chain_tcr dT Sig`; the finite-gain line
+/// `(1 - T) x S >= x^2 S / A`; the part's drift and supply rejection through `Gp >= x`;
+/// `r2`'s tolerance `tol |S2(1) - S2(0)| = tol T (1 - gamma) x S` and TCR
+/// `tcr T (1 - gamma) |Vcm - out1|`; `r1`'s share `r1 / R1 >= rmin /
+/// (rmin + Ln)` of both, and `r3`'s share of the chain's TCR; and the
+/// common-mode and supply lines, `eps_cm |Gcm| Vcm + eps_s |Gs| Vs >=
+/// eps |out0 - x s0|` (superposition: with no reference, `out0 = x s0 +
+/// Gcm Vcm + Gs Vs`; `eps` the lesser tolerance). The output-swing check asks
+/// `out0` less its raw half-range to stay above the part's low swing
+/// (and the window check above `adc_low`); that half-range holds the
+/// chain's `(tol + tcr dT) Sig`, `r2`'s `(tol + tcr dT) |S2(0)|` and the
+/// offset's `x (vos + drift dT + rejection)` untrimmed, which bounds
+/// `out0` from below.
+pub(super) fn difference_chain_floor_v(
+    need: &Need,
+    stock: &Stock,
+    part: usize,
+    target_v: f64,
+    chain_tol: f64,
+    chain_tcr: f64,
+) -> f64 {
+    let sensor = &need.sensor;
+    let applies = need.accuracy.basis == Basis::WorstCase
+        && need.accuracy.calibration == Calibration::Offset
+        && sensor.output == SensorOutput::Differential
+        && sensor.excitation == Excitation::Independent
+        && !need.supply.ratiometric;
+    let Some(opamp) = stock.opamps.get(part) else {
+        return 0.0;
+    };
+    let vcm = sensor.common_mode.0;
+    let eps_cm = sensor.common_mode_tolerance.fraction();
+    let (s0, s1) = (sensor.signal_low.0, sensor.signal_high.0);
+    let span = s1 - s0;
+    let (k, _) = need.ideal_transfer();
+    let a = opamp.aol_min.ratio();
+    if !(applies && vcm > 0.0 && eps_cm > 0.0 && s0 >= 0.0 && span > 0.0 && k > 0.0) {
+        return 0.0;
+    }
+    let x_lo = k - target_v / span;
+    let x_hi = k + target_v / span;
+    let g = target_v / (eps_cm * vcm);
+    if !(x_lo > 1.0 && a.is_finite() && a > x_hi + g) {
+        return 0.0;
+    }
+    let delta_t = need.max_delta_t();
+    let t_min = (a - x_hi - g) / (a + 1.0);
+    let beta_min = x_lo / (x_lo + g + 1.0);
+    let o_max = need.adc.high.0 + 1e-12 - x_lo * span;
+    let sig = beta_min * (t_min * vcm - o_max);
+    if sig.is_nan() || sig <= 0.0 {
+        return 0.0;
+    }
+    // The other roles hold discrete resistors: their least figures.
+    let grades = discrete_grades(stock);
+    let least = |f: fn(&(f64, f64, f64)) -> f64| {
+        let v = grades.iter().map(f).fold(f64::INFINITY, f64::min);
+        if v.is_finite() {
+            v
+        } else {
+            0.0
+        }
+    };
+    let (least_tol, least_tcr) = (least(|r| r.0), least(|r| r.1));
+    let r_min = least_discrete_value(stock);
+    let (leg_p, leg_n) = sensor.leg_ohms();
+    let share = |leg: f64| {
+        if r_min + leg > 0.0 {
+            r_min / (r_min + leg)
+        } else {
+            1.0
+        }
+    };
+    let feedback = t_min * (1.0 - 1.0 / x_lo);
+    // The offset's limits through `Gp >= x`, trimmed (drift and rejection)
+    // and untrimmed (with the initial offset).
+    let [_, drift, rejection] = input_referred_limits(need, stock, AmplifierKind::OpAmp(part));
+    let vos = opamp.vos_max_uv.abs() * 1e-6;
+    // The low end's raw half-range and so the least `out0`.
+    let s2_low = feedback * (vcm - o_max).max(0.0);
+    let raw_low = (chain_tol + chain_tcr * delta_t) * sig
+        + (least_tol + least_tcr * delta_t) * s2_low
+        + x_lo * (vos + drift + rejection);
+    let (swing_low, _) = output_swing(need, stock, AmplifierKind::OpAmp(part));
+    let out0_min = (swing_low - 2.0 * VOLTAGE_SLACK).max(need.adc.low.0 - 1e-12) + raw_low;
+    let out1_min = out0_min + x_lo * span;
+    let far_from_cm = if out1_min > vcm {
+        out1_min - vcm
+    } else if need.adc.high.0 < vcm {
+        vcm - need.adc.high.0
+    } else {
+        0.0
+    };
+    let eps = eps_cm.min(need.supply.tolerance.fraction().max(0.0));
+    let r2_lines =
+        least_tol * feedback * x_lo * span + least_tcr * delta_t * feedback * far_from_cm;
+    let floor = chain_tcr * delta_t * sig
+        + x_lo * x_lo * span / a
+        + x_lo * (drift + rejection)
+        + r2_lines * (1.0 + share(leg_n))
+        + share(leg_p) * least_tcr * delta_t * sig
+        + eps * (out0_min - x_hi * s0).max(0.0);
+    if floor.is_finite() {
+        floor * (1.0 - FLOOR_MARGIN)
+    } else {
+        0.0
+    }
+}
+
+/// The least unit cost of the finest part in the chain (`r4` and the
+/// offset divider) of a one-stage difference design on the op-amp `part`
+/// with discrete matched roles and no stocked reference at its offset
+/// node: by
+/// [`difference_chain_floor_v`], some chain resistor has the least
+/// tolerance of the chain and some the least TCR (perhaps one), with the
+/// floor at those two figures at or under the target, so the chain holds
+/// a part at least as dear as the cheaper of any two stock grades `(p, q)`
+/// with `floor(tol_p, tcr_q) <= target`, taken at the dearer of the two.
+/// The unit cost of that part; `None` when no pair of grades passes
+/// (such designs all need a reference). Where the floor does not apply
+/// every grade passes, and this is the least.
+pub(super) fn difference_chain_cost(
+    need: &Need,
+    stock: &Stock,
+    part: usize,
+    target_v: f64,
+) -> Option<f64> {
+    let grades = discrete_grades(stock);
+    let mut best: Option<f64> = None;
+    for p in &grades {
+        for q in &grades {
+            let cost = p.2.max(q.2);
+            if best.is_some_and(|b| cost >= b) {
+                continue;
+            }
+            if difference_chain_floor_v(need, stock, part, target_v, p.0, q.1) <= target_v {
+                best = Some(cost);
+            }
+        }
+    }
+    best
+}
+
 /// The least real gain `|K_act|` of any design that meets the need, from
 /// the systematic lines alone: they carry at least `share | |K_act| - |K| |
 /// S` (the part floor's argument; `share` 1 with an offset trim, 1/2
@@ -971,5 +1195,101 @@ mod tests {
             swing_floor_v(&need("none", "yield"), &stock, part, [0.0, 4.85]),
             0.0
         );
+    }
+
+    /// The chain floor of a one-stage difference design against the
+    /// analysis itself: over a grid of demo designs (grounded and
+    /// supply-divider offsets, every grade mix of the chain), each design
+    /// that passes its checks with a high-end total within a target has a
+    /// total at least the floor at its chain's least figures, for targets
+    /// from the demo's to four times it; and at the demo's target the
+    /// floor rules the coarse grade out of the chain and lets the fine one
+    /// in.
+    #[test]
+    fn difference_chain_floor_is_below_every_analysed_design() {
+        use crate::analysis::Model;
+        use crate::series::value_code;
+        use crate::shape::Role;
+        let need =
+            crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo").expect("demo need");
+        let stock = crate::stock::parse_stock(&crate::demo::stock_files()).expect("demo stock");
+        let part = stock
+            .opamps
+            .iter()
+            .position(|p| p.part_id == "OA-ZD1")
+            .expect("OA-ZD1");
+        let target = need.accuracy.max_error_pct_fs / 100.0 * need.full_scale();
+        let (coarse, fine) = ((0.01, 100e-6), (0.001, 25e-6));
+        assert!(difference_chain_floor_v(&need, &stock, part, target, coarse.0, coarse.1) > target);
+        assert!(difference_chain_floor_v(&need, &stock, part, target, fine.0, fine.1) <= target);
+        let id = |grade: &str, ohms: f64| format!("\"HR-{grade}-{}\"", value_code(ohms));
+        let grade = |fine: bool| if fine { "F01" } else { "F1" };
+        let mut checked = 0;
+        let r1s = [10.0, 16.9, 34.8, 100.0];
+        for &r1 in &r1s {
+            for mask in 0..16u32 {
+                let fine_at = |bit: u32| mask & (1 << bit) != 0;
+                // r2 from the gain, r4 from a common-mode gain of about
+                // 0.02 to 0.04 (a grounded offset) or about 0 (a divider).
+                let leg = 175.0;
+                let r2 = crate::series::Series::E96.nearest(115.2 * (r1 + leg));
+                for (divider, spread) in [(false, 1.02), (false, 1.035), (true, 1.0)] {
+                    let r3 = r1;
+                    let r4 = crate::series::Series::E96.nearest(r2 * spread);
+                    let offset = if divider {
+                        format!(
+                            r#"{{"kind": "divider", "source": "supply", "top": {}, "bottom": {}, "buffered": false}}"#,
+                            id(grade(fine_at(2)), 82500.0),
+                            id(grade(fine_at(3)), 1000.0)
+                        )
+                    } else {
+                        r#"{"kind": "ground"}"#.to_string()
+                    };
+                    let text = format!(
+                        r#"{{"format": "spanfit-design-1", "stages": [{{"shape": "difference", "amplifier": "OA-ZD1", "offset": {offset}, "resistors": {{"r1": {}, "r2": {}, "r3": {}, "r4": {}}}}}]}}"#,
+                        id(grade(fine_at(0)), r1),
+                        id("F01", r2),
+                        id(grade(fine_at(1)), r3),
+                        id(grade(fine_at(0) || !divider && fine_at(2)), r4),
+                    );
+                    let design = crate::design::parse_design(text.as_bytes(), "grid", &stock)
+                        .expect("grid design");
+                    let model = Model::new(&need, &stock, &design).expect("model");
+                    if !model.feasible() {
+                        continue;
+                    }
+                    let total = model.floor_at_ends(Basis::WorstCase)[1];
+                    let chain: Vec<(f64, f64)> = design.stages[0]
+                        .resistors
+                        .iter()
+                        .filter(|(role, _)| {
+                            matches!(role, Role::R4 | Role::OffsetTop | Role::OffsetBottom)
+                        })
+                        .map(|(_, r)| (r.tolerance_pct / 100.0, r.tcr_ppm_per_c * 1e-6))
+                        .chain(match &design.stages[0].offset {
+                            crate::design::Injection::Divider { top, bottom, .. } => vec![
+                                (top.tolerance_pct / 100.0, top.tcr_ppm_per_c * 1e-6),
+                                (bottom.tolerance_pct / 100.0, bottom.tcr_ppm_per_c * 1e-6),
+                            ],
+                            _ => Vec::new(),
+                        })
+                        .collect();
+                    let tol = chain.iter().map(|c| c.0).fold(f64::INFINITY, f64::min);
+                    let tcr = chain.iter().map(|c| c.1).fold(f64::INFINITY, f64::min);
+                    for scale in [1.0, 1.5, 2.0, 3.0, 4.0] {
+                        let t = target * scale;
+                        if total <= t {
+                            let floor = difference_chain_floor_v(&need, &stock, part, t, tol, tcr);
+                            assert!(
+                                floor <= total * (1.0 + 1e-9),
+                                "floor {floor} over the total {total} at target {t}: {text}"
+                            );
+                            checked += 1;
+                        }
+                    }
+                }
+            }
+        }
+        assert!(checked > 100, "only {checked} designs checked");
     }
 }
