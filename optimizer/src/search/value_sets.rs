@@ -123,6 +123,9 @@ struct StageScoring<'s> {
     upstream_offset: f64,
     /// The need's overall gain.
     overall_gain: f64,
+    /// Whether a trim removes the offset error (offset or two-point
+    /// calibration): the stage's offset then need not be the ideal one.
+    trimmed: bool,
 }
 
 impl Problem<'_> {
@@ -192,6 +195,71 @@ impl Problem<'_> {
             .collect();
         sort_by_effect(&mut out);
         out.truncate(CARRIED_SETS_PER_STAGE);
+        let sharing: Vec<ValueSet> = out
+            .iter()
+            .flat_map(|set| self.sharing_dividers(scoring, set))
+            .collect();
+        for set in sharing {
+            let same = |o: &ValueSet| {
+                o.resistors == set.resistors
+                    && o.fixed == set.fixed
+                    && o.offset_top == set.offset_top
+                    && o.offset_bottom == set.offset_bottom
+            };
+            if !out.iter().any(same) {
+                out.push(set);
+            }
+        }
+        out
+    }
+
+    /// A carried set's variants with an unbuffered REF divider whose
+    /// bottom is the part a carried role already places (one BOM line for
+    /// both), its top taken for a tap from [`SHARING_TAP_LOW`] of the ideal
+    /// up to the ideal: the ratio search aims at the ideal tap only and
+    /// never sees the line a shared value saves, and with a trim the offset
+    /// need not be the ideal one. Nearest the ideal tap first, at most
+    /// [`SHARING_DIVIDERS_PER_SET`]. Empty without an unbuffered REF
+    /// divider or a trim.
+    fn sharing_dividers(&self, scoring: &StageScoring<'_>, set: &ValueSet) -> Vec<ValueSet> {
+        if !(scoring.unbuffered_ref && scoring.trimmed && scoring.source_volts > 0.0) {
+            return Vec::new();
+        }
+        let ideal = scoring.offset / scoring.source_volts;
+        if !(ideal > 0.0 && ideal < 1.0) {
+            return Vec::new();
+        }
+        let grade = scoring.divider_grade;
+        let mut out = Vec::new();
+        let mut bottoms: Vec<usize> = set
+            .fixed
+            .values()
+            .filter_map(|part| grade.parts.iter().position(|p| p == part))
+            .collect();
+        bottoms.dedup();
+        for bottom in bottoms {
+            let low = grade.values[bottom];
+            // Tops for taps in [SHARING_TAP_LOW ideal, ideal], nearest the
+            // ideal first.
+            let top_at = |tap: f64| low * (1.0 - tap) / tap;
+            let (from, to) = (top_at(ideal), top_at(ideal * SHARING_TAP_LOW));
+            let start = grade.values.partition_point(|&v| v < from * (1.0 - 1e-9));
+            let tops = grade.values[start..]
+                .iter()
+                .take_while(|&&v| v <= to * (1.0 + 1e-9))
+                .count();
+            for top in start..start + tops.min(SHARING_DIVIDERS_PER_SET) {
+                if let Some(v) = self.score(
+                    scoring,
+                    set.resistors.clone(),
+                    Some((top, bottom)),
+                    None,
+                    set.fixed.clone(),
+                ) {
+                    out.push(v);
+                }
+            }
+        }
         out
     }
 
@@ -283,6 +351,7 @@ impl Problem<'_> {
                 .map(|i| group.offsets[i] * group.gains[i + 1..].iter().product::<f64>())
                 .sum(),
             overall_gain: self.need.ideal_transfer().0,
+            trimmed: self.need.accuracy.calibration != crate::need::Calibration::None,
         }
     }
 
@@ -580,6 +649,14 @@ fn network_picks(stock: &crate::stock::Stock, matched: MatchedRoles) -> Vec<Netw
 /// Dividers kept per decade of the divider's smaller resistor for an
 /// unbuffered REF divider.
 const UNBUFFERED_DIVIDERS_PER_DECADE: usize = 2;
+
+/// Lowest share of the ideal tap a sharing divider is aimed at
+/// ([`sharing_dividers`]): with a trim, a lower offset moves less with
+/// the source's tolerance while the output stays inside its limits (the
+/// analysis judges that; our rule for how far to look).
+const SHARING_TAP_LOW: f64 = 0.6;
+/// Sharing dividers kept per carried value set.
+const SHARING_DIVIDERS_PER_SET: usize = 8;
 
 /// The candidates of a stage whose REF divider is unbuffered: each of the
 /// shape's resistor sets with its own dividers and with dividers at every
