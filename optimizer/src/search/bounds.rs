@@ -281,6 +281,23 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
         .filter(|n| n.stock_qty != Some(0) && n.values.len() >= MATCHED_ROLES)
         .map(|n| (n.unit_cost - MATCHED_ROLES as f64 * least_per_role.unwrap_or(0.0)).max(0.0))
         .fold(f64::INFINITY, f64::min);
+    // Its BOM lines (floors.rs proves them): `r1`, `r2` and the filter
+    // pair's resistor on three rows, and what a design with neither a
+    // divider nor a reference adds beyond them.
+    let difference_lines: Vec<Option<floors::DifferenceLines>> = (0..problem.stock.opamps.len())
+        .map(|i| {
+            let tied = problem.pairs.tied_series(i)?;
+            floors::difference_lines(
+                need,
+                problem.stock,
+                i,
+                problem.target_v,
+                &tied,
+                least_per_role.unwrap_or(0.0),
+                line,
+            )
+        })
+        .collect();
     let networks_on_shelf = problem
         .stock
         .networks
@@ -352,7 +369,20 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
                         .map_or(f64::INFINITY, |c| {
                             (c - least_per_role.unwrap_or(0.0)).max(0.0)
                         });
-                    finest.min(reference_extra).min(network_extra)
+                    match difference_lines.get(i).copied().flatten() {
+                        // All resistors discrete (no network on the
+                        // shelf): a third line, and by offset plan a
+                        // divider's two resistors, what a plan with
+                        // neither divider nor reference adds, or a
+                        // reference.
+                        Some(lines) if two_values && lines.three_rows => {
+                            let divider = 2.0 * least_per_role.unwrap_or(0.0);
+                            line + (finest + divider)
+                                .min(finest + lines.no_divider_extra)
+                                .min(reference_extra)
+                        }
+                        _ => finest.min(reference_extra).min(network_extra),
+                    }
                 }
                 _ => 0.0,
             };

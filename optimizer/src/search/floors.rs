@@ -698,92 +698,328 @@ pub(super) fn difference_chain_floor_v(
     chain_tol: f64,
     chain_tcr: f64,
 ) -> f64 {
-    let sensor = &need.sensor;
-    let applies = need.accuracy.basis == Basis::WorstCase
-        && need.accuracy.calibration == Calibration::Offset
-        && sensor.output == SensorOutput::Differential
-        && sensor.excitation == Excitation::Independent
-        && !need.supply.ratiometric;
-    let Some(opamp) = stock.opamps.get(part) else {
-        return 0.0;
-    };
-    let vcm = sensor.common_mode.0;
-    let eps_cm = sensor.common_mode_tolerance.fraction();
-    let (s0, s1) = (sensor.signal_low.0, sensor.signal_high.0);
-    let span = s1 - s0;
-    let (k, _) = need.ideal_transfer();
-    let a = opamp.aol_min.ratio();
-    if !(applies && vcm > 0.0 && eps_cm > 0.0 && s0 >= 0.0 && span > 0.0 && k > 0.0) {
-        return 0.0;
-    }
-    let x_lo = k - target_v / span;
-    let x_hi = k + target_v / span;
-    let g = target_v / (eps_cm * vcm);
-    if !(x_lo > 1.0 && a.is_finite() && a > x_hi + g) {
-        return 0.0;
-    }
-    let delta_t = need.max_delta_t();
-    let t_min = (a - x_hi - g) / (a + 1.0);
-    let beta_min = x_lo / (x_lo + g + 1.0);
-    let o_max = need.adc.high.0 + 1e-12 - x_lo * span;
-    let sig = beta_min * (t_min * vcm - o_max);
-    if sig.is_nan() || sig <= 0.0 {
-        return 0.0;
-    }
-    // The other roles hold discrete resistors: their least figures.
-    let grades = discrete_grades(stock);
-    let least = |f: fn(&(f64, f64, f64)) -> f64| {
-        let v = grades.iter().map(f).fold(f64::INFINITY, f64::min);
-        if v.is_finite() {
-            v
-        } else {
-            0.0
+    DifferenceStage::new(need, stock, part, target_v)
+        .map_or(0.0, |d| d.floor(chain_tol, chain_tcr, None, true))
+}
+
+/// The floor of [`difference_chain_floor_v`] for a design whose `r1` has
+/// relative tolerance `tol`, TCR `tcr` (per degC) and value `ohms`, its
+/// chain anything on the shelf, its offset node anything (a reference
+/// too): the chain at the shelf's least figures, and without the
+/// common-mode and supply term (the one step of the proof that needs no
+/// reference). `0` where the proof does not apply. ([`difference_lines`]
+/// judges by the same floor, built once.)
+#[cfg(test)]
+pub(super) fn difference_r1_floor_v(
+    need: &Need,
+    stock: &Stock,
+    part: usize,
+    target_v: f64,
+    r1: (f64, f64, f64),
+) -> f64 {
+    DifferenceStage::new(need, stock, part, target_v)
+        .map_or(0.0, |d| d.floor(d.least_tol, d.least_tcr, Some(r1), false))
+}
+
+/// What the proof of [`difference_chain_floor_v`] knows of every design
+/// that meets the need with one difference stage on one op-amp part.
+struct DifferenceStage<'a> {
+    need: &'a Need,
+    stock: &'a Stock,
+    part: usize,
+    /// The op-amp's minimum open-loop gain.
+    a: f64,
+    /// Common mode, its tolerance (a fraction), the low end of the signal
+    /// and the span.
+    vcm: f64,
+    eps_cm: f64,
+    s0: f64,
+    span: f64,
+    /// The real gain's range, and the most the common-mode gain can be.
+    x_lo: f64,
+    x_hi: f64,
+    g: f64,
+    t_min: f64,
+    beta_min: f64,
+    /// The most the low-end output can be (the ADC-window check).
+    o_max: f64,
+    /// The least the chain's sensitivities sum to, at both ends.
+    sig: f64,
+    /// The discrete shelf's least tolerance, TCR and value.
+    least_tol: f64,
+    least_tcr: f64,
+    r_min: f64,
+    /// The sensor's legs (+, -).
+    legs: (f64, f64),
+}
+
+impl<'a> DifferenceStage<'a> {
+    /// `None` where the proof does not apply.
+    fn new(need: &'a Need, stock: &'a Stock, part: usize, target_v: f64) -> Option<Self> {
+        let sensor = &need.sensor;
+        let applies = need.accuracy.basis == Basis::WorstCase
+            && need.accuracy.calibration == Calibration::Offset
+            && sensor.output == SensorOutput::Differential
+            && sensor.excitation == Excitation::Independent
+            && !need.supply.ratiometric;
+        let opamp = stock.opamps.get(part)?;
+        let vcm = sensor.common_mode.0;
+        let eps_cm = sensor.common_mode_tolerance.fraction();
+        let (s0, s1) = (sensor.signal_low.0, sensor.signal_high.0);
+        let span = s1 - s0;
+        let (k, _) = need.ideal_transfer();
+        let a = opamp.aol_min.ratio();
+        if !(applies && vcm > 0.0 && eps_cm > 0.0 && s0 >= 0.0 && span > 0.0 && k > 0.0) {
+            return None;
         }
-    };
-    let (least_tol, least_tcr) = (least(|r| r.0), least(|r| r.1));
-    let r_min = least_discrete_value(stock);
-    let (leg_p, leg_n) = sensor.leg_ohms();
-    let share = |leg: f64| {
-        if r_min + leg > 0.0 {
-            r_min / (r_min + leg)
+        let x_lo = k - target_v / span;
+        let x_hi = k + target_v / span;
+        let g = target_v / (eps_cm * vcm);
+        if !(x_lo > 1.0 && a.is_finite() && a > x_hi + g) {
+            return None;
+        }
+        let t_min = (a - x_hi - g) / (a + 1.0);
+        let beta_min = x_lo / (x_lo + g + 1.0);
+        let o_max = need.adc.high.0 + 1e-12 - x_lo * span;
+        let sig = beta_min * (t_min * vcm - o_max);
+        if sig.is_nan() || sig <= 0.0 {
+            return None;
+        }
+        // The other roles hold discrete resistors: their least figures.
+        let grades = discrete_grades(stock);
+        let least = |f: fn(&(f64, f64, f64)) -> f64| {
+            let v = grades.iter().map(f).fold(f64::INFINITY, f64::min);
+            if v.is_finite() {
+                v
+            } else {
+                0.0
+            }
+        };
+        Some(DifferenceStage {
+            need,
+            stock,
+            part,
+            a,
+            vcm,
+            eps_cm,
+            s0,
+            span,
+            x_lo,
+            x_hi,
+            g,
+            t_min,
+            beta_min,
+            o_max,
+            sig,
+            least_tol: least(|r| r.0),
+            least_tcr: least(|r| r.1),
+            r_min: least_discrete_value(stock),
+            legs: sensor.leg_ohms(),
+        })
+    }
+
+    /// `r / (r + leg)`, 1 with both zero.
+    fn share(r: f64, leg: f64) -> f64 {
+        if r + leg > 0.0 {
+            r / (r + leg)
         } else {
             1.0
         }
-    };
-    let feedback = t_min * (1.0 - 1.0 / x_lo);
-    // The offset's limits through `Gp >= x`, trimmed (drift and rejection)
-    // and untrimmed (with the initial offset).
-    let [_, drift, rejection] = input_referred_limits(need, stock, AmplifierKind::OpAmp(part));
-    let vos = opamp.vos_max_uv.abs() * 1e-6;
-    // The low end's raw half-range and so the least `out0`.
-    let s2_low = feedback * (vcm - o_max).max(0.0);
-    let raw_low = (chain_tol + chain_tcr * delta_t) * sig
-        + (least_tol + least_tcr * delta_t) * s2_low
-        + x_lo * (vos + drift + rejection);
-    let (swing_low, _) = output_swing(need, stock, AmplifierKind::OpAmp(part));
-    let out0_min = (swing_low - 2.0 * VOLTAGE_SLACK).max(need.adc.low.0 - 1e-12) + raw_low;
-    let out1_min = out0_min + x_lo * span;
-    let far_from_cm = if out1_min > vcm {
-        out1_min - vcm
-    } else if need.adc.high.0 < vcm {
-        vcm - need.adc.high.0
-    } else {
-        0.0
-    };
-    let eps = eps_cm.min(need.supply.tolerance.fraction().max(0.0));
-    let r2_lines =
-        least_tol * feedback * x_lo * span + least_tcr * delta_t * feedback * far_from_cm;
-    let floor = chain_tcr * delta_t * sig
-        + x_lo * x_lo * span / a
-        + x_lo * (drift + rejection)
-        + r2_lines * (1.0 + share(leg_n))
-        + share(leg_p) * least_tcr * delta_t * sig
-        + eps * (out0_min - x_hi * s0).max(0.0);
-    if floor.is_finite() {
-        floor * (1.0 - FLOOR_MARGIN)
-    } else {
-        0.0
     }
+
+    /// The floor with the chain at `chain_tol`, `chain_tcr`, `r1` at
+    /// `(tol, tcr, ohms)` (the shelf's least figures and value when
+    /// `None`), with the common-mode and supply term where `no_reference`.
+    fn floor(
+        &self,
+        chain_tol: f64,
+        chain_tcr: f64,
+        r1: Option<(f64, f64, f64)>,
+        no_reference: bool,
+    ) -> f64 {
+        let need = self.need;
+        let (vcm, x_lo, x_hi, span, sig) = (self.vcm, self.x_lo, self.x_hi, self.span, self.sig);
+        let (least_tol, least_tcr) = (self.least_tol, self.least_tcr);
+        let delta_t = need.max_delta_t();
+        let (leg_p, leg_n) = self.legs;
+        let (r1_tol, r1_tcr, r1_ohms) = r1.unwrap_or((least_tol, least_tcr, self.r_min));
+        let feedback = self.t_min * (1.0 - 1.0 / x_lo);
+        // The offset's limits through `Gp >= x`, trimmed (drift and
+        // rejection) and untrimmed (with the initial offset).
+        let kind = AmplifierKind::OpAmp(self.part);
+        let [_, drift, rejection] = input_referred_limits(need, self.stock, kind);
+        let vos = self.stock.opamps[self.part].vos_max_uv.abs() * 1e-6;
+        // The low end's raw half-range and so the least `out0`.
+        let s2_low = feedback * (vcm - self.o_max).max(0.0);
+        let raw_low = (chain_tol + chain_tcr * delta_t) * sig
+            + (least_tol + least_tcr * delta_t) * s2_low
+            + x_lo * (vos + drift + rejection);
+        let (swing_low, _) = output_swing(need, self.stock, kind);
+        let out0_min = (swing_low - 2.0 * VOLTAGE_SLACK).max(need.adc.low.0 - 1e-12) + raw_low;
+        let out1_min = out0_min + x_lo * span;
+        let far_from_cm = if out1_min > vcm {
+            out1_min - vcm
+        } else if need.adc.high.0 < vcm {
+            vcm - need.adc.high.0
+        } else {
+            0.0
+        };
+        // `r2`'s tolerance and TCR lines per unit of each, and `r1`'s
+        // share of them.
+        let (span_move, end_move) = (feedback * x_lo * span, delta_t * feedback * far_from_cm);
+        let r2_lines = least_tol * span_move + least_tcr * end_move;
+        let r1_lines = Self::share(r1_ohms, leg_n) * (r1_tol * span_move + r1_tcr * end_move);
+        let common = if no_reference {
+            let eps = self.eps_cm.min(need.supply.tolerance.fraction().max(0.0));
+            eps * (out0_min - x_hi * self.s0).max(0.0)
+        } else {
+            0.0
+        };
+        let floor = chain_tcr * delta_t * sig
+            + x_lo * x_lo * span / self.a
+            + x_lo * (drift + rejection)
+            + r2_lines
+            + r1_lines
+            + Self::share(self.r_min, leg_p) * least_tcr * delta_t * sig
+            + common;
+        if floor.is_finite() {
+            floor * (1.0 - FLOOR_MARGIN)
+        } else {
+            0.0
+        }
+    }
+}
+
+/// What the BOM lines of a one-stage difference design on the op-amp
+/// `part` must be, given the filter pair's series resistor rows `tied`
+/// (every row the pair rule may take for the part: relative tolerance,
+/// TCR per degC, value; `None` when the design may get another pair or
+/// none), for designs whose resistors are all discrete.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) struct DifferenceLines {
+    /// `r1`, `r2` and the pair's series resistor are three different
+    /// resistor rows (three BOM lines).
+    pub(super) three_rows: bool,
+    /// With three rows, what a design with no offset divider and no
+    /// reference (grounded or straight from the supply) adds beyond them,
+    /// the least-cost roles and the finest `r2` and chain part: one more
+    /// line, or the dearer `r1` that the one way left to three rows asks.
+    pub(super) no_divider_extra: f64,
+}
+
+/// [`DifferenceLines`] of a part, or `None` where nothing is proven.
+///
+/// Proof (the netlist and bounds of [`difference_chain_floor_v`]). Write
+/// `P1`, `P2`, `P3` for the rows of `r1`, `r2` and the pair's resistor.
+/// - `P1 != P2`: one value in `r1` and `r2` gives
+///   `gamma = R1 / (R1 + r2) >= 1/2` and `x <= Gp <= 1 / gamma <= 2`,
+///   under `x_lo` when that is over 2.
+/// - `P2 != P3`: `r2` is the stage's feedback resistor, and the
+///   loop-gain floor at a tied row's tolerance is over the target.
+/// - `P1 != P3`: [`difference_r1_floor_v`] at a tied row's figures and
+///   value is over the target.
+///
+/// With exactly those three rows and no divider (so `R4 = r4`), `r3` and
+/// `r4` take rows among them:
+/// - `r4 = P3`: only where a tied row passes the chain floor;
+/// - `r4 = P1` (`r4` and `r1` one value `v`): `1 - beta <= (1 + g) / x_lo`
+///   (from `Gp (1 - gamma - beta) <= g`, `Gp >= x_lo`, `gamma <= 1 / x_lo`)
+///   asks `v >= R3 (x_lo / (1 + g) - 1)` with `R3 >= leg + rmin`, and
+///   `gamma <= 1 / x_lo` asks `r2 >= (v + leg) (x_lo - 1)`: impossible
+///   when that is over the shelf's largest value;
+/// - `r4 = P2, r3 = P1`: `R1 = R3` and `r2 = r4` make `beta = 1 - gamma`,
+///   a common-mode gain of exactly 0, so the low-end output is `x s0`
+///   grounded (under the swing and window limits when `x_hi s0` is) or
+///   `x s0 + T Vs` from the supply (over `o_max` when `T_min Vs` is);
+/// - `r4 = P2, r3 = P2`: `R3 >= r2 = R4`, so `beta <= 1/2` and `|Gcm| =
+///   Gp (1 - gamma - beta) >= x_lo / 2 - 1`, over `g` when that is;
+/// - `r4 = P2, r3 = P3`: `Gcm = x gamma (1 - R3 / R1)` and `x gamma = T
+///   beta`, so `R1 >= R3 / (1 + g / (T_min beta_min))` with `R3` at least
+///   the least tied value plus the leg: `r1` at least that less its leg,
+///   of a grade whose `r1` floor at that value passes.
+pub(super) fn difference_lines(
+    need: &Need,
+    stock: &Stock,
+    part: usize,
+    target_v: f64,
+    tied: &[(f64, f64, f64)],
+    least_per_role: f64,
+    line: f64,
+) -> Option<DifferenceLines> {
+    let d = DifferenceStage::new(need, stock, part, target_v)?;
+    if tied.is_empty() || d.x_lo <= 2.0 {
+        return None;
+    }
+    // The floors rise with the tolerance, the TCR and `r1`'s value: each
+    // grade of the tied rows is judged once, at its least value.
+    let r1_fails = |tol: f64, tcr: f64, ohms: f64| {
+        d.floor(d.least_tol, d.least_tcr, Some((tol, tcr, ohms)), false) > target_v
+    };
+    let mut tied_grades: Vec<(f64, f64, f64)> = Vec::new();
+    for &(tol, tcr, ohms) in tied {
+        match tied_grades.iter_mut().find(|g| g.0 == tol && g.1 == tcr) {
+            Some(g) => g.2 = g.2.min(ohms),
+            None => tied_grades.push((tol, tcr, ohms)),
+        }
+    }
+    let three_rows = tied_grades.iter().all(|&(tol, tcr, ohms)| {
+        loop_gain_floor_with_v(need, stock, 1, part, tol) > target_v && r1_fails(tol, tcr, ohms)
+    });
+    if !three_rows {
+        return None;
+    }
+    let (leg_p, leg_n) = d.legs;
+    let r_max = stock
+        .resistors
+        .iter()
+        .filter(|r| r.stock_qty != Some(0))
+        .map(|r| r.value.0)
+        .fold(0.0, f64::max);
+    // Each way to three rows left open adds what it must (0: nothing
+    // proven).
+    let mut extra = line;
+    // r4 = P3.
+    if tied_grades
+        .iter()
+        .any(|&(tol, tcr, _)| d.floor(tol, tcr, None, true) <= target_v)
+    {
+        extra = 0.0;
+    }
+    // r4 = P1.
+    let c = (1.0 + d.g) / d.x_lo;
+    let v_min = (leg_p + d.r_min) * (1.0 / c - 1.0);
+    if !(c < 1.0 && (v_min + leg_n) * (d.x_lo - 1.0) > r_max) {
+        extra = 0.0;
+    }
+    // r4 = P2, r3 = P1: grounded, or straight from the supply.
+    let (swing_low, _) = output_swing(need, stock, AmplifierKind::OpAmp(part));
+    let floor_low = (swing_low - 2.0 * VOLTAGE_SLACK).max(need.adc.low.0 - 1e-12);
+    let grounded_fails = d.x_hi * d.s0 < floor_low;
+    let supply_v = need.supply.positive.0 * (1.0 - need.supply.tolerance.fraction().abs());
+    let supplied_fails = d.t_min * supply_v + d.x_lo * d.s0 > d.o_max;
+    if !(grounded_fails && supplied_fails) {
+        extra = 0.0;
+    }
+    // r4 = P2, r3 = P2.
+    if d.x_lo / 2.0 - 1.0 <= d.g {
+        extra = 0.0;
+    }
+    // r4 = P2, r3 = P3: r1 at least `r1_lo`, of a grade that passes there.
+    let least_tied = tied.iter().map(|t| t.2).fold(f64::INFINITY, f64::min);
+    let delta = d.g / (d.t_min * d.beta_min);
+    let r1_lo = ((least_tied + leg_p) / (1.0 + delta) - leg_n).max(d.r_min);
+    // Judged at `r1_lo` itself, below every value it may take: a grade
+    // whose floor passes there is kept.
+    let r1_cost = discrete_grades(stock)
+        .into_iter()
+        .filter(|&(tol, tcr, _)| !r1_fails(tol, tcr, r1_lo))
+        .map(|(_, _, cost)| cost)
+        .fold(f64::INFINITY, f64::min);
+    extra = extra.min((r1_cost - least_per_role).max(0.0));
+    Some(DifferenceLines {
+        three_rows,
+        no_divider_extra: extra,
+    })
 }
 
 /// The least unit cost of the finest part in the chain (`r4` and the
@@ -1225,7 +1461,7 @@ mod tests {
         let id = |grade: &str, ohms: f64| format!("\"HR-{grade}-{}\"", value_code(ohms));
         let grade = |fine: bool| if fine { "F01" } else { "F1" };
         let mut checked = 0;
-        let r1s = [10.0, 16.9, 34.8, 100.0];
+        let r1s = [10.0, 16.9, 34.8, 100.0, 301.0, 1000.0];
         for &r1 in &r1s {
             for mask in 0..16u32 {
                 let fine_at = |bit: u32| mask & (1 << bit) != 0;
@@ -1233,13 +1469,19 @@ mod tests {
                 // 0.02 to 0.04 (a grounded offset) or about 0 (a divider).
                 let leg = 175.0;
                 let r2 = crate::series::Series::E96.nearest(115.2 * (r1 + leg));
-                for (divider, spread) in [(false, 1.02), (false, 1.035), (true, 1.0)] {
+                for (divider, spread, source) in [
+                    (false, 1.02, "supply"),
+                    (false, 1.035, "supply"),
+                    (true, 1.0, "supply"),
+                    (true, 1.0, "VR-125"),
+                ] {
                     let r3 = r1;
                     let r4 = crate::series::Series::E96.nearest(r2 * spread);
                     let offset = if divider {
+                        let top = if source == "supply" { 82500.0 } else { 20000.0 };
                         format!(
-                            r#"{{"kind": "divider", "source": "supply", "top": {}, "bottom": {}, "buffered": false}}"#,
-                            id(grade(fine_at(2)), 82500.0),
+                            r#"{{"kind": "divider", "source": "{source}", "top": {}, "bottom": {}, "buffered": false}}"#,
+                            id(grade(fine_at(2)), top),
                             id(grade(fine_at(3)), 1000.0)
                         )
                     } else {
@@ -1276,13 +1518,26 @@ mod tests {
                         .collect();
                     let tol = chain.iter().map(|c| c.0).fold(f64::INFINITY, f64::min);
                     let tcr = chain.iter().map(|c| c.1).fold(f64::INFINITY, f64::min);
+                    let r1 = &design.stages[0].resistors[&Role::R1];
+                    let r1_figures = (r1.tolerance_pct / 100.0, r1.tcr_ppm_per_c * 1e-6, r1.ohms);
+                    let referenced = source != "supply" && divider;
                     for scale in [1.0, 1.5, 2.0, 3.0, 4.0] {
                         let t = target * scale;
                         if total <= t {
-                            let floor = difference_chain_floor_v(&need, &stock, part, t, tol, tcr);
+                            // The chain floor holds without a reference.
+                            if !referenced {
+                                let floor =
+                                    difference_chain_floor_v(&need, &stock, part, t, tol, tcr);
+                                assert!(
+                                    floor <= total * (1.0 + 1e-9),
+                                    "floor {floor} over the total {total} at target {t}: {text}"
+                                );
+                            }
+                            // The r1 floor holds whatever the offset.
+                            let floor = difference_r1_floor_v(&need, &stock, part, t, r1_figures);
                             assert!(
                                 floor <= total * (1.0 + 1e-9),
-                                "floor {floor} over the total {total} at target {t}: {text}"
+                                "r1 floor {floor} over the total {total} at target {t}: {text}"
                             );
                             checked += 1;
                         }
@@ -1291,5 +1546,42 @@ mod tests {
             }
         }
         assert!(checked > 100, "only {checked} designs checked");
+    }
+
+    /// The demo's lines: `r1`, `r2` and the filter's resistor on three
+    /// rows, and a design with neither divider nor reference either takes
+    /// a fourth line or a fine `r1` (the one way left to three rows with
+    /// `r3` on the filter's row asks `r1` near the bridge's leg and more).
+    #[test]
+    fn the_demo_difference_stage_holds_three_rows() {
+        let need =
+            crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo").expect("demo need");
+        let stock = crate::stock::parse_stock(&crate::demo::stock_files()).expect("demo stock");
+        let part = stock
+            .opamps
+            .iter()
+            .position(|p| p.part_id == "OA-ZD1")
+            .expect("OA-ZD1");
+        let target = need.accuracy.max_error_pct_fs / 100.0 * need.full_scale();
+        let pairs = super::super::pair::FilterPairs::new(&need, &stock);
+        let tied = pairs.tied_series(part).expect("the demo's pair is fixed");
+        assert!(!tied.is_empty());
+        assert!(tied.iter().all(|t| t.2 >= 300.0 * 0.99), "{tied:?}");
+        let least = stock
+            .resistors
+            .iter()
+            .map(|r| r.unit_cost)
+            .fold(f64::INFINITY, f64::min);
+        let lines = difference_lines(&need, &stock, part, target, &tied, least, 0.05)
+            .expect("proven on the demo");
+        assert!(lines.three_rows);
+        let fine_extra = 0.045 - 0.004;
+        assert!(
+            (lines.no_divider_extra - fine_extra).abs() < 1e-9,
+            "{lines:?}"
+        );
+        // A coarse r1 at the filter's least value would miss by far.
+        let coarse = (0.01, 100e-6, 300.0);
+        assert!(difference_r1_floor_v(&need, &stock, part, target, coarse) > 1.3 * target);
     }
 }

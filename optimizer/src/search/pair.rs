@@ -287,6 +287,38 @@ impl<'s> FilterPairs<'s> {
         entry.map(|e| e.0).unwrap_or_default()
     }
 
+    /// The series resistors the pair of every design whose output the
+    /// op-amp `part` drives is taken from, as (relative tolerance, TCR per
+    /// degC, ohms): the rows of the part's pairs of the least price
+    /// ([`Choice::tied`]). `None` where a design may get another pair or
+    /// none: a sampling input (the pair then depends on the noise gain),
+    /// no pair for every design (a zero floor), or a resistor held in
+    /// limited quantity (a design may use the tied one up).
+    pub(crate) fn tied_series(&self, part: usize) -> Option<Vec<(f64, f64, f64)>> {
+        if self.sampling || self.stock.resistors.iter().any(|r| r.stock_qty.is_some()) {
+            return None;
+        }
+        let (floor, choice) = self.opamps.get(part)?;
+        if floor.parts == 0 {
+            return None;
+        }
+        let choice = choice.as_ref()?;
+        Some(
+            choice
+                .tied
+                .iter()
+                .map(|p| {
+                    let r = &p.series;
+                    (
+                        r.tolerance_pct.abs() / 100.0,
+                        r.tcr_ppm_per_c.abs() * 1e-6,
+                        r.ohms,
+                    )
+                })
+                .collect(),
+        )
+    }
+
     /// The least floor over the parts that may drive (usable op-amps or
     /// in-amps).
     pub(crate) fn least_floor(&self, kinds: impl Iterator<Item = AmplifierKind>) -> PairFloor {
