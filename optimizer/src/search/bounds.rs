@@ -381,7 +381,12 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
                                 .min(finest + lines.no_divider_extra)
                                 .min(reference_extra)
                         }
-                        _ => finest.min(reference_extra).min(network_extra),
+                        // A network package holds `r2` too: its price
+                        // over the least-cost roles covers the finest
+                        // feedback resistor's extra already counted.
+                        _ => finest
+                            .min(reference_extra)
+                            .min((network_extra - feedback).max(0.0)),
                     }
                 }
                 _ => 0.0,
