@@ -745,6 +745,8 @@ struct DifferenceStage<'a> {
     o_max: f64,
     /// The least the chain's sensitivities sum to, at both ends.
     sig: f64,
+    /// The discrete shelf's grades ([`discrete_grades`]).
+    grades: Vec<(f64, f64, f64)>,
     /// The discrete shelf's least tolerance, TCR and value.
     least_tol: f64,
     least_tcr: f64,
@@ -795,6 +797,7 @@ impl<'a> DifferenceStage<'a> {
                 0.0
             }
         };
+        let (least_tol, least_tcr) = (least(|r| r.0), least(|r| r.1));
         Some(DifferenceStage {
             need,
             stock,
@@ -811,8 +814,9 @@ impl<'a> DifferenceStage<'a> {
             beta_min,
             o_max,
             sig,
-            least_tol: least(|r| r.0),
-            least_tcr: least(|r| r.1),
+            grades,
+            least_tol,
+            least_tcr,
             r_min: least_discrete_value(stock),
             legs: sensor.leg_ohms(),
         })
@@ -916,8 +920,9 @@ pub(super) struct DifferenceLines {
 ///   under `x_lo` when that is over 2.
 /// - `P2 != P3`: `r2` is the stage's feedback resistor, and the
 ///   loop-gain floor at a tied row's tolerance is over the target.
-/// - `P1 != P3`: [`difference_r1_floor_v`] at a tied row's figures and
-///   value is over the target.
+/// - `P1 != P3`: the `r1` floor (`DifferenceStage::floor` with `r1`'s
+///   figures, without the common-mode and supply term) at a tied row's
+///   figures and value is over the target.
 ///
 /// With exactly those three rows and no divider (so `R4 = r4`), `r3` and
 /// `r4` take rows among them:
@@ -1010,10 +1015,11 @@ pub(super) fn difference_lines(
     let r1_lo = ((least_tied + leg_p) / (1.0 + delta) - leg_n).max(d.r_min);
     // Judged at `r1_lo` itself, below every value it may take: a grade
     // whose floor passes there is kept.
-    let r1_cost = discrete_grades(stock)
-        .into_iter()
-        .filter(|&(tol, tcr, _)| !r1_fails(tol, tcr, r1_lo))
-        .map(|(_, _, cost)| cost)
+    let r1_cost = d
+        .grades
+        .iter()
+        .filter(|&&(tol, tcr, _)| !r1_fails(tol, tcr, r1_lo))
+        .map(|g| g.2)
         .fold(f64::INFINITY, f64::min);
     extra = extra.min((r1_cost - least_per_role).max(0.0));
     Some(DifferenceLines {
@@ -1433,6 +1439,21 @@ mod tests {
         );
     }
 
+    /// The demo need and stock, the precise op-amp's index and the target
+    /// in volts.
+    fn demo_zd1() -> (Need, Stock, usize, f64) {
+        let need =
+            crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo").expect("demo need");
+        let stock = crate::stock::parse_stock(&crate::demo::stock_files()).expect("demo stock");
+        let part = stock
+            .opamps
+            .iter()
+            .position(|p| p.part_id == "OA-ZD1")
+            .expect("OA-ZD1");
+        let target = need.accuracy.max_error_pct_fs / 100.0 * need.full_scale();
+        (need, stock, part, target)
+    }
+
     /// The chain floor of a one-stage difference design against the
     /// analysis itself: over a grid of demo designs (grounded and
     /// supply-divider offsets, every grade mix of the chain), each design
@@ -1446,15 +1467,7 @@ mod tests {
         use crate::analysis::Model;
         use crate::series::value_code;
         use crate::shape::Role;
-        let need =
-            crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo").expect("demo need");
-        let stock = crate::stock::parse_stock(&crate::demo::stock_files()).expect("demo stock");
-        let part = stock
-            .opamps
-            .iter()
-            .position(|p| p.part_id == "OA-ZD1")
-            .expect("OA-ZD1");
-        let target = need.accuracy.max_error_pct_fs / 100.0 * need.full_scale();
+        let (need, stock, part, target) = demo_zd1();
         let (coarse, fine) = ((0.01, 100e-6), (0.001, 25e-6));
         assert!(difference_chain_floor_v(&need, &stock, part, target, coarse.0, coarse.1) > target);
         assert!(difference_chain_floor_v(&need, &stock, part, target, fine.0, fine.1) <= target);
@@ -1554,15 +1567,7 @@ mod tests {
     /// `r3` on the filter's row asks `r1` near the bridge's leg and more).
     #[test]
     fn the_demo_difference_stage_holds_three_rows() {
-        let need =
-            crate::need::parse_need(crate::demo::NEED_TOML.as_bytes(), "demo").expect("demo need");
-        let stock = crate::stock::parse_stock(&crate::demo::stock_files()).expect("demo stock");
-        let part = stock
-            .opamps
-            .iter()
-            .position(|p| p.part_id == "OA-ZD1")
-            .expect("OA-ZD1");
-        let target = need.accuracy.max_error_pct_fs / 100.0 * need.full_scale();
+        let (need, stock, part, target) = demo_zd1();
         let pairs = super::super::pair::FilterPairs::new(&need, &stock);
         let tied = pairs.tied_series(part).expect("the demo's pair is fixed");
         assert!(!tied.is_empty());
