@@ -247,15 +247,6 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
                 .collect()
         })
         .collect();
-    // One value in every role of a single-section stage gives a stage gain
-    // of at most 2 in size (non-inverting and summed: `1 + rf/rg` of 2 at
-    // most times the + pin's share; inverting: `rf / (ri + source)`, 1 at
-    // most; difference: `(1 + r2/r1') r4' / (r3' + r4')`, 2 at most; a real
-    // part gives `T <= 1` of it, floors.rs). One value in the whole design
-    // thus gives `2^n` at most over `n` stages; a design whose real gain
-    // must be above that ([`floors::least_real_gain`]) holds two resistor
-    // values, so two BOM lines where every resistor part holds one value
-    // (no matched network on the shelf).
     // A one-stage difference design's chain (`r4` and the offset
     // divider) per op-amp part: the least unit cost of its finest part
     // where the matched roles are discrete and no reference drives the
@@ -298,6 +289,15 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
             )
         })
         .collect();
+    // One value in every role of a single-section stage gives a stage gain
+    // of at most 2 in size (non-inverting and summed: `1 + rf/rg` of 2 at
+    // most times the + pin's share; inverting: `rf / (ri + source)`, 1 at
+    // most; difference: `(1 + r2/r1') r4' / (r3' + r4')`, 2 at most; a real
+    // part gives `T <= 1` of it, floors.rs). One value in the whole design
+    // thus gives `2^n` at most over `n` stages; a design whose real gain
+    // must be above that ([`floors::least_real_gain`]) holds two resistor
+    // values, so two BOM lines where every resistor part holds one value
+    // (no matched network on the shelf).
     let networks_on_shelf = problem
         .stock
         .networks
