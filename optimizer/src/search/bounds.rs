@@ -275,7 +275,7 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
     // Its BOM lines (floors.rs proves them): `r1`, `r2` and the filter
     // pair's resistor on three rows, and what a design with neither a
     // divider nor a reference adds beyond them.
-    let difference_lines: Vec<Option<floors::DifferenceLines>> = (0..problem.stock.opamps.len())
+    let difference_lines: Vec<Option<f64>> = (0..problem.stock.opamps.len())
         .map(|i| {
             let tied = problem.pairs.tied_series(i)?;
             floors::difference_lines(
@@ -375,10 +375,10 @@ pub(super) fn space_bound(problem: &Problem<'_>) -> SpaceBound {
                         // divider's two resistors, what a plan with
                         // neither divider nor reference adds, or a
                         // reference.
-                        Some(lines) if two_values && lines.three_rows => {
+                        Some(no_divider) if two_values => {
                             let divider = 2.0 * least_per_role.unwrap_or(0.0);
                             line + (finest + divider)
-                                .min(finest + lines.no_divider_extra)
+                                .min(finest + no_divider)
                                 .min(reference_extra)
                         }
                         // A network package holds `r2` too: its price

@@ -894,24 +894,16 @@ impl<'a> DifferenceStage<'a> {
     }
 }
 
-/// What the BOM lines of a one-stage difference design on the op-amp
-/// `part` must be, given the filter pair's series resistor rows `tied`
-/// (every row the pair rule may take for the part: relative tolerance,
-/// TCR per degC, value; `None` when the design may get another pair or
-/// none), for designs whose resistors are all discrete.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub(super) struct DifferenceLines {
-    /// `r1`, `r2` and the pair's series resistor are three different
-    /// resistor rows (three BOM lines).
-    pub(super) three_rows: bool,
-    /// With three rows, what a design with no offset divider and no
-    /// reference (grounded or straight from the supply) adds beyond them,
-    /// the least-cost roles and the finest `r2` and chain part: one more
-    /// line, or the dearer `r1` that the one way left to three rows asks.
-    pub(super) no_divider_extra: f64,
-}
-
-/// [`DifferenceLines`] of a part, or `None` where nothing is proven.
+/// The BOM lines of a one-stage difference design on the op-amp `part`
+/// whose resistors are all discrete, given the filter pair's series
+/// resistor rows `tied` (every row the pair rule may take for the part:
+/// relative tolerance, TCR per degC, value): `Some(extra)` where `r1`,
+/// `r2` and the pair's resistor are proven three different rows (three
+/// BOM lines), `extra` being what a design with no offset divider and no
+/// reference (grounded or straight from the supply) adds beyond them, the
+/// least-cost roles and the finest `r2` and chain part (one more line, or
+/// the dearer `r1` that the one way left to three rows asks); `None`
+/// where nothing is proven.
 ///
 /// Proof (the netlist and bounds of [`difference_chain_floor_v`]). Write
 /// `P1`, `P2`, `P3` for the rows of `r1`, `r2` and the pair's resistor.
@@ -950,7 +942,7 @@ pub(super) fn difference_lines(
     tied: &[(f64, f64, f64)],
     least_per_role: f64,
     line: f64,
-) -> Option<DifferenceLines> {
+) -> Option<f64> {
     let d = DifferenceStage::new(need, stock, part, target_v)?;
     if tied.is_empty() || d.x_lo <= 2.0 {
         return None;
@@ -1022,10 +1014,7 @@ pub(super) fn difference_lines(
         .map(|g| g.2)
         .fold(f64::INFINITY, f64::min);
     extra = extra.min((r1_cost - least_per_role).max(0.0));
-    Some(DifferenceLines {
-        three_rows,
-        no_divider_extra: extra,
-    })
+    Some(extra)
 }
 
 /// The least unit cost of the finest part in the chain (`r4` and the
@@ -1577,14 +1566,10 @@ mod tests {
             .iter()
             .map(|r| r.unit_cost)
             .fold(f64::INFINITY, f64::min);
-        let lines = difference_lines(&need, &stock, part, target, &tied, least, 0.05)
-            .expect("proven on the demo");
-        assert!(lines.three_rows);
+        let extra = difference_lines(&need, &stock, part, target, &tied, least, 0.05)
+            .expect("three rows proven on the demo");
         let fine_extra = 0.045 - 0.004;
-        assert!(
-            (lines.no_divider_extra - fine_extra).abs() < 1e-9,
-            "{lines:?}"
-        );
+        assert!((extra - fine_extra).abs() < 1e-9, "{extra}");
         // A coarse r1 at the filter's least value would miss by far.
         let coarse = (0.01, 100e-6, 300.0);
         assert!(difference_r1_floor_v(&need, &stock, part, target, coarse) > 1.3 * target);

@@ -123,9 +123,6 @@ struct StageScoring<'s> {
     upstream_offset: f64,
     /// The need's overall gain.
     overall_gain: f64,
-    /// Whether a trim removes the offset error (offset or two-point
-    /// calibration): the stage's offset then need not be the ideal one.
-    trimmed: bool,
 }
 
 impl Problem<'_> {
@@ -222,7 +219,10 @@ impl Problem<'_> {
     /// [`SHARING_DIVIDERS_PER_SET`]. Empty without an unbuffered REF
     /// divider or a trim.
     fn sharing_dividers(&self, scoring: &StageScoring<'_>, set: &ValueSet) -> Vec<ValueSet> {
-        if !(scoring.unbuffered_ref && scoring.trimmed && scoring.source_volts > 0.0) {
+        // A trim (offset or two-point) lets the offset differ from the
+        // ideal one.
+        let trimmed = self.need.accuracy.calibration != crate::need::Calibration::None;
+        if !(scoring.unbuffered_ref && trimmed && scoring.source_volts > 0.0) {
             return Vec::new();
         }
         let ideal = scoring.offset / scoring.source_volts;
@@ -351,7 +351,6 @@ impl Problem<'_> {
                 .map(|i| group.offsets[i] * group.gains[i + 1..].iter().product::<f64>())
                 .sum(),
             overall_gain: self.need.ideal_transfer().0,
-            trimmed: self.need.accuracy.calibration != crate::need::Calibration::None,
         }
     }
 
